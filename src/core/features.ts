@@ -1,0 +1,61 @@
+import { ShoalError } from './errors.js';
+
+/**
+ * What a row holds. A row is `width` consecutive doubles in a row-major `Float64Array`; a numeric
+ * feature is its value (NaN = missing), a nominal feature is a category code 0 … values−1 (NaN = missing).
+ * The number of codes of a nominal feature is fixed when the schema is made: readers keep a bounded
+ * vocabulary whose last code is an overflow bucket, so learners can size their tables once.
+ */
+
+export type FeatureKind = 'numeric' | 'nominal';
+
+export interface Feature {
+  readonly name: string;
+  readonly kind: FeatureKind;
+  /** Number of category codes of a nominal feature (including any overflow bucket); 0 for numeric. */
+  readonly values: number;
+  /** Optional names of the category codes, index = code. */
+  readonly categories?: readonly string[];
+}
+
+export interface FeatureSchema {
+  readonly features: readonly Feature[];
+}
+
+export function numeric(name: string): Feature {
+  return { name, kind: 'numeric', values: 0 };
+}
+
+export function nominal(name: string, categories: readonly string[] | number): Feature {
+  return typeof categories === 'number'
+    ? { name, kind: 'nominal', values: categories }
+    : { name, kind: 'nominal', values: categories.length, categories };
+}
+
+/** A schema of `count` numeric features named `${prefix}0 …`. */
+export function numericSchema(count: number, prefix = 'x'): FeatureSchema {
+  return { features: Array.from({ length: count }, (_, i) => numeric(`${prefix}${i}`)) };
+}
+
+/** Check a schema once, where it enters a learner or detector; returns it unchanged. */
+export function checkSchema(owner: string, schema: FeatureSchema): FeatureSchema {
+  if (!schema || !Array.isArray(schema.features) || schema.features.length === 0) {
+    throw new ShoalError('invalid-parameter', `${owner}: schema must list at least one feature`);
+  }
+  schema.features.forEach((f, i) => {
+    if (f.kind === 'nominal') {
+      if (!(Number.isInteger(f.values) && f.values >= 1)) {
+        throw new ShoalError(
+          'invalid-parameter',
+          `${owner}: schema.features[${i}] (${f.name}) is nominal and needs values ≥ 1, got ${f.values}`,
+        );
+      }
+    } else if (f.kind !== 'numeric') {
+      throw new ShoalError(
+        'invalid-parameter',
+        `${owner}: schema.features[${i}] (${f.name}) has kind ${String(f.kind)}, expected numeric or nominal`,
+      );
+    }
+  });
+  return schema;
+}

@@ -1,0 +1,30 @@
+export { decodeF64, decodeI32, encodeF64, encodeI32 } from './encoding.js';
+export type { ConfigIssue, ShoalErrorCode, ShoalErrorOptions } from './errors.js';
+export { ConfigError, ShoalError } from './errors.js';
+export type { Feature, FeatureKind, FeatureSchema } from './features.js';
+export { checkSchema, nominal, numeric, numericSchema } from './features.js';
+export {
+  argmax,
+  entropyBits,
+  erfc,
+  gini,
+  hoeffdingBound,
+  logGamma,
+  normalCdf,
+  normalizeInPlace,
+  normalLogPdf,
+  sigmoid,
+  softmaxInPlace,
+} from './numeric.js';
+export { closedUnit, integerAtLeast, nonNegative, oneOf, openUnit, positive } from './params.js';
+export { PoissonSampler } from './poisson.js';
+export type { RngState, Seed } from './random.js';
+export { deriveSeed, Rng } from './random.js';
+export type { RunningStatsState } from './running-stats.js';
+export {
+  RunningStats,
+  WELFORD_SLOTS,
+  welfordAdd,
+  welfordSampleVariance,
+  welfordVariance,
+} from './running-stats.js';

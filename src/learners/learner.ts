@@ -1,0 +1,126 @@
+import type { FeatureSchema } from '../core/index.js';
+import { ShoalError } from '../core/index.js';
+
+/**
+ * The one contract every classifier in Shoal keeps.
+ *
+ * A row is read in place as (buffer, offset): `schema.features.length` doubles starting at `offset`.
+ * Labels are class codes 0, 1, 2, …; a label the learner has not seen grows its class count, so classes
+ * may appear over time. Nothing here allocates per row: probabilities are written into a buffer the
+ * caller owns and reuses.
+ *
+ * @example
+ * const out = new Float64Array(8);
+ * const predicted = learner.scoreTrain(frame, i * width, label, 1, out, 0); // test, then train
+ */
+export interface Classifier {
+  /** The learner's kind, as in configuration (`hoeffding-tree`, `naive-bayes`, …). */
+  readonly kind: string;
+  readonly schema: FeatureSchema;
+  /** Classes known so far: one more than the largest label seen or announced. */
+  readonly classes: number;
+  /** Announce that labels 0 … n−1 exist (never shrinks the class count). */
+  ensureClasses(n: number): void;
+  /**
+   * Write the probability of each known class into out[outOffset … outOffset + classes − 1] and
+   * return the predicted class (the most probable; the first on ties).
+   */
+  score(row: Float64Array, offset: number, out: Float64Array, outOffset: number): number;
+  /** Learn from one labelled row with a weight ≥ 0 (0 leaves the model unchanged). */
+  train(row: Float64Array, offset: number, label: number, weight: number): void;
+  /**
+   * Score the row, then train on it: the prequential step in one pass. Equivalent to `score` followed
+   * by `train`, so the returned prediction never saw the label.
+   */
+  scoreTrain(
+    row: Float64Array,
+    offset: number,
+    label: number,
+    weight: number,
+    out: Float64Array,
+    outOffset: number,
+  ): number;
+  /** Everything needed to rebuild the learner exactly, JSON-safe. */
+  snapshot(): LearnerSnapshot;
+  /** Approximate bytes held by the model's state. */
+  sizeBytes(): number;
+}
+
+/** The one contract every regressor keeps; rows are read as for classifiers. */
+export interface Regressor {
+  readonly kind: string;
+  readonly schema: FeatureSchema;
+  predict(row: Float64Array, offset: number): number;
+  train(row: Float64Array, offset: number, target: number, weight: number): void;
+  snapshot(): LearnerSnapshot;
+  sizeBytes(): number;
+}
+
+export interface LearnerSnapshot {
+  readonly kind: string;
+  /** Format version of `state`, bumped when the layout changes. */
+  readonly version: number;
+  readonly schema: FeatureSchema;
+  readonly options: Readonly<Record<string, unknown>>;
+  readonly state: unknown;
+}
+
+/** Labels above this are refused: a label is a class code, not an arbitrary number. */
+export const MAX_CLASSES = 4096;
+
+/** Check a (buffer, offset) row reference; the message is built only on failure. */
+export function checkRow(owner: string, row: Float64Array, offset: number, width: number): void {
+  if (!(offset >= 0 && Number.isInteger(offset) && offset + width <= row.length)) {
+    throw new ShoalError(
+      'invalid-row',
+      `${owner}: a row needs ${width} values at offset ${offset}, but the buffer holds ${row.length}`,
+    );
+  }
+}
+
+/** Check a class label: an integer code in [0, MAX_CLASSES). */
+export function checkLabel(owner: string, label: number): void {
+  if (!(Number.isInteger(label) && label >= 0 && label < MAX_CLASSES)) {
+    throw new ShoalError(
+      'invalid-label',
+      `${owner}: label must be an integer class code in [0, ${MAX_CLASSES}), got ${label}`,
+    );
+  }
+}
+
+/** Check a regression target: a finite number. */
+export function checkTarget(owner: string, target: number): void {
+  if (!Number.isFinite(target)) {
+    throw new ShoalError('invalid-label', `${owner}: target must be a finite number, got ${target}`);
+  }
+}
+
+/** Check a training weight: a finite number ≥ 0. */
+export function checkWeight(owner: string, weight: number): void {
+  if (!(weight >= 0 && Number.isFinite(weight))) {
+    throw new ShoalError('invalid-weight', `${owner}: weight must be a finite number ≥ 0, got ${weight}`);
+  }
+}
+
+/** Check that the caller's output buffer has room for `classes` probabilities. */
+export function checkOut(owner: string, out: Float64Array, outOffset: number, classes: number): void {
+  if (!(outOffset >= 0 && outOffset + classes <= out.length)) {
+    throw new ShoalError(
+      'invalid-parameter',
+      `${owner}: the output buffer needs ${classes} slots at offset ${outOffset}, but holds ${out.length}`,
+    );
+  }
+}
+
+/** Check that a snapshot is of the expected kind and version before restoring it. */
+export function checkSnapshot(snapshot: LearnerSnapshot, kind: string, version: number): void {
+  if (!snapshot || snapshot.kind !== kind) {
+    throw new ShoalError('invalid-snapshot', `expected a ${kind} snapshot, got ${String(snapshot?.kind)}`);
+  }
+  if (snapshot.version !== version) {
+    throw new ShoalError(
+      'invalid-snapshot',
+      `${kind} snapshot has format version ${String(snapshot.version)}; this build reads version ${version}`,
+    );
+  }
+}

@@ -1,0 +1,59 @@
+import { closedUnit, integerAtLeast, nominal, Rng, type Seed } from '../core/index.js';
+import type { GeneratorState, StreamGenerator } from './generator.js';
+
+/**
+ * LED display — Breiman, Friedman, Olshen & Stone, Classification and Regression Trees, 1984,
+ * pp. 43–49: a digit 0–9 chosen uniformly is shown on seven segments, each segment inverted with
+ * probability `noise` (0.1 in the book); `irrelevant` further binary attributes are uniform noise
+ * (17 in the common 24-attribute form). Bayes accuracy at 10% noise: 74%.
+ */
+export interface LedOptions {
+  readonly noise: number;
+  readonly irrelevant: number;
+}
+
+export const LED_DEFAULTS: LedOptions = { noise: 0.1, irrelevant: 17 };
+
+/**
+ * Segments lit per digit, in the order top, upper-left, upper-right, middle, lower-left, lower-right,
+ * bottom (the usual seven-segment layout).
+ */
+export const LED_SEGMENTS: readonly (readonly number[])[] = [
+  [1, 1, 1, 0, 1, 1, 1],
+  [0, 0, 1, 0, 0, 1, 0],
+  [1, 0, 1, 1, 1, 0, 1],
+  [1, 0, 1, 1, 0, 1, 1],
+  [0, 1, 1, 1, 0, 1, 0],
+  [1, 1, 0, 1, 0, 1, 1],
+  [1, 1, 0, 1, 1, 1, 1],
+  [1, 0, 1, 0, 0, 1, 0],
+  [1, 1, 1, 1, 1, 1, 1],
+  [1, 1, 1, 1, 0, 1, 1],
+];
+
+export function led(options: Partial<LedOptions> = {}, seed: Seed = 1): StreamGenerator {
+  const { noise, irrelevant } = { ...LED_DEFAULTS, ...options };
+  closedUnit('led', 'noise', noise);
+  integerAtLeast('led', 'irrelevant', irrelevant, 0);
+  let rng = new Rng(seed);
+  const features = [
+    ...Array.from({ length: 7 }, (_, i) => nominal(`segment${i + 1}`, ['off', 'on'])),
+    ...Array.from({ length: irrelevant }, (_, i) => nominal(`noise${i + 1}`, ['off', 'on'])),
+  ];
+  return {
+    name: 'led',
+    schema: { features },
+    classes: ['0', '1', '2', '3', '4', '5', '6', '7', '8', '9'],
+    next(row, offset) {
+      const digit = rng.int(10);
+      const lit = LED_SEGMENTS[digit]!;
+      for (let s = 0; s < 7; s++) row[offset + s] = rng.next() < noise ? 1 - lit[s]! : lit[s]!;
+      for (let s = 0; s < irrelevant; s++) row[offset + 7 + s] = rng.next() < 0.5 ? 1 : 0;
+      return digit;
+    },
+    state: (): GeneratorState => ({ rng: rng.state() }),
+    restore(state) {
+      rng = Rng.fromState(state.rng);
+    },
+  };
+}

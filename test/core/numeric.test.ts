@@ -1,0 +1,36 @@
+import { describe, expect, it } from 'vitest';
+import { erfc, hoeffdingBound, logGamma } from '../../src/core/index.js';
+
+describe('hoeffdingBound', () => {
+  // PUBLISHED.md [derived] from ε = √(R² ln(1/δ) / 2n), Domingos & Hulten, KDD 2000.
+  it.each([
+    [200, 0.200737],
+    [1000, 0.089772],
+    [10000, 0.028388],
+  ])('R = 1, δ = 1e-7, n = %i gives ε = %f', (n, epsilon) => {
+    expect(Math.abs(hoeffdingBound(1, 1e-7, n) - epsilon)).toBeLessThan(1e-6);
+  });
+});
+
+describe('special functions', () => {
+  it('logGamma matches ln((n−1)!) computed by summation', () => {
+    for (const n of [1, 2, 3, 10, 11, 50, 170]) {
+      let lf = 0;
+      for (let k = 2; k < n; k++) lf += Math.log(k);
+      expect(Math.abs(logGamma(n) - lf)).toBeLessThan(1e-10 * Math.max(1, lf));
+    }
+    // Γ(1/2) = √π (Abramowitz & Stegun 6.1.8).
+    expect(Math.abs(logGamma(0.5) - 0.5 * Math.log(Math.PI))).toBeLessThan(1e-12);
+  });
+
+  it('erfc matches tabulated values to 1.2e-7 relative', () => {
+    // Abramowitz & Stegun, Table 7.1 (erf 0.5 = 0.5204998778, erf 1 = 0.8427007929, erf 2 = 0.9953222650).
+    const table: [number, number][] = [
+      [0.5, 1 - 0.5204998778],
+      [1, 1 - 0.8427007929],
+      [2, 1 - 0.995322265],
+      [-1, 1 + 0.8427007929],
+    ];
+    for (const [x, want] of table) expect(Math.abs(erfc(x) - want) / want).toBeLessThan(1.2e-7);
+  });
+});
