@@ -1,0 +1,85 @@
+import { cpus } from 'node:os';
+
+/**
+ * The benchmark harness: every section measures rates as the median of several timed runs after a
+ * warm-up, in one process, so that figures and the ratios between them come from the same run.
+ * Benchmarks print; they never assert a time.
+ */
+
+export interface BenchOptions {
+  /** A smaller version for CI smoke runs. */
+  readonly quick: boolean;
+}
+
+export interface BenchRow {
+  readonly name: string;
+  /** Items (rows, values) per second: the median over runs. */
+  readonly rate: number;
+  /** What `rate` counts, for the printed table. */
+  readonly unit: string;
+  /** `rate` divided by the floor (a bare loop over the same data) measured in the same run. */
+  readonly ofFloor?: number;
+  /** Prequential accuracy beside a speed, so that speed never hides a loss of quality. */
+  readonly accuracy?: number;
+  readonly note?: string;
+}
+
+export interface BenchSection {
+  readonly title: string;
+  readonly rows: readonly BenchRow[];
+  /** Fields for `npm run bench -- --json`, merged under the section's key. */
+  readonly json: Readonly<Record<string, unknown>>;
+}
+
+export type BenchFn = (options: BenchOptions) => Promise<BenchSection> | BenchSection;
+
+/** Median of a list of numbers. */
+export function median(values: readonly number[]): number {
+  const s = [...values].sort((a, b) => a - b);
+  const m = s.length >> 1;
+  return s.length % 2 === 1 ? s[m]! : (s[m - 1]! + s[m]!) / 2;
+}
+
+/**
+ * Run `body` `warmup` times untimed and `runs` times timed; each call processes `items` items.
+ * Returns the median rate in items per second. `body` returns a number that is folded into a
+ * sink so the work cannot be optimised away.
+ */
+export function medianRate(items: number, body: () => number, runs = 3, warmup = 1): number {
+  let sink = 0;
+  for (let i = 0; i < warmup; i++) sink += body();
+  const rates: number[] = [];
+  for (let i = 0; i < runs; i++) {
+    const t0 = process.hrtime.bigint();
+    sink += body();
+    const ns = Number(process.hrtime.bigint() - t0);
+    rates.push(items / (ns / 1e9));
+  }
+  if (Number.isNaN(sink)) process.stdout.write('');
+  return median(rates);
+}
+
+/**
+ * The floor: a bare loop that reads every value of every row once, over the same data as the
+ * measured work. A learner's rate divided by this shows its cost per row in units of "one pass".
+ */
+export function floorRate(values: Float64Array, rows: number, runs = 3): number {
+  const width = values.length / rows;
+  return medianRate(
+    rows,
+    () => {
+      let s = 0;
+      for (let r = 0; r < rows; r++) {
+        const off = r * width;
+        for (let j = 0; j < width; j++) s += values[off + j]!;
+      }
+      return s;
+    },
+    runs,
+  );
+}
+
+export function machine(): { cores: number; node: string; cpu: string } {
+  const list = cpus();
+  return { cores: list.length, node: process.version, cpu: list[0]?.model ?? 'unknown' };
+}
