@@ -11,7 +11,7 @@ export function encodeF64(values: Float64Array): string {
   return Buffer.from(values.buffer, values.byteOffset, values.byteLength).toString('base64');
 }
 
-export function decodeF64(text: string, what = 'array'): Float64Array {
+export function decodeF64(text: string, what = 'array'): Float64Array<ArrayBuffer> {
   if (typeof text !== 'string') throw new ShoalError('invalid-snapshot', `${what}: expected base64 text`);
   const bytes = Buffer.from(text, 'base64');
   if (bytes.byteLength % 8 !== 0) {
@@ -29,7 +29,7 @@ export function encodeI32(values: Int32Array): string {
   return Buffer.from(values.buffer, values.byteOffset, values.byteLength).toString('base64');
 }
 
-export function decodeI32(text: string, what = 'array'): Int32Array {
+export function decodeI32(text: string, what = 'array'): Int32Array<ArrayBuffer> {
   if (typeof text !== 'string') throw new ShoalError('invalid-snapshot', `${what}: expected base64 text`);
   const bytes = Buffer.from(text, 'base64');
   if (bytes.byteLength % 4 !== 0) {
