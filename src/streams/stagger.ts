@@ -1,11 +1,12 @@
 import { closedUnit, nominal, oneOf, Rng, type Seed } from '../core/index.js';
 import type { GeneratorState, StreamGenerator } from './generator.js';
+import { noisyLabel } from './label-noise.js';
 
 /**
  * STAGGER concepts — Schlimmer & Granger, "Incremental learning from noisy data", Machine Learning
- * 1(3), 1986: size ∈ {small, medium, large}, color ∈ {red, green, blue}, shape ∈ {square, circular,
- * triangular}, each uniform. Concept a: size = small ∧ color = red; b: color = green ∨ shape = circular;
- * c: size ∈ {medium, large}. Noise-free by default.
+ * 1(3), 1986 (from memory, PUBLISHED.md [memory]): size ∈ {small, medium, large}, color ∈ {red, green,
+ * blue}, shape ∈ {square, circular, triangular}, each uniform. Concept a: size = small ∧ color = red;
+ * b: color = green ∨ shape = circular; c: size ∈ {medium, large}. Noise-free by default.
  */
 export type StaggerConcept = 'a' | 'b' | 'c';
 
@@ -42,8 +43,7 @@ export function stagger(options: Partial<StaggerOptions> = {}, seed: Seed = 1): 
       row[offset] = size;
       row[offset + 1] = color;
       row[offset + 2] = shape;
-      const label = rule(size, color, shape) ? 1 : 0;
-      return noise > 0 && rng.next() < noise ? 1 - label : label;
+      return noisyLabel(rng, noise, rule(size, color, shape) ? 1 : 0, 2);
     },
     state: (): GeneratorState => ({ rng: rng.state() }),
     restore(state) {
