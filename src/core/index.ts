@@ -17,7 +17,7 @@ export {
   softmaxInPlace,
 } from './numeric.js';
 export { closedUnit, integerAtLeast, nonNegative, oneOf, openUnit, positive } from './params.js';
-export { PoissonSampler } from './poisson.js';
+export { PoissonSampler, samplePoisson } from './poisson.js';
 export type { RngState, Seed } from './random.js';
 export { deriveSeed, Rng } from './random.js';
 export type { RunningStatsState } from './running-stats.js';

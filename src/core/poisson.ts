@@ -19,19 +19,13 @@ import type { Rng } from './random.js';
 export class PoissonSampler {
   readonly lambda: number;
   private readonly cdf: Float64Array;
-  private readonly tableMode: boolean;
-  // PTRS constants
-  private readonly b: number;
-  private readonly a: number;
-  private readonly logInvAlpha: number;
-  private readonly vr: number;
-  private readonly logLambda: number;
+  private readonly rejection: RejectionConstants | null;
 
   constructor(lambda: number) {
     this.lambda = nonNegative('poisson', 'lambda', lambda);
-    this.tableMode = lambda < 10;
-    if (this.tableMode) {
-      const cdf: number[] = [];
+    this.rejection = lambda < 10 ? null : rejectionConstants(lambda);
+    const cdf: number[] = [];
+    if (this.rejection === null) {
       let p = Math.exp(-lambda);
       let c = p;
       cdf.push(c);
@@ -41,42 +35,70 @@ export class PoissonSampler {
         cdf.push(c);
       }
       cdf[cdf.length - 1] = 1;
-      this.cdf = Float64Array.from(cdf);
-    } else {
-      this.cdf = new Float64Array(0);
     }
-    const smu = Math.sqrt(lambda);
-    this.b = 0.931 + 2.53 * smu;
-    this.a = -0.059 + 0.02483 * this.b;
-    this.logInvAlpha = Math.log(1.1239 + 1.1328 / (this.b - 3.4));
-    this.vr = 0.9277 - 3.6224 / (this.b - 2);
-    this.logLambda = Math.log(lambda);
+    this.cdf = Float64Array.from(cdf);
   }
 
   /** One draw k ~ Poisson(λ). */
   sample(rng: Rng): number {
-    if (this.tableMode) {
-      const u = rng.next();
-      const cdf = this.cdf;
-      let k = 0;
-      while (u >= cdf[k]!) k++;
-      return k;
-    }
-    return this.transformedRejection(rng);
+    if (this.rejection !== null) return transformedRejection(rng, this.lambda, this.rejection);
+    const u = rng.next();
+    const cdf = this.cdf;
+    let k = 0;
+    while (u >= cdf[k]!) k++;
+    return k;
   }
+}
 
-  private transformedRejection(rng: Rng): number {
-    const { a, b, vr, lambda } = this;
-    for (;;) {
-      const u = rng.next() - 0.5;
-      const v = rng.next();
-      const us = 0.5 - Math.abs(u);
-      const k = Math.floor(((2 * a) / us + b) * u + lambda + 0.43);
-      if (us >= 0.07 && v <= vr) return k;
-      if (k < 0 || (us < 0.013 && v > us)) continue;
-      const lhs = Math.log(v) + this.logInvAlpha - Math.log(a / (us * us) + b);
-      const rhs = -lambda + k * this.logLambda - logGamma(k + 1);
-      if (lhs <= rhs) return k;
-    }
+/**
+ * One draw k ~ Poisson(λ) for a λ that changes from call to call (online boosting's example weight):
+ * inversion with the pmf computed on the fly below λ = 10, PTRS above. λ must be ≥ 0.
+ */
+export function samplePoisson(rng: Rng, lambda: number): number {
+  if (lambda >= 10) return transformedRejection(rng, lambda, rejectionConstants(lambda));
+  const u = rng.next();
+  let p = Math.exp(-lambda);
+  let c = p;
+  let k = 0;
+  while (u >= c && p > 0) {
+    k++;
+    p *= lambda / k;
+    c += p;
+  }
+  return k;
+}
+
+interface RejectionConstants {
+  readonly a: number;
+  readonly b: number;
+  readonly logInvAlpha: number;
+  readonly vr: number;
+  readonly logLambda: number;
+}
+
+function rejectionConstants(lambda: number): RejectionConstants {
+  const b = 0.931 + 2.53 * Math.sqrt(lambda);
+  return {
+    a: -0.059 + 0.02483 * b,
+    b,
+    logInvAlpha: Math.log(1.1239 + 1.1328 / (b - 3.4)),
+    vr: 0.9277 - 3.6224 / (b - 2),
+    logLambda: Math.log(lambda),
+  };
+}
+
+/** Hörmann's PTRS (1993), steps 1–3 of the algorithm as published. */
+function transformedRejection(rng: Rng, lambda: number, k0: RejectionConstants): number {
+  const { a, b, vr } = k0;
+  for (;;) {
+    const u = rng.next() - 0.5;
+    const v = rng.next();
+    const us = 0.5 - Math.abs(u);
+    const k = Math.floor(((2 * a) / us + b) * u + lambda + 0.43);
+    if (us >= 0.07 && v <= vr) return k;
+    if (k < 0 || (us < 0.013 && v > us)) continue;
+    const lhs = Math.log(v) + k0.logInvAlpha - Math.log(a / (us * us) + b);
+    const rhs = -lambda + k * k0.logLambda - logGamma(k + 1);
+    if (lhs <= rhs) return k;
   }
 }

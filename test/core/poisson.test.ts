@@ -1,19 +1,23 @@
 import quantile from '@stdlib/stats-base-dists-chisquare-quantile';
 import poissonPmf from '@stdlib/stats-base-dists-poisson-pmf';
 import { describe, expect, it } from 'vitest';
-import { PoissonSampler, Rng } from '../../src/core/index.js';
+import { PoissonSampler, Rng, samplePoisson } from '../../src/core/index.js';
 import { note } from '../support/note.js';
 
 /**
  * Pearson's χ² goodness of fit of `n` draws against the Poisson(λ) pmf from @stdlib (the outside
  * reference). Cells with expected count < 5 are pooled into the tail (common practice, Cochran 1954).
  */
-function chiSquare(lambda: number, n: number, seed: number): { stat: number; dof: number } {
-  const sampler = new PoissonSampler(lambda);
+function chiSquare(
+  lambda: number,
+  n: number,
+  seed: number,
+  draw: (rng: Rng) => number,
+): { stat: number; dof: number } {
   const rng = new Rng(seed);
   const counts = new Map<number, number>();
   for (let i = 0; i < n; i++) {
-    const k = sampler.sample(rng);
+    const k = draw(rng);
     counts.set(k, (counts.get(k) ?? 0) + 1);
   }
   let stat = 0;
@@ -47,10 +51,18 @@ describe('PoissonSampler', () => {
   // PUBLISHED.md: P(0) = P(1) = e^-1 under Poisson(1) (Oza & Russell 2001; Gama 2010, Eq. 10.1).
   for (const lambda of [1, 6, 30]) {
     it(`fits the Poisson(${lambda}) pmf (χ² test at the 0.1% level)`, () => {
-      const { stat, dof } = chiSquare(lambda, 200_000, 11);
+      const sampler = new PoissonSampler(lambda);
+      const { stat, dof } = chiSquare(lambda, 200_000, 11, (rng) => sampler.sample(rng));
       const critical = quantile(0.999, dof);
       note(`Poisson(${lambda}): χ² = ${stat.toFixed(2)} on ${dof} dof, critical ${critical.toFixed(2)}`);
       expect(stat).toBeLessThan(critical);
+    });
+  }
+
+  for (const lambda of [0.7, 6, 30]) {
+    it(`samplePoisson (λ changing per call) also fits the Poisson(${lambda}) pmf`, () => {
+      const { stat, dof } = chiSquare(lambda, 200_000, 12, (rng) => samplePoisson(rng, lambda));
+      expect(stat).toBeLessThan(quantile(0.999, dof));
     });
   }
 
