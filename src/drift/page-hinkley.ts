@@ -1,0 +1,163 @@
+import { integerAtLeast, nonNegative, oneOf, positive, ShoalError } from '../core/index.js';
+import {
+  checkDetectorSnapshot,
+  checkFiniteValue,
+  type DetectorSnapshot,
+  type DriftDetector,
+  type DriftLevel,
+  packScalars,
+  stateField,
+  unpackScalars,
+} from './detector.js';
+
+/**
+ * Page-Hinkley test — Page, "Continuous inspection schemes", Biometrika 41(1/2), 1954, in the form
+ * used for drift detection: with x̄_T the mean of the values so far,
+ *
+ *   increase:  m_T = Σ_{t≤T} (x_t − x̄_t − δ),  M_T = min_{t≤T} m_t,  alarm when m_T − M_T > λ
+ *   decrease:  m′_T = Σ_{t≤T} (x_t − x̄_t + δ), M′_T = max_{t≤T} m′_t, alarm when M′_T − m′_T > λ
+ *
+ * (the minimum and maximum include the empty sum m₀ = 0, which makes m_T − M_T Page's CUSUM statistic
+ * against the running mean). δ is the magnitude of change tolerated, λ the alarm threshold.
+ * `direction` picks the increase test, the decrease test or both. An optional fading factor α < 1
+ * weighs the past down, m_T = α·m_{T−1} + (x_T − x̄_T − δ) (Gama, Sebastião & Rodrigues, "On evaluating
+ * stream learning algorithms", Machine Learning 90, 2013, from memory). The test has no warning level.
+ * After `drift` the detector has restarted from nothing.
+ *
+ * Defaults: δ = 0.005, λ = 50 (common practice), increase only (an error rate that rises), no fading,
+ * no alarm before 30 values (common practice).
+ *
+ * @example
+ * const ph = new PageHinkley({ direction: 'both', delta: 0.5, lambda: 20 });
+ * if (ph.update(reading) === 'drift') alert();
+ */
+export type PageHinkleyDirection = 'increase' | 'decrease' | 'both';
+
+export type PageHinkleyOptions = {
+  /** δ, the change tolerated, ≥ 0. */
+  readonly delta: number;
+  /** λ, the alarm threshold, > 0. */
+  readonly lambda: number;
+  readonly direction: PageHinkleyDirection;
+  /** Fading factor α in (0, 1]; 1 keeps the plain cumulative sum. */
+  readonly fading: number;
+  /** Values seen before an alarm can be raised. */
+  readonly minCount: number;
+};
+
+export const PAGE_HINKLEY_DEFAULTS: PageHinkleyOptions = {
+  delta: 0.005,
+  lambda: 50,
+  direction: 'increase',
+  fading: 1,
+  minCount: 30,
+};
+
+const KIND = 'page-hinkley';
+const VERSION = 1;
+const DIRECTIONS = ['increase', 'decrease', 'both'] as const;
+
+function resolve(options: Partial<PageHinkleyOptions>): PageHinkleyOptions {
+  const o = { ...PAGE_HINKLEY_DEFAULTS, ...options };
+  nonNegative(KIND, 'delta', o.delta);
+  positive(KIND, 'lambda', o.lambda);
+  oneOf(KIND, 'direction', o.direction, DIRECTIONS);
+  if (!(o.fading > 0 && o.fading <= 1)) {
+    throw new ShoalError('invalid-parameter', `${KIND}: fading must be in (0, 1], got ${o.fading}`);
+  }
+  integerAtLeast(KIND, 'minCount', o.minCount);
+  return {
+    delta: o.delta,
+    lambda: o.lambda,
+    direction: o.direction,
+    fading: o.fading,
+    minCount: o.minCount,
+  };
+}
+
+export class PageHinkley implements DriftDetector {
+  readonly kind = KIND;
+  readonly options: PageHinkleyOptions;
+  private readonly watchIncrease: boolean;
+  private readonly watchDecrease: boolean;
+  private n = 0;
+  private mean = 0;
+  private up = 0;
+  private upMin = 0;
+  private down = 0;
+  private downMax = 0;
+
+  constructor(options: Partial<PageHinkleyOptions> = {}) {
+    this.options = resolve(options);
+    this.watchIncrease = this.options.direction !== 'decrease';
+    this.watchDecrease = this.options.direction !== 'increase';
+  }
+
+  get count(): number {
+    return this.n;
+  }
+
+  /** The mean x̄ of the values since the last reset (the error rate for 0/1 errors). */
+  get estimate(): number {
+    return this.mean;
+  }
+
+  /** The larger of the two test statistics m_T − M_T and M′_T − m′_T watched by `direction`. */
+  get statistic(): number {
+    const up = this.watchIncrease ? this.up - this.upMin : 0;
+    const down = this.watchDecrease ? this.downMax - this.down : 0;
+    return Math.max(up, down);
+  }
+
+  update(value: number): DriftLevel {
+    checkFiniteValue(KIND, value);
+    const { delta, fading, lambda } = this.options;
+    const n = ++this.n;
+    this.mean += (value - this.mean) / n;
+    const deviation = value - this.mean;
+    this.up = fading * this.up + deviation - delta;
+    if (this.up < this.upMin) this.upMin = this.up;
+    this.down = fading * this.down + deviation + delta;
+    if (this.down > this.downMax) this.downMax = this.down;
+    if (n < this.options.minCount) return 'stable';
+    if (
+      (this.watchIncrease && this.up - this.upMin > lambda) ||
+      (this.watchDecrease && this.downMax - this.down > lambda)
+    ) {
+      this.reset();
+      return 'drift';
+    }
+    return 'stable';
+  }
+
+  reset(): void {
+    this.n = 0;
+    this.mean = 0;
+    this.up = 0;
+    this.upMin = 0;
+    this.down = 0;
+    this.downMax = 0;
+  }
+
+  snapshot(): DetectorSnapshot {
+    return {
+      kind: KIND,
+      version: VERSION,
+      options: { ...this.options },
+      state: { scalars: packScalars([this.n, this.mean, this.up, this.upMin, this.down, this.downMax]) },
+    };
+  }
+
+  static restore(snapshot: DetectorSnapshot): PageHinkley {
+    checkDetectorSnapshot(snapshot, KIND, VERSION);
+    const ph = new PageHinkley(snapshot.options as Partial<PageHinkleyOptions>);
+    const s = unpackScalars(KIND, stateField(KIND, snapshot.state, 'scalars'), 6);
+    ph.n = s[0]!;
+    ph.mean = s[1]!;
+    ph.up = s[2]!;
+    ph.upMin = s[3]!;
+    ph.down = s[4]!;
+    ph.downMax = s[5]!;
+    return ph;
+  }
+}

@@ -1,0 +1,79 @@
+import { ShoalError } from '../core/index.js';
+import { Adwin, type AdwinOptions } from './adwin.js';
+import { Ddm, type DdmOptions } from './ddm.js';
+import type { DetectorSnapshot, DriftDetector } from './detector.js';
+import { Eddm, type EddmOptions } from './eddm.js';
+import { HddmA, type HddmAOptions } from './hddm-a.js';
+import { PageHinkley, type PageHinkleyOptions } from './page-hinkley.js';
+
+/** Every detector kind, as written in configuration. */
+export const DETECTOR_KINDS = ['adwin', 'ddm', 'eddm', 'page-hinkley', 'hddm-a'] as const;
+
+export type DetectorKind = (typeof DETECTOR_KINDS)[number];
+
+/**
+ * A detector as configuration describes it: its kind and any options (missing ones take the defaults
+ * documented beside each detector). Ensembles build one detector per member from one spec.
+ */
+export type DetectorSpec =
+  | ({ readonly kind: 'adwin' } & Partial<AdwinOptions>)
+  | ({ readonly kind: 'ddm' } & Partial<DdmOptions>)
+  | ({ readonly kind: 'eddm' } & Partial<EddmOptions>)
+  | ({ readonly kind: 'page-hinkley' } & Partial<PageHinkleyOptions>)
+  | ({ readonly kind: 'hddm-a' } & Partial<HddmAOptions>);
+
+/** Drop `kind` from a spec, leaving the detector's options. */
+function optionsOf<T extends { readonly kind: string }>(spec: T): Omit<T, 'kind'> {
+  const { kind: _kind, ...options } = spec;
+  return options;
+}
+
+/**
+ * Build a detector from its spec; parameters are validated (a bad one throws a `ShoalError` with code
+ * `invalid-parameter` naming it).
+ *
+ * @example
+ * const monitor = createDetector({ kind: 'adwin', delta: 0.002 });
+ */
+export function createDetector(spec: DetectorSpec): DriftDetector {
+  switch (spec?.kind) {
+    case 'adwin':
+      return new Adwin(optionsOf(spec));
+    case 'ddm':
+      return new Ddm(optionsOf(spec));
+    case 'eddm':
+      return new Eddm(optionsOf(spec));
+    case 'page-hinkley':
+      return new PageHinkley(optionsOf(spec));
+    case 'hddm-a':
+      return new HddmA(optionsOf(spec));
+    default:
+      throw new ShoalError(
+        'invalid-parameter',
+        `detector: kind must be one of ${DETECTOR_KINDS.join(', ')}, got ${String((spec as { kind?: unknown })?.kind)}`,
+      );
+  }
+}
+
+const RESTORERS: Readonly<Record<DetectorKind, (snapshot: DetectorSnapshot) => DriftDetector>> = {
+  adwin: Adwin.restore,
+  ddm: Ddm.restore,
+  eddm: Eddm.restore,
+  'page-hinkley': PageHinkley.restore,
+  'hddm-a': HddmA.restore,
+};
+
+/**
+ * Rebuild a detector from a snapshot taken with `snapshot()`; it then behaves bit-identically to the
+ * detector the snapshot was taken from.
+ *
+ * @example
+ * const copy = restoreDetector(JSON.parse(JSON.stringify(detector.snapshot())));
+ */
+export function restoreDetector(snapshot: DetectorSnapshot): DriftDetector {
+  const kind = snapshot?.kind;
+  if (!(DETECTOR_KINDS as readonly string[]).includes(kind)) {
+    throw new ShoalError('invalid-snapshot', `detector snapshot: unknown kind ${String(kind)}`);
+  }
+  return RESTORERS[kind as DetectorKind](snapshot);
+}

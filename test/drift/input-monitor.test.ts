@@ -1,0 +1,205 @@
+import quantile from '@stdlib/stats-base-dists-chisquare-quantile';
+import { describe, expect, it } from 'vitest';
+import { type FeatureSchema, nominal, numeric, Rng, ShoalError } from '../../src/core/index.js';
+import {
+  type ChiSquareResult,
+  chiSquareHomogeneity,
+  createInputMonitor,
+  type InputMonitor,
+  type InputMonitorSnapshot,
+  restoreInputMonitor,
+} from '../../src/drift/index.js';
+import { median } from '../support/drift-streams.js';
+import { note } from '../support/note.js';
+
+/**
+ * Input drift before any label: a numeric feature (invented: a box temperature of mean 4 °C and
+ * standard deviation 1.5 °C) and a nominal one (an invented carrier code, four carriers with shares
+ * 0.4, 0.3, 0.2, 0.1 and a fifth code unused at first).
+ */
+const schema: FeatureSchema = { features: [numeric('box_temp'), nominal('carrier', 5)] };
+const T0 = 5000;
+const LENGTH = 10_000;
+
+interface Change {
+  /** Mean shift of the numeric feature from T0 on, in standard deviations. */
+  readonly shift: number;
+  /** Share of rows from T0 on that come from the new carrier (code 4). */
+  readonly newCarrier: number;
+}
+
+function fillRow(rng: Rng, t: number, change: Change, row: Float64Array): void {
+  const after = t >= T0;
+  row[0] = 4 + 1.5 * (rng.normal() + (after ? change.shift : 0));
+  const u = rng.next();
+  const old = u < 0.4 ? 0 : u < 0.7 ? 1 : u < 0.9 ? 2 : 3;
+  row[1] = after && rng.next() < change.newCarrier ? 4 : old;
+}
+
+/** The first row index ≥ T0 at which each feature is flagged (−1 if never), and flags before T0. */
+function run(monitor: InputMonitor, seed: number, change: Change) {
+  const rng = new Rng(seed);
+  const row = new Float64Array(2);
+  const first = [-1, -1];
+  const early = [0, 0];
+  for (let t = 0; t < LENGTH; t++) {
+    fillRow(rng, t, change, row);
+    const count = monitor.update(row, 0);
+    for (let k = 0; k < count; k++) {
+      const f = monitor.flagged[k]!;
+      if (t < T0) early[f]!++;
+      else if (first[f]! < 0) first[f] = t;
+    }
+  }
+  return { first, early };
+}
+
+describe('input-drift monitors', () => {
+  it('flags a one-standard-deviation mean shift within 500 values in ≥ 95 of 100 streams', () => {
+    // Siegmund's approximation (numeric-shift.ts; from memory) puts the mean delay near 40 values
+    // for δ = 0.5, λ = 20; the requirement is 500.
+    const delays: number[] = [];
+    let within = 0;
+    for (let seed = 1; seed <= 100; seed++) {
+      const { first } = run(createInputMonitor(schema), seed, { shift: 1, newCarrier: 0 });
+      if (first[0]! >= 0) delays.push(first[0]! - T0);
+      if (first[0]! >= 0 && first[0]! - T0 <= 500) within++;
+    }
+    note(`numeric 1σ shift: flagged within 500 in ${within}/100, median delay ${median(delays)} values`);
+    expect(within).toBeGreaterThanOrEqual(95);
+  });
+
+  it('flags a new dominant category within two windows', () => {
+    // From T0 half the rows come from a carrier never seen before. The χ² statistic of the first full
+    // window after T0 is in the hundreds against a 0.1% critical value of 16.27 for 3 degrees of freedom
+    // (@stdlib chi-square quantile), so every stream is flagged by the end of the window that follows.
+    let flagged = 0;
+    const delays: number[] = [];
+    for (let seed = 101; seed <= 200; seed++) {
+      const { first } = run(createInputMonitor(schema), seed, { shift: 0, newCarrier: 0.5 });
+      if (first[1]! >= 0 && first[1]! - T0 < 1000) flagged++;
+      delays.push(first[1]! - T0);
+    }
+    note(
+      `new dominant category: flagged within two windows in ${flagged}/100, median delay ${median(delays)}`,
+    );
+    expect(flagged).toBeGreaterThanOrEqual(95);
+  });
+
+  it('stays quiet on stationary inputs at the stated rate', () => {
+    // Numeric: Siegmund's ARL₀ ≈ 3·10⁹ values per side (numeric-shift.ts) makes a false flag in 10,000
+    // values practically impossible; budget 2 of 100 streams for the estimated standardisation.
+    // Nominal: 19 tumbling-window tests per stream, each at significance 0.001, so at most 1.9% of
+    // streams by the union bound; budget 6 of 100 (a Poisson(1.9) count exceeds 6 with probability 0.4%).
+    const streams = [0, 0];
+    for (let seed = 301; seed <= 400; seed++) {
+      const { first, early } = run(createInputMonitor(schema), seed, { shift: 0, newCarrier: 0 });
+      for (const f of [0, 1]) if (early[f]! > 0 || first[f]! >= 0) streams[f]!++;
+    }
+    note(`stationary inputs: numeric flagged on ${streams[0]}/100 streams, nominal on ${streams[1]}/100`);
+    expect(streams[0]).toBeLessThanOrEqual(2);
+    expect(streams[1]).toBeLessThanOrEqual(6);
+  });
+
+  it("computes Pearson's χ² of homogeneity, pooling cells with expected counts below 5", () => {
+    const out: ChiSquareResult = { statistic: 0, dof: 0 };
+    // Worked by hand from Pearson's definition: rows (10, 20, 30) and (20, 20, 20); column totals 30, 40,
+    // 50 over N = 120, so every expected count is 15, 20, 25 and χ² = 2(25/15 + 0 + 25/25) = 16/3.
+    chiSquareHomogeneity(Float64Array.of(10, 20, 30), Float64Array.of(20, 20, 20), 3, out);
+    expect(out.statistic).toBeCloseTo(16 / 3, 12);
+    expect(out.dof).toBe(2);
+    // Rows (100, 3, 1) and (100, 2, 0), N = 206: columns 2 and 3 (totals 5 and 1, expected counts below
+    // 2.5) are pooled into one cell (4, 2), leaving a 2 × 2 table with expected counts column · row / N.
+    chiSquareHomogeneity(Float64Array.of(100, 3, 1), Float64Array.of(100, 2, 0), 3, out);
+    const term = (observed: number, column: number, row: number) => {
+      const expected = (column * row) / 206;
+      return (observed - expected) ** 2 / expected;
+    };
+    expect(out.dof).toBe(1);
+    expect(out.statistic).toBeCloseTo(
+      term(100, 200, 104) + term(100, 200, 102) + term(4, 6, 104) + term(2, 6, 102),
+      12,
+    );
+    // The 0.1% critical value for 3 degrees of freedom is 16.27 in printed χ² tables (from memory).
+    expect(quantile(0.999, 3)).toBeCloseTo(16.266, 3);
+  });
+
+  it('flags a constant feature that changes, skips missing values, and adapts after a flag', () => {
+    const monitor = createInputMonitor({ features: [numeric('setpoint')] });
+    const row = new Float64Array(1);
+    let flags = 0;
+    for (let t = 0; t < 2000; t++) {
+      row[0] = t % 7 === 0 ? Number.NaN : t < 1000 ? 3 : 3.5;
+      flags += monitor.update(row, 0);
+    }
+    // One flag at the change; afterwards 3.5 is the new normal.
+    expect(flags).toBe(1);
+  });
+
+  it('restores from a JSON snapshot and flags identically on the next 10,000 rows', () => {
+    const monitor = createInputMonitor(schema, { nominal: { window: 200 }, numeric: { lambda: 8 } });
+    const rng = new Rng(77);
+    const rows = new Float64Array(2 * 16_000);
+    const change = { shift: 0.7, newCarrier: 0.3 };
+    for (let t = 0; t < 16_000; t++) fillRow(rng, t, change, rows.subarray(2 * t, 2 * t + 2));
+    for (let t = 0; t < 5200; t++) monitor.update(rows, 2 * t);
+    const copy = restoreInputMonitor(JSON.parse(JSON.stringify(monitor.snapshot())) as InputMonitorSnapshot);
+    const trace = (m: InputMonitor) => {
+      const out: string[] = [];
+      for (let t = 5200; t < 15_200; t++) {
+        const count = m.update(rows, 2 * t);
+        if (count > 0) out.push(`${t}:${Array.from(m.flagged.subarray(0, count)).join('+')}`);
+      }
+      return out.join(' ');
+    };
+    const a = trace(monitor);
+    expect(a.length).toBeGreaterThan(0);
+    expect(trace(copy)).toBe(a);
+    expect(JSON.stringify(copy.snapshot())).toBe(JSON.stringify(monitor.snapshot()));
+    monitor.reset();
+    expect(JSON.stringify(monitor.snapshot())).toBe(
+      JSON.stringify(
+        createInputMonitor(schema, { nominal: { window: 200 }, numeric: { lambda: 8 } }).snapshot(),
+      ),
+    );
+  });
+
+  it('refuses bad parameters, rows and snapshots with a ShoalError naming the problem', () => {
+    const cases: [() => unknown, string, RegExp][] = [
+      [() => createInputMonitor(schema, { nominal: { window: 0 } }), 'invalid-parameter', /nominal\.window/],
+      [
+        () => createInputMonitor(schema, { nominal: { significance: 1 } }),
+        'invalid-parameter',
+        /significance/,
+      ],
+      [() => createInputMonitor(schema, { numeric: { lambda: -1 } }), 'invalid-parameter', /numeric\.lambda/],
+      [() => createInputMonitor(schema, { numeric: { delta: -0.5 } }), 'invalid-parameter', /numeric\.delta/],
+      [() => createInputMonitor(schema, { numeric: { warmup: 1 } }), 'invalid-parameter', /numeric\.warmup/],
+      [() => createInputMonitor({ features: [] }), 'invalid-parameter', /at least one feature/],
+      [() => createInputMonitor(schema).update(new Float64Array(3), 2), 'invalid-row', /offset 2/],
+      [() => createInputMonitor(schema).update(Float64Array.of(1, 7), 0), 'invalid-row', /carrier.*got 7/],
+      [() => createInputMonitor(schema).update(Float64Array.of(1, 1.5), 0), 'invalid-row', /got 1\.5/],
+      [
+        () => restoreInputMonitor({ ...createInputMonitor(schema).snapshot(), version: 7 }),
+        'invalid-snapshot',
+        /version 7/,
+      ],
+      [
+        () => restoreInputMonitor({ ...createInputMonitor(schema).snapshot(), state: { features: [] } }),
+        'invalid-snapshot',
+        /2 feature states/,
+      ],
+    ];
+    for (const [fn, code, pattern] of cases) {
+      let thrown: unknown;
+      try {
+        fn();
+      } catch (e) {
+        thrown = e;
+      }
+      expect(thrown).toBeInstanceOf(ShoalError);
+      expect((thrown as ShoalError).code).toBe(code);
+      expect((thrown as ShoalError).message).toMatch(pattern);
+    }
+  });
+});
