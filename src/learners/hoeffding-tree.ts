@@ -426,7 +426,8 @@ export class HoeffdingTree implements Classifier {
     const slot = this.slotOf[leaf]!;
     if (this.mode === PREDICT_MAJORITY || slot < 0) {
       this.lastNb = -1;
-      return (this.lastMajority = this.majorityInto(head, out, outOffset));
+      this.lastMajority = this.majorityInto(head, out, outOffset);
+      return this.lastMajority;
     }
     const heads = this.heads;
     if (this.mode === PREDICT_NB || heads[head + H_NB_CORRECT]! > heads[head + H_MC_CORRECT]!) {
@@ -502,7 +503,7 @@ export class HoeffdingTree implements Classifier {
       const f = subset === null ? j : subset[leaf * per + j]!;
       const x = row[offset + f]!;
       if (this.nominal[f] === 0) {
-        if (x === x) {
+        if (!Number.isNaN(x)) {
           for (let k = 0, g = base; k < c; k++, g += GAUSS) {
             if (stats[g + G_W]! > 0) {
               const d = x - stats[g + G_MEAN]!;
@@ -579,7 +580,7 @@ export class HoeffdingTree implements Classifier {
       const x = row[offset + f]!;
       if (this.nominal[f] === 0) {
         const g = base + k * GAUSS;
-        if (x === x && stats[g + G_W]! > 0) {
+        if (!Number.isNaN(x) && stats[g + G_W]! > 0) {
           const d = x - stats[g + G_MEAN]!;
           const iv = stats[g + G_INV_VAR]!;
           lp += 0.5 * Math.log(iv) - 0.5 * d * d * iv;
@@ -623,7 +624,8 @@ export class HoeffdingTree implements Classifier {
       if (nb === label) heads[head + H_NB_CORRECT]! += weight;
     }
     heads[head + HEAD + label]! += weight;
-    const seen = (heads[head + H_SEEN]! += weight);
+    heads[head + H_SEEN]! += weight;
+    const seen = heads[head + H_SEEN]!;
     if (slot < 0) return;
     this.observe(leaf, slot, row, offset, label, weight);
     if (seen - heads[head + H_LAST_ATTEMPT]! >= this.options.gracePeriod) {
@@ -654,7 +656,7 @@ export class HoeffdingTree implements Classifier {
       const f = subset === null ? j : subset[leaf * per + j]!;
       const x = row[offset + f]!;
       if (this.nominal[f] === 0) {
-        if (x === x) {
+        if (!Number.isNaN(x)) {
           const g = base + label * GAUSS;
           const before = stats[g + G_W]!;
           const total = before + weight;

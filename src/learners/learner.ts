@@ -56,6 +56,15 @@ export interface Regressor {
   sizeBytes(): number;
 }
 
+/**
+ * A learner that can forget what it learnt from some of its input features: stacking uses it to stop
+ * trusting a replaced member's outputs (its meta-learner's weights on that seat's inputs restart at 0).
+ */
+export interface ForgetsInputs {
+  /** Reset the weights on features first … first + count − 1 of the schema. */
+  forgetInputs(first: number, count: number): void;
+}
+
 export interface LearnerSnapshot {
   readonly kind: string;
   /** Format version of `state`, bumped when the layout changes. */

@@ -1,0 +1,67 @@
+import { type FeatureSchema, numericSchema } from '../../src/core/index.js';
+import { KnnWindow } from '../../src/learners/knn-window.js';
+import type { Classifier } from '../../src/learners/learner.js';
+import { LinearSvm } from '../../src/learners/linear-svm.js';
+import { Logistic } from '../../src/learners/logistic.js';
+import { Mlp } from '../../src/learners/mlp.js';
+import { NaiveBayes } from '../../src/learners/naive-bayes.js';
+import { type BenchFn, type BenchRow, floorRate, machine, medianRate } from './harness.js';
+import { benchStream } from './stream.js';
+
+/**
+ * Non-tree learners: rows per second of the prequential step (`scoreTrain`) for each learner with its
+ * default options on the 10-feature, 2-class stream of `stream.ts` (SEA rule on two features, 10% label
+ * noise: accuracy cannot exceed 90%), beside the bare-loop floor over the same rows and with the prequential
+ * accuracy of the run. A fresh learner is built for every timed run, so a rate includes the early rows.
+ * knn-window scans its whole window for every row; it gets one timed run without warm-up to keep the
+ * section short.
+ */
+const LEARNERS: readonly { name: string; make: (schema: FeatureSchema) => Classifier; runs: number }[] = [
+  { name: 'naive-bayes', make: (s) => new NaiveBayes(s), runs: 3 },
+  { name: 'logistic', make: (s) => new Logistic(s), runs: 3 },
+  { name: 'linear-svm', make: (s) => new LinearSvm(s), runs: 3 },
+  { name: 'mlp', make: (s) => new Mlp(s, {}, 'bench-mlp'), runs: 3 },
+  { name: 'knn-window', make: (s) => new KnnWindow(s), runs: 1 },
+];
+
+export const bench: BenchFn = ({ quick }) => {
+  const count = quick ? 20_000 : 200_000;
+  const { rows: values, labels, width } = benchStream(count, 'bench-learners');
+  const schema = numericSchema(width);
+  const floor = floorRate(values, count);
+  const rows: BenchRow[] = [
+    { name: 'floor (bare loop, 10-feature rows)', rate: floor, unit: 'rows/s', ofFloor: 1 },
+  ];
+  const json: Record<string, unknown> = { machine: machine(), rows: count, floor: { rowsPerSecond: floor } };
+  const out = new Float64Array(2);
+  for (const { name, make, runs } of LEARNERS) {
+    let correct = 0;
+    let size = 0;
+    const rate = medianRate(
+      count,
+      () => {
+        const learner = make(schema);
+        learner.ensureClasses(2);
+        correct = 0;
+        for (let i = 0; i < count; i++) {
+          if (learner.scoreTrain(values, i * width, labels[i]!, 1, out, 0) === labels[i]) correct++;
+        }
+        size = learner.sizeBytes();
+        return correct;
+      },
+      runs,
+      runs > 1 ? 1 : 0,
+    );
+    const accuracy = correct / count;
+    rows.push({
+      name,
+      rate,
+      unit: 'rows/s',
+      ofFloor: rate / floor,
+      accuracy,
+      note: `${size} bytes of state`,
+    });
+    json[name] = { rowsPerSecond: rate, ofFloor: rate / floor, accuracy, sizeBytes: size };
+  }
+  return { title: 'Learners (non-tree)', rows, json };
+};
