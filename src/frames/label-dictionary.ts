@@ -1,0 +1,96 @@
+/**
+ * The classes of one stream, discovered as labels arrive. A label column holds either class codes
+ * (integers 0, 1, …, or booleans as 0 and 1) or class names (strings, coded in order of first
+ * appearance after any names given up front). The class list only grows, so codes stay stable for the
+ * life of the stream (and across restarts, through the decoder's snapshot).
+ */
+export type LabelMode = 'code' | 'name';
+
+export class LabelDictionary {
+  /** Undecided (null) until a label column's type or its first label says which. */
+  mode: LabelMode | null;
+  readonly maxClasses: number;
+  private readonly list: string[];
+  private readonly codes = new Map<string, number>();
+
+  constructor(known: readonly string[], maxClasses: number, mode: LabelMode | null = null) {
+    this.maxClasses = maxClasses;
+    this.mode = mode;
+    this.list = [];
+    for (const name of known) this.add(name);
+  }
+
+  /** Class names, index = code; the list grows as classes appear. */
+  classes(): readonly string[] {
+    return this.list;
+  }
+
+  /**
+   * Settle the mode from a column's type. A boolean column is a code column whose classes are named
+   * `false` and `true` unless names were given.
+   */
+  decide(kind: 'number' | 'bool' | 'string' | 'empty'): void {
+    if (this.mode !== null || kind === 'empty') return;
+    this.mode = kind === 'string' ? 'name' : 'code';
+    if (kind === 'bool' && this.list.length === 0) {
+      this.add('false');
+      this.add('true');
+    }
+  }
+
+  /** The code of a numeric label: an integer in [0, maxClasses); −1 otherwise. */
+  codeOfNumber(value: number): number {
+    if (!(Number.isInteger(value) && value >= 0 && value < this.maxClasses)) return -1;
+    while (this.list.length <= value) this.add(String(this.list.length));
+    return value;
+  }
+
+  /** The code of a class name, adding it while there is room; −1 when the class list is full. */
+  codeOfName(name: string): number {
+    const found = this.codes.get(name);
+    if (found !== undefined) return found;
+    if (this.list.length >= this.maxClasses) return -1;
+    return this.add(name);
+  }
+
+  /**
+   * The code of a label cell of any source: NaN for a missing label (null, undefined, NaN, empty text), −1
+   * for a value that is not a label (see `explain`).
+   */
+  code(value: unknown): number {
+    if (value === null || value === undefined || value === '' || Number.isNaN(value)) return Number.NaN;
+    if (this.mode === null) this.mode = typeof value === 'string' && !isCodeText(value) ? 'name' : 'code';
+    if (this.mode === 'name') {
+      return typeof value === 'object' ? -1 : this.codeOfName(String(value));
+    }
+    if (typeof value === 'number') return this.codeOfNumber(value);
+    if (typeof value === 'boolean') return this.codeOfNumber(value ? 1 : 0);
+    if (typeof value === 'bigint') return this.codeOfNumber(Number(value));
+    if (typeof value === 'string') {
+      if (value === 'true' || value === 'false') return this.codeOfNumber(value === 'true' ? 1 : 0);
+      if (isCodeText(value)) return this.codeOfNumber(Number(value));
+    }
+    return -1;
+  }
+
+  /** Why `value` has no code; built only when a label is refused. */
+  explain(value: unknown): string {
+    const shown = typeof value === 'bigint' ? String(value) : JSON.stringify(value);
+    if (this.mode === 'name' && typeof value !== 'object') {
+      return `label ${shown} would be class ${this.list.length + 1}, more than maxClasses (${this.maxClasses})`;
+    }
+    return `label ${shown} is not a class code (an integer from 0 to ${this.maxClasses - 1})`;
+  }
+
+  private add(name: string): number {
+    const code = this.list.length;
+    this.list.push(name);
+    this.codes.set(name, code);
+    return code;
+  }
+}
+
+/** Text that reads as a non-negative integer, such as a class code in a CSV cell. */
+function isCodeText(text: string): boolean {
+  return /^\s*\d+\s*$/.test(text);
+}
