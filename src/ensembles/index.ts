@@ -1,0 +1,23 @@
+export type { BaggingOptions, BaggingSpec } from './bagging.js';
+export { BAGGING_DEFAULTS, Bagging } from './bagging.js';
+export type { BoostingOptions, BoostingSpec } from './boosting.js';
+export { BOOSTING_DEFAULTS, Boosting } from './boosting.js';
+export type { Ensemble, EnsembleKind, EnsembleSnapshot } from './ensemble.js';
+export { ENSEMBLE_KINDS } from './ensemble.js';
+export type {
+  JournalSink,
+  LifecycleOptions,
+  LifecycleRecord,
+  MemberState,
+  SeatView,
+} from './lifecycle.js';
+export { LIFECYCLE_DEFAULTS } from './lifecycle.js';
+export type { EnsembleSpec } from './registry.js';
+export { createEnsemble, restoreEnsemble } from './registry.js';
+export type { RegressionBaggingOptions, RegressionBaggingSnapshot } from './regression-bagging.js';
+export { REGRESSION_BAGGING_DEFAULTS, RegressionBagging } from './regression-bagging.js';
+export type { MetaSpec, StackingOptions, StackingSpec } from './stacking.js';
+export { STACKING_DEFAULTS, Stacking } from './stacking.js';
+export { Verdict } from './verdict.js';
+export type { VoteKind } from './vote.js';
+export { VOTE_KINDS } from './vote.js';

@@ -1,0 +1,463 @@
+import { integerAtLeast, ShoalError } from '../core/index.js';
+import {
+  createDetector,
+  type DetectorSnapshot,
+  type DetectorSpec,
+  type DriftDetector,
+  restoreDetector,
+} from '../drift/index.js';
+import type { Classifier, LearnerSnapshot } from '../learners/index.js';
+import { restoreClassifier } from '../learners/index.js';
+
+/**
+ * The member lifecycle every ensemble kind shares. Each seat of an ensemble holds one member and a
+ * monitor: a drift detector fed the member's own 0/1 error, measured on each row before the member
+ * trains on it.
+ *
+ *   warming ──(warm-up rows)──► active ──(warning, recent error above the member's own record)──► watched
+ *   watched ──(warning clears for a warm-up's worth of rows)──► active
+ *   active | watched ──(drift, error went up)──► retired; the understudy (or a fresh member) takes the seat
+ *
+ * While a member is `watched` an understudy trains on the same rows; on drift it takes the seat, as the
+ * background learner of Gomes et al., "Adaptive random forests", Machine Learning 106, 2017 (from memory).
+ * Guards: no member is judged before `minAge` rows; at most `maxReplacements` replacements happen within
+ * any `replacementWindow` rows (no flapping) — a seat found drifting while the cap is reached is replaced
+ * as soon as the cap allows; a drift towards lower error replaces nothing.
+ * Every change of state is a `LifecycleRecord` written to the journal.
+ */
+
+export type MemberState = 'warming' | 'active' | 'watched' | 'retired';
+
+export interface LifecycleOptions {
+  /** Monitor members and replace degraded ones. Off: every member stays `active` for good. */
+  readonly enabled: boolean;
+  /** The detector each member's monitor runs. */
+  readonly detector: DetectorSpec;
+  /** Rows a new member spends `warming`, out of the vote. */
+  readonly warmup: number;
+  /** Rows a member must have seen before a warning or drift can act on it. */
+  readonly minAge: number;
+  /** Replacements allowed within any `replacementWindow` rows. */
+  readonly maxReplacements: number;
+  readonly replacementWindow: number;
+  /** Rows over which each member's recent accuracy is kept (for weighted votes and reports). */
+  readonly accuracyWindow: number;
+}
+
+export const LIFECYCLE_DEFAULTS: LifecycleOptions = {
+  enabled: true,
+  detector: { kind: 'adwin' },
+  warmup: 100,
+  minAge: 200,
+  maxReplacements: 5,
+  replacementWindow: 1000,
+  accuracyWindow: 500,
+};
+
+export function checkLifecycleOptions(o: LifecycleOptions): LifecycleOptions {
+  const owner = 'lifecycle';
+  if (typeof o.enabled !== 'boolean') {
+    throw new ShoalError(
+      'invalid-parameter',
+      `${owner}: enabled must be true or false, got ${String(o.enabled)}`,
+    );
+  }
+  createDetector(o.detector);
+  integerAtLeast(owner, 'warmup', o.warmup, 0);
+  integerAtLeast(owner, 'minAge', o.minAge, 0);
+  integerAtLeast(owner, 'maxReplacements', o.maxReplacements, 0);
+  integerAtLeast(owner, 'replacementWindow', o.replacementWindow, 1);
+  integerAtLeast(owner, 'accuracyWindow', o.accuracyWindow, 1);
+  return o;
+}
+
+/** One entry of the journal: a member changed state. */
+export interface LifecycleRecord {
+  readonly type: 'lifecycle';
+  /** Rows the ensemble had trained on when the change happened. */
+  readonly row: number;
+  readonly seat: number;
+  /** The member's id, unique within the ensemble and never reused. */
+  readonly member: number;
+  /** The state before; null for a member that has just taken a seat. */
+  readonly from: MemberState | null;
+  readonly to: MemberState;
+  readonly detector: string;
+  /** The monitor's estimate of the member's error rate at the change. */
+  readonly estimate: number;
+  readonly reason: string;
+}
+
+export type JournalSink = (record: LifecycleRecord) => void;
+
+/** Builds the member for a seat; `memberId` seeds it, so replacements are deterministic. */
+export type MemberFactory = (seat: number, memberId: number) => Classifier;
+
+/** One seat of an ensemble: its member, monitor, understudy and recent record. */
+export class Seat {
+  readonly index: number;
+  member: Classifier;
+  memberId: number;
+  state: MemberState;
+  /** Rows judged since the member took the seat (an understudy brings its own count). */
+  age = 0;
+  /** Errors since the member took the seat. */
+  errors = 0;
+  monitor: DriftDetector;
+  understudy: Classifier | null = null;
+  understudyId = -1;
+  understudyAge = 0;
+  /** Consecutive stable rows while watched. */
+  stableRun = 0;
+  /** A drift was found while the replacement cap was reached: replace as soon as the cap allows. */
+  due = false;
+  /** No new watch before this age: a warning just cleared should not reopen on the next row. */
+  calmUntil = 0;
+  private readonly ring: Uint8Array;
+  private ringAt = 0;
+  private ringFill = 0;
+  private ringCorrect = 0;
+
+  constructor(
+    index: number,
+    member: Classifier,
+    memberId: number,
+    state: MemberState,
+    monitor: DriftDetector,
+    window: number,
+  ) {
+    this.index = index;
+    this.member = member;
+    this.memberId = memberId;
+    this.state = state;
+    this.monitor = monitor;
+    this.ring = new Uint8Array(window);
+  }
+
+  /** Accuracy over the last `accuracyWindow` rows (0 before the first). */
+  get recentAccuracy(): number {
+    return this.ringFill > 0 ? this.ringCorrect / this.ringFill : 0;
+  }
+
+  /** Count one judged row. */
+  record(correct: boolean): void {
+    const ring = this.ring;
+    const bit = correct ? 1 : 0;
+    if (this.ringFill === ring.length) this.ringCorrect -= ring[this.ringAt]!;
+    else this.ringFill++;
+    ring[this.ringAt] = bit;
+    this.ringCorrect += bit;
+    this.ringAt = this.ringAt + 1 === ring.length ? 0 : this.ringAt + 1;
+    this.age++;
+    if (!correct) this.errors++;
+  }
+
+  /** Forget the record (a new member took the seat). */
+  clearRecord(): void {
+    this.ring.fill(0);
+    this.ringAt = 0;
+    this.ringFill = 0;
+    this.ringCorrect = 0;
+    this.errors = 0;
+  }
+
+  snapshot(): SeatSnapshot {
+    return {
+      member: this.member.snapshot(),
+      memberId: this.memberId,
+      state: this.state,
+      age: this.age,
+      errors: this.errors,
+      monitor: this.monitor.snapshot(),
+      understudy: this.understudy?.snapshot() ?? null,
+      understudyId: this.understudyId,
+      understudyAge: this.understudyAge,
+      stableRun: this.stableRun,
+      due: this.due,
+      calmUntil: this.calmUntil,
+      ring: Array.from(this.ring).join(''),
+      ringAt: this.ringAt,
+      ringFill: this.ringFill,
+    };
+  }
+
+  static restore(index: number, s: SeatSnapshot, window: number): Seat {
+    const seat = new Seat(
+      index,
+      restoreClassifier(s.member),
+      s.memberId,
+      s.state,
+      restoreDetector(s.monitor),
+      window,
+    );
+    seat.age = s.age;
+    seat.errors = s.errors;
+    seat.understudy = s.understudy === null ? null : restoreClassifier(s.understudy);
+    seat.understudyId = s.understudyId;
+    seat.understudyAge = s.understudyAge;
+    seat.stableRun = s.stableRun;
+    seat.due = s.due;
+    seat.calmUntil = s.calmUntil;
+    if (s.ring.length !== window) {
+      throw new ShoalError(
+        'invalid-snapshot',
+        `seat ${index}: accuracy window of ${s.ring.length} rows, expected ${window}`,
+      );
+    }
+    for (let i = 0; i < window; i++) seat.ring[i] = s.ring.charCodeAt(i) === 49 ? 1 : 0;
+    seat.ringAt = s.ringAt;
+    seat.ringFill = s.ringFill;
+    seat.ringCorrect = seat.ring.reduce((a, b) => a + b, 0);
+    return seat;
+  }
+}
+
+export interface SeatSnapshot {
+  readonly member: LearnerSnapshot;
+  readonly memberId: number;
+  readonly state: MemberState;
+  readonly age: number;
+  readonly errors: number;
+  readonly monitor: DetectorSnapshot;
+  readonly understudy: LearnerSnapshot | null;
+  readonly understudyId: number;
+  readonly understudyAge: number;
+  readonly stableRun: number;
+  readonly due: boolean;
+  readonly calmUntil: number;
+  readonly ring: string;
+  readonly ringAt: number;
+  readonly ringFill: number;
+}
+
+export interface LifecycleSnapshot {
+  readonly seats: readonly SeatSnapshot[];
+  readonly nextMemberId: number;
+  readonly epoch: number;
+  readonly replacements: readonly number[];
+  readonly classes: number;
+}
+
+/** A read-only view of a seat, for telemetry and reports. */
+export interface SeatView {
+  readonly seat: number;
+  readonly member: number;
+  readonly kind: string;
+  readonly state: MemberState;
+  readonly age: number;
+  readonly recentAccuracy: number;
+  readonly errorEstimate: number;
+  readonly understudy: boolean;
+}
+
+/** The seats of one ensemble and the rules that move members through them. */
+export class Lifecycle {
+  readonly options: LifecycleOptions;
+  readonly seats: Seat[];
+  private readonly make: MemberFactory;
+  private readonly journal: JournalSink;
+  private nextMemberId = 0;
+  /** Seat replacements so far: the model epoch. */
+  epoch = 0;
+  private replacements: number[] = [];
+  private classes = 0;
+
+  constructor(
+    options: LifecycleOptions,
+    seats: number,
+    make: MemberFactory,
+    journal: JournalSink,
+    restored?: LifecycleSnapshot,
+  ) {
+    this.options = checkLifecycleOptions(options);
+    this.make = make;
+    this.journal = journal;
+    if (restored !== undefined) {
+      this.seats = restored.seats.map((s, i) => Seat.restore(i, s, options.accuracyWindow));
+      this.nextMemberId = restored.nextMemberId;
+      this.epoch = restored.epoch;
+      this.replacements = [...restored.replacements];
+      this.classes = restored.classes;
+      return;
+    }
+    this.seats = [];
+    const first: MemberState = options.enabled && options.warmup > 0 ? 'warming' : 'active';
+    for (let i = 0; i < seats; i++) {
+      const id = this.nextMemberId++;
+      const seat = new Seat(
+        i,
+        make(i, id),
+        id,
+        first,
+        createDetector(options.detector),
+        options.accuracyWindow,
+      );
+      this.seats.push(seat);
+      this.write(0, seat, null, first, 'ensemble created');
+    }
+  }
+
+  /** Announce that labels 0 … n−1 exist to every member and understudy. */
+  ensureClasses(n: number): void {
+    if (n <= this.classes) return;
+    this.classes = n;
+    for (const seat of this.seats) {
+      seat.member.ensureClasses(n);
+      seat.understudy?.ensureClasses(n);
+    }
+  }
+
+  /** Vote weight of a seat under plain voting: warming members sit out. */
+  votes(seat: Seat): boolean {
+    return seat.state !== 'warming';
+  }
+
+  /**
+   * Judge a seat on one row: `correct` says whether its member's prediction (made before training on
+   * the row) was right; `row` is the ensemble's row count. Returns true when a new member took the seat.
+   */
+  judge(seat: Seat, correct: boolean, row: number): boolean {
+    seat.record(correct);
+    const o = this.options;
+    if (!o.enabled) return false;
+    if (seat.understudy !== null) seat.understudyAge++;
+    if (seat.state === 'warming' && seat.age >= o.warmup) this.move(row, seat, 'active', 'warm-up complete');
+    const monitor = seat.monitor;
+    const before = monitor.estimate;
+    const level = monitor.update(correct ? 0 : 1);
+    if (seat.age < o.minAge) return false;
+    if (seat.due) return this.replace(seat, row);
+    if (level === 'drift') {
+      if (!(monitor.estimate > before)) {
+        if (seat.state === 'watched') this.clearWatch(row, seat, 'drift towards fewer errors');
+        return false;
+      }
+      return this.replace(seat, row);
+    }
+    if (level === 'warning') {
+      seat.stableRun = 0;
+      // A warning counts when the member errs more over its recent window than over its whole record.
+      if (
+        seat.state === 'active' &&
+        seat.age >= seat.calmUntil &&
+        1 - seat.recentAccuracy > seat.errors / seat.age
+      ) {
+        this.watch(seat, row);
+      }
+    } else if (seat.state === 'watched' && ++seat.stableRun >= Math.max(1, o.warmup)) {
+      this.clearWatch(row, seat, 'warning cleared');
+    }
+    return false;
+  }
+
+  /** Views of every seat, for telemetry and reports. */
+  view(): SeatView[] {
+    return this.seats.map((s) => ({
+      seat: s.index,
+      member: s.memberId,
+      kind: s.member.kind,
+      state: s.state,
+      age: s.age,
+      recentAccuracy: s.recentAccuracy,
+      errorEstimate: s.monitor.estimate,
+      understudy: s.understudy !== null,
+    }));
+  }
+
+  snapshot(): LifecycleSnapshot {
+    return {
+      seats: this.seats.map((s) => s.snapshot()),
+      nextMemberId: this.nextMemberId,
+      epoch: this.epoch,
+      replacements: [...this.replacements],
+      classes: this.classes,
+    };
+  }
+
+  private watch(seat: Seat, row: number): void {
+    const id = this.nextMemberId++;
+    const understudy = this.make(seat.index, id);
+    understudy.ensureClasses(this.classes);
+    seat.understudy = understudy;
+    seat.understudyId = id;
+    seat.understudyAge = 0;
+    seat.stableRun = 0;
+    this.move(row, seat, 'watched', `warning; understudy ${id} started`);
+  }
+
+  private clearWatch(row: number, seat: Seat, reason: string): void {
+    seat.calmUntil = seat.age + this.options.warmup;
+    seat.understudy = null;
+    seat.understudyId = -1;
+    seat.understudyAge = 0;
+    seat.stableRun = 0;
+    this.move(row, seat, 'active', reason);
+  }
+
+  private replace(seat: Seat, row: number): boolean {
+    const o = this.options;
+    while (this.replacements.length > 0 && this.replacements[0]! <= row - o.replacementWindow)
+      this.replacements.shift();
+    if (this.replacements.length >= o.maxReplacements) {
+      if (!seat.due) {
+        seat.due = true;
+        this.write(
+          row,
+          seat,
+          seat.state,
+          seat.state,
+          `drift; replacement deferred (cap of ${o.maxReplacements} per ${o.replacementWindow} rows)`,
+        );
+      }
+      return false;
+    }
+    seat.due = false;
+    this.move(row, seat, 'retired', 'drift');
+    let reason: string;
+    if (seat.understudy !== null) {
+      seat.member = seat.understudy;
+      seat.memberId = seat.understudyId;
+      seat.age = seat.understudyAge;
+      reason = 'understudy promoted';
+    } else {
+      const id = this.nextMemberId++;
+      seat.member = this.make(seat.index, id);
+      seat.member.ensureClasses(this.classes);
+      seat.memberId = id;
+      seat.age = 0;
+      reason = 'fresh member';
+    }
+    seat.understudy = null;
+    seat.understudyId = -1;
+    seat.understudyAge = 0;
+    seat.stableRun = 0;
+    seat.calmUntil = 0;
+    seat.clearRecord();
+    seat.monitor = createDetector(o.detector);
+    seat.state = seat.age >= o.warmup || o.warmup === 0 ? 'active' : 'warming';
+    this.write(row, seat, null, seat.state, reason);
+    this.replacements.push(row);
+    this.epoch++;
+    return true;
+  }
+
+  private move(row: number, seat: Seat, to: MemberState, reason: string): void {
+    const from = seat.state;
+    seat.state = to;
+    this.write(row, seat, from, to, reason);
+  }
+
+  private write(row: number, seat: Seat, from: MemberState | null, to: MemberState, reason: string): void {
+    this.journal({
+      type: 'lifecycle',
+      row,
+      seat: seat.index,
+      member: seat.memberId,
+      from,
+      to,
+      detector: seat.monitor.kind,
+      estimate: seat.monitor.estimate,
+      reason,
+    });
+  }
+}

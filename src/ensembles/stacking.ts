@@ -1,0 +1,261 @@
+import {
+  closedUnit,
+  deriveSeed,
+  type FeatureSchema,
+  numericSchema,
+  oneOf,
+  Rng,
+  type RngState,
+  type Seed,
+  ShoalError,
+} from '../core/index.js';
+import {
+  type ClassifierSpec,
+  createClassifier,
+  type LearnerSnapshot,
+  Logistic,
+  type LogisticOptions,
+  Mlp,
+  type MlpOptions,
+} from '../learners/index.js';
+import { checkLabel, checkRow } from '../learners/learner.js';
+import type { Ensemble, EnsembleSnapshot } from './ensemble.js';
+import {
+  type JournalSink,
+  LIFECYCLE_DEFAULTS,
+  Lifecycle,
+  type LifecycleOptions,
+  type SeatView,
+} from './lifecycle.js';
+import { checkSnapshotKind, MemberScratch } from './scratch.js';
+import type { Verdict } from './verdict.js';
+
+/**
+ * Online stacking (Wolpert, "Stacked generalization", Neural Networks 5, 1992, in its streaming form):
+ * heterogeneous members, and a meta-learner that learns from the members' class probabilities which
+ * member to trust for which kind of row. Every member is scored on a row before it trains on it, so the
+ * outputs the meta-learner trains on are out-of-sample — the streaming counterpart of keeping the base
+ * learners' training fold away from the meta-model. With `holdout` > 0 that share of rows (drawn from
+ * the ensemble's seed) trains the meta-learner only.
+ *
+ * When the lifecycle replaces a member, the meta-learner's weights on that seat's inputs are reset, so
+ * the new member is not trusted with its predecessor's credit.
+ */
+export type MetaSpec =
+  | ({ readonly kind: 'logistic' } & Partial<LogisticOptions>)
+  | ({ readonly kind: 'mlp' } & Partial<MlpOptions>);
+
+export interface StackingOptions {
+  readonly learners: readonly ClassifierSpec[];
+  readonly meta: MetaSpec;
+  /** Share of rows that train the meta-learner only, in [0, 1). */
+  readonly holdout: number;
+  readonly lifecycle: LifecycleOptions;
+}
+
+export const STACKING_DEFAULTS: StackingOptions = {
+  learners: [
+    { kind: 'hoeffding-tree' },
+    { kind: 'knn-window' },
+    { kind: 'linear-svm' },
+    { kind: 'naive-bayes' },
+  ],
+  meta: { kind: 'logistic' },
+  holdout: 0,
+  lifecycle: LIFECYCLE_DEFAULTS,
+};
+
+export type StackingSpec = Partial<Omit<StackingOptions, 'lifecycle'>> & {
+  readonly lifecycle?: Partial<LifecycleOptions>;
+};
+
+const KIND = 'stacking';
+const VERSION = 1;
+
+function resolve(spec: StackingSpec): StackingOptions {
+  const o: StackingOptions = {
+    ...STACKING_DEFAULTS,
+    ...spec,
+    lifecycle: { ...LIFECYCLE_DEFAULTS, ...spec.lifecycle },
+  };
+  if (!Array.isArray(o.learners) || o.learners.length === 0) {
+    throw new ShoalError('invalid-parameter', `${KIND}: learners must list at least one learner spec`);
+  }
+  oneOf(KIND, 'meta.kind', o.meta?.kind, ['logistic', 'mlp'] as const);
+  closedUnit(KIND, 'holdout', o.holdout);
+  if (o.holdout >= 1)
+    throw new ShoalError('invalid-parameter', `${KIND}: holdout must be below 1, got ${o.holdout}`);
+  return o;
+}
+
+type MetaLearner = Logistic | Mlp;
+
+interface StackingState {
+  readonly rng: RngState;
+  readonly meta: LearnerSnapshot;
+}
+
+export class Stacking implements Ensemble {
+  readonly kind = KIND;
+  readonly schema: FeatureSchema;
+  readonly options: StackingOptions;
+  private readonly seed: string;
+  private readonly lifecycle: Lifecycle;
+  private readonly rng: Rng;
+  private meta: MetaLearner;
+  private readonly scratch: MemberScratch;
+  private readonly width: number;
+  rows = 0;
+
+  constructor(
+    schema: FeatureSchema,
+    spec: StackingSpec = {},
+    seed: Seed = 0,
+    journal: JournalSink = () => {},
+    restored?: EnsembleSnapshot,
+  ) {
+    this.schema = schema;
+    this.options = resolve(spec);
+    this.seed = String(seed);
+    this.width = schema.features.length;
+    const { learners } = this.options;
+    this.lifecycle = new Lifecycle(
+      this.options.lifecycle,
+      learners.length,
+      (seat, id) => createClassifier(learners[seat]!, schema, deriveSeed(this.seed, 'member', id)),
+      journal,
+      restored?.lifecycle,
+    );
+    const state = restored?.state as StackingState | undefined;
+    this.rng = state === undefined ? new Rng(deriveSeed(this.seed, 'holdout')) : Rng.fromState(state.rng);
+    this.scratch = new MemberScratch(learners.length);
+    const classes = Math.max(1, restored?.lifecycle.classes ?? 1);
+    this.scratch.fit(classes);
+    this.lifecycle.ensureClasses(classes);
+    this.meta = state === undefined ? this.freshMeta(classes) : restoreMeta(state.meta);
+    if (restored !== undefined) this.rows = restored.rows;
+  }
+
+  static restore(snapshot: EnsembleSnapshot, journal: JournalSink = () => {}): Stacking {
+    checkSnapshotKind(snapshot, KIND, VERSION);
+    return new Stacking(snapshot.schema, snapshot.options as StackingSpec, snapshot.seed, journal, snapshot);
+  }
+
+  get classes(): number {
+    return this.scratch.classes;
+  }
+
+  get epoch(): number {
+    return this.lifecycle.epoch;
+  }
+
+  /**
+   * Announce classes. The meta-learner's inputs are the members' probabilities, so a new class changes
+   * its input width: it starts afresh (a rare event — classes appear early in a stream).
+   */
+  ensureClasses(n: number): void {
+    if (n <= this.scratch.classes) return;
+    this.lifecycle.ensureClasses(n);
+    this.scratch.fit(n);
+    this.meta = this.freshMeta(n);
+  }
+
+  score(row: Float64Array, offset: number, verdict: Verdict): void {
+    checkRow(KIND, row, offset, this.width);
+    const { probs, preds, classes } = this.scratch;
+    const seats = this.lifecycle.seats;
+    for (let m = 0; m < seats.length; m++) preds[m] = seats[m]!.member.score(row, offset, probs, m * classes);
+    const out = verdict.fit(classes);
+    this.finish(this.meta.score(probs, 0, out, 0), verdict);
+  }
+
+  train(row: Float64Array, offset: number, label: number): void {
+    this.step(row, offset, label, null);
+  }
+
+  scoreTrain(row: Float64Array, offset: number, label: number, verdict: Verdict): void {
+    this.step(row, offset, label, verdict);
+  }
+
+  seats(): SeatView[] {
+    return this.lifecycle.view();
+  }
+
+  sizeBytes(): number {
+    let bytes = this.meta.sizeBytes();
+    for (const seat of this.lifecycle.seats)
+      bytes += seat.member.sizeBytes() + (seat.understudy?.sizeBytes() ?? 0);
+    return bytes;
+  }
+
+  snapshot(): EnsembleSnapshot {
+    const state: StackingState = { rng: this.rng.state(), meta: this.meta.snapshot() };
+    return {
+      kind: KIND,
+      version: VERSION,
+      schema: this.schema,
+      options: { ...this.options },
+      seed: this.seed,
+      rows: this.rows,
+      lifecycle: this.lifecycle.snapshot(),
+      state,
+    };
+  }
+
+  private step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void {
+    checkRow(KIND, row, offset, this.width);
+    checkLabel(KIND, label);
+    const { probs, preds, classes } = this.scratch;
+    const seats = this.lifecycle.seats;
+    const holdout = this.options.holdout;
+    const weight = holdout > 0 && this.rng.next() < holdout ? 0 : 1;
+    const known = label < classes;
+    for (let m = 0; m < seats.length; m++) {
+      const seat = seats[m]!;
+      const predicted = seat.member.scoreTrain(row, offset, label, weight, probs, m * classes);
+      preds[m] = predicted;
+      if (seat.understudy !== null && weight > 0) seat.understudy.train(row, offset, label, weight);
+      if (this.lifecycle.judge(seat, predicted === label, this.rows))
+        this.meta.forgetInputs(m * classes, classes);
+    }
+    // The meta-learner learns from the members' out-of-sample outputs; a label it cannot place yet
+    // (a class appearing now) is learnt once the classes have grown.
+    if (verdict !== null) {
+      const out = verdict.fit(classes);
+      this.finish(
+        known ? this.meta.scoreTrain(probs, 0, label, 1, out, 0) : this.meta.score(probs, 0, out, 0),
+        verdict,
+      );
+    } else if (known) {
+      this.meta.train(probs, 0, label, 1);
+    }
+    this.rows++;
+    if (!known) this.ensureClasses(label + 1);
+  }
+
+  private finish(predicted: number, verdict: Verdict): void {
+    const { preds, members } = this.scratch;
+    let agree = 0;
+    for (let m = 0; m < members; m++) if (preds[m] === predicted) agree++;
+    verdict.predicted = predicted;
+    verdict.voters = members;
+    verdict.agreement = agree / members;
+    verdict.epoch = this.lifecycle.epoch;
+  }
+
+  private freshMeta(classes: number): MetaLearner {
+    const { kind, ...options } = this.options.meta;
+    const schema = numericSchema(this.options.learners.length * classes, 'p');
+    const seed = deriveSeed(this.seed, 'meta', classes);
+    const meta =
+      kind === 'mlp'
+        ? new Mlp(schema, options as Partial<MlpOptions>, seed)
+        : new Logistic(schema, options as Partial<LogisticOptions>, seed);
+    meta.ensureClasses(classes);
+    return meta;
+  }
+}
+
+function restoreMeta(snapshot: LearnerSnapshot): MetaLearner {
+  return snapshot.kind === 'mlp' ? Mlp.restore(snapshot) : Logistic.restore(snapshot);
+}

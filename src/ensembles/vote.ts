@@ -1,0 +1,68 @@
+import type { Verdict } from './verdict.js';
+
+/**
+ * Combining members' answers.
+ * - `hard`: each voter gives its weight to its predicted class (plurality vote; Breiman 1996).
+ * - `soft`: the weighted mean of the voters' class probabilities.
+ * - `weighted`: soft voting with each member weighted by its accuracy over a recent window
+ *   (accuracy-weighted voting as in Gomes et al., Machine Learning 106, 2017, from memory).
+ * Members with weight 0 do not vote. With no voter at all, every member votes with weight 1.
+ */
+export type VoteKind = 'hard' | 'soft' | 'weighted';
+export const VOTE_KINDS: readonly VoteKind[] = ['hard', 'soft', 'weighted'];
+
+/**
+ * Fill `verdict` from `members` rows of `classes` probabilities (`probs`, member-major), their predicted
+ * classes (`preds`) and vote weights (`weights`). `hard` decides whether votes or probabilities are summed.
+ */
+export function combineVotes(
+  hard: boolean,
+  probs: Float64Array,
+  preds: Int32Array,
+  weights: Float64Array,
+  members: number,
+  classes: number,
+  verdict: Verdict,
+): void {
+  const out = verdict.fit(classes);
+  out.fill(0, 0, classes);
+  let total = 0;
+  let voters = 0;
+  for (let m = 0; m < members; m++) {
+    const w = weights[m]!;
+    if (w > 0) {
+      total += w;
+      voters++;
+    }
+  }
+  const everyone = voters === 0;
+  if (everyone) {
+    total = members;
+    voters = members;
+  }
+  for (let m = 0; m < members; m++) {
+    const w = everyone ? 1 : weights[m]!;
+    if (!(w > 0)) continue;
+    if (hard) {
+      out[preds[m]!]! += w;
+    } else {
+      const base = m * classes;
+      for (let k = 0; k < classes; k++) out[k]! += w * probs[base + k]!;
+    }
+  }
+  let best = 0;
+  if (total > 0) {
+    const inv = 1 / total;
+    for (let k = 0; k < classes; k++) {
+      out[k]! *= inv;
+      if (out[k]! > out[best]!) best = k;
+    }
+  } else {
+    for (let k = 0; k < classes; k++) out[k] = 1 / classes;
+  }
+  let agree = 0;
+  for (let m = 0; m < members; m++) if ((everyone || weights[m]! > 0) && preds[m] === best) agree++;
+  verdict.predicted = best;
+  verdict.voters = voters;
+  verdict.agreement = voters > 0 ? agree / voters : 0;
+}

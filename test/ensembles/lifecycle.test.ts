@@ -1,0 +1,111 @@
+import { describe, expect, it } from 'vitest';
+import { Bagging, type LifecycleRecord } from '../../src/ensembles/index.js';
+import { buildStream, sea } from '../../src/streams/index.js';
+import { note } from '../support/note.js';
+import { prequential, recordingJournal, windowed } from '../support/prequential.js';
+
+/** Rows after each change point until the 200-row windowed accuracy is back at `level` (or the segment length). */
+function recoveries(hits: Uint8Array, every: number, level: number): number[] {
+  const w = windowed(hits, 200);
+  const out: number[] = [];
+  for (let t0 = every; t0 < hits.length; t0 += every) {
+    let t = t0 + 199;
+    while (t < t0 + every && !(w[t]! >= level)) t++;
+    out.push(t - t0);
+  }
+  return out;
+}
+
+describe('member lifecycle', () => {
+  it('STAGGER, a change every 5,000 rows: back to ≥ 0.99 within 1,000 rows of each change, faster than without', () => {
+    // Schlimmer & Granger 1986: noise-free concepts, so 100% is reachable after each change (PUBLISHED.md).
+    const stream = () => buildStream({ generator: 'stagger', concepts: 'a,b,c,a,b', every: 5000, seed: 5 });
+    const on = prequential(new Bagging(stream().schema, {}, 1), stream(), 25_000);
+    const off = prequential(
+      new Bagging(stream().schema, { lifecycle: { enabled: false } }, 1),
+      stream(),
+      25_000,
+    );
+    const withLifecycle = recoveries(on.hits, 5000, 0.99);
+    const without = recoveries(off.hits, 5000, 0.99);
+    note(
+      `STAGGER recovery (rows to windowed accuracy ≥ 0.99): lifecycle on ${withLifecycle.join(', ')}; off ${without.join(', ')}`,
+    );
+    for (const r of withLifecycle) expect(r).toBeLessThanOrEqual(1000);
+    expect(withLifecycle.reduce((a, b) => a + b, 0)).toBeLessThan(without.reduce((a, b) => a + b, 0));
+  });
+
+  it('Agrawal function 1 → 2: a replacement within 3,000 rows after the change, none in the 10,000 rows before', () => {
+    // Agrawal, Imielinski & Swami 1993: functions 1 and 2 label different age/salary regions (PUBLISHED.md).
+    const journal = recordingJournal();
+    const stream = () => buildStream({ generator: 'agrawal', concepts: '1,2', every: 10_000, seed: 8 });
+    prequential(new Bagging(stream().schema, {}, 3, journal.sink), stream(), 13_000);
+    const retired = journal.records.filter((r) => r.to === 'retired').map((r) => r.row);
+    note(`Agrawal 1 → 2 at row 10,000: members retired at rows ${retired.join(', ')}`);
+    expect(retired.filter((row) => row < 10_000)).toEqual([]);
+    expect(retired.some((row) => row >= 10_000 && row < 13_000)).toBe(true);
+  });
+
+  it('journals every state change with row, seat, member, detector, estimate and reason', () => {
+    const journal = recordingJournal();
+    const stream = () => buildStream({ generator: 'stagger', concepts: 'a,c', every: 3000, seed: 6 });
+    prequential(new Bagging(stream().schema, { members: 4 }, 2, journal.sink), stream(), 6000);
+    const records = journal.records;
+    expect(records.slice(0, 4).map((r) => [r.seat, r.from, r.to, r.reason])).toEqual([
+      [0, null, 'warming', 'ensemble created'],
+      [1, null, 'warming', 'ensemble created'],
+      [2, null, 'warming', 'ensemble created'],
+      [3, null, 'warming', 'ensemble created'],
+    ]);
+    const retired = records.filter((r) => r.to === 'retired');
+    expect(retired.length).toBeGreaterThan(0);
+    for (const r of retired) {
+      expect(r.detector).toBe('adwin');
+      expect(r.estimate).toBeGreaterThan(0);
+      // The retirement is followed at once by the seat's new member.
+      const next = records[records.indexOf(r) + 1] as LifecycleRecord;
+      expect(next.seat).toBe(r.seat);
+      expect(next.from).toBeNull();
+      expect(next.member).not.toBe(r.member);
+      expect(['understudy promoted', 'fresh member']).toContain(next.reason);
+    }
+    // Member ids are never reused.
+    const born = records.filter((r) => r.from === null).map((r) => r.member);
+    expect(new Set(born).size).toBe(born.length);
+  });
+
+  it('caps replacements per window and defers the rest instead of dropping them', () => {
+    const journal = recordingJournal();
+    const stream = () => buildStream({ generator: 'stagger', concepts: 'a,c', every: 3000, seed: 6 });
+    const bag = new Bagging(
+      stream().schema,
+      { members: 6, lifecycle: { maxReplacements: 2, replacementWindow: 500 } },
+      2,
+      journal.sink,
+    );
+    prequential(bag, stream(), 6000);
+    const rows = journal.records.filter((r) => r.to === 'retired').map((r) => r.row);
+    for (const row of rows)
+      expect(rows.filter((x) => x > row - 500 && x <= row).length).toBeLessThanOrEqual(2);
+    expect(journal.records.some((r) => r.reason.startsWith('drift; replacement deferred'))).toBe(true);
+    expect(rows.length).toBeGreaterThanOrEqual(4);
+  });
+
+  it('never judges a member younger than minAge, and keeps still when switched off', () => {
+    const journal = recordingJournal();
+    const stream = () => buildStream({ generator: 'stagger', concepts: 'a,c', every: 300, seed: 7 });
+    prequential(
+      new Bagging(stream().schema, { members: 3, lifecycle: { minAge: 1000 } }, 2, journal.sink),
+      stream(),
+      900,
+    );
+    expect(journal.records.filter((r) => r.to === 'retired' || r.to === 'watched')).toEqual([]);
+    const quiet = recordingJournal();
+    prequential(
+      new Bagging(sea().schema, { members: 3, lifecycle: { enabled: false } }, 2, quiet.sink),
+      sea({}, 1),
+      2000,
+    );
+    expect(quiet.records.every((r) => r.to === 'active' && r.from === null)).toBe(true);
+  });
+});
