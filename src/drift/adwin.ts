@@ -38,7 +38,7 @@ import {
  * its sum of squared deviations, so the window's mean and variance are exact.
  *
  * Shoal's reading:
- * - The cut is checked every `clock` values (common practice, trading up to clock − 1 values of delay
+ * - The cut is checked every `checkEvery` values (common practice, trading up to checkEvery − 1 values of delay
  *   for work); on a cut the oldest bucket is dropped and the check repeated until no cut remains, as in
  *   the paper. `drift` is answered for a change in either direction; `estimate` after the drop tells
  *   which way the mean moved.
@@ -46,7 +46,7 @@ import {
  *   at `delta` answers `warning` and drops nothing; the level persists until the next check.
  * - Defaults: δ = 0.002 (common practice; the value PUBLISHED.md derives ε_cut for), M = 5 (the paper's
  *   experiments, from memory), warning δ = 0.01 (Gomes et al., Machine Learning 106, 2017, from memory),
- *   clock 32 (common practice), the variance form (the paper's practical choice).
+ *   checkEvery 32 (common practice), the variance form (the paper's practical choice).
  * - Values must lie in [0, 1], the range both bounds assume.
  *
  * @example
@@ -62,9 +62,9 @@ export type AdwinOptions = {
   /** Confidence of a warning cut, in (delta, 1). */
   readonly warningDelta: number;
   /** Check for a cut every this many values. */
-  readonly clock: number;
+  readonly checkEvery: number;
   /** M, the most buckets of one size. */
-  readonly maxBuckets: number;
+  readonly bucketsPerSize: number;
   /** Which form of ε_cut to use. */
   readonly bound: AdwinBound;
 };
@@ -72,8 +72,8 @@ export type AdwinOptions = {
 export const ADWIN_DEFAULTS: AdwinOptions = {
   delta: 0.002,
   warningDelta: 0.01,
-  clock: 32,
-  maxBuckets: 5,
+  checkEvery: 32,
+  bucketsPerSize: 5,
   bound: 'variance',
 };
 
@@ -140,14 +140,14 @@ function resolve(options: Partial<AdwinOptions>): AdwinOptions {
       `${KIND}: warningDelta must be larger than delta (${o.delta}), got ${o.warningDelta}`,
     );
   }
-  integerAtLeast(KIND, 'clock', o.clock);
-  integerAtLeast(KIND, 'maxBuckets', o.maxBuckets);
+  integerAtLeast(KIND, 'checkEvery', o.checkEvery);
+  integerAtLeast(KIND, 'bucketsPerSize', o.bucketsPerSize);
   oneOf(KIND, 'bound', o.bound, BOUNDS);
   return {
     delta: o.delta,
     warningDelta: o.warningDelta,
-    clock: o.clock,
-    maxBuckets: o.maxBuckets,
+    checkEvery: o.checkEvery,
+    bucketsPerSize: o.bucketsPerSize,
     bound: o.bound,
   };
 }
@@ -176,7 +176,7 @@ export class Adwin implements DriftDetector {
 
   constructor(options: Partial<AdwinOptions> = {}) {
     this.options = resolve(options);
-    this.capacity = this.options.maxBuckets + 1;
+    this.capacity = this.options.bucketsPerSize + 1;
     this.sums = new Float64Array(this.levels * this.capacity);
     this.squares = new Float64Array(this.levels * this.capacity);
     this.used = new Int32Array(this.levels);
@@ -216,7 +216,7 @@ export class Adwin implements DriftDetector {
   update(value: number): DriftLevel {
     checkUnitValue(KIND, value);
     this.insert(value);
-    if (++this.tick < this.options.clock) return this.level;
+    if (++this.tick < this.options.checkEvery) return this.level;
     this.tick = 0;
     let dropped = false;
     let found = this.scan();
@@ -248,7 +248,7 @@ export class Adwin implements DriftDetector {
     this.deviations += (value - before) * (value - this.total / n);
     this.size = n;
     this.push(0, value, 0);
-    const limit = this.options.maxBuckets;
+    const limit = this.options.bucketsPerSize;
     for (let l = 0; this.used[l]! > limit; l++) this.mergeOldestPair(l);
   }
 
@@ -415,7 +415,7 @@ export class Adwin implements DriftDetector {
     let values = 0;
     for (let l = 0; l < used.length; l++) {
       const u = used[l]!;
-      if (!(u >= 0 && u <= adwin.options.maxBuckets)) {
+      if (!(u >= 0 && u <= adwin.options.bucketsPerSize)) {
         throw new ShoalError('invalid-snapshot', `${KIND} state: level ${l} holds ${u} buckets`);
       }
       held += u;
@@ -424,7 +424,7 @@ export class Adwin implements DriftDetector {
     if (held !== sums.length || held !== squares.length || values !== size) {
       throw new ShoalError('invalid-snapshot', `${KIND} state: buckets do not add up to a window of ${size}`);
     }
-    if (!(tick! >= 0 && tick! < adwin.options.clock && LEVEL_CODES[level!] !== undefined)) {
+    if (!(tick! >= 0 && tick! < adwin.options.checkEvery && LEVEL_CODES[level!] !== undefined)) {
       throw new ShoalError('invalid-snapshot', `${KIND} state: clock ${tick} or level ${level} out of range`);
     }
     while (adwin.levels < used.length) adwin.grow();

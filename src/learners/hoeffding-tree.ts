@@ -31,11 +31,11 @@ import { impurity, type SplitCriterion, splitMerit } from './split-merit.js';
 /**
  * Hoeffding tree classifier — Domingos & Hulten, "Mining high-speed data streams", KDD 2000 (VFDT).
  *
- * A leaf collects sufficient statistics; every `gracePeriod` units of weight it ranks candidate splits
+ * A leaf collects sufficient statistics; every `checkInterval` units of weight it ranks candidate splits
  * by merit G (information gain, or Gini reduction) and splits on the best attribute when
  *   G(best) − G(second best) > ε  or  ε < τ,   with ε = √(R² ln(1/δ) / 2n)   (the Hoeffding bound, eq. 1),
  * R = log₂(classes) for information gain and 1 for Gini. Numeric attributes keep one Gaussian per class
- * and test `numericCandidates` evenly spaced thresholds between the observed minimum and maximum
+ * and test `candidateThresholds` evenly spaced thresholds between the observed minimum and maximum
  * (Pfahringer, Holmes & Kirkby, "Handling numeric attributes in Hoeffding trees", PAKDD 2008).
  * Nominal attributes keep class counts per category and split multiway. Leaves predict by the majority
  * class, by naive Bayes over their statistics, or adaptively by whichever of the two has been right more
@@ -51,44 +51,44 @@ import { impurity, type SplitCriterion, splitMerit } from './split-merit.js';
  * are counts[category][class] followed by per-class totals. Deactivating a leaf frees its slot.
  *
  * @example
- * const tree = new HoeffdingTree(schema, { leafPrediction: 'adaptive' }, 7);
+ * const tree = new HoeffdingTree(schema, { leafModel: 'adaptive' }, 7);
  * const predicted = tree.scoreTrain(rows, i * width, label, 1, probabilities, 0);
  */
 
-export type LeafPrediction = 'majority' | 'naive-bayes' | 'adaptive';
+export type LeafModel = 'majority' | 'naive-bayes' | 'adaptive';
 
 export interface HoeffdingTreeOptions {
   /** Weight a leaf must see between split attempts (n_min). Domingos & Hulten: 200. */
-  readonly gracePeriod: number;
+  readonly checkInterval: number;
   /** Confidence δ of the Hoeffding bound. Domingos & Hulten: 1e-7. */
-  readonly delta: number;
+  readonly hoeffdingDelta: number;
   /** Tie threshold τ: split anyway when ε falls below it. Domingos & Hulten: 0.05. */
-  readonly tieThreshold: number;
-  readonly criterion: SplitCriterion;
-  readonly leafPrediction: LeafPrediction;
+  readonly tieBreak: number;
+  readonly merit: SplitCriterion;
+  readonly leafModel: LeafModel;
   /** Candidate thresholds per numeric attribute (Pfahringer et al. 2008 use 10). */
-  readonly numericCandidates: number;
+  readonly candidateThresholds: number;
   /** Attributes a leaf considers for its split, drawn at random per leaf; 0 = all (forest-style when > 0). */
   readonly featureSubset: number;
   /** Maximum depth of a leaf (the root has depth 0); leaves at this depth stop splitting. */
-  readonly maxDepth: number;
+  readonly depthLimit: number;
   /** Memory cap in bytes for leaf statistics and nodes; the least promising leaves are deactivated above it. */
-  readonly maxBytes: number;
+  readonly byteLimit: number;
   /** Smallest share of weight each of two branches must get for a split to count (common practice: 0.01). */
-  readonly minBranchShare: number;
+  readonly branchShareFloor: number;
 }
 
 export const HOEFFDING_TREE_DEFAULTS: HoeffdingTreeOptions = {
-  gracePeriod: 200,
-  delta: 1e-7,
-  tieThreshold: 0.05,
-  criterion: 'info-gain',
-  leafPrediction: 'adaptive',
-  numericCandidates: 10,
+  checkInterval: 200,
+  hoeffdingDelta: 1e-7,
+  tieBreak: 0.05,
+  merit: 'info-gain',
+  leafModel: 'adaptive',
+  candidateThresholds: 10,
   featureSubset: 0,
-  maxDepth: 30,
-  maxBytes: 2 * 1024 * 1024,
-  minBranchShare: 0.01,
+  depthLimit: 30,
+  byteLimit: 2 * 1024 * 1024,
+  branchShareFloor: 0.01,
 };
 
 const KIND = 'hoeffding-tree';
@@ -119,12 +119,12 @@ const PREDICT_ADAPTIVE = 2;
 const MEMORY_CHECK_GRACE_PERIODS = 10;
 
 function validate(o: HoeffdingTreeOptions, width: number): HoeffdingTreeOptions {
-  integerAtLeast(KIND, 'gracePeriod', o.gracePeriod, 1);
-  openUnit(KIND, 'delta', o.delta);
-  nonNegative(KIND, 'tieThreshold', o.tieThreshold);
-  oneOf(KIND, 'criterion', o.criterion, ['info-gain', 'gini'] as const);
-  oneOf(KIND, 'leafPrediction', o.leafPrediction, ['majority', 'naive-bayes', 'adaptive'] as const);
-  integerAtLeast(KIND, 'numericCandidates', o.numericCandidates, 1);
+  integerAtLeast(KIND, 'checkInterval', o.checkInterval, 1);
+  openUnit(KIND, 'hoeffdingDelta', o.hoeffdingDelta);
+  nonNegative(KIND, 'tieBreak', o.tieBreak);
+  oneOf(KIND, 'merit', o.merit, ['info-gain', 'gini'] as const);
+  oneOf(KIND, 'leafModel', o.leafModel, ['majority', 'naive-bayes', 'adaptive'] as const);
+  integerAtLeast(KIND, 'candidateThresholds', o.candidateThresholds, 1);
   integerAtLeast(KIND, 'featureSubset', o.featureSubset, 0);
   if (o.featureSubset > width) {
     throw new ShoalError(
@@ -132,12 +132,12 @@ function validate(o: HoeffdingTreeOptions, width: number): HoeffdingTreeOptions 
       `${KIND}: featureSubset must be at most the ${width} features of the schema, got ${o.featureSubset}`,
     );
   }
-  integerAtLeast(KIND, 'maxDepth', o.maxDepth, 0);
-  positive(KIND, 'maxBytes', o.maxBytes);
-  if (!(o.minBranchShare >= 0 && o.minBranchShare < 0.5)) {
+  integerAtLeast(KIND, 'depthLimit', o.depthLimit, 0);
+  positive(KIND, 'byteLimit', o.byteLimit);
+  if (!(o.branchShareFloor >= 0 && o.branchShareFloor < 0.5)) {
     throw new ShoalError(
       'invalid-parameter',
-      `${KIND}: minBranchShare must be in [0, 0.5), got ${o.minBranchShare}`,
+      `${KIND}: branchShareFloor must be in [0, 0.5), got ${o.branchShareFloor}`,
     );
   }
   return o;
@@ -230,9 +230,9 @@ export class HoeffdingTree implements Classifier {
     this.nominal = Uint8Array.from(schema.features, (f) => (f.kind === 'nominal' ? 1 : 0));
     this.cardinality = Int32Array.from(schema.features, (f) => (f.kind === 'nominal' ? f.values : 0));
     this.mode =
-      this.options.leafPrediction === 'majority'
+      this.options.leafModel === 'majority'
         ? PREDICT_MAJORITY
-        : this.options.leafPrediction === 'naive-bayes'
+        : this.options.leafModel === 'naive-bayes'
           ? PREDICT_NB
           : PREDICT_ADAPTIVE;
     const m = this.options.featureSubset;
@@ -628,14 +628,14 @@ export class HoeffdingTree implements Classifier {
     const seen = heads[head + H_SEEN]!;
     if (slot < 0) return;
     this.observe(leaf, slot, row, offset, label, weight);
-    if (seen - heads[head + H_LAST_ATTEMPT]! >= this.options.gracePeriod) {
+    if (seen - heads[head + H_LAST_ATTEMPT]! >= this.options.checkInterval) {
       heads[head + H_LAST_ATTEMPT] = seen;
-      if (this.depth[node]! < this.options.maxDepth) this.attemptSplit(node, leaf);
+      if (this.depth[node]! < this.options.depthLimit) this.attemptSplit(node, leaf);
     }
     this.sinceMemoryCheck += weight;
-    if (this.sinceMemoryCheck >= MEMORY_CHECK_GRACE_PERIODS * this.options.gracePeriod) {
+    if (this.sinceMemoryCheck >= MEMORY_CHECK_GRACE_PERIODS * this.options.checkInterval) {
       this.sinceMemoryCheck = 0;
-      if (this.sizeBytes() > this.options.maxBytes) this.enforceMemoryCap();
+      if (this.sizeBytes() > this.options.byteLimit) this.enforceMemoryCap();
     }
   }
 
@@ -703,8 +703,8 @@ export class HoeffdingTree implements Classifier {
     }
     if (seenClasses < 2) return;
     const o = this.options;
-    const range = o.criterion === 'gini' ? 1 : Math.log2(c);
-    const epsilon = hoeffdingBound(range, o.delta, total);
+    const range = o.merit === 'gini' ? 1 : Math.log2(c);
+    const epsilon = hoeffdingBound(range, o.hoeffdingDelta, total);
     const stats = this.stats;
     const subset = this.subsets;
     const per = this.perLeaf;
@@ -721,8 +721,8 @@ export class HoeffdingTree implements Classifier {
         base += GAUSS * c;
       } else {
         const v = this.cardinality[f]!;
-        const parent = impurity(o.criterion, stats, base + v * c, c);
-        merit = splitMerit(o.criterion, stats, base, v, c, o.minBranchShare, parent);
+        const parent = impurity(o.merit, stats, base + v * c, c);
+        merit = splitMerit(o.merit, stats, base, v, c, o.branchShareFloor, parent);
         this.cut = 0;
         base += (v + 1) * c;
       }
@@ -735,7 +735,7 @@ export class HoeffdingTree implements Classifier {
         second = merit;
       }
     }
-    if (bestFeature >= 0 && (bestMerit - second > epsilon || epsilon < o.tieThreshold)) {
+    if (bestFeature >= 0 && (bestMerit - second > epsilon || epsilon < o.tieBreak)) {
       this.split(node, leaf, bestFeature, bestThreshold);
     }
   }
@@ -744,7 +744,7 @@ export class HoeffdingTree implements Classifier {
   private cut = 0;
 
   /**
-   * Best merit over `numericCandidates` evenly spaced thresholds for the Gaussian statistics at
+   * Best merit over `candidateThresholds` evenly spaced thresholds for the Gaussian statistics at
    * `base`; leaves the threshold in `this.cut`.
    */
   private bestThreshold(base: number): number {
@@ -763,8 +763,8 @@ export class HoeffdingTree implements Classifier {
     }
     this.cut = 0;
     if (!(hi > lo)) return 0;
-    const parent = impurity(o.criterion, pair, c, c);
-    const n = o.numericCandidates;
+    const parent = impurity(o.merit, pair, c, c);
+    const n = o.candidateThresholds;
     const step = (hi - lo) / (n + 1);
     let merit = 0;
     for (let i = 1; i <= n; i++) {
@@ -774,7 +774,7 @@ export class HoeffdingTree implements Classifier {
         pair[k] = below;
         pair[c + k] = Math.max(0, stats[g + G_W]! - below);
       }
-      const m = splitMerit(o.criterion, pair, 0, 2, c, o.minBranchShare, parent);
+      const m = splitMerit(o.merit, pair, 0, 2, c, o.branchShareFloor, parent);
       if (m > merit) {
         merit = m;
         this.cut = t;
@@ -952,7 +952,7 @@ export class HoeffdingTree implements Classifier {
     const leaves = Array.from({ length: this.leafCount }, (_, i) => i);
     const promise = leaves.map((l) => this.promise(l));
     leaves.sort((a, b) => promise[a]! - promise[b]! || a - b);
-    const cap = this.options.maxBytes;
+    const cap = this.options.byteLimit;
     for (const leaf of leaves) {
       if (this.sizeBytes() <= cap) break;
       this.releaseSlot(leaf);

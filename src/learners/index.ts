@@ -1,6 +1,6 @@
 export type { HoeffdingRegressionTreeOptions, RegressionLeafKind } from './hoeffding-regression-tree.js';
 export { HOEFFDING_REGRESSION_TREE_DEFAULTS, HoeffdingRegressionTree } from './hoeffding-regression-tree.js';
-export type { HoeffdingTreeOptions, LeafPrediction } from './hoeffding-tree.js';
+export type { HoeffdingTreeOptions, LeafModel } from './hoeffding-tree.js';
 export { HOEFFDING_TREE_DEFAULTS, HoeffdingTree } from './hoeffding-tree.js';
 export type { KnnVote, KnnWindowOptions } from './knn-window.js';
 export { KNN_WINDOW_DEFAULTS, KnnWindow } from './knn-window.js';

@@ -27,8 +27,8 @@ describe('ADWIN (Bifet & Gavaldà, SDM 2007)', () => {
   });
 
   it('keeps O(M log W) buckets, at most M of each size (exponential histogram, §4)', () => {
-    for (const maxBuckets of [2, 5]) {
-      const adwin = new Adwin({ maxBuckets });
+    for (const bucketsPerSize of [2, 5]) {
+      const adwin = new Adwin({ bucketsPerSize });
       const sizes: number[] = [];
       for (let t = 1; t <= 200_000; t++) {
         adwin.update(0);
@@ -37,11 +37,11 @@ describe('ADWIN (Bifet & Gavaldà, SDM 2007)', () => {
       // A constant stream never cuts: the window holds everything.
       expect(adwin.width).toBe(200_000);
       const perLevel = decodeI32(stateField('adwin', adwin.snapshot().state, 'used') as string);
-      expect(Math.max(...perLevel)).toBeLessThanOrEqual(maxBuckets);
-      const bound = maxBuckets * (Math.log2(200_000 / maxBuckets) + 2);
+      expect(Math.max(...perLevel)).toBeLessThanOrEqual(bucketsPerSize);
+      const bound = bucketsPerSize * (Math.log2(200_000 / bucketsPerSize) + 2);
       expect(adwin.buckets).toBeLessThanOrEqual(bound);
       // 200× the values costs about log₂ 200 ≈ 7.6 more levels, not 200× the buckets.
-      expect(sizes[1]! - sizes[0]!).toBeLessThanOrEqual(maxBuckets * 9);
+      expect(sizes[1]! - sizes[0]!).toBeLessThanOrEqual(bucketsPerSize * 9);
     }
   });
 
@@ -49,7 +49,7 @@ describe('ADWIN (Bifet & Gavaldà, SDM 2007)', () => {
     const rng = new Rng(3);
     const values = new Float64Array(20_000);
     for (let t = 0; t < values.length; t++) values[t] = t < 8000 ? 0.3 * rng.next() : 0.4 + 0.6 * rng.next();
-    const adwin = new Adwin({ clock: 7 });
+    const adwin = new Adwin({ checkEvery: 7 });
     for (let t = 0; t < values.length; t++) {
       adwin.update(values[t]!);
       if (t % 997 !== 0 && t !== values.length - 1) continue;

@@ -5,7 +5,7 @@ import { sea, take } from '../../src/streams/index.js';
 import { note } from '../support/note.js';
 import { prequential } from '../support/prequential.js';
 
-const STUMP = { kind: 'hoeffding-tree', maxDepth: 1, leafPrediction: 'majority' } as const;
+const STUMP = { kind: 'hoeffding-tree', depthLimit: 1, leafModel: 'majority' } as const;
 
 describe('online boosting (Oza & Russell 2001)', () => {
   it('boosted stumps beat a single stump by ≥ 2 points on SEA, whose boundary is diagonal', () => {
@@ -19,7 +19,7 @@ describe('online boosting (Oza & Russell 2001)', () => {
       gen(),
       n,
     );
-    const stump = new HoeffdingTree(gen().schema, { maxDepth: 1, leafPrediction: 'majority' }, 1);
+    const stump = new HoeffdingTree(gen().schema, { depthLimit: 1, leafModel: 'majority' }, 1);
     stump.ensureClasses(2);
     const block = take(gen(), n);
     const out = new Float64Array(2);

@@ -14,7 +14,7 @@ describeLearnerContract({
 describeLearnerContract({
   name: 'hoeffding-tree (random feature subsets, Gini, majority leaves)',
   make: (gen, seed) =>
-    new HoeffdingTree(gen.schema, { featureSubset: 2, criterion: 'gini', leafPrediction: 'majority' }, seed),
+    new HoeffdingTree(gen.schema, { featureSubset: 2, merit: 'gini', leafModel: 'majority' }, seed),
   restore: (s: LearnerSnapshot) => HoeffdingTree.restore(s),
 });
 
@@ -76,7 +76,7 @@ describe('hoeffding-tree on published streams', () => {
 describe('hoeffding-tree mechanics', () => {
   it('splits only when the Hoeffding bound allows, and respects the depth cap', () => {
     const gen = sea({ noise: 0.1 }, 30);
-    const shallow = new HoeffdingTree(gen.schema, { maxDepth: 2 }, 1);
+    const shallow = new HoeffdingTree(gen.schema, { depthLimit: 2 }, 1);
     prequential(shallow, gen, 50_000);
     expect(shallow.shape.depth).toBeLessThanOrEqual(2);
     expect(shallow.shape.nodes).toBeGreaterThan(1);
@@ -84,7 +84,7 @@ describe('hoeffding-tree mechanics', () => {
 
   it('keeps its size under the memory cap by deactivating leaves, and still learns', () => {
     const gen = sea({ noise: 0.1 }, 31);
-    const capped = new HoeffdingTree(gen.schema, { maxBytes: 8 * 1024, gracePeriod: 50 }, 1);
+    const capped = new HoeffdingTree(gen.schema, { byteLimit: 8 * 1024, checkInterval: 50 }, 1);
     const { accuracy } = prequential(capped, gen, 100_000);
     const shape = capped.shape;
     note(
@@ -105,18 +105,18 @@ describe('hoeffding-tree mechanics', () => {
     expect(k === 0 || k === 1).toBe(true);
     expect(Math.abs(out[0]! + out[1]! - 1)).toBeLessThan(1e-12);
     // A tree fed only missing values has no statistics to split on, however much weight it sees.
-    const blind = new HoeffdingTree(gen.schema, { gracePeriod: 10 }, 1);
+    const blind = new HoeffdingTree(gen.schema, { checkInterval: 10 }, 1);
     for (let i = 0; i < 2000; i++) blind.train(row, 0, i % 2, 1);
     expect(blind.shape.nodes).toBe(1);
   });
 
   it('refuses bad options, naming the parameter', () => {
     const schema = sea().schema;
-    expect(() => new HoeffdingTree(schema, { delta: 0 })).toThrow(/delta/);
-    expect(() => new HoeffdingTree(schema, { delta: 1.5 })).toThrow(/delta/);
-    expect(() => new HoeffdingTree(schema, { gracePeriod: 0 })).toThrow(/gracePeriod/);
+    expect(() => new HoeffdingTree(schema, { hoeffdingDelta: 0 })).toThrow(/hoeffdingDelta/);
+    expect(() => new HoeffdingTree(schema, { hoeffdingDelta: 1.5 })).toThrow(/hoeffdingDelta/);
+    expect(() => new HoeffdingTree(schema, { checkInterval: 0 })).toThrow(/checkInterval/);
     expect(() => new HoeffdingTree(schema, { featureSubset: 9 })).toThrow(/featureSubset/);
-    expect(() => new HoeffdingTree(schema, { criterion: 'x' as 'gini' })).toThrow(/criterion/);
-    expect(() => new HoeffdingTree(schema, { maxBytes: -1 })).toThrow(/maxBytes/);
+    expect(() => new HoeffdingTree(schema, { merit: 'x' as 'gini' })).toThrow(/merit/);
+    expect(() => new HoeffdingTree(schema, { byteLimit: -1 })).toThrow(/byteLimit/);
   });
 });
