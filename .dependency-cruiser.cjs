@@ -33,7 +33,7 @@ module.exports = {
       'checkpoint',
       'streams',
     ]),
-    layer('report', ['core', 'evaluation', 'pipeline']),
+    layer('report', ['core', 'evaluation', 'ensembles', 'pipeline']),
     {
       name: 'model-and-pipeline-stay-free-of-io-libraries',
       severity: 'error',

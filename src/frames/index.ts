@@ -17,5 +17,6 @@ export type { FeatureSpec, FrameOptions } from './options.js';
 export { DEFAULT_LABEL, DEFAULT_MAX_CLASSES, DEFAULT_VOCABULARY } from './options.js';
 export type { ReadOptions } from './read-options.js';
 export { DEFAULT_BATCH_ROWS } from './read-options.js';
+export { countRows } from './row-count.js';
 export type { FrameFormat, FrameWriter, RowBlock, WriterOptions } from './writer.js';
 export { DEFAULT_WRITE_BATCH_ROWS } from './writer.js';

@@ -1,4 +1,5 @@
 import { type FeatureSchema, numericSchema } from '../../src/core/index.js';
+import { HoeffdingTree } from '../../src/learners/hoeffding-tree.js';
 import { KnnWindow } from '../../src/learners/knn-window.js';
 import type { Classifier } from '../../src/learners/learner.js';
 import { LinearSvm } from '../../src/learners/linear-svm.js';
@@ -9,7 +10,7 @@ import { type BenchFn, type BenchRow, floorRate, machine, medianRate } from './h
 import { benchStream } from './stream.js';
 
 /**
- * Non-tree learners: rows per second of the prequential step (`scoreTrain`) for each learner with its
+ * Learners: rows per second of the prequential step (`scoreTrain`) for each learner with its
  * default options on the 10-feature, 2-class stream of `stream.ts` (SEA rule on two features, 10% label
  * noise: accuracy cannot exceed 90%), beside the bare-loop floor over the same rows and with the prequential
  * accuracy of the run. A fresh learner is built for every timed run, so a rate includes the early rows.
@@ -17,6 +18,7 @@ import { benchStream } from './stream.js';
  * section short.
  */
 const LEARNERS: readonly { name: string; make: (schema: FeatureSchema) => Classifier; runs: number }[] = [
+  { name: 'hoeffding-tree', make: (s) => new HoeffdingTree(s, {}, 'bench-tree'), runs: 3 },
   { name: 'naive-bayes', make: (s) => new NaiveBayes(s), runs: 3 },
   { name: 'logistic', make: (s) => new Logistic(s), runs: 3 },
   { name: 'linear-svm', make: (s) => new LinearSvm(s), runs: 3 },
@@ -63,5 +65,5 @@ export const bench: BenchFn = ({ quick }) => {
     });
     json[name] = { rowsPerSecond: rate, ofFloor: rate / floor, accuracy, sizeBytes: size };
   }
-  return { title: 'Learners (non-tree)', rows, json };
+  return { title: 'Learners', rows, json };
 };
