@@ -1,0 +1,152 @@
+import { escapeHtml } from './escape.js';
+import { driftSignalText, inputDriftText, replacementText } from './event-text.js';
+import { grouped } from './format.js';
+import { type LinearScale, linearScale, niceTicks } from './scale.js';
+import { EVENT_COLOURS, SERIES_COLOURS } from './styles.js';
+import { px, svgElement, svgText, svgTitle } from './svg.js';
+import { type SeriesPoint, thinSeries } from './thin.js';
+import { byColumn, type ColumnGroup, listing, type TimeFrame, timeAxis } from './time-axis.js';
+import type { Timeline } from './timeline.js';
+
+const TOP = 10;
+const PLOT_HEIGHT = 230;
+const RUG_GAP = 12;
+const RUG_ROW = 20;
+/** Draw a guide through the plot at each replacement while there are at most this many marks. */
+const MOST_GUIDES = 60;
+
+/**
+ * The windowed accuracy and windowed Cohen's κ of the run over rows (from `window` records, thinned to
+ * at most `MOST_POINTS` points per series), with three rows of marks under the plot on the same axis:
+ * member drift signals, seat replacements and input drifts. Each mark names its events on hover.
+ */
+export function metricChart(t: Timeline, frame: TimeFrame): string {
+  const accuracy = thinSeries(t.windows.map((w) => ({ row: w.row, value: w.window.accuracy })));
+  const kappa = thinSeries(t.windows.map((w) => ({ row: w.row, value: w.window.kappa })));
+  const bottom = TOP + PLOT_HEIGHT;
+  const y = linearScale([lowest([...accuracy, ...kappa]), 1], [bottom, TOP]);
+  const replacementMarks = byColumn(frame, t.replacements);
+
+  let svg = yAxis(y, frame);
+  if (replacementMarks.length <= MOST_GUIDES) {
+    for (const g of replacementMarks) {
+      svg += svgElement('line', { x1: g.x, x2: g.x, y1: TOP, y2: bottom, class: 'guide' });
+    }
+  }
+  // Accuracy, the headline figure, is drawn last so that it stays on top where the lines meet.
+  svg += series(kappa, 'kappa', frame, y);
+  svg += series(accuracy, 'accuracy', frame, y);
+  svg += svgElement('line', { x1: frame.left, x2: frame.right, y1: bottom, y2: bottom, class: 'axis' });
+
+  let rug = bottom + RUG_GAP;
+  svg += rugRow(frame, rug, 'drift signals', 'drift', byColumn(frame, t.driftSignals), driftSignalText);
+  rug += RUG_ROW;
+  svg += rugRow(frame, rug, 'replacements', 'replacement', replacementMarks, (r) => replacementText(r));
+  rug += RUG_ROW;
+  svg += rugRow(frame, rug, 'input drifts', 'input', byColumn(frame, t.inputDrifts), inputDriftText);
+  const axisY = rug + RUG_ROW - 4;
+  svg += timeAxis(frame, axisY);
+  const height = axisY + 24;
+
+  const windowRows = t.windows.reduce((most, w) => Math.max(most, w.window.rows), 0);
+  const over = windowRows > 0 ? ` over the last ${grouped(windowRows)} rows` : '';
+  const legend =
+    `<div class="legend">` +
+    lineKey(SERIES_COLOURS.accuracy, `accuracy${over}`) +
+    lineKey(SERIES_COLOURS.kappa, `Cohen's κ${over}`) +
+    `<span><svg width="10" height="10" viewBox="0 0 10 10" aria-hidden="true"><path d="M1 2H9L5 9Z" fill="${EVENT_COLOURS.replacement}"/></svg>replacement (dashed line through the plot)</span>` +
+    `</div>`;
+  const empty =
+    t.windows.length === 0
+      ? '<p class="note">The journal holds no window records: there are no figures over time to draw.</p>'
+      : '';
+  return (
+    legend +
+    svgElement(
+      'svg',
+      {
+        viewBox: `0 0 ${frame.width} ${px(height)}`,
+        role: 'img',
+        class: 'chart metrics',
+        'aria-label':
+          'Windowed accuracy and kappa over rows, with drift signals, replacements and input drifts',
+      },
+      svg,
+    ) +
+    empty
+  );
+}
+
+/** The bottom of the y axis: 0, or lower in steps of 0.2 when κ went negative (never below −1). */
+function lowest(points: readonly SeriesPoint[]): number {
+  let low = 0;
+  for (const p of points) if (p.value !== null && p.value < low) low = p.value;
+  return Math.max(-1, Math.floor(low * 5) / 5);
+}
+
+function yAxis(y: LinearScale, frame: TimeFrame): string {
+  let out = '';
+  for (const tick of niceTicks(y.domain[0], y.domain[1], 6)) {
+    const at = y(tick);
+    out += svgElement('line', {
+      x1: frame.left,
+      x2: frame.right,
+      y1: at,
+      y2: at,
+      class: tick === 0 ? 'zero' : 'grid',
+    });
+    out += svgText(frame.left - 8, at + 4, tick.toFixed(1), 'tick', 'end');
+  }
+  return out;
+}
+
+/** One path per series; a gap (an undefined figure) starts a new sub-path. */
+function series(points: readonly SeriesPoint[], name: string, frame: TimeFrame, y: LinearScale): string {
+  let d = '';
+  let pen = false;
+  for (const p of points) {
+    if (p.value === null) {
+      pen = false;
+      continue;
+    }
+    d += `${pen ? 'L' : 'M'}${px(frame.x(p.row))} ${px(y(p.value))}`;
+    pen = true;
+  }
+  return d === '' ? '' : svgElement('path', { d, class: `series s-${name}`, 'data-series': name });
+}
+
+const GLYPHS: Readonly<Record<string, (x: number, y: number) => string>> = {
+  drift: (x, y) => `M${px(x - 1)} ${px(y - 6)}h2v12h-2Z`,
+  replacement: (x, y) => `M${px(x - 4.5)} ${px(y - 5)}h9l-4.5 9Z`,
+  input: (x, y) => `M${px(x)} ${px(y - 5)}l4.5 5l-4.5 5l-4.5 -5Z`,
+};
+
+function rugRow<T extends { readonly row: number }>(
+  frame: TimeFrame,
+  y: number,
+  label: string,
+  kind: 'drift' | 'replacement' | 'input',
+  groups: readonly ColumnGroup<T>[],
+  describe: (item: T) => string,
+): string {
+  const mid = y + RUG_ROW / 2;
+  let out = svgElement('line', { x1: frame.left, x2: frame.right, y1: mid, y2: mid, class: 'rug' });
+  out += svgText(frame.left - 8, mid + 4, label, 'tick', 'end');
+  const count = groups.reduce((n, g) => n + g.items.length, 0);
+  out += svgText(frame.right + 8, mid + 4, grouped(count), 'tick', 'start');
+  for (const g of groups) {
+    const n = g.items.length;
+    const head = n === 1 ? label.replace(/s$/, '') : `${grouped(n)} ${label}`;
+    out += svgElement(
+      'g',
+      { class: `mark ${kind}`, 'data-rows': g.items.map((i) => i.row).join(' ') },
+      svgTitle(listing(head, g.items.map(describe))) +
+        svgElement('path', { d: GLYPHS[kind]!(g.x, mid), class: `m-${kind}` }),
+    );
+  }
+  return out;
+}
+
+function lineKey(colour: string, label: string): string {
+  return `<span><i class="line-swatch" style="background:${colour}"></i>${escapeHtml(label)}</span>`;
+}

@@ -1,0 +1,66 @@
+import type { JournalRecord, RunRecord, SummaryRecord } from '../pipeline/journal.js';
+import { configTable, schemaTable } from './config-table.js';
+import { confusionTables } from './confusion.js';
+import { escapeHtml } from './escape.js';
+import { header } from './header.js';
+import { metricChart } from './metric-chart.js';
+import { seatLanes } from './seat-lanes.js';
+import { STYLE } from './styles.js';
+import { timeFrame } from './time-axis.js';
+import { timeline } from './timeline.js';
+
+export interface ReportOptions {
+  /** The document's title; default: 'Shoal run report'. */
+  readonly title?: string;
+}
+
+export const CAUTION =
+  'Scores are advisory. A human stays in the loop for consequential decisions; local law and licensed practice come first.';
+
+/**
+ * The HTML report of a run, from its journal: one self-contained document (inline CSS and SVG, no
+ * script, no font, no link to anything) with the headline figures, windowed accuracy and κ over rows
+ * with drift signals and replacements marked, a lane per seat with its members' states, the confusion
+ * matrix with per-class scores, and the configuration and schema the run used. Every string read from
+ * the journal is escaped.
+ *
+ * The report reads the first `run` record and the last `summary`; any part of the journal may be
+ * missing (a run that stopped early has no summary) and the report says so where it would have shown it.
+ *
+ * @example
+ * const records = parseJournal(readFileSync('run.ndjson', 'utf8'), 'run.ndjson');
+ * writeFileSync('report.html', renderReport(records, { title: 'SEA, bagging of 10 trees' }));
+ */
+export function renderReport(records: readonly JournalRecord[], options: ReportOptions = {}): string {
+  const run = records.find((r): r is RunRecord => r.type === 'run');
+  const summary = records.findLast((r): r is SummaryRecord => r.type === 'summary');
+  const t = timeline(records);
+  const frame = timeFrame(t.rows);
+  const title = options.title ?? 'Shoal run report';
+  const sections = [
+    header(title, run, summary, t),
+    section('Accuracy and κ over the run', metricChart(t, frame)),
+    section(`Seats (${t.seats})`, seatLanes(t, frame)),
+    section(
+      'Confusion matrix',
+      summary === undefined
+        ? '<p class="note">No summary record: the run did not finish, so there is no confusion matrix.</p>'
+        : confusionTables(summary),
+    ),
+    section(
+      'Configuration',
+      run === undefined ? '<p class="note">No run record.</p>' : configTable(run.config),
+    ),
+    section('Schema', run === undefined ? '<p class="note">No run record.</p>' : schemaTable(run.schema)),
+  ];
+  return (
+    '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">' +
+    '<meta name="viewport" content="width=device-width, initial-scale=1">' +
+    `<title>${escapeHtml(title)}</title><style>${STYLE}</style></head>` +
+    `<body><main>${sections.join('\n')}\n<footer>${escapeHtml(CAUTION)}</footer></main></body></html>\n`
+  );
+}
+
+function section(heading: string, body: string): string {
+  return `<section><h2>${escapeHtml(heading)}</h2>${body}</section>`;
+}

@@ -1,0 +1,103 @@
+import type { LifecycleRecord, MemberState } from '../ensembles/index.js';
+import type { InputDriftRecord, JournalRecord, WindowRecord } from '../pipeline/journal.js';
+
+/** A stretch of rows during which one member held a seat in one state. */
+export interface LaneSegment {
+  readonly start: number;
+  readonly end: number;
+  readonly state: MemberState;
+  readonly member: number;
+  /** Why the member entered the state (the lifecycle record's reason). */
+  readonly reason: string;
+}
+
+/** A member retired and the one that took its seat. */
+export interface Replacement {
+  readonly row: number;
+  readonly seat: number;
+  readonly retired: number;
+  /** The member that took the seat; null when the journal does not say. */
+  readonly successor: number | null;
+  /** How the successor came (understudy promoted, fresh member). */
+  readonly how: string;
+  /** The monitor's error estimate for the retired member. */
+  readonly estimate: number;
+}
+
+/** Everything a report draws along the rows axis. */
+export interface Timeline {
+  /** Rows covered: the largest row any record mentions, or the summary's count (at least 1). */
+  readonly rows: number;
+  readonly seats: number;
+  /** Per seat, its segments in row order. */
+  readonly lanes: readonly (readonly LaneSegment[])[];
+  readonly windows: readonly WindowRecord[];
+  /** Lifecycle records whose reason starts with `drift`: a member monitor signalled drift. */
+  readonly driftSignals: readonly LifecycleRecord[];
+  readonly replacements: readonly Replacement[];
+  readonly inputDrifts: readonly InputDriftRecord[];
+}
+
+/**
+ * Lay the records of a journal out along the rows axis. A seat's state holds from its lifecycle
+ * record until the seat's next one (or the end of the run); a member retired and its successor
+ * appear at the same row, so retirements make no segment of their own but a `Replacement`.
+ */
+export function timeline(records: readonly JournalRecord[]): Timeline {
+  const lifecycle: LifecycleRecord[] = [];
+  const windows: WindowRecord[] = [];
+  const inputDrifts: InputDriftRecord[] = [];
+  let rows = 1;
+  let seats = 0;
+  for (const r of records) {
+    if (r.type === 'lifecycle') {
+      lifecycle.push(r);
+      seats = Math.max(seats, r.seat + 1);
+    } else if (r.type === 'window') {
+      windows.push(r);
+      seats = Math.max(seats, r.seats.length);
+    } else if (r.type === 'input-drift') inputDrifts.push(r);
+    if (r.type !== 'run') rows = Math.max(rows, r.type === 'summary' ? r.rows : r.row);
+  }
+  // A stable sort: records of one row keep the order they were written in.
+  lifecycle.sort((a, b) => a.row - b.row);
+  windows.sort((a, b) => a.row - b.row);
+  const bySeat: LifecycleRecord[][] = Array.from({ length: seats }, () => []);
+  for (const r of lifecycle) bySeat[r.seat]!.push(r);
+  return {
+    rows,
+    seats,
+    lanes: bySeat.map((list) => segments(list, rows)),
+    windows,
+    driftSignals: lifecycle.filter((r) => r.reason.startsWith('drift')),
+    replacements: bySeat.flatMap(replacements).sort((a, b) => a.row - b.row || a.seat - b.seat),
+    inputDrifts: [...inputDrifts].sort((a, b) => a.row - b.row),
+  };
+}
+
+function segments(list: readonly LifecycleRecord[], end: number): LaneSegment[] {
+  const out: LaneSegment[] = [];
+  list.forEach((r, i) => {
+    const next = list[i + 1]?.row ?? end;
+    if (next > r.row) out.push({ start: r.row, end: next, state: r.to, member: r.member, reason: r.reason });
+  });
+  return out;
+}
+
+function replacements(list: readonly LifecycleRecord[]): Replacement[] {
+  const out: Replacement[] = [];
+  list.forEach((r, i) => {
+    if (r.to !== 'retired') return;
+    const next = list[i + 1];
+    const taken = next !== undefined && next.from === null && next.row === r.row;
+    out.push({
+      row: r.row,
+      seat: r.seat,
+      retired: r.member,
+      successor: taken ? next.member : null,
+      how: taken ? next.reason : '',
+      estimate: r.estimate,
+    });
+  });
+  return out;
+}

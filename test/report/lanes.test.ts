@@ -1,0 +1,72 @@
+import { describe, expect, it } from 'vitest';
+import type { LifecycleRecord } from '../../src/ensembles/index.js';
+import { LANE_UNIT, laneBlocks } from '../../src/report/seat-lanes.js';
+import { timeFrame } from '../../src/report/time-axis.js';
+import { type LaneSegment, timeline } from '../../src/report/timeline.js';
+
+const segment = (start: number, end: number, state: LaneSegment['state'], member: number): LaneSegment => ({
+  start,
+  end,
+  state,
+  member,
+  reason: 'r',
+});
+
+describe('seat lanes', () => {
+  it("a seat's state holds until its next record; a retirement and its successor share a row", () => {
+    const at = (row: number, member: number, from: LifecycleRecord['from'], to: LifecycleRecord['to']) =>
+      ({
+        type: 'lifecycle',
+        row,
+        seat: 0,
+        member,
+        from,
+        to,
+        detector: 'adwin',
+        estimate: 0.1,
+        reason: to,
+      }) as const;
+    const t = timeline([
+      at(0, 0, null, 'warming'),
+      at(100, 0, 'warming', 'active'),
+      at(400, 0, 'active', 'watched'),
+      at(700, 0, 'watched', 'retired'),
+      at(700, 1, null, 'active'),
+      { type: 'input-drift', row: 1000, feature: 'f', kind: 'numeric' },
+    ]);
+    expect(t.rows).toBe(1000);
+    expect(t.lanes[0]!.map((s) => [s.start, s.end, s.state, s.member])).toEqual([
+      [0, 100, 'warming', 0],
+      [100, 400, 'active', 0],
+      [400, 700, 'watched', 0],
+      [700, 1000, 'active', 1],
+    ]);
+    expect(t.replacements).toEqual([
+      { row: 700, seat: 0, retired: 0, successor: 1, how: 'active', estimate: 0.1 },
+    ]);
+  });
+
+  it('a ten-row watch in a million rows keeps a column; a lane never draws more blocks than columns', () => {
+    const frame = timeFrame(1_000_000);
+    const columns = Math.ceil((frame.right - frame.left) / LANE_UNIT);
+    const blocks = laneBlocks(
+      [
+        segment(0, 500_000, 'active', 0),
+        segment(500_000, 500_010, 'watched', 0),
+        segment(500_010, 1_000_000, 'active', 0),
+      ],
+      frame,
+    );
+    expect(blocks.map((b) => b.state)).toEqual(['active', 'watched', 'active']);
+    expect(blocks[1]!.to - blocks[1]!.from).toBe(1);
+    expect(blocks[0]!.from).toBe(0);
+    expect(blocks[2]!.to).toBe(columns);
+    const churn = Array.from({ length: 20_000 }, (_, i) =>
+      segment(50 * i, 50 * (i + 1), i % 2 === 0 ? 'warming' : 'active', Math.floor(i / 2)),
+    );
+    const dense = laneBlocks(churn, frame);
+    expect(dense.length).toBeLessThanOrEqual(columns);
+    // Columns tile the lane: each block starts where the last one ended.
+    expect(dense.map((b) => b.from)).toEqual([0, ...dense.slice(0, -1).map((b) => b.to)]);
+  });
+});
