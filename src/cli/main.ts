@@ -1,0 +1,54 @@
+import { ShoalError } from '../core/index.js';
+import { REPLAY_HELP, replay } from './replay.js';
+import { REPORT_HELP, report } from './report.js';
+import { SYNTH_HELP, synth } from './synth.js';
+import { processTerminal, type Terminal } from './terminal.js';
+import { shoalVersion } from './version.js';
+
+const COMMANDS: Readonly<
+  Record<string, { run: (args: readonly string[], t: Terminal) => Promise<number>; help: string }>
+> = {
+  replay: { run: replay, help: REPLAY_HELP },
+  synth: { run: synth, help: SYNTH_HELP },
+  report: { run: report, help: REPORT_HELP },
+};
+
+const USAGE = `shoal — online ensembles that keep scoring while the world changes
+
+Commands:
+  shoal replay FILE      run a recorded stream through an ensemble, test-then-train, and summarise it
+  shoal synth GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
+  shoal report JOURNAL   turn a run's journal into a self-contained HTML report
+
+shoal COMMAND --help shows a command's options. Scores are advisory: keep a human in the loop.`;
+
+/** Exit codes: 0 done, 2 bad input, configuration or usage (a message says what), 1 anything else. */
+export async function main(args: readonly string[], terminal: Terminal = processTerminal): Promise<number> {
+  const [name, ...rest] = args;
+  const verbose = rest.includes('--verbose');
+  if (name === undefined || name === '--help' || name === '-h' || name === 'help') {
+    terminal.out(`${USAGE}\n`);
+    return name === undefined ? 2 : 0;
+  }
+  if (name === '--version') {
+    terminal.out(`${shoalVersion()}\n`);
+    return 0;
+  }
+  const command = COMMANDS[name];
+  if (command === undefined) {
+    terminal.err(`shoal: unknown command ${JSON.stringify(name)}\n\n${USAGE}\n`);
+    return 2;
+  }
+  try {
+    return await command.run(rest, terminal);
+  } catch (e) {
+    if (e instanceof ShoalError) {
+      terminal.err(`shoal ${name}: ${e.message}\n${verbose && e.stack ? `${e.stack}\n` : ''}`);
+      return 2;
+    }
+    terminal.err(
+      `shoal ${name}: unexpected failure: ${(e as Error).message}\n${verbose ? `${(e as Error).stack}\n` : 'Run again with --verbose for the stack trace.\n'}`,
+    );
+    return 1;
+  }
+}

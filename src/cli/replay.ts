@@ -1,0 +1,214 @@
+import { once } from 'node:events';
+import { createWriteStream, type WriteStream } from 'node:fs';
+import { writeFile } from 'node:fs/promises';
+import { ShoalError } from '../core/index.js';
+import { DETECTOR_KINDS } from '../drift/index.js';
+import { ENSEMBLE_KINDS } from '../ensembles/index.js';
+import { countRows, FrameDecoder, type FrameOptions, readFrames } from '../frames/index.js';
+import { CLASSIFIER_KINDS } from '../learners/index.js';
+import {
+  type JournalRecord,
+  LearningLoop,
+  type RunConfig,
+  resolveConfig,
+  type SummaryRecord,
+} from '../pipeline/index.js';
+import { renderReport } from '../report/index.js';
+import { parse, positionals, text, whole } from './args.js';
+import { readConfigFile } from './config-file.js';
+import { Progress } from './progress.js';
+import { count, figure, type Terminal, table } from './terminal.js';
+import { shoalVersion } from './version.js';
+
+export const REPLAY_HELP = `shoal replay FILE [options]
+
+Run a recorded stream (Arrow IPC file or stream, CSV, NDJSON) through an ensemble prequentially:
+every row is scored first, then its label judges the prediction, then the ensemble trains on it —
+the same scoring, training and member lifecycle the live service runs.
+
+Options:
+  --config FILE     shoal.yaml with the ensemble, evaluation and input settings
+  --ensemble KIND   ${ENSEMBLE_KINDS.join(', ')} (default bagging)
+  --members N       members of a bagging or boosting ensemble (default 10)
+  --learner KIND    the members' learner: ${CLASSIFIER_KINDS.join(', ')}
+  --detector KIND   each member's drift monitor: ${DETECTOR_KINDS.join(', ')}
+  --seed S          seed of every random choice
+  --label COL       the label column (default "label")
+  --id COL          an event-id column
+  --journal PATH    write the run's journal (NDJSON: lifecycle changes, evaluation windows, summary)
+  --report PATH     write a self-contained HTML report of the run
+  --json            print one JSON object instead of the summary table
+Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.`;
+
+/** Fold command-line overrides into the raw configuration, so that they are checked like the file. */
+function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: string): unknown {
+  const base = (raw ?? {}) as Record<string, unknown>;
+  const ensemble = { ...((base.ensemble ?? {}) as Record<string, unknown>) };
+  const inputs = { ...((base.inputs ?? {}) as Record<string, unknown>) };
+  const kind = text(parsed, 'ensemble');
+  if (kind !== undefined) ensemble.kind = kind;
+  const members = whole(command, parsed, 'members');
+  if (members !== undefined) ensemble.members = members;
+  const learner = text(parsed, 'learner');
+  if (learner !== undefined) ensemble.learners = [{ kind: learner }];
+  const detector = text(parsed, 'detector');
+  if (detector !== undefined) {
+    ensemble.lifecycle = {
+      ...((ensemble.lifecycle ?? {}) as Record<string, unknown>),
+      detector: { kind: detector },
+    };
+  }
+  const label = text(parsed, 'label');
+  if (label !== undefined) inputs.label = label;
+  const id = text(parsed, 'id');
+  if (id !== undefined) inputs.id = id;
+  const seed = text(parsed, 'seed');
+  return { ...base, ...(seed === undefined ? {} : { seed }), ensemble, inputs };
+}
+
+/** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
+function frameOptions(config: RunConfig): FrameOptions {
+  const { label, id, exclude, features, vocabulary } = config.inputs;
+  return {
+    label,
+    ...(id === null ? {} : { id }),
+    exclude,
+    ...(features === null ? {} : { features: features as FrameOptions['features'] & object }),
+    ...(vocabulary === null ? {} : { vocabulary }),
+  };
+}
+
+/** A journal that goes to a file (when asked) and is kept in memory (when a report is asked). */
+class JournalOut {
+  readonly kept: JournalRecord[] = [];
+  private readonly file: WriteStream | null;
+  private readonly keep: boolean;
+
+  constructor(path: string | undefined, keep: boolean) {
+    this.file = path === undefined ? null : createWriteStream(path);
+    this.keep = keep;
+  }
+
+  write(record: JournalRecord): void {
+    if (this.keep) this.kept.push(record);
+    this.file?.write(`${JSON.stringify(record)}\n`);
+  }
+
+  /** Wait for the file to take what was written (called once per batch, for back-pressure). */
+  async drain(): Promise<void> {
+    if (this.file?.writableNeedDrain) await once(this.file, 'drain');
+  }
+
+  async close(): Promise<void> {
+    if (this.file === null) return;
+    this.file.end();
+    await once(this.file, 'finish');
+  }
+}
+
+export async function replay(args: readonly string[], terminal: Terminal): Promise<number> {
+  const parsed = parse('replay', args, {
+    config: { type: 'string' },
+    ensemble: { type: 'string' },
+    members: { type: 'string' },
+    learner: { type: 'string' },
+    detector: { type: 'string' },
+    seed: { type: 'string' },
+    label: { type: 'string' },
+    id: { type: 'string' },
+    journal: { type: 'string' },
+    report: { type: 'string' },
+    json: { type: 'boolean' },
+  });
+  if (parsed.values.help) {
+    terminal.out(`${REPLAY_HELP}\n`);
+    return 0;
+  }
+  const [file] = positionals('replay', parsed, ['FILE']);
+  const configPath = text(parsed, 'config');
+  const raw = configPath === undefined ? {} : await readConfigFile(configPath);
+  const config = resolveConfig(withOverrides(raw, parsed, 'replay'), configPath ?? 'command line');
+  const decoder = new FrameDecoder(frameOptions(config), configPath ?? 'command line');
+  const reportPath = text(parsed, 'report');
+  const journal = new JournalOut(text(parsed, 'journal'), reportPath !== undefined);
+  const loop = new LearningLoop({
+    config,
+    source: file!,
+    journal: (r) => journal.write(r),
+    clock: () => terminal.now(),
+    version: shoalVersion(),
+  });
+  const json = parsed.values.json === true;
+  const progress = new Progress(
+    json ? { ...terminal, interactive: false } : terminal,
+    terminal.interactive && !json ? await countRows(file!) : null,
+  );
+  let summary: SummaryRecord;
+  try {
+    for await (const { frame } of readFrames(file!, decoder)) {
+      loop.prequential(frame, decoder.classes);
+      progress.update(loop.rows, loop.recentAccuracy);
+      await journal.drain();
+    }
+    if (loop.rows === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
+    summary = loop.finish(decoder.classes);
+  } finally {
+    progress.done();
+    await journal.close();
+  }
+  if (reportPath !== undefined)
+    await writeFile(reportPath, renderReport(journal.kept, { title: `Replay of ${file}` }));
+  terminal.out(
+    json
+      ? `${JSON.stringify(jsonSummary(file!, config, summary))}\n`
+      : summaryTable(file!, config, summary, loop.rows),
+  );
+  return 0;
+}
+
+function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<string, unknown> {
+  return {
+    file,
+    ensemble: config.ensemble.kind,
+    seed: config.seed,
+    rows: s.rows,
+    accuracy: s.accuracy,
+    kappa: s.kappa,
+    kappaM: s.kappaM,
+    kappaTemporal: s.kappaTemporal,
+    logLoss: s.logLoss,
+    macroF1: s.macroF1,
+    driftSignals: s.driftSignals,
+    warnings: s.warnings,
+    replacements: s.replacements,
+    inputDrifts: s.inputDrifts,
+    classes: s.classes,
+    seconds: s.seconds,
+    rowsPerSecond: s.rowsPerSecond,
+  };
+}
+
+function summaryTable(file: string, config: RunConfig, s: SummaryRecord, scored: number): string {
+  const e = config.ensemble as { kind: string; members?: number; learners?: readonly { kind: string }[] };
+  const learners = [...new Set((e.learners ?? [{ kind: 'hoeffding-tree' }]).map((l) => l.kind))].join(', ');
+  const head = `replay of ${file}: ${e.kind}${e.members === undefined ? '' : ` of ${e.members}`} (${learners}), seed ${config.seed}\n\n`;
+  return (
+    head +
+    table([
+      ['rows scored', count(scored)],
+      ['rows judged', count(s.rows)],
+      ['accuracy', figure(s.accuracy)],
+      ['kappa', figure(s.kappa)],
+      ['kappa-M', figure(s.kappaM)],
+      ['kappa-temporal', figure(s.kappaTemporal)],
+      ['log-loss', figure(s.logLoss)],
+      ['macro F1', figure(s.macroF1)],
+      ['drift signals', count(s.driftSignals)],
+      ['warnings', count(s.warnings)],
+      ['replacements', count(s.replacements)],
+      ['input drifts', count(s.inputDrifts)],
+      ['rows/s', count(s.rowsPerSecond)],
+      ['seconds', s.seconds.toFixed(1)],
+    ])
+  );
+}

@@ -1,0 +1,78 @@
+/**
+ * Shoal's public API: the package entry. Importing it does nothing but define these names — no
+ * registries, timers or sockets.
+ */
+export type {
+  ConfigIssue,
+  Feature,
+  FeatureKind,
+  FeatureSchema,
+  RngState,
+  Seed,
+  ShoalErrorCode,
+} from './core/index.js';
+export { ConfigError, deriveSeed, nominal, numeric, numericSchema, Rng, ShoalError } from './core/index.js';
+export type {
+  DetectorSnapshot,
+  DetectorSpec,
+  DriftDetector,
+  DriftLevel,
+  InputMonitor,
+  InputMonitorSpec,
+} from './drift/index.js';
+export {
+  createDetector,
+  createInputMonitor,
+  DETECTOR_KINDS,
+  restoreDetector,
+  restoreInputMonitor,
+} from './drift/index.js';
+export type {
+  Ensemble,
+  EnsembleKind,
+  EnsembleSnapshot,
+  EnsembleSpec,
+  JournalSink,
+  LifecycleOptions,
+  LifecycleRecord,
+  MemberState,
+  SeatView,
+  VoteKind,
+} from './ensembles/index.js';
+export {
+  createEnsemble,
+  ENSEMBLE_KINDS,
+  RegressionBagging,
+  restoreEnsemble,
+  Verdict,
+} from './ensembles/index.js';
+export type { ClassificationFigures, ClassificationView } from './evaluation/index.js';
+export { ClassificationEvaluator, RegressionEvaluator, SeatScores } from './evaluation/index.js';
+export type { Decoded, FeatureSpec, Frame, FrameOptions, FrameWriter, Rejection } from './frames/index.js';
+export {
+  createWriter,
+  decodeArrowMessage,
+  decodeJsonRecord,
+  FrameDecoder,
+  readFrames,
+} from './frames/index.js';
+export type {
+  Classifier,
+  ClassifierSpec,
+  LearnerSnapshot,
+  Regressor,
+  RegressorSpec,
+} from './learners/index.js';
+export {
+  CLASSIFIER_KINDS,
+  createClassifier,
+  createRegressor,
+  REGRESSOR_KINDS,
+  restoreClassifier,
+  restoreRegressor,
+} from './learners/index.js';
+export type { JournalRecord, RunConfig, SummaryRecord } from './pipeline/index.js';
+export { LearningLoop, resolveConfig } from './pipeline/index.js';
+export { parseJournal, renderReport } from './report/index.js';
+export type { StreamGenerator, StreamRequest } from './streams/index.js';
+export { buildStream, STREAM_NAMES } from './streams/index.js';
