@@ -4,6 +4,7 @@ import {
   decodeI32,
   encodeF64,
   encodeI32,
+  erfc,
   type FeatureSchema,
   hoeffdingBound,
   integerAtLeast,
@@ -219,6 +220,7 @@ export class HoeffdingTree implements Classifier {
   private prod = new Float64Array(1);
   private probe = new Float64Array(1);
   private pair = new Float64Array(2);
+  private scale = new Float64Array(1);
   private readonly all: Int32Array;
   private lastMajority = -1;
   private lastNb = -1;
@@ -486,6 +488,7 @@ export class HoeffdingTree implements Classifier {
     out: Float64Array,
     outOffset: number,
   ): number {
+    if (this.c === 2) return this.naiveBayesBinary(leaf, head, slot, row, offset, out, outOffset);
     const c = this.c;
     const heads = this.heads;
     const stats = this.stats;
@@ -556,6 +559,90 @@ export class HoeffdingTree implements Classifier {
     const inv = 1 / sum;
     for (let k = 0; k < c; k++) out[outOffset + k]! *= inv;
     return best;
+  }
+
+  /**
+   * Naive Bayes for two classes, the common case, with one square root and one exponential instead of
+   * two logarithms and two exponentials: with π_k = n_k² · Π 1/σ² · Π P(v | k)² and s_k = Σ (x − μ)²/σ²,
+   * P(1 | x) = 1 / (1 + √(π₀/π₁) · e^(−(s₀ − s₁)/2)). Falls back to the general form when a product
+   * under- or overflows.
+   */
+  private naiveBayesBinary(
+    leaf: number,
+    head: number,
+    slot: number,
+    row: Float64Array,
+    offset: number,
+    out: Float64Array,
+    outOffset: number,
+  ): number {
+    const stats = this.stats;
+    const n0 = this.heads[head + HEAD]!;
+    const n1 = this.heads[head + HEAD + 1]!;
+    let s0 = 0;
+    let s1 = 0;
+    let p0 = n0 * n0;
+    let p1 = n1 * n1;
+    const subset = this.subsets;
+    const per = this.perLeaf;
+    let base = slot * this.slotSize;
+    for (let j = 0; j < per; j++) {
+      const f = subset === null ? j : subset[leaf * per + j]!;
+      const x = row[offset + f]!;
+      if (this.nominal[f] === 0) {
+        if (!Number.isNaN(x)) {
+          if (stats[base + G_W]! > 0) {
+            const d = x - stats[base + G_MEAN]!;
+            const iv = stats[base + G_INV_VAR]!;
+            s0 += d * d * iv;
+            p0 *= iv;
+          }
+          const g = base + GAUSS;
+          if (stats[g + G_W]! > 0) {
+            const d = x - stats[g + G_MEAN]!;
+            const iv = stats[g + G_INV_VAR]!;
+            s1 += d * d * iv;
+            p1 *= iv;
+          }
+        }
+        base += 2 * GAUSS;
+      } else {
+        const v = this.cardinality[f]!;
+        if (x >= 0 && x < v) {
+          const cell = base + x * 2;
+          const totals = base + v * 2;
+          const q0 = (stats[cell]! + 1) / (stats[totals]! + v);
+          const q1 = (stats[cell + 1]! + 1) / (stats[totals + 1]! + v);
+          p0 *= q0 * q0;
+          p1 *= q1 * q1;
+        }
+        base += (v + 1) * 2;
+      }
+    }
+    let one: number;
+    if (n0 === 0 || n1 === 0) {
+      one = n0 === n1 ? 0.5 : n0 === 0 ? 1 : 0;
+    } else if (p0 > 0 && p1 > 0 && p0 < Number.POSITIVE_INFINITY && p1 < Number.POSITIVE_INFINITY) {
+      one = 1 / (1 + Math.sqrt(p0 / p1) * Math.exp(-0.5 * (s0 - s1)));
+    } else {
+      one = this.binaryFromLogs(leaf, head, slot, row, offset);
+    }
+    out[outOffset] = 1 - one;
+    out[outOffset + 1] = one;
+    return one > 0.5 ? 1 : 0;
+  }
+
+  /** P(1 | x) from the term-by-term log scores, for products out of floating-point range. */
+  private binaryFromLogs(
+    leaf: number,
+    head: number,
+    slot: number,
+    row: Float64Array,
+    offset: number,
+  ): number {
+    const l0 = this.slowLog(leaf, head, slot, row, offset, 0);
+    const l1 = this.slowLog(leaf, head, slot, row, offset, 1);
+    return 1 / (1 + Math.exp(l0 - l1));
   }
 
   /** The same log-score for one class summed term by term, for when the product under- or overflows. */
@@ -751,14 +838,19 @@ export class HoeffdingTree implements Classifier {
     const c = this.c;
     const stats = this.stats;
     const pair = this.pair;
+    const scale = this.scale;
     const o = this.options;
     let lo = Number.POSITIVE_INFINITY;
     let hi = Number.NEGATIVE_INFINITY;
     for (let k = 0, g = base; k < c; k++, g += GAUSS) {
-      pair[c + k] = stats[g + G_W]!;
-      if (stats[g + G_W]! > 0) {
+      const w = stats[g + G_W]!;
+      pair[c + k] = w;
+      if (w > 0) {
         if (stats[g + G_MIN]! < lo) lo = stats[g + G_MIN]!;
         if (stats[g + G_MAX]! > hi) hi = stats[g + G_MAX]!;
+        // 1 / (σ√2), so that Φ((t − μ)/σ) = erfc((μ − t) · scale) / 2; 0 marks a class without spread.
+        const variance = stats[g + G_M2]! / w;
+        scale[k] = variance > 0 ? 1 / Math.sqrt(2 * variance) : 0;
       }
     }
     this.cut = 0;
@@ -770,9 +862,14 @@ export class HoeffdingTree implements Classifier {
     for (let i = 1; i <= n; i++) {
       const t = lo + step * i;
       for (let k = 0, g = base; k < c; k++, g += GAUSS) {
-        const below = this.weightBelow(g, t);
+        const w = stats[g + G_W]!;
+        let below: number;
+        if (w <= 0 || t < stats[g + G_MIN]!) below = 0;
+        else if (t >= stats[g + G_MAX]!) below = w;
+        else if (scale[k] === 0) below = stats[g + G_MEAN]! <= t ? w : 0;
+        else below = 0.5 * w * erfc((stats[g + G_MEAN]! - t) * scale[k]!);
         pair[k] = below;
-        pair[c + k] = Math.max(0, stats[g + G_W]! - below);
+        pair[c + k] = Math.max(w - below, 0);
       }
       const m = splitMerit(o.merit, pair, 0, 2, c, o.branchShareFloor, parent);
       if (m > merit) {
@@ -1013,5 +1110,6 @@ export class HoeffdingTree implements Classifier {
     this.prod = new Float64Array(to);
     this.probe = new Float64Array(to);
     this.pair = new Float64Array(2 * to);
+    this.scale = new Float64Array(to);
   }
 }

@@ -1,3 +1,4 @@
+import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
 import { deriveSeed, Rng } from '../../src/core/index.js';
 
@@ -45,5 +46,16 @@ describe('Rng', () => {
   it('derives distinct, stable seeds for sub-components', () => {
     expect(deriveSeed(1, 'member', 3)).toBe('1/member/3');
     expect(new Rng(deriveSeed(1, 'member', 3)).next()).not.toBe(new Rng(deriveSeed(1, 'member', 4)).next());
+  });
+});
+
+describe('Rng against seedrandom', () => {
+  it('draws exactly the sequence of seedrandom.alea for the same seed', () => {
+    // Outside reference: npm `seedrandom` 3.0.5, alea.js (Baagøe's Alea).
+    for (const seed of [0, 42, 'shoal', 'member/7']) {
+      const reference = seedrandom.alea(String(seed));
+      const ours = new Rng(seed);
+      for (let i = 0; i < 10_000; i++) expect(ours.next()).toBe(reference());
+    }
   });
 });
