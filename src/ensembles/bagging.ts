@@ -100,12 +100,17 @@ export class Bagging implements Ensemble {
   /** The Poisson weight each seat drew for the last row trained (for audits and tests). */
   readonly draws: Int32Array;
 
+  /**
+   * `firstSeat` > 0 builds seats `firstSeat` … `firstSeat + members − 1` of a larger ensemble (a shard
+   * for another thread): their members and Poisson generators are seeded as in the whole ensemble.
+   */
   constructor(
     schema: FeatureSchema,
     spec: BaggingSpec = {},
     seed: Seed = 0,
     journal: JournalSink = () => {},
     restored?: EnsembleSnapshot,
+    firstSeat = 0,
   ) {
     this.schema = schema;
     this.options = resolve(spec);
@@ -116,14 +121,21 @@ export class Bagging implements Ensemble {
       this.options.lifecycle,
       members,
       (seat, id) =>
-        createClassifier(learners[seat % learners.length]!, schema, deriveSeed(this.seed, 'member', id)),
+        createClassifier(
+          learners[(firstSeat + seat) % learners.length]!,
+          schema,
+          deriveSeed(this.seed, 'member', id),
+        ),
       journal,
       restored?.lifecycle,
+      firstSeat,
     );
     this.sampler = new PoissonSampler(this.options.lambda);
     const state = restored?.state as BaggingState | undefined;
     this.poisson = Array.from({ length: members }, (_, i) =>
-      state === undefined ? new Rng(deriveSeed(this.seed, 'poisson', i)) : Rng.fromState(state.poisson[i]!),
+      state === undefined
+        ? new Rng(deriveSeed(this.seed, 'poisson', firstSeat + i))
+        : Rng.fromState(state.poisson[i]!),
     );
     this.scratch = new MemberScratch(members);
     this.draws = new Int32Array(members);
@@ -170,6 +182,14 @@ export class Bagging implements Ensemble {
 
   scoreTrain(row: Float64Array, offset: number, label: number, verdict: Verdict): void {
     this.step(row, offset, label, verdict);
+  }
+
+  /**
+   * Every member's answer on the last row scored or trained: probabilities (member-major, `classes` per
+   * member), predicted classes and vote weights. Valid until the next row.
+   */
+  get members(): Readonly<MemberScratch> {
+    return this.scratch;
   }
 
   seats(): SeatView[] {

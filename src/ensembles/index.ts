@@ -12,6 +12,7 @@ export type {
   SeatView,
 } from './lifecycle.js';
 export { LIFECYCLE_DEFAULTS } from './lifecycle.js';
+export { BatchVerdicts, ParallelBagging } from './parallel-bagging.js';
 export type { EnsembleSpec } from './registry.js';
 export { createEnsemble, restoreEnsemble } from './registry.js';
 export type { RegressionBaggingOptions, RegressionBaggingSnapshot } from './regression-bagging.js';

@@ -262,12 +262,17 @@ export class Lifecycle {
   private replacements: number[] = [];
   private classes = 0;
 
+  /**
+   * `firstId` is the member id of seat 0: a shard of a larger ensemble (seats `firstId` … of it, run in
+   * another thread) gives its members the ids, and so the seeds, they have in the whole ensemble.
+   */
   constructor(
     options: LifecycleOptions,
     seats: number,
     make: MemberFactory,
     journal: JournalSink,
     restored?: LifecycleSnapshot,
+    firstId = 0,
   ) {
     this.options = checkLifecycleOptions(options);
     this.make = make;
@@ -281,6 +286,7 @@ export class Lifecycle {
       return;
     }
     this.seats = [];
+    this.nextMemberId = firstId;
     const first: MemberState = options.enabled && options.warmup > 0 ? 'warming' : 'active';
     for (let i = 0; i < seats; i++) {
       const id = this.nextMemberId++;

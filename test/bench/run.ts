@@ -4,12 +4,13 @@ import { bench as drift } from './drift.js';
 import { type BenchSection, machine } from './harness.js';
 import { bench as learners } from './learners.js';
 import { bench as memory } from './memory.js';
+import { bench as parallel } from './parallel.js';
 
 /**
  * `npm run bench [-- --quick] [-- --json]`: every benchmark section, printed as tables, or as one JSON
  * object whose keys are the sections. Figures and ratios in one output come from the same run.
  */
-const SECTIONS = { learners, core, memory, drift, decode } as const;
+const SECTIONS = { learners, core, parallel, memory, drift, decode } as const;
 
 const args = new Set(process.argv.slice(2));
 const quick = args.has('--quick');

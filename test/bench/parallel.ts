@@ -1,0 +1,59 @@
+import { Bagging, BatchVerdicts, ParallelBagging, Verdict } from '../../dist/ensembles/index.js';
+import { numericSchema } from '../../src/core/index.js';
+import { type BenchFn, type BenchRow, machine, median } from './harness.js';
+import { benchStream } from './stream.js';
+
+/**
+ * Parallel members: classic online bagging (λ = 1, no lifecycle) of 10 and 30 Hoeffding trees with the
+ * members split over two threads (this one and a worker; the build in dist/ is used, since workers load
+ * compiled files), against the same ensemble in one thread, timed alternately so that both see the same
+ * machine. Rows go to the threads in batches of 1,000. The verdicts are checked to be identical.
+ */
+const BATCH = 1000;
+
+export const bench: BenchFn = async ({ quick }) => {
+  const count = quick ? 40_000 : 400_000;
+  const { rows: values, labels: codes, width } = benchStream(count, 'bench-parallel');
+  const labels = Float64Array.from(codes);
+  const schema = numericSchema(width);
+  const rows: BenchRow[] = [];
+  const json: Record<string, unknown> = { machine: machine(), rows: count, batch: BATCH };
+  for (const members of [10, 30]) {
+    const spec = { members, lambda: 1, lifecycle: { enabled: false } };
+    const one: number[] = [];
+    const two: number[] = [];
+    let identical = true;
+    for (let run = 0; run < 3; run++) {
+      const single = new Bagging(schema, spec, 'bench-parallel');
+      single.ensureClasses(2);
+      const verdict = new Verdict();
+      const expected = new Float64Array(count);
+      let t0 = process.hrtime.bigint();
+      for (let i = 0; i < count; i++) {
+        single.scoreTrain(values, i * width, labels[i]!, verdict);
+        expected[i] = verdict.probabilities[1]!;
+      }
+      one.push(count / (Number(process.hrtime.bigint() - t0) / 1e9));
+      const parallel = await ParallelBagging.start(schema, spec, 'bench-parallel', 2);
+      const out = new BatchVerdicts();
+      t0 = process.hrtime.bigint();
+      for (let s = 0; s < count; s += BATCH) {
+        await parallel.scoreTrainBatch(values.subarray(s * width), labels.subarray(s), BATCH, out);
+        for (let r = 0; r < BATCH; r++)
+          if (out.probabilities[r * 2 + 1] !== expected[s + r]) identical = false;
+      }
+      two.push(count / (Number(process.hrtime.bigint() - t0) / 1e9));
+      await parallel.close();
+    }
+    const speedup = median(two) / median(one);
+    rows.push({ name: `bagging ×${members}, one thread`, rate: median(one), unit: 'rows/s' });
+    rows.push({
+      name: `bagging ×${members}, two threads`,
+      rate: median(two),
+      unit: 'rows/s',
+      note: `speed-up ${speedup.toFixed(2)}×, verdicts ${identical ? 'identical' : 'DIFFERENT'} to one thread`,
+    });
+    json[`bagging${members}`] = { oneThread: median(one), twoThreads: median(two), speedup, identical };
+  }
+  return { title: 'Parallel members (two threads)', rows, json };
+};

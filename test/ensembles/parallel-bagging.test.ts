@@ -1,0 +1,42 @@
+import { describe, expect, it } from 'vitest';
+// Worker threads load compiled files, so this test uses the build in dist/ (npm test builds first).
+import { Bagging, BatchVerdicts, ParallelBagging, Verdict } from '../../dist/ensembles/index.js';
+import { sea, take } from '../../src/streams/index.js';
+
+describe('parallel bagging', () => {
+  it.each([2, 3])('gives verdicts identical to one thread with members over %i threads', async (threads) => {
+    // Members of online bagging are independent (Oza & Russell 2001): splitting them changes nothing.
+    const gen = sea({ noise: 0.1 }, 21);
+    const block = take(gen, 6000);
+    const labels = Float64Array.from(block.labels);
+    const spec = { members: 7, lambda: 1, lifecycle: { enabled: false } } as const;
+    const single = new Bagging(gen.schema, spec, 'p');
+    single.ensureClasses(2);
+    const parallel = await ParallelBagging.start(gen.schema, spec, 'p', threads);
+    try {
+      const verdict = new Verdict();
+      const out = new BatchVerdicts();
+      for (let s = 0; s < 6000; s += 500) {
+        await parallel.scoreTrainBatch(block.rows.subarray(s * 3), labels.subarray(s), 500, out);
+        for (let r = 0; r < 500; r++) {
+          single.scoreTrain(block.rows, (s + r) * 3, block.labels[s + r]!, verdict);
+          expect(out.probabilities[r * 2 + 1]).toBe(verdict.probabilities[1]);
+          expect(out.predicted[r]).toBe(verdict.predicted);
+          expect(out.agreement[r]).toBe(verdict.agreement);
+        }
+      }
+      const scored = new BatchVerdicts();
+      await parallel.scoreBatch(block.rows, 100, scored);
+      for (let r = 0; r < 100; r++) {
+        single.score(block.rows, r * 3, verdict);
+        expect(scored.probabilities[r * 2]).toBe(verdict.probabilities[0]);
+      }
+    } finally {
+      await parallel.close();
+    }
+  });
+
+  it('refuses the member lifecycle, which couples seats', async () => {
+    await expect(ParallelBagging.start(sea().schema, { members: 4 }, 1, 2)).rejects.toThrow(/lifecycle/);
+  });
+});
