@@ -88,7 +88,7 @@ export const HOEFFDING_TREE_DEFAULTS: HoeffdingTreeOptions = {
   candidateThresholds: 10,
   featureSubset: 0,
   depthLimit: 30,
-  byteLimit: 2 * 1024 * 1024,
+  byteLimit: 256 * 1024,
   branchShareFloor: 0.01,
 };
 
