@@ -11,17 +11,16 @@ import {
   ShoalError,
 } from '../core/index.js';
 import { type ClassifierSpec, createClassifier } from '../learners/index.js';
-import { checkLabel, checkRow } from '../learners/learner.js';
-import type { Ensemble, EnsembleSnapshot } from './ensemble.js';
+import type { EnsembleSnapshot } from './ensemble.js';
 import {
   type JournalSink,
   LIFECYCLE_DEFAULTS,
   Lifecycle,
   type LifecycleOptions,
   type Seat,
-  type SeatView,
 } from './lifecycle.js';
-import { checkSnapshotKind, MemberScratch } from './scratch.js';
+import { checkSnapshotKind } from './scratch.js';
+import { SeatedEnsemble } from './seated-ensemble.js';
 import type { Verdict } from './verdict.js';
 import { combineVotes, VOTE_KINDS, type VoteKind } from './vote.js';
 
@@ -85,18 +84,12 @@ interface BaggingState {
   readonly poisson: readonly RngState[];
 }
 
-export class Bagging implements Ensemble {
+export class Bagging extends SeatedEnsemble {
   readonly kind = KIND;
-  readonly schema: FeatureSchema;
   readonly options: BaggingOptions;
-  private readonly seed: string;
-  private readonly lifecycle: Lifecycle;
   private readonly sampler: PoissonSampler;
   private readonly poisson: Rng[];
-  private readonly scratch: MemberScratch;
   private readonly hard: boolean;
-  private readonly width: number;
-  rows = 0;
   /** The Poisson weight each seat drew for the last row trained (for audits and tests). */
   readonly draws: Int32Array;
 
@@ -112,35 +105,33 @@ export class Bagging implements Ensemble {
     restored?: EnsembleSnapshot,
     firstSeat = 0,
   ) {
-    this.schema = schema;
-    this.options = resolve(spec);
-    this.seed = String(seed);
-    this.width = schema.features.length;
-    const { learners, members } = this.options;
-    this.lifecycle = new Lifecycle(
-      this.options.lifecycle,
+    const options = resolve(spec);
+    const root = String(seed);
+    const { learners, members } = options;
+    const lifecycle = new Lifecycle(
+      options.lifecycle,
       members,
       (seat, id) =>
         createClassifier(
           learners[(firstSeat + seat) % learners.length]!,
           schema,
-          deriveSeed(this.seed, 'member', id),
+          deriveSeed(root, 'member', id),
         ),
       journal,
       restored?.lifecycle,
       firstSeat,
     );
-    this.sampler = new PoissonSampler(this.options.lambda);
+    super(schema, root, lifecycle, VERSION, restored);
+    this.options = options;
+    this.sampler = new PoissonSampler(options.lambda);
     const state = restored?.state as BaggingState | undefined;
     this.poisson = Array.from({ length: members }, (_, i) =>
       state === undefined
-        ? new Rng(deriveSeed(this.seed, 'poisson', firstSeat + i))
+        ? new Rng(deriveSeed(root, 'poisson', firstSeat + i))
         : Rng.fromState(state.poisson[i]!),
     );
-    this.scratch = new MemberScratch(members);
     this.draws = new Int32Array(members);
-    this.hard = this.options.vote === 'hard';
-    if (restored !== undefined) this.rows = restored.rows;
+    this.hard = options.vote === 'hard';
     this.ensureClasses(Math.max(1, restored?.lifecycle.classes ?? 1));
   }
 
@@ -149,22 +140,8 @@ export class Bagging implements Ensemble {
     return new Bagging(snapshot.schema, snapshot.options as BaggingSpec, snapshot.seed, journal, snapshot);
   }
 
-  get classes(): number {
-    return this.scratch.classes;
-  }
-
-  get epoch(): number {
-    return this.lifecycle.epoch;
-  }
-
-  ensureClasses(n: number): void {
-    if (n <= this.scratch.classes) return;
-    this.lifecycle.ensureClasses(n);
-    this.scratch.fit(n);
-  }
-
   score(row: Float64Array, offset: number, verdict: Verdict): void {
-    checkRow(KIND, row, offset, this.width);
+    this.checkRowOnly(row, offset);
     const { probs, preds, weights, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     for (let m = 0; m < seats.length; m++) {
@@ -176,51 +153,12 @@ export class Bagging implements Ensemble {
     verdict.epoch = this.lifecycle.epoch;
   }
 
-  train(row: Float64Array, offset: number, label: number): void {
-    this.step(row, offset, label, null);
-  }
-
-  scoreTrain(row: Float64Array, offset: number, label: number, verdict: Verdict): void {
-    this.step(row, offset, label, verdict);
-  }
-
-  /**
-   * Every member's answer on the last row scored or trained: probabilities (member-major, `classes` per
-   * member), predicted classes and vote weights. Valid until the next row.
-   */
-  get members(): Readonly<MemberScratch> {
-    return this.scratch;
-  }
-
-  seats(): SeatView[] {
-    return this.lifecycle.view();
-  }
-
-  sizeBytes(): number {
-    let bytes = 0;
-    for (const seat of this.lifecycle.seats)
-      bytes += seat.member.sizeBytes() + (seat.understudy?.sizeBytes() ?? 0);
-    return bytes;
-  }
-
-  snapshot(): EnsembleSnapshot {
-    const state: BaggingState = { poisson: this.poisson.map((r) => r.state()) };
-    return {
-      kind: KIND,
-      version: VERSION,
-      schema: this.schema,
-      options: { ...this.options },
-      seed: this.seed,
-      rows: this.rows,
-      lifecycle: this.lifecycle.snapshot(),
-      state,
-    };
+  protected state(): BaggingState {
+    return { poisson: this.poisson.map((r) => r.state()) };
   }
 
   /** Score every member on the row, train it with its Poisson weight, judge it; vote when asked. */
-  private step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void {
-    checkRow(KIND, row, offset, this.width);
-    checkLabel(KIND, label);
+  protected step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void {
     const { probs, preds, weights, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     const lifecycle = this.lifecycle;
@@ -238,8 +176,6 @@ export class Bagging implements Ensemble {
       combineVotes(this.hard, probs, preds, weights, seats.length, classes, verdict);
       verdict.epoch = lifecycle.epoch;
     }
-    this.rows++;
-    if (label >= classes) this.ensureClasses(label + 1);
   }
 
   private weight(seat: Seat): number {

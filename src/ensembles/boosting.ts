@@ -11,16 +11,10 @@ import {
   samplePoisson,
 } from '../core/index.js';
 import { type ClassifierSpec, createClassifier } from '../learners/index.js';
-import { checkLabel, checkRow } from '../learners/learner.js';
-import type { Ensemble, EnsembleSnapshot } from './ensemble.js';
-import {
-  type JournalSink,
-  LIFECYCLE_DEFAULTS,
-  Lifecycle,
-  type LifecycleOptions,
-  type SeatView,
-} from './lifecycle.js';
-import { checkSnapshotKind, MemberScratch } from './scratch.js';
+import type { EnsembleSnapshot } from './ensemble.js';
+import { type JournalSink, LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions } from './lifecycle.js';
+import { checkSnapshotKind } from './scratch.js';
+import { SeatedEnsemble } from './seated-ensemble.js';
 import type { Verdict } from './verdict.js';
 import { combineVotes } from './vote.js';
 
@@ -78,20 +72,14 @@ interface BoostingState {
   readonly wrong: string;
 }
 
-export class Boosting implements Ensemble {
+export class Boosting extends SeatedEnsemble {
   readonly kind = KIND;
-  readonly schema: FeatureSchema;
   readonly options: BoostingOptions;
-  private readonly seed: string;
-  private readonly lifecycle: Lifecycle;
   private readonly rng: Rng;
   /** λˢᶜ and λˢʷ per seat. */
   private readonly right: Float64Array;
   private readonly wrong: Float64Array;
-  private readonly scratch: MemberScratch;
   private probe = new Float64Array(1);
-  private readonly width: number;
-  rows = 0;
 
   constructor(
     schema: FeatureSchema,
@@ -100,46 +88,29 @@ export class Boosting implements Ensemble {
     journal: JournalSink = () => {},
     restored?: EnsembleSnapshot,
   ) {
-    this.schema = schema;
-    this.options = resolve(spec);
-    this.seed = String(seed);
-    this.width = schema.features.length;
-    const { learners, members } = this.options;
-    this.lifecycle = new Lifecycle(
-      this.options.lifecycle,
+    const options = resolve(spec);
+    const root = String(seed);
+    const { learners, members } = options;
+    const lifecycle = new Lifecycle(
+      options.lifecycle,
       members,
       (seat, id) =>
-        createClassifier(learners[seat % learners.length]!, schema, deriveSeed(this.seed, 'member', id)),
+        createClassifier(learners[seat % learners.length]!, schema, deriveSeed(root, 'member', id)),
       journal,
       restored?.lifecycle,
     );
+    super(schema, root, lifecycle, VERSION, restored);
+    this.options = options;
     const state = restored?.state as BoostingState | undefined;
-    this.rng = state === undefined ? new Rng(deriveSeed(this.seed, 'poisson')) : Rng.fromState(state.rng);
+    this.rng = state === undefined ? new Rng(deriveSeed(root, 'poisson')) : Rng.fromState(state.rng);
     this.right = state === undefined ? new Float64Array(members) : decodeF64(state.right, 'boosting right');
     this.wrong = state === undefined ? new Float64Array(members) : decodeF64(state.wrong, 'boosting wrong');
-    this.scratch = new MemberScratch(members);
-    if (restored !== undefined) this.rows = restored.rows;
     this.ensureClasses(Math.max(1, restored?.lifecycle.classes ?? 1));
   }
 
   static restore(snapshot: EnsembleSnapshot, journal: JournalSink = () => {}): Boosting {
     checkSnapshotKind(snapshot, KIND, VERSION);
     return new Boosting(snapshot.schema, snapshot.options as BoostingSpec, snapshot.seed, journal, snapshot);
-  }
-
-  get classes(): number {
-    return this.scratch.classes;
-  }
-
-  get epoch(): number {
-    return this.lifecycle.epoch;
-  }
-
-  ensureClasses(n: number): void {
-    if (n <= this.scratch.classes) return;
-    this.lifecycle.ensureClasses(n);
-    this.scratch.fit(n);
-    this.probe = new Float64Array(n);
   }
 
   /** εₘ of a seat, the weighted share of rows it got wrong. */
@@ -149,53 +120,22 @@ export class Boosting implements Ensemble {
   }
 
   score(row: Float64Array, offset: number, verdict: Verdict): void {
-    checkRow(KIND, row, offset, this.width);
+    this.checkRowOnly(row, offset);
     const { probs, preds, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     for (let m = 0; m < seats.length; m++) preds[m] = seats[m]!.member.score(row, offset, probs, m * classes);
     this.vote(verdict);
   }
 
-  train(row: Float64Array, offset: number, label: number): void {
-    this.step(row, offset, label, null);
+  protected override classesGrew(n: number): void {
+    this.probe = new Float64Array(n);
   }
 
-  scoreTrain(row: Float64Array, offset: number, label: number, verdict: Verdict): void {
-    this.step(row, offset, label, verdict);
+  protected state(): BoostingState {
+    return { rng: this.rng.state(), right: encodeF64(this.right), wrong: encodeF64(this.wrong) };
   }
 
-  seats(): SeatView[] {
-    return this.lifecycle.view();
-  }
-
-  sizeBytes(): number {
-    let bytes = 0;
-    for (const seat of this.lifecycle.seats)
-      bytes += seat.member.sizeBytes() + (seat.understudy?.sizeBytes() ?? 0);
-    return bytes;
-  }
-
-  snapshot(): EnsembleSnapshot {
-    const state: BoostingState = {
-      rng: this.rng.state(),
-      right: encodeF64(this.right),
-      wrong: encodeF64(this.wrong),
-    };
-    return {
-      kind: KIND,
-      version: VERSION,
-      schema: this.schema,
-      options: { ...this.options },
-      seed: this.seed,
-      rows: this.rows,
-      lifecycle: this.lifecycle.snapshot(),
-      state,
-    };
-  }
-
-  private step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void {
-    checkRow(KIND, row, offset, this.width);
-    checkLabel(KIND, label);
+  protected step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void {
     const { probs, preds, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     const cap = this.options.maxRepeats;
@@ -220,8 +160,6 @@ export class Boosting implements Ensemble {
       }
     }
     if (verdict !== null) this.vote(verdict);
-    this.rows++;
-    if (label >= classes) this.ensureClasses(label + 1);
   }
 
   /** Weighted hard vote: log((1 − ε)/ε) for members with ε < 0.5 that are not warming. */

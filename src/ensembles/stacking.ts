@@ -18,16 +18,10 @@ import {
   Mlp,
   type MlpOptions,
 } from '../learners/index.js';
-import { checkLabel, checkRow } from '../learners/learner.js';
-import type { Ensemble, EnsembleSnapshot } from './ensemble.js';
-import {
-  type JournalSink,
-  LIFECYCLE_DEFAULTS,
-  Lifecycle,
-  type LifecycleOptions,
-  type SeatView,
-} from './lifecycle.js';
-import { checkSnapshotKind, MemberScratch } from './scratch.js';
+import type { EnsembleSnapshot } from './ensemble.js';
+import { type JournalSink, LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions } from './lifecycle.js';
+import { checkSnapshotKind } from './scratch.js';
+import { SeatedEnsemble } from './seated-ensemble.js';
 import type { Verdict } from './verdict.js';
 
 /**
@@ -95,17 +89,11 @@ interface StackingState {
   readonly meta: LearnerSnapshot;
 }
 
-export class Stacking implements Ensemble {
+export class Stacking extends SeatedEnsemble {
   readonly kind = KIND;
-  readonly schema: FeatureSchema;
   readonly options: StackingOptions;
-  private readonly seed: string;
-  private readonly lifecycle: Lifecycle;
   private readonly rng: Rng;
   private meta: MetaLearner;
-  private readonly scratch: MemberScratch;
-  private readonly width: number;
-  rows = 0;
 
   constructor(
     schema: FeatureSchema,
@@ -114,26 +102,24 @@ export class Stacking implements Ensemble {
     journal: JournalSink = () => {},
     restored?: EnsembleSnapshot,
   ) {
-    this.schema = schema;
-    this.options = resolve(spec);
-    this.seed = String(seed);
-    this.width = schema.features.length;
-    const { learners } = this.options;
-    this.lifecycle = new Lifecycle(
-      this.options.lifecycle,
+    const options = resolve(spec);
+    const root = String(seed);
+    const { learners } = options;
+    const lifecycle = new Lifecycle(
+      options.lifecycle,
       learners.length,
-      (seat, id) => createClassifier(learners[seat]!, schema, deriveSeed(this.seed, 'member', id)),
+      (seat, id) => createClassifier(learners[seat]!, schema, deriveSeed(root, 'member', id)),
       journal,
       restored?.lifecycle,
     );
+    super(schema, root, lifecycle, VERSION, restored);
+    this.options = options;
     const state = restored?.state as StackingState | undefined;
-    this.rng = state === undefined ? new Rng(deriveSeed(this.seed, 'holdout')) : Rng.fromState(state.rng);
-    this.scratch = new MemberScratch(learners.length);
+    this.rng = state === undefined ? new Rng(deriveSeed(root, 'holdout')) : Rng.fromState(state.rng);
     const classes = Math.max(1, restored?.lifecycle.classes ?? 1);
+    this.meta = state === undefined ? this.freshMeta(classes) : restoreMeta(state.meta);
     this.scratch.fit(classes);
     this.lifecycle.ensureClasses(classes);
-    this.meta = state === undefined ? this.freshMeta(classes) : restoreMeta(state.meta);
-    if (restored !== undefined) this.rows = restored.rows;
   }
 
   static restore(snapshot: EnsembleSnapshot, journal: JournalSink = () => {}): Stacking {
@@ -141,27 +127,8 @@ export class Stacking implements Ensemble {
     return new Stacking(snapshot.schema, snapshot.options as StackingSpec, snapshot.seed, journal, snapshot);
   }
 
-  get classes(): number {
-    return this.scratch.classes;
-  }
-
-  get epoch(): number {
-    return this.lifecycle.epoch;
-  }
-
-  /**
-   * Announce classes. The meta-learner's inputs are the members' probabilities, so a new class changes
-   * its input width: it starts afresh (a rare event — classes appear early in a stream).
-   */
-  ensureClasses(n: number): void {
-    if (n <= this.scratch.classes) return;
-    this.lifecycle.ensureClasses(n);
-    this.scratch.fit(n);
-    this.meta = this.freshMeta(n);
-  }
-
   score(row: Float64Array, offset: number, verdict: Verdict): void {
-    checkRow(KIND, row, offset, this.width);
+    this.checkRowOnly(row, offset);
     const { probs, preds, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     for (let m = 0; m < seats.length; m++) preds[m] = seats[m]!.member.score(row, offset, probs, m * classes);
@@ -169,47 +136,27 @@ export class Stacking implements Ensemble {
     this.finish(this.meta.score(probs, 0, out, 0), verdict);
   }
 
-  train(row: Float64Array, offset: number, label: number): void {
-    this.step(row, offset, label, null);
+  /**
+   * The meta-learner's inputs are the members' probabilities, so a new class changes its input width:
+   * it starts afresh (a rare event — classes appear early in a stream).
+   */
+  protected override classesGrew(n: number): void {
+    this.meta = this.freshMeta(n);
   }
 
-  scoreTrain(row: Float64Array, offset: number, label: number, verdict: Verdict): void {
-    this.step(row, offset, label, verdict);
+  protected override ownBytes(): number {
+    return this.meta.sizeBytes();
   }
 
-  seats(): SeatView[] {
-    return this.lifecycle.view();
+  protected state(): StackingState {
+    return { rng: this.rng.state(), meta: this.meta.snapshot() };
   }
 
-  sizeBytes(): number {
-    let bytes = this.meta.sizeBytes();
-    for (const seat of this.lifecycle.seats)
-      bytes += seat.member.sizeBytes() + (seat.understudy?.sizeBytes() ?? 0);
-    return bytes;
-  }
-
-  snapshot(): EnsembleSnapshot {
-    const state: StackingState = { rng: this.rng.state(), meta: this.meta.snapshot() };
-    return {
-      kind: KIND,
-      version: VERSION,
-      schema: this.schema,
-      options: { ...this.options },
-      seed: this.seed,
-      rows: this.rows,
-      lifecycle: this.lifecycle.snapshot(),
-      state,
-    };
-  }
-
-  private step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void {
-    checkRow(KIND, row, offset, this.width);
-    checkLabel(KIND, label);
+  protected step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void {
     const { probs, preds, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     const holdout = this.options.holdout;
     const weight = holdout > 0 && this.rng.next() < holdout ? 0 : 1;
-    const known = label < classes;
     for (let m = 0; m < seats.length; m++) {
       const seat = seats[m]!;
       const predicted = seat.member.scoreTrain(row, offset, label, weight, probs, m * classes);
@@ -218,8 +165,9 @@ export class Stacking implements Ensemble {
       if (this.lifecycle.judge(seat, predicted === label, this.rows))
         this.meta.forgetInputs(m * classes, classes);
     }
-    // The meta-learner learns from the members' out-of-sample outputs; a label it cannot place yet
-    // (a class appearing now) is learnt once the classes have grown.
+    // The meta-learner learns from the members' out-of-sample outputs; a label of a class appearing
+    // now is learnt once the classes have grown.
+    const known = label < classes;
     if (verdict !== null) {
       const out = verdict.fit(classes);
       this.finish(
@@ -229,8 +177,6 @@ export class Stacking implements Ensemble {
     } else if (known) {
       this.meta.train(probs, 0, label, 1);
     }
-    this.rows++;
-    if (!known) this.ensureClasses(label + 1);
   }
 
   private finish(predicted: number, verdict: Verdict): void {

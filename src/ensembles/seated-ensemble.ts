@@ -1,0 +1,131 @@
+import type { FeatureSchema } from '../core/index.js';
+import { checkLabel, checkRow } from '../learners/learner.js';
+import type { Ensemble, EnsembleKind, EnsembleSnapshot } from './ensemble.js';
+import type { Lifecycle, SeatView } from './lifecycle.js';
+import { MemberScratch } from './scratch.js';
+import type { Verdict } from './verdict.js';
+
+/**
+ * What bagging, boosting and stacking share: seats kept by a `Lifecycle`, per-row scratch for every
+ * member's answer, the row count, class growth, size, views and the snapshot envelope. A kind adds how
+ * a row is scored and how it is learnt (`score`, `step`), and what else it keeps (`state`).
+ */
+export abstract class SeatedEnsemble implements Ensemble {
+  abstract readonly kind: EnsembleKind;
+  abstract readonly options: object;
+  readonly schema: FeatureSchema;
+  rows = 0;
+  protected readonly seed: string;
+  protected readonly width: number;
+  protected readonly lifecycle: Lifecycle;
+  protected readonly scratch: MemberScratch;
+  private readonly version: number;
+
+  protected constructor(
+    schema: FeatureSchema,
+    seed: string,
+    lifecycle: Lifecycle,
+    version: number,
+    restored?: EnsembleSnapshot,
+  ) {
+    this.schema = schema;
+    this.seed = seed;
+    this.width = schema.features.length;
+    this.lifecycle = lifecycle;
+    this.version = version;
+    this.scratch = new MemberScratch(lifecycle.seats.length);
+    if (restored !== undefined) this.rows = restored.rows;
+  }
+
+  get classes(): number {
+    return this.scratch.classes;
+  }
+
+  get epoch(): number {
+    return this.lifecycle.epoch;
+  }
+
+  /**
+   * Every member's answer on the last row scored or trained: probabilities (member-major, `classes` per
+   * member), predicted classes and vote weights. Valid until the next row.
+   */
+  get members(): Readonly<MemberScratch> {
+    return this.scratch;
+  }
+
+  ensureClasses(n: number): void {
+    if (n <= this.scratch.classes) return;
+    this.lifecycle.ensureClasses(n);
+    this.scratch.fit(n);
+    this.classesGrew(n);
+  }
+
+  abstract score(row: Float64Array, offset: number, verdict: Verdict): void;
+
+  train(row: Float64Array, offset: number, label: number): void {
+    this.checked(row, offset, label);
+    this.step(row, offset, label, null);
+    this.learnt(label);
+  }
+
+  scoreTrain(row: Float64Array, offset: number, label: number, verdict: Verdict): void {
+    this.checked(row, offset, label);
+    this.step(row, offset, label, verdict);
+    this.learnt(label);
+  }
+
+  seats(): SeatView[] {
+    return this.lifecycle.view();
+  }
+
+  sizeBytes(): number {
+    let bytes = this.ownBytes();
+    for (const seat of this.lifecycle.seats)
+      bytes += seat.member.sizeBytes() + (seat.understudy?.sizeBytes() ?? 0);
+    return bytes;
+  }
+
+  snapshot(): EnsembleSnapshot {
+    return {
+      kind: this.kind,
+      version: this.version,
+      schema: this.schema,
+      options: { ...this.options } as Record<string, unknown>,
+      seed: this.seed,
+      rows: this.rows,
+      lifecycle: this.lifecycle.snapshot(),
+      state: this.state(),
+    };
+  }
+
+  /**
+   * Score every member on a labelled row before it trains, train it, judge it; fill `verdict` when
+   * given. The row and label are checked, and the classes grown after it, by the caller.
+   */
+  protected abstract step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void;
+
+  /** What the kind keeps besides its seats, JSON-safe. */
+  protected abstract state(): unknown;
+
+  /** Called when classes grow, after members and scratch have grown. */
+  protected classesGrew(_n: number): void {}
+
+  /** Bytes held besides the members (a meta-learner, say). */
+  protected ownBytes(): number {
+    return 0;
+  }
+
+  protected checkRowOnly(row: Float64Array, offset: number): void {
+    checkRow(this.kind, row, offset, this.width);
+  }
+
+  private checked(row: Float64Array, offset: number, label: number): void {
+    checkRow(this.kind, row, offset, this.width);
+    checkLabel(this.kind, label);
+  }
+
+  private learnt(label: number): void {
+    this.rows++;
+    if (label >= this.scratch.classes) this.ensureClasses(label + 1);
+  }
+}
