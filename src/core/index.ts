@@ -28,3 +28,5 @@ export {
   welfordSampleVariance,
   welfordVariance,
 } from './running-stats.js';
+export type { VersionedSnapshot } from './snapshot.js';
+export { checkSnapshot } from './snapshot.js';

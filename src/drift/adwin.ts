@@ -1,4 +1,5 @@
 import {
+  checkSnapshot,
   decodeF64,
   decodeI32,
   encodeF64,
@@ -9,7 +10,6 @@ import {
   ShoalError,
 } from '../core/index.js';
 import {
-  checkDetectorSnapshot,
   checkUnitValue,
   type DetectorSnapshot,
   type DriftDetector,
@@ -404,7 +404,7 @@ export class Adwin implements DriftDetector {
   }
 
   static restore(snapshot: DetectorSnapshot): Adwin {
-    checkDetectorSnapshot(snapshot, KIND, VERSION);
+    checkSnapshot(snapshot, KIND, VERSION);
     const adwin = new Adwin(snapshot.options as Partial<AdwinOptions>);
     const state = snapshot.state;
     const [size, total, deviations, tick, level] = unpackScalars(KIND, stateField(KIND, state, 'scalars'), 5);

@@ -1,6 +1,5 @@
-import { integerAtLeast, positive, ShoalError } from '../core/index.js';
+import { checkSnapshot, integerAtLeast, positive, ShoalError } from '../core/index.js';
 import {
-  checkDetectorSnapshot,
   checkErrorValue,
   type DetectorSnapshot,
   type DriftDetector,
@@ -120,7 +119,7 @@ export class Ddm implements DriftDetector {
   }
 
   static restore(snapshot: DetectorSnapshot): Ddm {
-    checkDetectorSnapshot(snapshot, KIND, VERSION);
+    checkSnapshot(snapshot, KIND, VERSION);
     const ddm = new Ddm(snapshot.options as Partial<DdmOptions>);
     const [n, errors, pMin, sMin] = unpackScalars(KIND, stateField(KIND, snapshot.state, 'scalars'), 4);
     ddm.n = n!;

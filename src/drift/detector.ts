@@ -42,19 +42,6 @@ export interface DetectorSnapshot {
   readonly state: unknown;
 }
 
-/** Check that a snapshot is of the expected kind and version before restoring it. */
-export function checkDetectorSnapshot(snapshot: DetectorSnapshot, kind: string, version: number): void {
-  if (!snapshot || snapshot.kind !== kind) {
-    throw new ShoalError('invalid-snapshot', `expected a ${kind} snapshot, got ${String(snapshot?.kind)}`);
-  }
-  if (snapshot.version !== version) {
-    throw new ShoalError(
-      'invalid-snapshot',
-      `${kind} snapshot has format version ${String(snapshot.version)}; this build reads version ${version}`,
-    );
-  }
-}
-
 /** The level codes a snapshot stores for a detector that remembers its last level between values. */
 export const LEVEL_CODES: readonly DriftLevel[] = ['stable', 'warning', 'drift'];
 

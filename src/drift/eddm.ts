@@ -1,4 +1,5 @@
 import {
+  checkSnapshot,
   integerAtLeast,
   openUnit,
   ShoalError,
@@ -7,7 +8,6 @@ import {
   welfordVariance,
 } from '../core/index.js';
 import {
-  checkDetectorSnapshot,
   checkErrorValue,
   type DetectorSnapshot,
   type DriftDetector,
@@ -139,7 +139,7 @@ export class Eddm implements DriftDetector {
   }
 
   static restore(snapshot: DetectorSnapshot): Eddm {
-    checkDetectorSnapshot(snapshot, KIND, VERSION);
+    checkSnapshot(snapshot, KIND, VERSION);
     const eddm = new Eddm(snapshot.options as Partial<EddmOptions>);
     const s = unpackScalars(KIND, stateField(KIND, snapshot.state, 'scalars'), 8);
     const level = LEVEL_CODES[s[7]!];

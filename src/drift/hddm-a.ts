@@ -1,6 +1,5 @@
-import { openUnit, ShoalError } from '../core/index.js';
+import { checkSnapshot, openUnit, ShoalError } from '../core/index.js';
 import {
-  checkDetectorSnapshot,
   checkUnitValue,
   type DetectorSnapshot,
   type DriftDetector,
@@ -133,7 +132,7 @@ export class HddmA implements DriftDetector {
   }
 
   static restore(snapshot: DetectorSnapshot): HddmA {
-    checkDetectorSnapshot(snapshot, KIND, VERSION);
+    checkSnapshot(snapshot, KIND, VERSION);
     const hddm = new HddmA(snapshot.options as Partial<HddmAOptions>);
     const s = unpackScalars(KIND, stateField(KIND, snapshot.state, 'scalars'), 4);
     hddm.n = s[0]!;

@@ -1,6 +1,6 @@
-import { checkSchema, type FeatureSchema, ShoalError } from '../core/index.js';
+import { checkSchema, checkSnapshot, type FeatureSchema, ShoalError } from '../core/index.js';
 import { CategoryShift, type CategoryShiftOptions, resolveCategoryShift } from './category-shift.js';
-import { checkDetectorSnapshot } from './detector.js';
+
 import { NumericShift, type NumericShiftOptions, resolveNumericShift } from './numeric-shift.js';
 
 /**
@@ -135,7 +135,7 @@ export function createInputMonitor(schema: FeatureSchema, spec: InputMonitorSpec
 
 /** Rebuild a monitor from a snapshot; it then flags exactly what the original would have flagged. */
 export function restoreInputMonitor(snapshot: InputMonitorSnapshot): InputMonitor {
-  checkDetectorSnapshot(snapshot, KIND, VERSION);
+  checkSnapshot(snapshot, KIND, VERSION);
   const monitor = new FeatureDriftMonitor(snapshot.schema, snapshot.options as InputMonitorSpec);
   monitor.load(snapshot.state);
   return monitor;

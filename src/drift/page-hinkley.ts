@@ -1,6 +1,5 @@
-import { integerAtLeast, nonNegative, oneOf, positive, ShoalError } from '../core/index.js';
+import { checkSnapshot, integerAtLeast, nonNegative, oneOf, positive, ShoalError } from '../core/index.js';
 import {
-  checkDetectorSnapshot,
   checkFiniteValue,
   type DetectorSnapshot,
   type DriftDetector,
@@ -149,7 +148,7 @@ export class PageHinkley implements DriftDetector {
   }
 
   static restore(snapshot: DetectorSnapshot): PageHinkley {
-    checkDetectorSnapshot(snapshot, KIND, VERSION);
+    checkSnapshot(snapshot, KIND, VERSION);
     const ph = new PageHinkley(snapshot.options as Partial<PageHinkleyOptions>);
     const s = unpackScalars(KIND, stateField(KIND, snapshot.state, 'scalars'), 6);
     ph.n = s[0]!;

@@ -1,4 +1,5 @@
 import {
+  checkSnapshot,
   deriveSeed,
   type FeatureSchema,
   integerAtLeast,
@@ -19,7 +20,7 @@ import {
   type LifecycleOptions,
   type Seat,
 } from './lifecycle.js';
-import { checkSnapshotKind } from './scratch.js';
+
 import { SeatedEnsemble } from './seated-ensemble.js';
 import type { Verdict } from './verdict.js';
 import { combineVotes, VOTE_KINDS, type VoteKind } from './vote.js';
@@ -136,7 +137,7 @@ export class Bagging extends SeatedEnsemble {
   }
 
   static restore(snapshot: EnsembleSnapshot, journal: JournalSink = () => {}): Bagging {
-    checkSnapshotKind(snapshot, KIND, VERSION);
+    checkSnapshot(snapshot, KIND, VERSION);
     return new Bagging(snapshot.schema, snapshot.options as BaggingSpec, snapshot.seed, journal, snapshot);
   }
 

@@ -1,4 +1,5 @@
 import {
+  checkSnapshot,
   decodeF64,
   deriveSeed,
   encodeF64,
@@ -13,7 +14,7 @@ import {
 import { type ClassifierSpec, createClassifier } from '../learners/index.js';
 import type { EnsembleSnapshot } from './ensemble.js';
 import { type JournalSink, LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions } from './lifecycle.js';
-import { checkSnapshotKind } from './scratch.js';
+
 import { SeatedEnsemble } from './seated-ensemble.js';
 import type { Verdict } from './verdict.js';
 import { combineVotes } from './vote.js';
@@ -109,7 +110,7 @@ export class Boosting extends SeatedEnsemble {
   }
 
   static restore(snapshot: EnsembleSnapshot, journal: JournalSink = () => {}): Boosting {
-    checkSnapshotKind(snapshot, KIND, VERSION);
+    checkSnapshot(snapshot, KIND, VERSION);
     return new Boosting(snapshot.schema, snapshot.options as BoostingSpec, snapshot.seed, journal, snapshot);
   }
 

@@ -1,6 +1,3 @@
-import { ShoalError } from '../core/index.js';
-import type { EnsembleSnapshot } from './ensemble.js';
-
 /**
  * Per-row scratch of an ensemble: every member's class probabilities (member-major), predicted class
  * and vote weight. Allocated once and grown only when classes appear.
@@ -21,21 +18,5 @@ export class MemberScratch {
   fit(classes: number): void {
     this.classes = classes;
     this.probs = new Float64Array(this.members * classes);
-  }
-}
-
-/** Check that an ensemble snapshot is of the expected kind and version before restoring it. */
-export function checkSnapshotKind(snapshot: EnsembleSnapshot, kind: string, version: number): void {
-  if (!snapshot || snapshot.kind !== kind) {
-    throw new ShoalError(
-      'invalid-snapshot',
-      `expected a ${kind} ensemble snapshot, got ${String(snapshot?.kind)}`,
-    );
-  }
-  if (snapshot.version !== version) {
-    throw new ShoalError(
-      'invalid-snapshot',
-      `${kind} snapshot has format version ${String(snapshot.version)}; this build reads version ${version}`,
-    );
   }
 }

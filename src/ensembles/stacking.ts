@@ -1,4 +1,5 @@
 import {
+  checkSnapshot,
   closedUnit,
   deriveSeed,
   type FeatureSchema,
@@ -20,7 +21,7 @@ import {
 } from '../learners/index.js';
 import type { EnsembleSnapshot } from './ensemble.js';
 import { type JournalSink, LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions } from './lifecycle.js';
-import { checkSnapshotKind } from './scratch.js';
+
 import { SeatedEnsemble } from './seated-ensemble.js';
 import type { Verdict } from './verdict.js';
 
@@ -123,7 +124,7 @@ export class Stacking extends SeatedEnsemble {
   }
 
   static restore(snapshot: EnsembleSnapshot, journal: JournalSink = () => {}): Stacking {
-    checkSnapshotKind(snapshot, KIND, VERSION);
+    checkSnapshot(snapshot, KIND, VERSION);
     return new Stacking(snapshot.schema, snapshot.options as StackingSpec, snapshot.seed, journal, snapshot);
   }
 

@@ -1,4 +1,4 @@
-import { ShoalError } from '../core/index.js';
+import { checkSnapshot, ShoalError } from '../core/index.js';
 
 /**
  * The checkpoint form of every evaluator: JSON-safe and exact. Counts and sums that must survive bit
@@ -13,17 +13,9 @@ export interface EvaluatorSnapshot {
   readonly state: unknown;
 }
 
-/** Check that a snapshot is of the expected kind and version before restoring it. */
+/** Check kind and version (see core), and that options and state are objects, before restoring. */
 export function checkEvaluatorSnapshot(snapshot: EvaluatorSnapshot, kind: string, version: number): void {
-  if (!snapshot || snapshot.kind !== kind) {
-    throw new ShoalError('invalid-snapshot', `expected a ${kind} snapshot, got ${String(snapshot?.kind)}`);
-  }
-  if (snapshot.version !== version) {
-    throw new ShoalError(
-      'invalid-snapshot',
-      `${kind} snapshot has format version ${String(snapshot.version)}; this build reads version ${version}`,
-    );
-  }
+  checkSnapshot(snapshot, kind, version);
   expectObject(snapshot.options, `${kind} snapshot options`);
   expectObject(snapshot.state, `${kind} snapshot state`);
 }

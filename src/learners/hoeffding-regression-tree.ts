@@ -1,5 +1,6 @@
 import {
   checkSchema,
+  checkSnapshot,
   closedUnit,
   decodeF64,
   decodeI32,
@@ -17,14 +18,7 @@ import {
 } from '../core/index.js';
 import { bestNominalSplit, SplitCandidate } from './hoeffding-regression-tree-split.js';
 import { checkForwardLinks, ValueTree, type ValueTreeState } from './hoeffding-regression-tree-values.js';
-import {
-  checkRow,
-  checkSnapshot,
-  checkTarget,
-  checkWeight,
-  type LearnerSnapshot,
-  type Regressor,
-} from './learner.js';
+import { checkRow, checkTarget, checkWeight, type LearnerSnapshot, type Regressor } from './learner.js';
 import {
   CLOCK,
   checkLinearSgdOptions,

@@ -1,5 +1,6 @@
 import {
   checkSchema,
+  checkSnapshot,
   decodeF64,
   decodeI32,
   encodeF64,
@@ -23,7 +24,6 @@ import {
   checkLabel,
   checkOut,
   checkRow,
-  checkSnapshot,
   checkWeight,
   type LearnerSnapshot,
 } from './learner.js';

@@ -1,5 +1,6 @@
 import {
   argmax,
+  checkSnapshot,
   encodeF64,
   encodeI32,
   type FeatureSchema,
@@ -10,7 +11,7 @@ import {
   ShoalError,
 } from '../core/index.js';
 import { FeatureScaler } from './feature-scaler.js';
-import { checkSnapshot, type LearnerSnapshot } from './learner.js';
+import type { LearnerSnapshot } from './learner.js';
 import { isPresent, nominalCode } from './missing.js';
 import { OnlineClassifier } from './online-classifier.js';
 import { decodeF64Exact, decodeI32Exact, snapshotNumber } from './typed-arrays.js';

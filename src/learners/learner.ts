@@ -120,16 +120,3 @@ export function checkOut(owner: string, out: Float64Array, outOffset: number, cl
     );
   }
 }
-
-/** Check that a snapshot is of the expected kind and version before restoring it. */
-export function checkSnapshot(snapshot: LearnerSnapshot, kind: string, version: number): void {
-  if (!snapshot || snapshot.kind !== kind) {
-    throw new ShoalError('invalid-snapshot', `expected a ${kind} snapshot, got ${String(snapshot?.kind)}`);
-  }
-  if (snapshot.version !== version) {
-    throw new ShoalError(
-      'invalid-snapshot',
-      `${kind} snapshot has format version ${String(snapshot.version)}; this build reads version ${version}`,
-    );
-  }
-}

@@ -1,19 +1,13 @@
 import {
   checkSchema,
+  checkSnapshot,
   decodeF64,
   encodeF64,
   type FeatureSchema,
   type Seed,
   ShoalError,
 } from '../core/index.js';
-import {
-  checkRow,
-  checkSnapshot,
-  checkTarget,
-  checkWeight,
-  type LearnerSnapshot,
-  type Regressor,
-} from './learner.js';
+import { checkRow, checkTarget, checkWeight, type LearnerSnapshot, type Regressor } from './learner.js';
 import {
   checkLinearSgdOptions,
   LINEAR_SGD_DEFAULTS,

@@ -1,5 +1,6 @@
 import {
   argmax,
+  checkSnapshot,
   type FeatureSchema,
   normalizeInPlace,
   positive,
@@ -7,11 +8,8 @@ import {
   ShoalError,
   sigmoid,
 } from '../core/index.js';
-import { checkSnapshot, type LearnerSnapshot } from './learner.js';
-import { LinearMap } from './linear-map.js';
-import { OnlineClassifier } from './online-classifier.js';
-import { SparseInput } from './sparse-input.js';
-import { growF64, snapshotNumber } from './typed-arrays.js';
+import type { LearnerSnapshot } from './learner.js';
+import { LinearClassifier } from './linear-classifier.js';
 
 export interface LinearSvmOptions {
   /** λ, the regularisation of the SVM objective (λ/2)‖w‖² + mean hinge loss; > 0. */
@@ -68,58 +66,24 @@ function resolve(options: Partial<LinearSvmOptions>): LinearSvmOptions {
  * svm.ensureClasses(2);
  * const predicted = svm.scoreTrain(frame, i * width, label, 1, out, 0);
  */
-export class LinearSvm extends OnlineClassifier {
+export class LinearSvm extends LinearClassifier {
   readonly options: LinearSvmOptions;
-  private readonly input: SparseInput;
-  private readonly map: LinearMap;
-  /** Training weight seen so far (t of the step size). */
-  private seen = 0;
-  /** Margins of the last scored row. */
-  private margins: Float64Array = new Float64Array(0);
 
   constructor(schema: FeatureSchema, options: Partial<LinearSvmOptions> = {}, _seed: Seed = 0) {
-    super(KIND, schema);
+    super(KIND, schema, VERSION);
     this.options = resolve(options);
-    this.input = new SparseInput(schema);
-    this.map = new LinearMap(this.input.dimension);
-
     this.ensureClasses(1);
   }
 
   static restore(snapshot: LearnerSnapshot): LinearSvm {
     checkSnapshot(snapshot, KIND, VERSION);
-    const state = (snapshot.state ?? {}) as Record<string, unknown>;
-    const svm = new LinearSvm(snapshot.schema, snapshot.options as Partial<LinearSvmOptions>);
-    svm.ensureClasses(snapshotNumber(state.classes, 'linear-svm classes'));
-    svm.seen = snapshotNumber(state.seen, 'linear-svm training weight');
-    svm.input.scaler.load(state.scaler);
-    svm.map.load((state.weights ?? {}) as Record<string, unknown>);
-    return svm;
-  }
-
-  snapshot(): LearnerSnapshot {
-    return {
-      kind: KIND,
-      version: VERSION,
-      schema: this.schema,
-      options: { ...this.options },
-      state: {
-        classes: this.classes,
-        seen: this.seen,
-        scaler: this.input.scaler.state(),
-        weights: this.map.state(),
-      },
-    };
-  }
-
-  sizeBytes(): number {
-    return this.input.sizeBytes() + this.map.sizeBytes() + this.margins.byteLength;
+    return new LinearSvm(snapshot.schema, snapshot.options as Partial<LinearSvmOptions>).load(snapshot);
   }
 
   protected predict(row: Float64Array, offset: number, out: Float64Array, outOffset: number): number {
     this.forward(row, offset);
     const classes = this.classes;
-    const margins = this.margins;
+    const margins = this.scores;
     for (let c = 0; c < classes; c++) out[outOffset + c] = sigmoid(margins[c]!);
     normalizeInPlace(out, outOffset, classes);
     return argmax(out, outOffset, classes);
@@ -135,7 +99,7 @@ export class LinearSvm extends OnlineClassifier {
     const step = eta * weight;
     for (let c = 0; c < this.classes; c++) {
       const y = c === label ? 1 : -1;
-      if (y * this.margins[c]! < 1) map.add(c, this.input, step * y);
+      if (y * this.scores[c]! < 1) map.add(c, this.input, step * y);
     }
     if (project) {
       const limit = 1 / lambda;
@@ -147,14 +111,9 @@ export class LinearSvm extends OnlineClassifier {
     this.input.scaler.observe(row, offset, weight);
   }
 
-  protected growClasses(n: number): void {
-    this.map.grow(n);
-    this.margins = growF64(this.margins, n);
-  }
-
-  /** Encode the row and leave each class's margin in `margins`. */
+  /** Encode the row and leave each class's margin in `scores`. */
   private forward(row: Float64Array, offset: number): void {
     this.input.encode(row, offset);
-    for (let c = 0; c < this.classes; c++) this.margins[c] = this.map.dot(c, this.input);
+    for (let c = 0; c < this.classes; c++) this.scores[c] = this.map.dot(c, this.input);
   }
 }

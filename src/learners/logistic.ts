@@ -1,16 +1,14 @@
 import {
   argmax,
+  checkSnapshot,
   type FeatureSchema,
   nonNegative,
   positive,
   type Seed,
   softmaxInPlace,
 } from '../core/index.js';
-import { checkSnapshot, type ForgetsInputs, type LearnerSnapshot } from './learner.js';
-import { LinearMap } from './linear-map.js';
-import { OnlineClassifier } from './online-classifier.js';
-import { SparseInput } from './sparse-input.js';
-import { growF64, snapshotNumber } from './typed-arrays.js';
+import type { LearnerSnapshot } from './learner.js';
+import { LinearClassifier } from './linear-classifier.js';
 
 export interface LogisticOptions {
   /** η₀, the step size of the first row; > 0. */
@@ -63,65 +61,24 @@ function resolve(options: Partial<LogisticOptions>): LogisticOptions {
  * lr.ensureClasses(2);
  * const predicted = lr.scoreTrain(frame, i * width, label, 1, out, 0);
  */
-export class Logistic extends OnlineClassifier implements ForgetsInputs {
+export class Logistic extends LinearClassifier {
   readonly options: LogisticOptions;
-  private readonly input: SparseInput;
-  private readonly map: LinearMap;
-  /** Training weight seen so far (t of the schedule). */
-  private seen = 0;
-  /** Probabilities of the last scored row. */
-  private probs: Float64Array = new Float64Array(0);
 
   constructor(schema: FeatureSchema, options: Partial<LogisticOptions> = {}, _seed: Seed = 0) {
-    super(KIND, schema);
+    super(KIND, schema, VERSION);
     this.options = resolve(options);
-    this.input = new SparseInput(schema);
-    this.map = new LinearMap(this.input.dimension);
-
     this.ensureClasses(1);
   }
 
   static restore(snapshot: LearnerSnapshot): Logistic {
     checkSnapshot(snapshot, KIND, VERSION);
-    const state = (snapshot.state ?? {}) as Record<string, unknown>;
-    const lr = new Logistic(snapshot.schema, snapshot.options as Partial<LogisticOptions>);
-    lr.ensureClasses(snapshotNumber(state.classes, 'logistic classes'));
-    lr.seen = snapshotNumber(state.seen, 'logistic training weight');
-    lr.input.scaler.load(state.scaler);
-    lr.map.load((state.weights ?? {}) as Record<string, unknown>);
-    return lr;
-  }
-
-  snapshot(): LearnerSnapshot {
-    return {
-      kind: KIND,
-      version: VERSION,
-      schema: this.schema,
-      options: { ...this.options },
-      state: {
-        classes: this.classes,
-        seen: this.seen,
-        scaler: this.input.scaler.state(),
-        weights: this.map.state(),
-      },
-    };
-  }
-
-  sizeBytes(): number {
-    return this.input.sizeBytes() + this.map.sizeBytes() + this.probs.byteLength;
-  }
-
-  forgetInputs(first: number, count: number): void {
-    for (let f = first; f < first + count; f++) {
-      const [start, end] = this.input.inputsOf(f);
-      this.map.zeroInputs(start, end);
-    }
+    return new Logistic(snapshot.schema, snapshot.options as Partial<LogisticOptions>).load(snapshot);
   }
 
   protected predict(row: Float64Array, offset: number, out: Float64Array, outOffset: number): number {
     this.forward(row, offset);
     const classes = this.classes;
-    for (let c = 0; c < classes; c++) out[outOffset + c] = this.probs[c]!;
+    for (let c = 0; c < classes; c++) out[outOffset + c] = this.scores[c]!;
     return argmax(out, outOffset, classes);
   }
 
@@ -132,23 +89,18 @@ export class Logistic extends OnlineClassifier implements ForgetsInputs {
     this.map.decay(Math.max(0, 1 - eta * l2 * weight));
     const step = eta * weight;
     for (let c = 0; c < this.classes; c++) {
-      const g = this.probs[c]! - (c === label ? 1 : 0);
+      const g = this.scores[c]! - (c === label ? 1 : 0);
       if (g !== 0) this.map.add(c, this.input, -step * g);
     }
     this.seen += weight;
     this.input.scaler.observe(row, offset, weight);
   }
 
-  protected growClasses(n: number): void {
-    this.map.grow(n);
-    this.probs = growF64(this.probs, n);
-  }
-
-  /** Encode the row and leave its class probabilities in `probs`. */
+  /** Encode the row and leave its class probabilities in `scores`. */
   private forward(row: Float64Array, offset: number): void {
     this.input.encode(row, offset);
     const classes = this.classes;
-    for (let c = 0; c < classes; c++) this.probs[c] = this.map.dot(c, this.input);
-    softmaxInPlace(this.probs, 0, classes);
+    for (let c = 0; c < classes; c++) this.scores[c] = this.map.dot(c, this.input);
+    softmaxInPlace(this.scores, 0, classes);
   }
 }

@@ -1,5 +1,6 @@
 import {
   argmax,
+  checkSnapshot,
   encodeF64,
   type FeatureSchema,
   integerAtLeast,
@@ -8,7 +9,7 @@ import {
   type Seed,
   softmaxInPlace,
 } from '../core/index.js';
-import { checkSnapshot, type ForgetsInputs, type LearnerSnapshot } from './learner.js';
+import type { ForgetsInputs, LearnerSnapshot } from './learner.js';
 import { OnlineClassifier } from './online-classifier.js';
 import { SparseInput } from './sparse-input.js';
 import { decodeF64Exact, growF64, snapshotNumber } from './typed-arrays.js';

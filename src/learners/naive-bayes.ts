@@ -1,5 +1,6 @@
 import {
   argmax,
+  checkSnapshot,
   encodeF64,
   type FeatureSchema,
   normalLogPdf,
@@ -10,7 +11,7 @@ import {
   welfordAdd,
   welfordVariance,
 } from '../core/index.js';
-import { checkSnapshot, type LearnerSnapshot } from './learner.js';
+import type { LearnerSnapshot } from './learner.js';
 import { isPresent, nominalCode } from './missing.js';
 import { OnlineClassifier } from './online-classifier.js';
 import { decodeF64Exact, growF64, snapshotNumber } from './typed-arrays.js';

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { RegressionBagging, type RegressionBaggingSnapshot } from '../../src/ensembles/index.js';
 import { HoeffdingRegressionTree } from '../../src/learners/index.js';
-import { friedman1 } from '../support/regressor-streams.js';
 import { note } from '../support/note.js';
+import { friedman1 } from '../support/regressor-streams.js';
 
 /** Prequential mean squared error over the last `tail` rows. */
 function mseOf(predict: (i: number) => number, targets: Float64Array, tail: number): number {
@@ -38,11 +38,19 @@ describe('regression bagging (Oza & Russell 2001 with regressors)', () => {
 
   it('predicts the members’ mean, restores exactly, and refuses bad options', () => {
     const data = friedman1(3000, 42);
-    const bag = new RegressionBagging(data.schema, { members: 3, learners: [{ kind: 'linear-regression' }] }, 4);
+    const bag = new RegressionBagging(
+      data.schema,
+      { members: 3, learners: [{ kind: 'linear-regression' }] },
+      4,
+    );
     for (let i = 0; i < 2000; i++) bag.predictTrain(data.rows, i * 10, data.targets[i]!);
-    const copy = RegressionBagging.restore(JSON.parse(JSON.stringify(bag.snapshot())) as RegressionBaggingSnapshot);
+    const copy = RegressionBagging.restore(
+      JSON.parse(JSON.stringify(bag.snapshot())) as RegressionBaggingSnapshot,
+    );
     for (let i = 2000; i < 3000; i++) {
-      expect(copy.predictTrain(data.rows, i * 10, data.targets[i]!)).toBe(bag.predictTrain(data.rows, i * 10, data.targets[i]!));
+      expect(copy.predictTrain(data.rows, i * 10, data.targets[i]!)).toBe(
+        bag.predictTrain(data.rows, i * 10, data.targets[i]!),
+      );
     }
     expect(() => new RegressionBagging(data.schema, { members: 0 })).toThrow(/members/);
     expect(() => new RegressionBagging(data.schema, { lambda: -1 })).toThrow(/lambda/);

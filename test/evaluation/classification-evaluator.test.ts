@@ -1,11 +1,12 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { Rng, ShoalError } from '../../src/core/index.js';
+import { Rng } from '../../src/core/index.js';
 import {
   ClassificationEvaluator,
   type ClassificationView,
   type EvaluatorSnapshot,
 } from '../../src/evaluation/index.js';
+import { expectShoalError } from '../support/errors.js';
 import { type DirectFigures, direct, expectClose, type Outcome } from './reference.js';
 
 /** Compare every figure of a view with the direct computation over the same weighted records. */
@@ -38,18 +39,6 @@ function randomOutcomes(count: number, classes: number, seed: number): Outcome[]
 
 function feed(evaluator: ClassificationEvaluator, outcomes: readonly Outcome[]): void {
   for (const o of outcomes) evaluator.record(o.predicted, o.label, o.p);
-}
-
-function expectShoalError(fn: () => unknown, code: string, pattern: RegExp): void {
-  let thrown: unknown;
-  try {
-    fn();
-  } catch (e) {
-    thrown = e;
-  }
-  expect(thrown).toBeInstanceOf(ShoalError);
-  expect((thrown as ShoalError).code).toBe(code);
-  expect((thrown as ShoalError).message).toMatch(pattern);
 }
 
 const outcome = fc.record({

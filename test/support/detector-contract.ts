@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { Rng, ShoalError } from '../../src/core/index.js';
+import { Rng } from '../../src/core/index.js';
 import {
   createDetector,
   type DetectorSnapshot,
@@ -8,6 +8,7 @@ import {
   type DriftLevel,
   restoreDetector,
 } from '../../src/drift/index.js';
+import { expectShoalError } from './errors.js';
 
 /**
  * The contract suite every drift detector passes (one suite, every implementation — see DEVELOPERS.md):
@@ -59,18 +60,6 @@ function expectSameTrace(a: Trace, b: Trace): void {
   expect(b.levels.join()).toBe(a.levels.join());
   expect(Buffer.from(b.estimates.buffer).equals(Buffer.from(a.estimates.buffer))).toBe(true);
   expect(Buffer.from(b.counts.buffer).equals(Buffer.from(a.counts.buffer))).toBe(true);
-}
-
-function expectShoalError(fn: () => unknown, code: string, pattern: RegExp): void {
-  let thrown: unknown;
-  try {
-    fn();
-  } catch (e) {
-    thrown = e;
-  }
-  expect(thrown).toBeInstanceOf(ShoalError);
-  expect((thrown as ShoalError).code).toBe(code);
-  expect((thrown as ShoalError).message).toMatch(pattern);
 }
 
 const roundTrip = (d: DriftDetector): DetectorSnapshot =>

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { ShoalError } from '../../src/core/index.js';
 import type { Classifier, LearnerSnapshot } from '../../src/learners/learner.js';
 import { MAX_CLASSES } from '../../src/learners/learner.js';
 import { type StreamGenerator, sea, stagger, take } from '../../src/streams/index.js';
+import { expectShoalError } from './errors.js';
 
 /**
  * The contract suite every classifier passes (one suite, every implementation — see DEVELOPERS.md):
@@ -25,18 +25,6 @@ function run(learner: Classifier, generator: StreamGenerator, rows: number): Flo
     learner.scoreTrain(block.rows, i * block.width, block.labels[i]!, 1 + (i % 3), out, i * classes);
   }
   return out;
-}
-
-function expectShoalError(fn: () => unknown, code: string, pattern: RegExp): void {
-  let thrown: unknown;
-  try {
-    fn();
-  } catch (e) {
-    thrown = e;
-  }
-  expect(thrown).toBeInstanceOf(ShoalError);
-  expect((thrown as ShoalError).code).toBe(code);
-  expect((thrown as ShoalError).message).toMatch(pattern);
 }
 
 export function describeLearnerContract(c: LearnerCase): void {

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { type FeatureSchema, ShoalError } from '../../src/core/index.js';
+import type { FeatureSchema } from '../../src/core/index.js';
 import type { LearnerSnapshot, Regressor } from '../../src/learners/learner.js';
+import { expectShoalError } from './errors.js';
 import { friedman1, mixedRegression, prequential, type RegressionBlock } from './regressor-streams.js';
 
 /**
@@ -23,18 +24,6 @@ function sameBits(a: Float64Array, b: Float64Array): boolean {
   return Buffer.from(a.buffer, a.byteOffset, a.byteLength).equals(
     Buffer.from(b.buffer, b.byteOffset, b.byteLength),
   );
-}
-
-function expectShoalError(fn: () => unknown, code: string, pattern: RegExp): void {
-  let thrown: unknown;
-  try {
-    fn();
-  } catch (e) {
-    thrown = e;
-  }
-  expect(thrown).toBeInstanceOf(ShoalError);
-  expect((thrown as ShoalError).code).toBe(code);
-  expect((thrown as ShoalError).message).toMatch(pattern);
 }
 
 export function describeRegressorContract(c: RegressorCase): void {
