@@ -68,9 +68,13 @@ export function runShard(shard: Bagging, request: ShardRequest): ShardResult {
     if (labels === null) shard.score(values, r * width, verdict);
     else shard.train(values, r * width, labels[r]!);
     const m = shard.members;
-    probs.set(m.probs.subarray(0, members * classes), r * members * classes);
-    preds.set(m.preds, r * members);
-    weights.set(m.weights, r * members);
+    const at = r * members;
+    for (let i = 0; i < members; i++) {
+      preds[at + i] = m.preds[i]!;
+      weights[at + i] = m.weights[i]!;
+    }
+    const span = members * classes;
+    for (let i = 0; i < span; i++) probs[at * classes + i] = m.probs[i]!;
   }
   return { classes, probs, preds, weights };
 }
@@ -205,13 +209,20 @@ export class ParallelBagging {
     const { probs, preds, weights, verdict } = this;
     for (let r = 0; r < rows; r++) {
       let seat = 0;
-      results.forEach((result, s) => {
+      for (let s = 0; s < results.length; s++) {
+        const result = results[s]!;
         const n = this.counts[s]!;
-        probs.set(result.probs.subarray(r * n * classes, (r + 1) * n * classes), seat * classes);
-        preds.set(result.preds.subarray(r * n, (r + 1) * n), seat);
-        weights.set(result.weights.subarray(r * n, (r + 1) * n), seat);
+        const from = r * n;
+        for (let m = 0; m < n; m++) {
+          preds[seat + m] = result.preds[from + m]!;
+          weights[seat + m] = result.weights[from + m]!;
+        }
+        const width = n * classes;
+        const at = from * classes;
+        const to = seat * classes;
+        for (let i = 0; i < width; i++) probs[to + i] = result.probs[at + i]!;
         seat += n;
-      });
+      }
       combineVotes(this.hard, probs, preds, weights, this.members, classes, verdict);
       out.probabilities.set(verdict.probabilities.subarray(0, classes), r * classes);
       out.predicted[r] = verdict.predicted;
