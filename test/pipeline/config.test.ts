@@ -1,0 +1,96 @@
+import { describe, expect, it } from 'vitest';
+import { ConfigError } from '../../src/core/index.js';
+import { BAGGING_DEFAULTS, LIFECYCLE_DEFAULTS } from '../../src/ensembles/index.js';
+import { resolveConfig } from '../../src/pipeline/index.js';
+
+function issuesOf(raw: unknown): string[] {
+  try {
+    resolveConfig(raw, 'shoal.yaml');
+  } catch (e) {
+    if (e instanceof ConfigError) return e.issues.map((i) => `${i.path}: ${i.message}`);
+    throw e;
+  }
+  return [];
+}
+
+describe('resolveConfig', () => {
+  it('fills every default in, so the journal records exactly what ran', () => {
+    const config = resolveConfig({}, 'shoal.yaml');
+    expect(config.seed).toBe('1');
+    expect(config.ensemble).toMatchObject({
+      kind: 'bagging',
+      members: BAGGING_DEFAULTS.members,
+      lambda: BAGGING_DEFAULTS.lambda,
+    });
+    expect((config.ensemble as { lifecycle: unknown }).lifecycle).toEqual(LIFECYCLE_DEFAULTS);
+    expect(config.evaluation).toEqual({ window: 1000, fading: 0.999, journalEvery: 1000 });
+    expect(config.inputs).toMatchObject({ label: 'label', id: null, monitor: true });
+  });
+
+  it('keeps what the file says', () => {
+    const config = resolveConfig(
+      {
+        seed: 7,
+        ensemble: {
+          kind: 'stacking',
+          learners: [{ kind: 'naive-bayes' }, { kind: 'hoeffding-tree', depthLimit: 3 }],
+          meta: { kind: 'mlp', hidden: 4 },
+          holdout: 0.1,
+        },
+        evaluation: { window: 200 },
+        inputs: { label: 'rejected', id: 'leg_id', monitor: false },
+      },
+      'shoal.yaml',
+    );
+    expect(config.seed).toBe('7');
+    expect(config.ensemble).toMatchObject({
+      kind: 'stacking',
+      holdout: 0.1,
+      meta: { kind: 'mlp', hidden: 4 },
+    });
+    expect(config.evaluation.window).toBe(200);
+    expect(config.inputs).toMatchObject({ label: 'rejected', id: 'leg_id', monitor: false });
+  });
+
+  it('reports every bad field at once, each by its path', () => {
+    const issues = issuesOf({
+      seed: [],
+      ensemble: {
+        kind: 'bagging',
+        lambda: 'six',
+        learners: [{ kind: 'hoeffding-tree', tieBreak: -1 }, { kind: 'oracle' }],
+        lifecycle: { warmup: 'soon', detector: { kind: 'ddm', driftFactor: 1, warningFactor: 2 } },
+      },
+      evaluation: { fading: 2, journalEvery: 0 },
+      inputs: { label: 5, exclude: 'x', monitor: 'yes' },
+      extra: true,
+    });
+    const paths = issues.map((i) => i.split(':')[0]);
+    for (const path of [
+      'seed',
+      'ensemble.learners[0]',
+      'ensemble.learners[1].kind',
+      'ensemble.lifecycle.detector',
+      'ensemble.lifecycle.warmup',
+      'evaluation.fading',
+      'evaluation.journalEvery',
+      'inputs.label',
+      'inputs.exclude',
+      'inputs.monitor',
+      'extra',
+    ]) {
+      expect(paths).toContain(path);
+    }
+    expect(issues.find((i) => i.startsWith('ensemble.learners[0]'))).toMatch(/tieBreak/);
+    expect(issues.find((i) => i.startsWith('ensemble.lifecycle.detector'))).toMatch(/driftFactor/);
+  });
+
+  it('refuses a setting that belongs to another kind', () => {
+    expect(issuesOf({ ensemble: { kind: 'boosting', lambda: 6 } })).toEqual([
+      'ensemble.lambda: unknown setting; expected one of kind, members, learners, maxRepeats, lifecycle',
+    ]);
+    expect(issuesOf({ ensemble: { learners: [{ kind: 'naive-bayes', k: 3 }] } })[0]).toMatch(
+      /^ensemble\.learners\[0\]\.k: unknown setting/,
+    );
+  });
+});
