@@ -52,6 +52,24 @@ function firstK(crosses: (k: number) => boolean): number {
 }
 
 /**
+ * The predicted delays of one stream along the paths 2 standard deviations above (`fast`) and below
+ * (`slow`) the expected new errors: the band the actual delay should fall in.
+ */
+function bracket(fast: number[], slow: number[], crosses: (k: number, z: number) => boolean): void {
+  fast.push(firstK((k) => crosses(k, 2)));
+  slow.push(firstK((k) => crosses(k, -2)));
+}
+
+/** Check a detector's detections against the band predicted from its state at every change. */
+function expectInBand(name: string, o: ReturnType<typeof detect>, fast: number[], slow: number[]): void {
+  const band = [median(fast), median(slow)] as const;
+  report(name, o, `derived: ≥ 95, median in [${band[0]}, ${band[1]}]`);
+  expect(o.detected).toBeGreaterThanOrEqual(95);
+  expect(median(o.delays)).toBeGreaterThanOrEqual(band[0]);
+  expect(median(o.delays)).toBeLessThanOrEqual(band[1]);
+}
+
+/**
  * Errors among the first k new-concept values along a path z standard deviations off its expectation:
  * 0.5k + z·√(0.25k) (binomial mean and standard deviation).
  */
@@ -123,24 +141,17 @@ describe('detection of an abrupt change Bernoulli(0.2) → Bernoulli(0.5) at t =
       const n = ddm.count;
       const e = ddm.estimate * n;
       const level = ddm.driftThreshold;
-      for (const [z, out] of [
-        [2, fast],
-        [-2, slow],
-      ] as const) {
-        out.push(
-          firstK((k) => {
-            const p = Math.min(1, Math.max(0, (e + newErrors(k, z)) / (n + k)));
-            return n + k >= 30 && p + Math.sqrt((p * (1 - p)) / (n + k)) >= level;
-          }),
-        );
-      }
+      bracket(fast, slow, (k, z) => {
+        const p = Math.min(1, Math.max(0, (e + newErrors(k, z)) / (n + k)));
+        return n + k >= 30 && p + Math.sqrt((p * (1 - p)) / (n + k)) >= level;
+      });
     };
-    const o = detect(() => new Ddm(), abrupt(T0), T0, predict);
-    const band = [median(fast), median(slow)] as const;
-    report('ddm', o, `derived: ≥ 95, median in [${band[0]}, ${band[1]}]`);
-    expect(o.detected).toBeGreaterThanOrEqual(95);
-    expect(median(o.delays)).toBeGreaterThanOrEqual(band[0]);
-    expect(median(o.delays)).toBeLessThanOrEqual(band[1]);
+    expectInBand(
+      'ddm',
+      detect(() => new Ddm(), abrupt(T0), T0, predict),
+      fast,
+      slow,
+    );
   });
 
   it('HDDM_A meets the delay its definition predicts from its state at the change', () => {
@@ -156,24 +167,17 @@ describe('detection of an abrupt change Bernoulli(0.2) → Bernoulli(0.5) at t =
       const n = h.count;
       const total = h.estimate * n;
       const nc = h.cutCount;
-      for (const [z, out] of [
-        [2, fast],
-        [-2, slow],
-      ] as const) {
-        out.push(
-          firstK((k) => {
-            const diff = (total + newErrors(k, z)) / (n + k) - h.cutMean;
-            return nc > 0 && diff >= Math.sqrt(((n + k - nc) / (2 * (n + k) * nc)) * Math.log(1000));
-          }),
-        );
-      }
+      bracket(fast, slow, (k, z) => {
+        const diff = (total + newErrors(k, z)) / (n + k) - h.cutMean;
+        return nc > 0 && diff >= Math.sqrt(((n + k - nc) / (2 * (n + k) * nc)) * Math.log(1000));
+      });
     };
-    const o = detect(() => new HddmA(), abrupt(T0), T0, predict);
-    const band = [median(fast), median(slow)] as const;
-    report('hddm-a', o, `derived: ≥ 95, median in [${band[0]}, ${band[1]}]`);
-    expect(o.detected).toBeGreaterThanOrEqual(95);
-    expect(median(o.delays)).toBeGreaterThanOrEqual(band[0]);
-    expect(median(o.delays)).toBeLessThanOrEqual(band[1]);
+    expectInBand(
+      'hddm-a',
+      detect(() => new HddmA(), abrupt(T0), T0, predict),
+      fast,
+      slow,
+    );
   });
 });
 
