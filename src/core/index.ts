@@ -16,7 +16,16 @@ export {
   sigmoid,
   softmaxInPlace,
 } from './numeric.js';
-export { closedUnit, integerAtLeast, nonNegative, oneOf, openUnit, positive } from './params.js';
+export {
+  closedUnit,
+  integerAtLeast,
+  nonEmptyList,
+  nonNegative,
+  oneOf,
+  openUnit,
+  optionsOf,
+  positive,
+} from './params.js';
 export { PoissonSampler, samplePoisson } from './poisson.js';
 export type { RngState, Seed } from './random.js';
 export { deriveSeed, Rng } from './random.js';

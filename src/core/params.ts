@@ -39,6 +39,19 @@ export function integerAtLeast(owner: string, name: string, value: number, min =
   return value;
 }
 
+/** A non-empty list (of learner specs, say). */
+export function nonEmptyList<T>(owner: string, name: string, value: readonly T[]): readonly T[] {
+  if (!Array.isArray(value) || value.length === 0)
+    fail(owner, name, 'a non-empty list', Array.isArray(value) ? '[]' : value);
+  return value;
+}
+
+/** A spec without its `kind`: the options a learner or detector constructor takes. */
+export function optionsOf<T extends { readonly kind: string }>(spec: T): Omit<T, 'kind'> {
+  const { kind: _kind, ...options } = spec;
+  return options;
+}
+
 /** One of a fixed set of string choices. */
 export function oneOf<T extends string>(
   owner: string,

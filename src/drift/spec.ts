@@ -1,4 +1,4 @@
-import { ShoalError } from '../core/index.js';
+import { optionsOf, ShoalError } from '../core/index.js';
 import { Adwin, type AdwinOptions } from './adwin.js';
 import { Ddm, type DdmOptions } from './ddm.js';
 import type { DetectorSnapshot, DriftDetector } from './detector.js';
@@ -21,12 +21,6 @@ export type DetectorSpec =
   | ({ readonly kind: 'eddm' } & Partial<EddmOptions>)
   | ({ readonly kind: 'page-hinkley' } & Partial<PageHinkleyOptions>)
   | ({ readonly kind: 'hddm-a' } & Partial<HddmAOptions>);
-
-/** Drop `kind` from a spec, leaving the detector's options. */
-function optionsOf<T extends { readonly kind: string }>(spec: T): Omit<T, 'kind'> {
-  const { kind: _kind, ...options } = spec;
-  return options;
-}
 
 /**
  * Build a detector from its spec; parameters are validated (a bad one throws a `ShoalError` with code

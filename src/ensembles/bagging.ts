@@ -3,13 +3,13 @@ import {
   deriveSeed,
   type FeatureSchema,
   integerAtLeast,
+  nonEmptyList,
   nonNegative,
   oneOf,
   PoissonSampler,
   Rng,
   type RngState,
   type Seed,
-  ShoalError,
 } from '../core/index.js';
 import { type ClassifierSpec, createClassifier } from '../learners/index.js';
 import type { EnsembleSnapshot } from './ensemble.js';
@@ -75,9 +75,7 @@ function resolve(spec: BaggingSpec): BaggingOptions {
   integerAtLeast(KIND, 'members', o.members, 1);
   nonNegative(KIND, 'lambda', o.lambda);
   oneOf(KIND, 'vote', o.vote, VOTE_KINDS);
-  if (!Array.isArray(o.learners) || o.learners.length === 0) {
-    throw new ShoalError('invalid-parameter', `${KIND}: learners must list at least one learner spec`);
-  }
+  nonEmptyList(KIND, 'learners', o.learners);
   return o;
 }
 

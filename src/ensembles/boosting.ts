@@ -5,10 +5,10 @@ import {
   encodeF64,
   type FeatureSchema,
   integerAtLeast,
+  nonEmptyList,
   Rng,
   type RngState,
   type Seed,
-  ShoalError,
   samplePoisson,
 } from '../core/index.js';
 import { type ClassifierSpec, createClassifier } from '../learners/index.js';
@@ -61,9 +61,7 @@ function resolve(spec: BoostingSpec): BoostingOptions {
   };
   integerAtLeast(KIND, 'members', o.members, 1);
   integerAtLeast(KIND, 'maxRepeats', o.maxRepeats, 1);
-  if (!Array.isArray(o.learners) || o.learners.length === 0) {
-    throw new ShoalError('invalid-parameter', `${KIND}: learners must list at least one learner spec`);
-  }
+  nonEmptyList(KIND, 'learners', o.learners);
   return o;
 }
 

@@ -2,6 +2,7 @@ import {
   deriveSeed,
   type FeatureSchema,
   integerAtLeast,
+  nonEmptyList,
   nonNegative,
   PoissonSampler,
   Rng,
@@ -66,9 +67,7 @@ export class RegressionBagging {
     const { members, learners, lambda } = this.options;
     integerAtLeast(KIND, 'members', members, 1);
     nonNegative(KIND, 'lambda', lambda);
-    if (!Array.isArray(learners) || learners.length === 0) {
-      throw new ShoalError('invalid-parameter', `${KIND}: learners must list at least one regressor spec`);
-    }
+    nonEmptyList(KIND, 'learners', learners);
     this.width = schema.features.length;
     this.members = Array.from({ length: members }, (_, i) =>
       createRegressor(learners[i % learners.length]!, schema, deriveSeed(seed, 'member', i)),

@@ -3,6 +3,7 @@ import {
   closedUnit,
   deriveSeed,
   type FeatureSchema,
+  nonEmptyList,
   numericSchema,
   oneOf,
   Rng,
@@ -73,9 +74,7 @@ function resolve(spec: StackingSpec): StackingOptions {
     ...spec,
     lifecycle: { ...LIFECYCLE_DEFAULTS, ...spec.lifecycle },
   };
-  if (!Array.isArray(o.learners) || o.learners.length === 0) {
-    throw new ShoalError('invalid-parameter', `${KIND}: learners must list at least one learner spec`);
-  }
+  nonEmptyList(KIND, 'learners', o.learners);
   oneOf(KIND, 'meta.kind', o.meta?.kind, ['logistic', 'mlp'] as const);
   closedUnit(KIND, 'holdout', o.holdout);
   if (o.holdout >= 1)

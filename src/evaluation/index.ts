@@ -5,6 +5,7 @@ export type {
 export { ClassificationEvaluator, PROBABILITY_FLOOR_DEFAULT } from './classification-evaluator.js';
 export type { ClassificationFigures, ClassificationView } from './confusion-tally.js';
 export { MAX_EVALUATED_CLASSES } from './confusion-tally.js';
+export { orNull } from './figure.js';
 export { kappaStatistic } from './kappa.js';
 export type { RegressionSummary } from './regression-evaluator.js';
 export { RegressionEvaluator } from './regression-evaluator.js';

@@ -27,10 +27,9 @@ import {
   LINEAR_SGD_DEFAULTS,
   LinearSgd,
   type LinearSgdOptions,
-  present,
   TARGET,
-  validCode,
 } from './linear-regression-sgd.js';
+import { isPresent, nominalCode } from './missing.js';
 
 /**
  * `hoeffding-regression-tree`: an incremental regression tree after Ikonomovska, Gama & Džeroski,
@@ -270,12 +269,12 @@ export class HoeffdingRegressionTree implements Regressor {
     const numeric = this.numericColumns;
     for (let k = 0; k < numeric.length; k++) {
       const x = row[offset + numeric[k]!]!;
-      if (present(x)) leaf.values[k]!.add(x, target, weight);
+      if (isPresent(x)) leaf.values[k]!.add(x, target, weight);
     }
     const nominal = this.nominalColumns;
     for (let j = 0; j < nominal.length; j++) {
       const c = row[offset + nominal[j]!]!;
-      if (validCode(c, this.categories[nominal[j]!]!)) {
+      if (nominalCode(c, this.categories[nominal[j]!]!) >= 0) {
         welfordAdd(leaf.nominal, this.nominalStarts[j]! + 3 * c, target, weight);
       }
     }
@@ -343,8 +342,9 @@ export class HoeffdingRegressionTree implements Regressor {
       const x = row[offset + feature]!;
       const f = n * F_STRIDE;
       let side: number;
-      if (kind === NODE_NUMERIC) side = present(x) ? (x <= floats[f]! ? 0 : 1) : -1;
-      else side = validCode(x, this.categories[feature]!) ? 1 - this.masks[ints[i + AUX_AT]! + x]! : -1;
+      if (kind === NODE_NUMERIC) side = isPresent(x) ? (x <= floats[f]! ? 0 : 1) : -1;
+      else
+        side = nominalCode(x, this.categories[feature]!) >= 0 ? 1 - this.masks[ints[i + AUX_AT]! + x]! : -1;
       if (side < 0) side = floats[f + 1]! >= floats[f + 2]! ? 0 : 1;
       else if (weight > 0) floats[f + 1 + side]! += weight;
       n = ints[i + LOWER_AT + side]!;

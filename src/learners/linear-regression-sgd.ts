@@ -1,4 +1,5 @@
 import { type FeatureSchema, nonNegative, positive, welfordAdd, welfordVariance } from '../core/index.js';
+import { isPresent, nominalCode } from './missing.js';
 
 /**
  * The online linear model shared by `linear-regression` and the linear leaves of
@@ -78,16 +79,6 @@ export interface LeafModel {
   train(state: Float64Array, row: Float64Array, offset: number, target: number, weight: number): void;
 }
 
-/** A numeric value is present when finite: NaN and ±∞ give NaN when subtracted from themselves. */
-export function present(x: number): boolean {
-  return x - x === 0;
-}
-
-/** A nominal value is present when it is a valid code of a feature with `values` categories. */
-export function validCode(c: number, values: number): boolean {
-  return c >= 0 && c < values && Math.floor(c) === c;
-}
-
 /**
  * The layout and the arithmetic of one kind of linear model, decided once per schema; the state
  * lives in caller-owned `Float64Array`s (one per model).
@@ -162,7 +153,7 @@ export class LinearSgd implements LeafModel {
     const numeric = this.numericColumns;
     for (let k = 0; k < numeric.length; k++) {
       const x = row[offset + numeric[k]!]!;
-      if (present(x)) welfordAdd(state, this.statsStart + 3 * k, x, weight);
+      if (isPresent(x)) welfordAdd(state, this.statsStart + 3 * k, x, weight);
     }
     const eta = this.eta0 / (1 + this.decay * state[CLOCK]!);
     const stepScale = (eta * weight) / this.norm;
@@ -198,7 +189,7 @@ export class LinearSgd implements LeafModel {
     const numeric = this.numericColumns;
     for (let k = 0; k < numeric.length; k++) {
       const x = row[offset + numeric[k]!]!;
-      if (!present(x)) continue;
+      if (!isPresent(x)) continue;
       const s = this.statsStart + 3 * k;
       const centred = x - state[s + 1]!;
       y += state[HEAD + k]! * centred;
@@ -208,7 +199,7 @@ export class LinearSgd implements LeafModel {
     const nominal = this.nominalColumns;
     for (let j = 0; j < nominal.length; j++) {
       const c = row[offset + nominal[j]!]!;
-      if (validCode(c, this.nominalValues[j]!)) {
+      if (nominalCode(c, this.nominalValues[j]!) >= 0) {
         y += state[this.nominalSlots[j]! + c]!;
         normSq += 1;
       }
@@ -222,7 +213,7 @@ export class LinearSgd implements LeafModel {
     const numeric = this.numericColumns;
     for (let k = 0; k < numeric.length; k++) {
       const x = row[offset + numeric[k]!]!;
-      if (!present(x)) continue;
+      if (!isPresent(x)) continue;
       const s = this.statsStart + 3 * k;
       const variance = welfordVariance(state, s);
       if (variance > 0) state[HEAD + k]! += (factor * (x - state[s + 1]!)) / variance;
@@ -230,7 +221,7 @@ export class LinearSgd implements LeafModel {
     const nominal = this.nominalColumns;
     for (let j = 0; j < nominal.length; j++) {
       const c = row[offset + nominal[j]!]!;
-      if (validCode(c, this.nominalValues[j]!)) state[this.nominalSlots[j]! + c]! += factor;
+      if (nominalCode(c, this.nominalValues[j]!) >= 0) state[this.nominalSlots[j]! + c]! += factor;
     }
   }
 }

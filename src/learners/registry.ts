@@ -1,4 +1,4 @@
-import { type FeatureSchema, type Seed, ShoalError } from '../core/index.js';
+import { type FeatureSchema, optionsOf, type Seed, ShoalError } from '../core/index.js';
 import { HoeffdingRegressionTree, type HoeffdingRegressionTreeOptions } from './hoeffding-regression-tree.js';
 import { HoeffdingTree, type HoeffdingTreeOptions } from './hoeffding-tree.js';
 import { KnnWindow, type KnnWindowOptions } from './knn-window.js';
@@ -36,13 +36,6 @@ export type ClassifierSpec =
 export type RegressorSpec =
   | ({ readonly kind: 'hoeffding-regression-tree' } & Partial<HoeffdingRegressionTreeOptions>)
   | ({ readonly kind: 'linear-regression' } & Partial<LinearRegressionOptions>);
-
-type Options<T> = Omit<T, 'kind'>;
-
-function optionsOf<T extends { readonly kind: string }>(spec: T): Options<T> {
-  const { kind: _kind, ...options } = spec;
-  return options;
-}
 
 /**
  * Build a classifier from its spec; options are validated by the learner (a bad one throws a

@@ -1,7 +1,7 @@
 import type { FeatureSchema } from '../core/index.js';
 import { createInputMonitor, type InputMonitor } from '../drift/index.js';
 import { createEnsemble, type Ensemble, type LifecycleRecord, Verdict } from '../ensembles/index.js';
-import { ClassificationEvaluator, type ClassificationFigures } from '../evaluation/index.js';
+import { ClassificationEvaluator, type ClassificationFigures, orNull } from '../evaluation/index.js';
 import type { RunConfig } from './config.js';
 import type { JournalRecord, SummaryRecord, ViewFigures } from './journal.js';
 
@@ -69,7 +69,7 @@ export class LearningLoop {
 
   /** Accuracy over the evaluation window, or null before the first labelled row. */
   get recentAccuracy(): number | null {
-    return this.evaluated > 0 ? nullable(this.evaluator.windowed.accuracy()) : null;
+    return this.evaluated > 0 ? orNull(this.evaluator.windowed.accuracy()) : null;
   }
 
   /** Score every row of a batch; rows with a label are judged and then trained on. */
@@ -181,10 +181,6 @@ export class LearningLoop {
       seats: this.ensemble!.seats().map((seat) => seat.recentAccuracy),
     });
   }
-}
-
-function nullable(x: number): number | null {
-  return Number.isFinite(x) ? x : null;
 }
 
 function figures(f: ClassificationFigures): ViewFigures {
