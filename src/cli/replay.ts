@@ -37,6 +37,8 @@ Options:
   --id COL          an event-id column
   --journal PATH    write the run's journal (NDJSON: lifecycle changes, evaluation windows, summary)
   --report PATH     write a self-contained HTML report of the run
+  --rejects PATH    write rows that cannot be decoded to PATH (NDJSON: source, position, reason) and go on;
+                    without it the first bad row stops the run with a message naming file and line
   --json            print one JSON object instead of the summary table
 Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.`;
 
@@ -78,9 +80,10 @@ function frameOptions(config: RunConfig): FrameOptions {
   };
 }
 
-/** A journal that goes to a file (when asked) and is kept in memory (when a report is asked). */
-class JournalOut {
-  readonly kept: JournalRecord[] = [];
+/** NDJSON records to a file (when a path is given), also kept in memory when asked (for the report). */
+class NdjsonOut<T> {
+  readonly kept: T[] = [];
+  count = 0;
   private readonly file: WriteStream | null;
   private readonly keep: boolean;
 
@@ -89,7 +92,8 @@ class JournalOut {
     this.keep = keep;
   }
 
-  write(record: JournalRecord): void {
+  write(record: T): void {
+    this.count++;
     if (this.keep) this.kept.push(record);
     this.file?.write(`${JSON.stringify(record)}\n`);
   }
@@ -106,6 +110,13 @@ class JournalOut {
   }
 }
 
+/** A row the reader could not decode, as written to the --rejects file. */
+interface RejectedRow {
+  readonly source: string;
+  readonly position: number;
+  readonly reason: string;
+}
+
 export async function replay(args: readonly string[], terminal: Terminal): Promise<number> {
   const parsed = parse('replay', args, {
     config: { type: 'string' },
@@ -119,6 +130,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     journal: { type: 'string' },
     report: { type: 'string' },
     json: { type: 'boolean' },
+    rejects: { type: 'string' },
   });
   if (parsed.values.help) {
     terminal.out(`${REPLAY_HELP}\n`);
@@ -130,7 +142,9 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const config = resolveConfig(withOverrides(raw, parsed, 'replay'), configPath ?? 'command line');
   const decoder = new FrameDecoder(frameOptions(config), configPath ?? 'command line');
   const reportPath = text(parsed, 'report');
-  const journal = new JournalOut(text(parsed, 'journal'), reportPath !== undefined);
+  const journal = new NdjsonOut<JournalRecord>(text(parsed, 'journal'), reportPath !== undefined);
+  const rejectsPath = text(parsed, 'rejects');
+  const rejects = new NdjsonOut<RejectedRow>(rejectsPath, false);
   const loop = new LearningLoop({
     config,
     source: file!,
@@ -145,23 +159,25 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   );
   let summary: SummaryRecord;
   try {
-    for await (const { frame } of readFrames(file!, decoder)) {
+    const reading = readFrames(file!, decoder, { rejects: rejectsPath === undefined ? 'throw' : 'keep' });
+    for await (const { frame, rejected } of reading) {
+      for (const r of rejected) rejects.write({ source: file!, position: r.index, reason: r.reason });
       loop.prequential(frame, decoder.classes);
       progress.update(loop.rows, loop.recentAccuracy);
-      await journal.drain();
+      await Promise.all([journal.drain(), rejects.drain()]);
     }
     if (loop.rows === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
     summary = loop.finish(decoder.classes);
   } finally {
     progress.done();
-    await journal.close();
+    await Promise.all([journal.close(), rejects.close()]);
   }
   if (reportPath !== undefined)
     await writeFile(reportPath, renderReport(journal.kept, { title: `Replay of ${file}` }));
   terminal.out(
     json
-      ? `${JSON.stringify(jsonSummary(file!, config, summary))}\n`
-      : summaryTable(file!, config, summary, loop.rows),
+      ? `${JSON.stringify({ ...jsonSummary(file!, config, summary), rejected: rejects.count })}\n`
+      : summaryTable(file!, config, summary, loop.rows, rejects.count),
   );
   return 0;
 }
@@ -188,7 +204,13 @@ function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<
   };
 }
 
-function summaryTable(file: string, config: RunConfig, s: SummaryRecord, scored: number): string {
+function summaryTable(
+  file: string,
+  config: RunConfig,
+  s: SummaryRecord,
+  scored: number,
+  rejected: number,
+): string {
   const e = config.ensemble as { kind: string; members?: number; learners?: readonly { kind: string }[] };
   const learners = [...new Set((e.learners ?? [{ kind: 'hoeffding-tree' }]).map((l) => l.kind))].join(', ');
   const head = `replay of ${file}: ${e.kind}${e.members === undefined ? '' : ` of ${e.members}`} (${learners}), seed ${config.seed}\n\n`;
@@ -196,6 +218,7 @@ function summaryTable(file: string, config: RunConfig, s: SummaryRecord, scored:
     head +
     table([
       ['rows scored', count(scored)],
+      ['rows rejected', count(rejected)],
       ['rows judged', count(s.rows)],
       ['accuracy', figure(s.accuracy)],
       ['kappa', figure(s.kappa)],

@@ -116,7 +116,7 @@ const NODE_BYTES = 4 * 6 + 8 * 2;
 const PREDICT_MAJORITY = 0;
 const PREDICT_NB = 1;
 const PREDICT_ADAPTIVE = 2;
-/** Weight trained between two checks of the memory cap, in grace periods. */
+/** Weight trained between two checks of the memory cap, in check intervals. */
 const MEMORY_CHECK_GRACE_PERIODS = 10;
 
 function validate(o: HoeffdingTreeOptions, width: number): HoeffdingTreeOptions {

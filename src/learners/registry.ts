@@ -42,7 +42,7 @@ export type RegressorSpec =
  * `ShoalError` with code `invalid-parameter` naming it).
  *
  * @example
- * const tree = createClassifier({ kind: 'hoeffding-tree', gracePeriod: 100 }, schema, 'seed/3');
+ * const tree = createClassifier({ kind: 'hoeffding-tree', checkInterval: 100 }, schema, 'seed/3');
  */
 export function createClassifier(spec: ClassifierSpec, schema: FeatureSchema, seed: Seed): Classifier {
   switch (spec?.kind) {

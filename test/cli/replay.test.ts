@@ -164,6 +164,20 @@ describe('bad input gets one clear message and a non-zero exit', () => {
     expect(r.err).toMatch(/line 3/);
   });
 
+  it('with --rejects, bad rows go to a file with their reason and the run goes on', async () => {
+    const dir = await scratch();
+    const file = join(dir, 'mixed.csv');
+    const rejects = join(dir, 'rejects.ndjson');
+    await writeFile(file, 'a,b,label\n1,2,x\n3,4\n5,6,y\n7,8,y,9\n1,1,x\n');
+    const r = await shoal('replay', file, '--rejects', rejects, '--json');
+    expect(r.code).toBe(0);
+    const summary = JSON.parse(r.out) as { rows: number; rejected: number };
+    expect(summary).toMatchObject({ rows: 3, rejected: 2 });
+    const lines = (await readFile(rejects, 'utf8')).trim().split('\n').map((l) => JSON.parse(l) as { position: number; reason: string });
+    expect(lines.map((l) => l.position)).toEqual([3, 5]);
+    for (const l of lines) expect(l.reason).toMatch(/mixed\.csv/);
+  });
+
   it('a corrupt Arrow file names the file; --verbose adds the stack trace', async () => {
     const dir = await scratch();
     const file = join(dir, 'corrupt.arrow');
