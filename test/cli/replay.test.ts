@@ -173,7 +173,10 @@ describe('bad input gets one clear message and a non-zero exit', () => {
     expect(r.code).toBe(0);
     const summary = JSON.parse(r.out) as { rows: number; rejected: number };
     expect(summary).toMatchObject({ rows: 3, rejected: 2 });
-    const lines = (await readFile(rejects, 'utf8')).trim().split('\n').map((l) => JSON.parse(l) as { position: number; reason: string });
+    const lines = (await readFile(rejects, 'utf8'))
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l) as { position: number; reason: string });
     expect(lines.map((l) => l.position)).toEqual([3, 5]);
     for (const l of lines) expect(l.reason).toMatch(/mixed\.csv/);
   });
