@@ -93,7 +93,7 @@ export const HOEFFDING_TREE_DEFAULTS: HoeffdingTreeOptions = {
 };
 
 const KIND = 'hoeffding-tree';
-const VERSION = 2;
+const VERSION = 3;
 
 // Leaf head.
 const H_LAST_ATTEMPT = 0;
@@ -101,18 +101,29 @@ const H_MC_CORRECT = 1;
 const H_NB_CORRECT = 2;
 const H_SEEN = 3;
 const HEAD = 4;
-// Numeric statistics per class.
-const G_W = 0;
-const G_MEAN = 1;
-const G_M2 = 2;
-const G_MIN = 3;
-const G_MAX = 4;
-const G_INV_VAR = 5;
-const GAUSS = 6;
+// Numeric statistics of one attribute and class, in two regions of a slot (see the class comment):
+// what naive Bayes reads, feature-major, ...
+const P_MEAN = 0;
+const P_INV_VAR = 1;
+const PRED = 2;
+// ... and what only training and split attempts read, class-major.
+const T_W = 0;
+const T_M2 = 1;
+const T_MIN = 2;
+const T_MAX = 3;
+const TRAIN = 4;
 /** Variance floor for naive-Bayes densities of a class seen with a single value. */
 const MIN_VARIANCE = 1e-9;
-/** Bytes per node: feature, first child, child count, leaf, depth, major child (int32); threshold, weight. */
-const NODE_BYTES = 4 * 6 + 8 * 2;
+// A node is a 32-byte record, so that a step of a walk reads one cache line: threshold and weight
+// (float64 indices 4n, 4n + 1), feature (−1 for a leaf), first child, child count and leaf (int32
+// indices 8n + 4 …). Depth, read only by split attempts, is a column of its own.
+const N_THRESHOLD = 0;
+const N_WEIGHT = 1;
+const N_FEATURE = 4;
+const N_FIRST = 5;
+const N_COUNT = 6;
+const N_LEAF = 7;
+const NODE_BYTES = 32 + 4;
 const PREDICT_MAJORITY = 0;
 const PREDICT_NB = 1;
 const PREDICT_ADAPTIVE = 2;
@@ -155,7 +166,6 @@ interface TreeState {
   readonly leafOf: string;
   readonly depth: string;
   readonly weight: string;
-  readonly majorChild: string;
   readonly heads: string;
   /** Attribute statistics of each leaf, or null for an inactive leaf. */
   readonly stats: readonly (string | null)[];
@@ -181,6 +191,7 @@ export class HoeffdingTree implements Classifier {
   readonly options: HoeffdingTreeOptions;
   private readonly width: number;
   private readonly nominal: Uint8Array;
+  private readonly anyNominal: boolean;
   private readonly cardinality: Int32Array;
   private readonly mode: number;
   /** Features a leaf considers: all, or a random subset of this size. */
@@ -190,14 +201,9 @@ export class HoeffdingTree implements Classifier {
 
   // Nodes (columns).
   private nodeCount = 0;
-  private feature = new Int32Array(16);
-  private threshold = new Float64Array(16);
-  private firstChild = new Int32Array(16);
-  private childCount = new Int32Array(16);
-  private leafOf = new Int32Array(16);
+  private nodeF = new Float64Array(16 * 4);
+  private nodeI = new Int32Array(this.nodeF.buffer);
   private depth = new Int32Array(16);
-  private weight = new Float64Array(16);
-  private majorChild = new Int32Array(16);
 
   // Leaves: heads for all, a stats slot for the active ones.
   private leafCount = 0;
@@ -207,6 +213,11 @@ export class HoeffdingTree implements Classifier {
   /** Per-leaf feature lists (leaf × perLeaf), or null when every leaf considers every feature. */
   private subsets: Int32Array | null;
   private slotSize = 0;
+  /** Room in a slot for this many numeric attributes. */
+  private readonly numericCap: number;
+  /** Doubles of a slot that naive Bayes reads (means and inverse variances), and of its numeric region. */
+  private predSize = 0;
+  private numericSize = 0;
   private stats = new Float64Array(0);
   private slotCapacity = 0;
   private freeSlots = new Int32Array(16);
@@ -221,6 +232,7 @@ export class HoeffdingTree implements Classifier {
   private probe = new Float64Array(1);
   private pair = new Float64Array(2);
   private scale = new Float64Array(1);
+  private means = new Float64Array(1);
   private readonly all: Int32Array;
   private lastMajority = -1;
   private lastNb = -1;
@@ -230,6 +242,7 @@ export class HoeffdingTree implements Classifier {
     this.width = schema.features.length;
     this.options = validate({ ...HOEFFDING_TREE_DEFAULTS, ...options }, this.width);
     this.nominal = Uint8Array.from(schema.features, (f) => (f.kind === 'nominal' ? 1 : 0));
+    this.anyNominal = this.nominal.includes(1);
     this.cardinality = Int32Array.from(schema.features, (f) => (f.kind === 'nominal' ? f.values : 0));
     this.mode =
       this.options.leafModel === 'majority'
@@ -242,7 +255,8 @@ export class HoeffdingTree implements Classifier {
     this.subsets = m === 0 || m >= this.width ? null : new Int32Array(16 * m);
     this.rng = new Rng(seed);
     this.all = Int32Array.from({ length: this.width }, (_, i) => i);
-    this.slotSize = this.statSlotSize(1);
+    this.numericCap = Math.min(this.perLeaf, this.nominal.length - this.nominal.reduce((a, b) => a + b, 0));
+    this.layOut(1);
     this.addLeafNode(0, null, -1);
   }
 
@@ -254,7 +268,7 @@ export class HoeffdingTree implements Classifier {
   get shape(): { nodes: number; leaves: number; activeLeaves: number; depth: number } {
     let depth = 0;
     for (let n = 0; n < this.nodeCount; n++)
-      if (this.feature[n]! < 0) depth = Math.max(depth, this.depth[n]!);
+      if (this.nodeI[8 * n + N_FEATURE]! < 0) depth = Math.max(depth, this.depth[n]!);
     return { nodes: this.nodeCount, leaves: this.leafCount, activeLeaves: this.activeSlots, depth };
   }
 
@@ -267,7 +281,7 @@ export class HoeffdingTree implements Classifier {
   score(row: Float64Array, offset: number, out: Float64Array, outOffset: number): number {
     checkRow(KIND, row, offset, this.width);
     checkOut(KIND, out, outOffset, this.c);
-    const leaf = this.leafOf[this.route(row, offset, 0)]!;
+    const leaf = this.nodeI[8 * this.route(row, offset, 0) + N_LEAF]!;
     return this.predictAt(leaf, row, offset, out, outOffset, false);
   }
 
@@ -294,7 +308,7 @@ export class HoeffdingTree implements Classifier {
     checkWeight(KIND, weight);
     checkOut(KIND, out, outOffset, this.c);
     const node = this.route(row, offset, weight);
-    const predicted = this.predictAt(this.leafOf[node]!, row, offset, out, outOffset, weight > 0);
+    const predicted = this.predictAt(this.nodeI[8 * node + N_LEAF]!, row, offset, out, outOffset, weight > 0);
     if (weight > 0) {
       const majority = this.lastMajority;
       const nb = this.lastNb;
@@ -323,14 +337,13 @@ export class HoeffdingTree implements Classifier {
       classes: this.c,
       nodes: n,
       leaves: this.leafCount,
-      feature: encodeI32(this.feature.subarray(0, n)),
-      threshold: encodeF64(this.threshold.subarray(0, n)),
-      firstChild: encodeI32(this.firstChild.subarray(0, n)),
-      childCount: encodeI32(this.childCount.subarray(0, n)),
-      leafOf: encodeI32(this.leafOf.subarray(0, n)),
+      feature: encodeI32(this.nodeColumnI32(N_FEATURE)),
+      threshold: encodeF64(this.nodeColumnF64(N_THRESHOLD)),
+      firstChild: encodeI32(this.nodeColumnI32(N_FIRST)),
+      childCount: encodeI32(this.nodeColumnI32(N_COUNT)),
+      leafOf: encodeI32(this.nodeColumnI32(N_LEAF)),
       depth: encodeI32(this.depth.subarray(0, n)),
-      weight: encodeF64(this.weight.subarray(0, n)),
-      majorChild: encodeI32(this.majorChild.subarray(0, n)),
+      weight: encodeF64(this.nodeColumnF64(N_WEIGHT)),
       heads: encodeF64(this.heads.subarray(0, this.leafCount * this.headSize)),
       stats,
       subsets:
@@ -345,18 +358,18 @@ export class HoeffdingTree implements Classifier {
     const s = snapshot.state as TreeState;
     const tree = new HoeffdingTree(snapshot.schema, snapshot.options as Partial<HoeffdingTreeOptions>);
     tree.ensureClasses(s.classes);
-    const cap = Math.max(16, s.nodes);
-    const i32 = (text: string, what: string) => grownI32(decodeI32(text, `${KIND} ${what}`), cap);
-    const f64 = (text: string, what: string) => grownF64(decodeF64(text, `${KIND} ${what}`), cap);
+    const i32 = (text: string, what: string) => decodeI32(text, `${KIND} ${what}`);
+    const f64 = (text: string, what: string) => decodeF64(text, `${KIND} ${what}`);
+    tree.nodeCount = 0;
+    tree.allocateNodes(Math.max(16, s.nodes));
     tree.nodeCount = s.nodes;
-    tree.feature = i32(s.feature, 'feature');
-    tree.threshold = f64(s.threshold, 'threshold');
-    tree.firstChild = i32(s.firstChild, 'firstChild');
-    tree.childCount = i32(s.childCount, 'childCount');
-    tree.leafOf = i32(s.leafOf, 'leafOf');
-    tree.depth = i32(s.depth, 'depth');
-    tree.weight = f64(s.weight, 'weight');
-    tree.majorChild = i32(s.majorChild, 'majorChild');
+    tree.setNodeColumnI32(N_FEATURE, i32(s.feature, 'feature'));
+    tree.setNodeColumnF64(N_THRESHOLD, f64(s.threshold, 'threshold'));
+    tree.setNodeColumnI32(N_FIRST, i32(s.firstChild, 'firstChild'));
+    tree.setNodeColumnI32(N_COUNT, i32(s.childCount, 'childCount'));
+    tree.setNodeColumnI32(N_LEAF, i32(s.leafOf, 'leafOf'));
+    tree.setNodeColumnF64(N_WEIGHT, f64(s.weight, 'weight'));
+    tree.depth.set(i32(s.depth, 'depth').subarray(0, s.nodes));
     const leaves = Math.max(16, s.leaves);
     tree.leafCount = s.leaves;
     tree.heads = grownF64(decodeF64(s.heads, `${KIND} heads`), leaves * tree.headSize);
@@ -380,34 +393,78 @@ export class HoeffdingTree implements Classifier {
 
   // ---- routing -------------------------------------------------------------------------------
 
-  /** Walk from the root to a leaf; when `credit` > 0, add it to the weight of every node passed. */
+  /**
+   * Walk from the root to a leaf; when `credit` > 0, add it to the weight of every node entered.
+   * Without nominal attributes the step is branch-free but for missing values: the comparison's 0 or 1
+   * picks the child.
+   */
   private route(row: Float64Array, offset: number, credit: number): number {
-    const feature = this.feature;
-    const threshold = this.threshold;
-    const firstChild = this.firstChild;
+    const nodeF = this.nodeF;
+    const nodeI = this.nodeI;
     let n = 0;
-    let f = feature[0]!;
+    let f = nodeI[N_FEATURE]!;
+    if (!this.anyNominal) {
+      while (f >= 0) {
+        const x = row[offset + f]!;
+        n = !Number.isNaN(x)
+          ? nodeI[8 * n + N_FIRST]! + Number(x > nodeF[4 * n + N_THRESHOLD]!)
+          : this.heaviestChild(n);
+        if (credit > 0) nodeF[4 * n + N_WEIGHT]! += credit;
+        f = nodeI[8 * n + N_FEATURE]!;
+      }
+      return n;
+    }
     while (f >= 0) {
       const x = row[offset + f]!;
-      let next: number;
+      const first = nodeI[8 * n + N_FIRST]!;
       if (this.nominal[f] === 0) {
-        next =
-          x <= threshold[n]! ? firstChild[n]! : x > threshold[n]! ? firstChild[n]! + 1 : this.majorChild[n]!;
+        n = !Number.isNaN(x) ? first + Number(x > nodeF[4 * n + N_THRESHOLD]!) : this.heaviestChild(n);
       } else {
-        next = x >= 0 && x < this.childCount[n]! ? firstChild[n]! + x : this.majorChild[n]!;
+        n = x >= 0 && x < nodeI[8 * n + N_COUNT]! ? first + x : this.heaviestChild(n);
       }
-      if (credit > 0) this.credit(n, next, credit);
-      n = next;
-      f = feature[n]!;
+      if (credit > 0) nodeF[4 * n + N_WEIGHT]! += credit;
+      f = nodeI[8 * n + N_FEATURE]!;
     }
     return n;
   }
 
-  /** Add weight to the branch `next` of `n`; it becomes the branch missing values follow if heaviest. */
-  private credit(n: number, next: number, weight: number): void {
-    const w = this.weight;
-    w[next]! += weight;
-    if (w[next]! > w[this.majorChild[n]!]!) this.majorChild[n] = next;
+  /** The child of `n` that most weight has entered (the first on ties): where missing values go. */
+  private heaviestChild(n: number): number {
+    const first = this.nodeI[8 * n + N_FIRST]!;
+    const count = this.nodeI[8 * n + N_COUNT]!;
+    let best = first;
+    for (let child = first + 1; child < first + count; child++) {
+      if (this.nodeF[4 * child + N_WEIGHT]! > this.nodeF[4 * best + N_WEIGHT]!) best = child;
+    }
+    return best;
+  }
+
+  /** One column of the node records, for snapshots. */
+  private nodeColumnI32(field: number): Int32Array {
+    return Int32Array.from({ length: this.nodeCount }, (_, n) => this.nodeI[8 * n + field]!);
+  }
+
+  private nodeColumnF64(field: number): Float64Array {
+    return Float64Array.from({ length: this.nodeCount }, (_, n) => this.nodeF[4 * n + field]!);
+  }
+
+  private setNodeColumnI32(field: number, values: Int32Array): void {
+    this.checkColumn(values.length);
+    for (let n = 0; n < this.nodeCount; n++) this.nodeI[8 * n + field] = values[n]!;
+  }
+
+  private setNodeColumnF64(field: number, values: Float64Array): void {
+    this.checkColumn(values.length);
+    for (let n = 0; n < this.nodeCount; n++) this.nodeF[4 * n + field] = values[n]!;
+  }
+
+  private checkColumn(length: number): void {
+    if (length !== this.nodeCount) {
+      throw new ShoalError(
+        'invalid-snapshot',
+        `${KIND}: a node column has ${length} entries, the snapshot says ${this.nodeCount} nodes`,
+      );
+    }
   }
 
   // ---- prediction ----------------------------------------------------------------------------
@@ -501,33 +558,34 @@ export class HoeffdingTree implements Classifier {
     }
     const subset = this.subsets;
     const per = this.perLeaf;
-    let base = slot * this.slotSize;
+    let pred = slot * this.slotSize;
+    let nom = pred + this.numericSize;
     for (let j = 0; j < per; j++) {
       const f = subset === null ? j : subset[leaf * per + j]!;
       const x = row[offset + f]!;
       if (this.nominal[f] === 0) {
         if (!Number.isNaN(x)) {
-          for (let k = 0, g = base; k < c; k++, g += GAUSS) {
-            if (stats[g + G_W]! > 0) {
-              const d = x - stats[g + G_MEAN]!;
-              const iv = stats[g + G_INV_VAR]!;
+          for (let k = 0, g = pred; k < c; k++, g += PRED) {
+            const iv = stats[g + P_INV_VAR]!;
+            if (iv > 0) {
+              const d = x - stats[g + P_MEAN]!;
               sq[k]! += d * d * iv;
               prod[k]! *= iv;
             }
           }
         }
-        base += GAUSS * c;
+        pred += PRED * c;
       } else {
         const v = this.cardinality[f]!;
         if (x >= 0 && x < v) {
-          const cell = base + x * c;
-          const totals = base + v * c;
+          const cell = nom + x * c;
+          const totals = nom + v * c;
           for (let k = 0; k < c; k++) {
             const p = (stats[cell + k]! + 1) / (stats[totals + k]! + v);
             prod[k]! *= p * p;
           }
         }
-        base += (v + 1) * c;
+        nom += (v + 1) * c;
       }
     }
     const logp = this.logp;
@@ -585,38 +643,38 @@ export class HoeffdingTree implements Classifier {
     let p1 = n1 * n1;
     const subset = this.subsets;
     const per = this.perLeaf;
-    let base = slot * this.slotSize;
+    let pred = slot * this.slotSize;
+    let nom = pred + this.numericSize;
     for (let j = 0; j < per; j++) {
       const f = subset === null ? j : subset[leaf * per + j]!;
       const x = row[offset + f]!;
       if (this.nominal[f] === 0) {
         if (!Number.isNaN(x)) {
-          if (stats[base + G_W]! > 0) {
-            const d = x - stats[base + G_MEAN]!;
-            const iv = stats[base + G_INV_VAR]!;
-            s0 += d * d * iv;
-            p0 *= iv;
+          const iv0 = stats[pred + P_INV_VAR]!;
+          if (iv0 > 0) {
+            const d = x - stats[pred + P_MEAN]!;
+            s0 += d * d * iv0;
+            p0 *= iv0;
           }
-          const g = base + GAUSS;
-          if (stats[g + G_W]! > 0) {
-            const d = x - stats[g + G_MEAN]!;
-            const iv = stats[g + G_INV_VAR]!;
-            s1 += d * d * iv;
-            p1 *= iv;
+          const iv1 = stats[pred + PRED + P_INV_VAR]!;
+          if (iv1 > 0) {
+            const d = x - stats[pred + PRED + P_MEAN]!;
+            s1 += d * d * iv1;
+            p1 *= iv1;
           }
         }
-        base += 2 * GAUSS;
+        pred += 2 * PRED;
       } else {
         const v = this.cardinality[f]!;
         if (x >= 0 && x < v) {
-          const cell = base + x * 2;
-          const totals = base + v * 2;
+          const cell = nom + x * 2;
+          const totals = nom + v * 2;
           const q0 = (stats[cell]! + 1) / (stats[totals]! + v);
           const q1 = (stats[cell + 1]! + 1) / (stats[totals + 1]! + v);
           p0 *= q0 * q0;
           p1 *= q1 * q1;
         }
-        base += (v + 1) * 2;
+        nom += (v + 1) * 2;
       }
     }
     let one: number;
@@ -661,22 +719,22 @@ export class HoeffdingTree implements Classifier {
     let lp = Math.log(count);
     const subset = this.subsets;
     const per = this.perLeaf;
-    let base = slot * this.slotSize;
+    let pred = slot * this.slotSize + k * PRED;
+    let nom = slot * this.slotSize + this.numericSize;
     for (let j = 0; j < per; j++) {
       const f = subset === null ? j : subset[leaf * per + j]!;
       const x = row[offset + f]!;
       if (this.nominal[f] === 0) {
-        const g = base + k * GAUSS;
-        if (!Number.isNaN(x) && stats[g + G_W]! > 0) {
-          const d = x - stats[g + G_MEAN]!;
-          const iv = stats[g + G_INV_VAR]!;
+        const iv = stats[pred + P_INV_VAR]!;
+        if (!Number.isNaN(x) && iv > 0) {
+          const d = x - stats[pred + P_MEAN]!;
           lp += 0.5 * Math.log(iv) - 0.5 * d * d * iv;
         }
-        base += GAUSS * c;
+        pred += PRED * c;
       } else {
         const v = this.cardinality[f]!;
-        if (x >= 0 && x < v) lp += Math.log((stats[base + x * c + k]! + 1) / (stats[base + v * c + k]! + v));
-        base += (v + 1) * c;
+        if (x >= 0 && x < v) lp += Math.log((stats[nom + x * c + k]! + 1) / (stats[nom + v * c + k]! + v));
+        nom += (v + 1) * c;
       }
     }
     return lp;
@@ -697,7 +755,7 @@ export class HoeffdingTree implements Classifier {
     majority: number,
     nb: number,
   ): void {
-    const leaf = this.leafOf[node]!;
+    const leaf = this.nodeI[8 * node + N_LEAF]!;
     const head = leaf * this.headSize;
     const heads = this.heads;
     const slot = this.slotOf[leaf]!;
@@ -738,40 +796,43 @@ export class HoeffdingTree implements Classifier {
     const stats = this.stats;
     const subset = this.subsets;
     const per = this.perLeaf;
-    let base = slot * this.slotSize;
+    const base = slot * this.slotSize;
+    let pred = base + label * PRED;
+    let train = base + this.predSize + label * this.numericCap * TRAIN;
+    let nom = base + this.numericSize;
     for (let j = 0; j < per; j++) {
       const f = subset === null ? j : subset[leaf * per + j]!;
       const x = row[offset + f]!;
       if (this.nominal[f] === 0) {
         if (!Number.isNaN(x)) {
-          const g = base + label * GAUSS;
-          const before = stats[g + G_W]!;
+          const before = stats[train + T_W]!;
           const total = before + weight;
-          const mean = stats[g + G_MEAN]!;
+          const mean = stats[pred + P_MEAN]!;
           const delta = x - mean;
           const next = mean + (weight / total) * delta;
-          const m2 = stats[g + G_M2]! + weight * delta * (x - next);
-          stats[g + G_W] = total;
-          stats[g + G_MEAN] = next;
-          stats[g + G_M2] = m2;
+          const m2 = stats[train + T_M2]! + weight * delta * (x - next);
+          stats[train + T_W] = total;
+          stats[train + T_M2] = m2;
+          stats[pred + P_MEAN] = next;
+          stats[pred + P_INV_VAR] = m2 > MIN_VARIANCE * total ? total / m2 : 1 / MIN_VARIANCE;
           if (before === 0) {
-            stats[g + G_MIN] = x;
-            stats[g + G_MAX] = x;
-          } else if (x < stats[g + G_MIN]!) {
-            stats[g + G_MIN] = x;
-          } else if (x > stats[g + G_MAX]!) {
-            stats[g + G_MAX] = x;
+            stats[train + T_MIN] = x;
+            stats[train + T_MAX] = x;
+          } else if (x < stats[train + T_MIN]!) {
+            stats[train + T_MIN] = x;
+          } else if (x > stats[train + T_MAX]!) {
+            stats[train + T_MAX] = x;
           }
-          stats[g + G_INV_VAR] = m2 > MIN_VARIANCE * total ? total / m2 : 1 / MIN_VARIANCE;
         }
-        base += GAUSS * c;
+        pred += PRED * c;
+        train += TRAIN;
       } else {
         const v = this.cardinality[f]!;
         if (x >= 0 && x < v) {
-          stats[base + x * c + label]! += weight;
-          stats[base + v * c + label]! += weight;
+          stats[nom + x * c + label]! += weight;
+          stats[nom + v * c + label]! += weight;
         }
-        base += (v + 1) * c;
+        nom += (v + 1) * c;
       }
     }
   }
@@ -799,19 +860,20 @@ export class HoeffdingTree implements Classifier {
     let bestFeature = -1;
     let bestThreshold = 0;
     let second = 0;
-    let base = this.slotOf[leaf]! * this.slotSize;
+    const base = this.slotOf[leaf]! * this.slotSize;
+    let numeric = 0;
+    let nom = base + this.numericSize;
     for (let j = 0; j < per; j++) {
       const f = subset === null ? j : subset[leaf * per + j]!;
       let merit: number;
       if (this.nominal[f] === 0) {
-        merit = this.bestThreshold(base);
-        base += GAUSS * c;
+        merit = this.bestThreshold(base, numeric++);
       } else {
         const v = this.cardinality[f]!;
-        const parent = impurity(o.merit, stats, base + v * c, c);
-        merit = splitMerit(o.merit, stats, base, v, c, o.branchShareFloor, parent);
+        const parent = impurity(o.merit, stats, nom + v * c, c);
+        merit = splitMerit(o.merit, stats, nom, v, c, o.branchShareFloor, parent);
         this.cut = 0;
-        base += (v + 1) * c;
+        nom += (v + 1) * c;
       }
       if (merit > bestMerit) {
         second = bestMerit;
@@ -830,26 +892,39 @@ export class HoeffdingTree implements Classifier {
   /** The threshold of the last `bestThreshold` call. */
   private cut = 0;
 
+  /** Where class `k`'s mean and 1/variance of the `numeric`-th numeric attribute of the slot at `base` are. */
+  private predAt(base: number, numeric: number, k: number): number {
+    return base + (numeric * this.c + k) * PRED;
+  }
+
+  /** Where class `k`'s weight, M2, minimum and maximum of that attribute are. */
+  private trainAt(base: number, numeric: number, k: number): number {
+    return base + this.predSize + (k * this.numericCap + numeric) * TRAIN;
+  }
+
   /**
-   * Best merit over `candidateThresholds` evenly spaced thresholds for the Gaussian statistics at
-   * `base`; leaves the threshold in `this.cut`.
+   * Best merit over `candidateThresholds` evenly spaced thresholds for the Gaussian statistics of the
+   * `numeric`-th numeric attribute of the slot at `base`; leaves the threshold in `this.cut`.
    */
-  private bestThreshold(base: number): number {
+  private bestThreshold(base: number, numeric: number): number {
     const c = this.c;
     const stats = this.stats;
     const pair = this.pair;
     const scale = this.scale;
+    const mean = this.means;
     const o = this.options;
     let lo = Number.POSITIVE_INFINITY;
     let hi = Number.NEGATIVE_INFINITY;
-    for (let k = 0, g = base; k < c; k++, g += GAUSS) {
-      const w = stats[g + G_W]!;
+    for (let k = 0; k < c; k++) {
+      const t = this.trainAt(base, numeric, k);
+      const w = stats[t + T_W]!;
       pair[c + k] = w;
+      mean[k] = stats[this.predAt(base, numeric, k) + P_MEAN]!;
       if (w > 0) {
-        if (stats[g + G_MIN]! < lo) lo = stats[g + G_MIN]!;
-        if (stats[g + G_MAX]! > hi) hi = stats[g + G_MAX]!;
+        if (stats[t + T_MIN]! < lo) lo = stats[t + T_MIN]!;
+        if (stats[t + T_MAX]! > hi) hi = stats[t + T_MAX]!;
         // 1 / (σ√2), so that Φ((t − μ)/σ) = erfc((μ − t) · scale) / 2; 0 marks a class without spread.
-        const variance = stats[g + G_M2]! / w;
+        const variance = stats[t + T_M2]! / w;
         scale[k] = variance > 0 ? 1 / Math.sqrt(2 * variance) : 0;
       }
     }
@@ -860,35 +935,38 @@ export class HoeffdingTree implements Classifier {
     const step = (hi - lo) / (n + 1);
     let merit = 0;
     for (let i = 1; i <= n; i++) {
-      const t = lo + step * i;
-      for (let k = 0, g = base; k < c; k++, g += GAUSS) {
-        const w = stats[g + G_W]!;
+      const cut = lo + step * i;
+      for (let k = 0; k < c; k++) {
+        const t = this.trainAt(base, numeric, k);
+        const w = stats[t + T_W]!;
         let below: number;
-        if (w <= 0 || t < stats[g + G_MIN]!) below = 0;
-        else if (t >= stats[g + G_MAX]!) below = w;
-        else if (scale[k] === 0) below = stats[g + G_MEAN]! <= t ? w : 0;
-        else below = 0.5 * w * erfc((stats[g + G_MEAN]! - t) * scale[k]!);
+        if (w <= 0 || cut < stats[t + T_MIN]!) below = 0;
+        else if (cut >= stats[t + T_MAX]!) below = w;
+        else if (scale[k] === 0) below = mean[k]! <= cut ? w : 0;
+        else below = 0.5 * w * erfc((mean[k]! - cut) * scale[k]!);
         pair[k] = below;
         pair[c + k] = Math.max(w - below, 0);
       }
       const m = splitMerit(o.merit, pair, 0, 2, c, o.branchShareFloor, parent);
       if (m > merit) {
         merit = m;
-        this.cut = t;
+        this.cut = cut;
       }
     }
     return merit;
   }
 
-  /** Estimated weight of one class at or below `t`, from its Gaussian and its observed range. */
-  private weightBelow(g: number, t: number): number {
+  /** Estimated weight of class `k` at or below `cut`, from its Gaussian and its observed range. */
+  private weightBelow(base: number, numeric: number, k: number, cut: number): number {
     const stats = this.stats;
-    const w = stats[g + G_W]!;
-    if (w <= 0 || t < stats[g + G_MIN]!) return 0;
-    if (t >= stats[g + G_MAX]!) return w;
-    const variance = stats[g + G_M2]! / w;
-    if (!(variance > 0)) return stats[g + G_MEAN]! <= t ? w : 0;
-    return w * normalCdf(t, stats[g + G_MEAN]!, Math.sqrt(variance));
+    const t = this.trainAt(base, numeric, k);
+    const w = stats[t + T_W]!;
+    if (w <= 0 || cut < stats[t + T_MIN]!) return 0;
+    if (cut >= stats[t + T_MAX]!) return w;
+    const mean = stats[this.predAt(base, numeric, k) + P_MEAN]!;
+    const variance = stats[t + T_M2]! / w;
+    if (!(variance > 0)) return mean <= cut ? w : 0;
+    return w * normalCdf(cut, mean, Math.sqrt(variance));
   }
 
   /** Turn a leaf into an internal node with fresh leaves below it. */
@@ -900,53 +978,46 @@ export class HoeffdingTree implements Classifier {
     // Locate the attribute's statistics to seed the children's class counts.
     const subset = this.subsets;
     const per = this.perLeaf;
-    let base = this.slotOf[leaf]! * this.slotSize;
+    const base = this.slotOf[leaf]! * this.slotSize;
+    let numeric = 0;
+    let nom = base + this.numericSize;
     for (let j = 0; j < per; j++) {
       const g = subset === null ? j : subset[leaf * per + j]!;
       if (g === f) break;
-      base += this.nominal[g] === 1 ? (this.cardinality[g]! + 1) * c : GAUSS * c;
+      if (this.nominal[g] === 1) nom += (this.cardinality[g]! + 1) * c;
+      else numeric++;
     }
     const seeds = new Float64Array(branches * c);
-    for (let b = 0; b < branches; b++) {
-      for (let k = 0; k < c; k++) {
-        if (this.nominal[f] === 1) {
-          seeds[b * c + k] = stats[base + b * c + k]!;
-        } else {
-          const below = this.weightBelow(base + k * GAUSS, threshold);
-          seeds[b * c + k] = b === 0 ? below : Math.max(0, stats[base + k * GAUSS + G_W]! - below);
-        }
+    for (let k = 0; k < c; k++) {
+      if (this.nominal[f] === 1) {
+        for (let b = 0; b < branches; b++) seeds[b * c + k] = stats[nom + b * c + k]!;
+      } else {
+        const below = this.weightBelow(base, numeric, k, threshold);
+        seeds[k] = below;
+        seeds[c + k] = Math.max(0, stats[this.trainAt(base, numeric, k) + T_W]! - below);
       }
     }
     // The split node gives up its leaf: the first child takes over the leaf's index, with a fresh slot.
     this.releaseSlot(leaf);
-    this.feature[node] = f;
-    this.threshold[node] = threshold;
-    this.childCount[node] = branches;
-    this.leafOf[node] = -1;
-    let heaviest = -1;
-    let heaviestWeight = -1;
     for (let b = 0; b < branches; b++) {
       const child = this.addLeafNode(childDepth, seeds.subarray(b * c, (b + 1) * c), b === 0 ? leaf : -1);
-      if (b === 0) this.firstChild[node] = child;
-      const w = this.weight[child]!;
-      if (w > heaviestWeight) {
-        heaviestWeight = w;
-        heaviest = child;
-      }
+      if (b === 0) this.nodeI[8 * node + N_FIRST] = child;
     }
-    this.majorChild[node] = heaviest;
+    this.nodeF[4 * node + N_THRESHOLD] = threshold;
+    this.nodeI[8 * node + N_FEATURE] = f;
+    this.nodeI[8 * node + N_COUNT] = branches;
+    this.nodeI[8 * node + N_LEAF] = -1;
   }
 
   /** Append a leaf node (taking over leaf index `reuse` when ≥ 0); returns the node index. */
   private addLeafNode(depth: number, counts: Float64Array | null, reuse: number): number {
-    if (this.nodeCount === this.feature.length) this.growNodes();
+    if (this.nodeCount === this.depth.length) this.allocateNodes(this.nodeCount * 2);
     const n = this.nodeCount++;
-    this.feature[n] = -1;
-    this.threshold[n] = 0;
-    this.firstChild[n] = -1;
-    this.childCount[n] = 0;
+    this.nodeF[4 * n + N_THRESHOLD] = 0;
+    this.nodeI[8 * n + N_FEATURE] = -1;
+    this.nodeI[8 * n + N_FIRST] = -1;
+    this.nodeI[8 * n + N_COUNT] = 0;
     this.depth[n] = depth;
-    this.majorChild[n] = -1;
     let leaf = reuse;
     if (leaf < 0) {
       leaf = this.leafCount++;
@@ -959,10 +1030,10 @@ export class HoeffdingTree implements Classifier {
       this.heads.set(counts, head + HEAD);
       for (let k = 0; k < counts.length; k++) w += counts[k]!;
     }
-    this.weight[n] = w;
+    this.nodeF[4 * n + N_WEIGHT] = w;
     if (this.subsets !== null) this.drawSubset(leaf);
     this.slotOf[leaf] = this.allocateSlot();
-    this.leafOf[n] = leaf;
+    this.nodeI[8 * n + N_LEAF] = leaf;
     return n;
   }
 
@@ -973,13 +1044,18 @@ export class HoeffdingTree implements Classifier {
     this.subsets!.set(order.subarray(0, per).sort(), leaf * per);
   }
 
-  /** Size of a stats slot for `c` classes: room for the largest attribute set a leaf may hold. */
-  private statSlotSize(c: number): number {
-    const sizes = Array.from(this.all, (f) =>
-      this.nominal[f] === 1 ? (this.cardinality[f]! + 1) * c : GAUSS * c,
-    );
-    sizes.sort((a, b) => b - a);
-    return sizes.slice(0, this.perLeaf).reduce((a, b) => a + b, 0);
+  /**
+   * Lay out a stats slot for `c` classes, with room for the largest attribute set a leaf may hold:
+   * the numeric region (what naive Bayes reads, then what training reads) and the nominal counts.
+   */
+  private layOut(c: number): void {
+    const nominalSizes = Array.from(this.all)
+      .filter((f) => this.nominal[f] === 1)
+      .map((f) => (this.cardinality[f]! + 1) * c)
+      .sort((a, b) => b - a);
+    this.predSize = this.numericCap * PRED * c;
+    this.numericSize = this.numericCap * (PRED + TRAIN) * c;
+    this.slotSize = this.numericSize + nominalSizes.slice(0, this.perLeaf).reduce((a, b) => a + b, 0);
   }
 
   private allocateSlot(): number {
@@ -1007,16 +1083,11 @@ export class HoeffdingTree implements Classifier {
     this.slotOf[leaf] = -1;
   }
 
-  private growNodes(): void {
-    const cap = this.feature.length * 2;
-    this.feature = grownI32(this.feature, cap);
-    this.threshold = grownF64(this.threshold, cap);
-    this.firstChild = grownI32(this.firstChild, cap);
-    this.childCount = grownI32(this.childCount, cap);
-    this.leafOf = grownI32(this.leafOf, cap);
+  /** Room for `cap` nodes, keeping the first `nodeCount`. */
+  private allocateNodes(cap: number): void {
+    this.nodeF = grownF64(this.nodeF, cap * 4);
+    this.nodeI = new Int32Array(this.nodeF.buffer);
     this.depth = grownI32(this.depth, cap);
-    this.weight = grownF64(this.weight, cap);
-    this.majorChild = grownI32(this.majorChild, cap);
   }
 
   private growLeaves(): void {
@@ -1070,12 +1141,14 @@ export class HoeffdingTree implements Classifier {
   private relayout(to: number): void {
     const from = this.c;
     const oldHeadSize = this.headSize;
-    const oldSlotSize = this.slotSize;
     const oldHeads = this.heads;
     const oldStats = this.stats;
+    const oldSlotSize = this.slotSize;
+    const oldPredSize = this.predSize;
+    const oldNumericSize = this.numericSize;
     this.c = to;
     this.headSize = HEAD + to;
-    this.slotSize = this.statSlotSize(to);
+    this.layOut(to);
     this.heads = new Float64Array(this.slotOf.length * this.headSize);
     for (let leaf = 0; leaf < this.leafCount; leaf++) {
       this.heads.set(
@@ -1083,33 +1156,41 @@ export class HoeffdingTree implements Classifier {
         leaf * this.headSize,
       );
     }
-    this.stats = new Float64Array(this.slotCapacity * this.slotSize);
+    const cap = this.numericCap;
+    const stats = new Float64Array(this.slotCapacity * this.slotSize);
     for (let leaf = 0; leaf < this.leafCount; leaf++) {
       const slot = this.slotOf[leaf]!;
       if (slot < 0) continue;
-      let src = slot * oldSlotSize;
-      let dst = slot * this.slotSize;
-      for (let j = 0; j < this.perLeaf; j++) {
-        const f = this.subsets === null ? j : this.subsets[leaf * this.perLeaf + j]!;
-        if (this.nominal[f] === 1) {
-          const v = this.cardinality[f]!;
-          for (let r = 0; r <= v; r++) {
-            this.stats.set(oldStats.subarray(src + r * from, src + (r + 1) * from), dst + r * to);
-          }
-          src += (v + 1) * from;
-          dst += (v + 1) * to;
-        } else {
-          this.stats.set(oldStats.subarray(src, src + GAUSS * from), dst);
-          src += GAUSS * from;
-          dst += GAUSS * to;
+      const src = slot * oldSlotSize;
+      const dst = slot * this.slotSize;
+      for (let i = 0; i < cap; i++) {
+        for (let k = 0; k < from; k++) {
+          const p = src + (i * from + k) * PRED;
+          const t = src + oldPredSize + (k * cap + i) * TRAIN;
+          stats.set(oldStats.subarray(p, p + PRED), this.predAt(dst, i, k));
+          stats.set(oldStats.subarray(t, t + TRAIN), this.trainAt(dst, i, k));
         }
       }
+      let nomFrom = src + oldNumericSize;
+      let nomTo = dst + this.numericSize;
+      for (let j = 0; j < this.perLeaf; j++) {
+        const f = this.subsets === null ? j : this.subsets[leaf * this.perLeaf + j]!;
+        if (this.nominal[f] === 0) continue;
+        const v = this.cardinality[f]!;
+        for (let r = 0; r <= v; r++) {
+          stats.set(oldStats.subarray(nomFrom + r * from, nomFrom + (r + 1) * from), nomTo + r * to);
+        }
+        nomFrom += (v + 1) * from;
+        nomTo += (v + 1) * to;
+      }
     }
+    this.stats = stats;
     this.logp = new Float64Array(to);
     this.sq = new Float64Array(to);
     this.prod = new Float64Array(to);
     this.probe = new Float64Array(to);
     this.pair = new Float64Array(2 * to);
     this.scale = new Float64Array(to);
+    this.means = new Float64Array(to);
   }
 }
