@@ -14,7 +14,8 @@ export type ShoalErrorCode =
   | 'invalid-snapshot'
   | 'invalid-input'
   | 'not-found'
-  | 'io-failure';
+  | 'io-failure'
+  | 'worker-failure';
 
 export interface ShoalErrorOptions {
   readonly retriable?: boolean;

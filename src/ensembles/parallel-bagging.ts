@@ -1,6 +1,7 @@
-import { Worker } from 'node:worker_threads';
+import { MessageChannel, Worker } from 'node:worker_threads';
 import { type FeatureSchema, integerAtLeast, type Seed, ShoalError } from '../core/index.js';
 import { Bagging, type BaggingSpec } from './bagging.js';
+import { channelControl, runShard, ShardAnswers, ShardClient } from './shard-channel.js';
 import { Verdict } from './verdict.js';
 import { combineVotes } from './vote.js';
 
@@ -10,7 +11,8 @@ import { combineVotes } from './vote.js';
  * and the rest in worker threads, and the votes come out exactly as in one thread for the same seed.
  *
  * Work moves in batches of rows (a frame), not rows: each thread scores and trains its seats on the
- * whole batch, then the votes are combined row by row here. The member lifecycle couples seats (the
+ * whole batch, then the votes are combined row by row here. Rows and answers cross threads in shared
+ * memory (see `shard-channel.ts`), so a batch costs no copies and no trip through the event loop. The member lifecycle couples seats (the
  * replacement cap, member ids), so this form runs with the lifecycle switched off; the classes of a
  * batch are announced before it is scored.
  *
@@ -37,82 +39,17 @@ export class BatchVerdicts {
   }
 }
 
-/** One shard's answers on a batch: for every row, every local member's probabilities, class and weight. */
-export interface ShardResult {
-  readonly classes: number;
-  readonly probs: Float64Array<ArrayBuffer>;
-  readonly preds: Int32Array<ArrayBuffer>;
-  readonly weights: Float64Array<ArrayBuffer>;
-}
-
-/** A request to a shard: train (labels given) or score a batch of rows. */
-export interface ShardRequest {
-  readonly values: Float64Array;
-  readonly labels: Float64Array | null;
-  readonly rows: number;
-  readonly classes: number;
-}
-
-/** Run a batch through a shard and collect its members' answers row by row. */
-export function runShard(shard: Bagging, request: ShardRequest): ShardResult {
-  const { values, labels, rows } = request;
-  const width = shard.schema.features.length;
-  shard.ensureClasses(request.classes);
-  const members = shard.options.members;
-  const classes = shard.classes;
-  const probs = new Float64Array(rows * members * classes);
-  const preds = new Int32Array(rows * members);
-  const weights = new Float64Array(rows * members);
-  const verdict = new Verdict();
-  for (let r = 0; r < rows; r++) {
-    if (labels === null) shard.score(values, r * width, verdict);
-    else shard.train(values, r * width, labels[r]!);
-    const m = shard.members;
-    const at = r * members;
-    for (let i = 0; i < members; i++) {
-      preds[at + i] = m.preds[i]!;
-      weights[at + i] = m.weights[i]!;
-    }
-    const span = members * classes;
-    for (let i = 0; i < span; i++) probs[at * classes + i] = m.probs[i]!;
-  }
-  return { classes, probs, preds, weights };
-}
-
-interface Pending {
-  resolve(result: ShardResult): void;
-  reject(error: Error): void;
-}
-
-class RemoteShard {
+/** A worker thread holding one shard, and the channel to it. */
+interface RemoteShard {
   readonly worker: Worker;
-  private pending: Pending | null = null;
-
-  constructor(worker: Worker) {
-    this.worker = worker;
-    worker.on('message', (result: ShardResult) => {
-      const p = this.pending;
-      this.pending = null;
-      p?.resolve(result);
-    });
-    worker.on('error', (e) => {
-      const p = this.pending;
-      this.pending = null;
-      p?.reject(e);
-    });
-  }
-
-  run(request: ShardRequest): Promise<ShardResult> {
-    return new Promise((resolve, reject) => {
-      this.pending = { resolve, reject };
-      this.worker.postMessage(request);
-    });
-  }
+  readonly client: ShardClient;
+  readonly answers: ShardAnswers;
 }
 
 export class ParallelBagging {
   readonly members: number;
   private readonly local: Bagging;
+  private readonly localAnswers = new ShardAnswers(false);
   private readonly remote: RemoteShard[];
   /** Seats held by each shard, local first. */
   private readonly counts: number[];
@@ -121,6 +58,9 @@ export class ParallelBagging {
   private readonly preds: Int32Array;
   private readonly weights: Float64Array;
   private readonly hard: boolean;
+  /** The batch in shared memory, grown as needed. */
+  private values = new Float64Array(new SharedArrayBuffer(0));
+  private labels = new Float64Array(new SharedArrayBuffer(0));
 
   private constructor(local: Bagging, remote: RemoteShard[], counts: number[]) {
     this.local = local;
@@ -157,23 +97,33 @@ export class ParallelBagging {
     const shardSpec = (i: number): BaggingSpec => ({ ...whole.options, members: counts[i]! });
     const local = new Bagging(schema, shardSpec(0), seed, undefined, undefined, 0);
     const remote = await Promise.all(
-      counts.slice(1).map(async (_, j) => {
+      counts.slice(1).map(async (_, j): Promise<RemoteShard> => {
         const i = j + 1;
+        const { port1, port2 } = new MessageChannel();
+        const control = channelControl();
         const worker = new Worker(new URL('./bagging-worker.js', import.meta.url), {
-          workerData: { schema, spec: shardSpec(i), seed: String(seed), first: firsts[i] },
+          workerData: {
+            schema,
+            spec: shardSpec(i),
+            seed: String(seed),
+            first: firsts[i],
+            port: port2,
+            control,
+          },
+          transferList: [port2],
         });
         await new Promise<void>((resolve, reject) => {
           worker.once('online', resolve);
           worker.once('error', reject);
         });
-        return new RemoteShard(worker);
+        return { worker, client: new ShardClient(port1, control), answers: new ShardAnswers(true) };
       }),
     );
     return new ParallelBagging(local, remote, counts);
   }
 
   /** Score every row of a batch, then train on it (the prequential step), row by row. */
-  scoreTrainBatch(
+  async scoreTrainBatch(
     values: Float64Array,
     labels: ArrayLike<number>,
     rows: number,
@@ -181,50 +131,90 @@ export class ParallelBagging {
   ): Promise<void> {
     let classes = this.local.classes;
     for (let r = 0; r < rows; r++) if (labels[r]! + 1 > classes) classes = labels[r]! + 1;
-    return this.run(
-      { values, labels: Float64Array.from({ length: rows }, (_, r) => labels[r]!), rows, classes },
-      out,
-    );
+    if (this.labels.length < rows) this.labels = new Float64Array(new SharedArrayBuffer(8 * rows));
+    for (let r = 0; r < rows; r++) this.labels[r] = labels[r]!;
+    this.run(values, this.labels, rows, classes, out);
   }
 
   /** Score every row of a batch. */
-  scoreBatch(values: Float64Array, rows: number, out: BatchVerdicts): Promise<void> {
-    return this.run({ values, labels: null, rows, classes: this.local.classes }, out);
+  async scoreBatch(values: Float64Array, rows: number, out: BatchVerdicts): Promise<void> {
+    this.run(values, null, rows, this.local.classes, out);
   }
 
+  /** Stop the workers. */
   async close(): Promise<void> {
+    const stop = { stop: true, rows: 0, classes: 0, values: new ArrayBuffer(0), labels: null };
+    for (const r of this.remote) {
+      r.client.post({
+        ...stop,
+        probs: new ArrayBuffer(0),
+        preds: new ArrayBuffer(0),
+        weights: new ArrayBuffer(0),
+      });
+    }
     await Promise.all(this.remote.map((r) => r.worker.terminate()));
   }
 
-  private async run(request: ShardRequest, out: BatchVerdicts): Promise<void> {
+  private run(
+    values: Float64Array,
+    labels: Float64Array | null,
+    rows: number,
+    classes: number,
+    out: BatchVerdicts,
+  ): void {
     const width = this.local.schema.features.length;
-    // A copy of just this batch: posting a view would clone the whole buffer behind it.
-    const slice: ShardRequest = { ...request, values: request.values.slice(0, request.rows * width) };
-    const remote = this.remote.map((r) => r.run(slice));
-    const results = [runShard(this.local, slice), ...(await Promise.all(remote))];
-    const classes = results[0]!.classes;
-    const { rows } = request;
-    out.fit(rows, classes);
-    if (this.probs.length !== this.members * classes) this.probs = new Float64Array(this.members * classes);
+    if (this.values.length < rows * width)
+      this.values = new Float64Array(new SharedArrayBuffer(8 * rows * width));
+    this.values.set(values.subarray(0, rows * width));
+    const c = Math.max(classes, this.local.classes);
+    this.remote.forEach((r, j) => {
+      r.answers.fit(rows, this.counts[j + 1]!, c);
+      r.client.post({
+        stop: false,
+        rows,
+        classes,
+        values: this.values.buffer,
+        labels: labels === null ? null : labels.buffer,
+        probs: r.answers.probs.buffer,
+        preds: r.answers.preds.buffer,
+        weights: r.answers.weights.buffer,
+      });
+    });
+    this.localAnswers.fit(rows, this.counts[0]!, c);
+    // Every shard gets to the end of the batch, or to the same bad row, before an error is raised.
+    let failure: unknown = null;
+    try {
+      runShard(this.local, this.values, labels, rows, classes, this.localAnswers, null);
+    } catch (e) {
+      failure = e;
+    }
+    for (const r of this.remote) {
+      try {
+        r.client.await();
+      } catch (e) {
+        failure ??= e;
+      }
+    }
+    if (failure !== null) throw failure;
+    const answers = [this.localAnswers, ...this.remote.map((r) => r.answers)];
+    out.fit(rows, c);
+    if (this.probs.length !== this.members * c) this.probs = new Float64Array(this.members * c);
     const { probs, preds, weights, verdict } = this;
     for (let r = 0; r < rows; r++) {
       let seat = 0;
-      for (let s = 0; s < results.length; s++) {
-        const result = results[s]!;
+      for (let s = 0; s < answers.length; s++) {
+        const shard = answers[s]!;
         const n = this.counts[s]!;
         const from = r * n;
         for (let m = 0; m < n; m++) {
-          preds[seat + m] = result.preds[from + m]!;
-          weights[seat + m] = result.weights[from + m]!;
+          preds[seat + m] = shard.preds[from + m]!;
+          weights[seat + m] = shard.weights[from + m]!;
         }
-        const width = n * classes;
-        const at = from * classes;
-        const to = seat * classes;
-        for (let i = 0; i < width; i++) probs[to + i] = result.probs[at + i]!;
+        probs.set(shard.probs.subarray(from * c, (from + n) * c), seat * c);
         seat += n;
       }
-      combineVotes(this.hard, probs, preds, weights, this.members, classes, verdict);
-      out.probabilities.set(verdict.probabilities.subarray(0, classes), r * classes);
+      combineVotes(this.hard, probs, preds, weights, this.members, c, verdict);
+      out.probabilities.set(verdict.probabilities.subarray(0, c), r * c);
       out.predicted[r] = verdict.predicted;
       out.agreement[r] = verdict.agreement;
       out.voters[r] = verdict.voters;

@@ -36,6 +36,33 @@ describe('parallel bagging', () => {
     }
   });
 
+  it('raises a bad label from every thread as the shard would, and goes on with the next batch', async () => {
+    const gen = sea({ noise: 0.1 }, 5);
+    const block = take(gen, 300);
+    const spec = { members: 4, lambda: 1, lifecycle: { enabled: false } } as const;
+    const single = new Bagging(gen.schema, spec, 'p');
+    single.ensureClasses(2);
+    const parallel = await ParallelBagging.start(gen.schema, spec, 'p', 2);
+    try {
+      const out = new BatchVerdicts();
+      const labels = Float64Array.from(block.labels);
+      labels[10] = Number.NaN;
+      await expect(parallel.scoreTrainBatch(block.rows, labels, 100, out)).rejects.toMatchObject({
+        code: 'invalid-label',
+        message: expect.stringMatching(/label must be an integer/),
+      });
+      const verdict = new Verdict();
+      for (let r = 0; r < 10; r++) single.scoreTrain(block.rows, r * 3, block.labels[r]!, verdict);
+      await parallel.scoreTrainBatch(block.rows.subarray(300), labels.subarray(100), 100, out);
+      for (let r = 0; r < 100; r++) {
+        single.scoreTrain(block.rows, (100 + r) * 3, block.labels[100 + r]!, verdict);
+        expect(out.probabilities[r * 2 + 1]).toBe(verdict.probabilities[1]);
+      }
+    } finally {
+      await parallel.close();
+    }
+  });
+
   it('refuses the member lifecycle, which couples seats', async () => {
     await expect(ParallelBagging.start(sea().schema, { members: 4 }, 1, 2)).rejects.toThrow(/lifecycle/);
   });
