@@ -1114,27 +1114,46 @@ export class HoeffdingTree implements Classifier {
 
   /**
    * Deactivate the least promising active leaves until the tree fits its cap, then reactivate the most
-   * promising inactive leaves while they fit.
+   * promising inactive leaves while they fit (ties: the lower leaf index counts as less promising).
+   * A cap is enforced after a split, which adds a leaf or a few, so each phase picks its leaves one by
+   * one instead of sorting them all.
    */
   private enforceMemoryCap(): void {
-    const leaves = Array.from({ length: this.leafCount }, (_, i) => i);
-    const promise = leaves.map((l) => this.promise(l));
-    leaves.sort((a, b) => promise[a]! - promise[b]! || a - b);
     const cap = this.options.byteLimit;
-    for (const leaf of leaves) {
-      if (this.sizeBytes() <= cap) break;
+    const promise = Float64Array.from({ length: this.leafCount }, (_, l) => this.promise(l));
+    while (this.sizeBytes() > cap) {
+      const leaf = this.extremeLeaf(promise, true, -1);
+      if (leaf < 0) break;
       this.releaseSlot(leaf);
     }
     const slotBytes = this.slotSize * 8;
-    for (let i = leaves.length - 1; i >= 0 && this.sizeBytes() + slotBytes <= cap; i--) {
-      const leaf = leaves[i]!;
-      if (this.slotOf[leaf]! >= 0) continue;
+    while (this.sizeBytes() + slotBytes <= cap) {
+      const leaf = this.extremeLeaf(promise, false, 1);
+      if (leaf < 0) break;
       const head = leaf * this.headSize;
       this.heads[head + H_MC_CORRECT] = 0;
       this.heads[head + H_NB_CORRECT] = 0;
       this.heads[head + H_LAST_ATTEMPT] = this.heads[head + H_SEEN]!;
       this.slotOf[leaf] = this.allocateSlot();
     }
+  }
+
+  /**
+   * The active (`active`) or inactive leaf that is least (`sign` −1) or most (+1) promising, ties going
+   * to the lower index as the lesser; −1 when there is none.
+   */
+  private extremeLeaf(promise: Float64Array, active: boolean, sign: number): number {
+    let best = -1;
+    for (let leaf = 0; leaf < this.leafCount; leaf++) {
+      if (this.slotOf[leaf]! >= 0 !== active) continue;
+      if (best < 0) {
+        best = leaf;
+        continue;
+      }
+      const d = sign * (promise[leaf]! - promise[best]!);
+      if (d > 0 || (d === 0 && sign > 0)) best = leaf;
+    }
+    return best;
   }
 
   /** Move every per-class statistic into a layout for `to` classes. */
