@@ -2,6 +2,7 @@ import { numericSchema } from '../../src/core/index.js';
 import { createEnsemble, type Ensemble, type EnsembleSpec, Verdict } from '../../src/ensembles/index.js';
 import { type BenchFn, type BenchRow, floorRate, machine, medianRate } from './harness.js';
 import { benchStream } from './stream.js';
+import { yardstickRate } from './yardstick.js';
 
 /**
  * The learning core, one thread: prequential rows per second (score the row, then train on it) of
@@ -10,11 +11,16 @@ import { benchStream } from './stream.js';
  * builds a fresh ensemble, so a rate includes the early rows. `score10` times scoring alone with the
  * 10-member bagging trained on the whole stream.
  *
+ * `yardstick10` is the same work stripped to its arithmetic (see `yardstick.ts`): what this machine allows.
+ * `bagging10small` is `bagging10` with a byte cap per tree that keeps all leaves within L2.
  * `bagging10` and `bagging30` are classic online bagging (Oza & Russell: λ = 1, no lifecycle) of
  * Hoeffding trees with naive-Bayes-adaptive leaves; `default10` is what `shoal replay` runs without a
  * configuration (λ = 6 and an ADWIN monitor per member).
  */
 const PLAIN = { lifecycle: { enabled: false } } as const;
+
+/** The default byte cap per tree, and one that keeps 10 trees' leaves within this machine's L2. */
+const SMALL_CAP = 32 * 1024;
 
 const CASES: readonly { key: string; name: string; spec: EnsembleSpec; share: number; runs: number }[] = [
   {
@@ -28,6 +34,19 @@ const CASES: readonly { key: string; name: string; spec: EnsembleSpec; share: nu
     key: 'bagging10',
     name: 'bagging ×10 (λ = 1)',
     spec: { kind: 'bagging', members: 10, lambda: 1, ...PLAIN },
+    share: 1,
+    runs: 3,
+  },
+  {
+    key: 'bagging10small',
+    name: 'bagging ×10 (λ = 1), 32 KiB cap per tree',
+    spec: {
+      kind: 'bagging',
+      members: 10,
+      lambda: 1,
+      learners: [{ kind: 'hoeffding-tree', byteLimit: SMALL_CAP }],
+      ...PLAIN,
+    },
     share: 1,
     runs: 3,
   },
@@ -82,10 +101,23 @@ export const bench: BenchFn = ({ quick }) => {
   const { rows: values, labels, width } = benchStream(count, 'bench-core');
   const schema = numericSchema(width);
   const floor = floorRate(values, count);
+  const yardstick = yardstickRate(values, labels, count, width);
   const rows: BenchRow[] = [
     { name: 'floor (bare loop, 10-feature rows)', rate: floor, unit: 'rows/s', ofFloor: 1 },
+    {
+      name: 'yardstick: 10 fixed trees, NB + Welford only',
+      rate: yardstick,
+      unit: 'rows/s',
+      ofFloor: yardstick / floor,
+      note: 'see yardstick.ts',
+    },
   ];
-  const json: Record<string, unknown> = { machine: machine(), rows: count, floor: { rowsPerSecond: floor } };
+  const json: Record<string, unknown> = {
+    machine: machine(),
+    rows: count,
+    floor: { rowsPerSecond: floor },
+    yardstick10: { rowsPerSecond: yardstick },
+  };
   let trained: Ensemble | null = null;
   for (const { key, name, spec, share, runs } of CASES) {
     const n = Math.max(1000, Math.round(count * share));
