@@ -45,11 +45,14 @@ import { impurity, type SplitCriterion, splitMerit } from './split-merit.js';
  * VFDT §3): they keep their class counts and predict the majority class, but stop collecting statistics.
  * Missing values (NaN) are skipped in statistics and follow the branch that most weight has taken.
  *
- * Layout, for speed: nodes are columns of typed arrays. Every leaf has a row of `heads`
+ * Layout, for speed: nodes are 32-byte records (one cache line holds what a step of a walk reads).
+ * Every leaf has a row of `heads`
  *   [last attempt, majority right, naive Bayes right, weight seen | class counts (C)],
- * and every active leaf one slot of the `stats` pool with its attribute statistics: numeric statistics
- * per class are [weight, mean, M2, min, max, 1/variance] (West's weighted Welford), nominal statistics
- * are counts[category][class] followed by per-class totals. Deactivating a leaf frees its slot.
+ * and every active leaf one slot of the `stats` pool with its attribute statistics. A slot's numeric
+ * region holds, first, each numeric attribute's per-class [mean, 1/variance] side by side (all that
+ * naive Bayes reads, so a prediction touches a third of the slot), then, class by class, each numeric
+ * attribute's [weight, M2, min, max] (West's weighted Welford, with the mean in front); nominal
+ * statistics follow as counts[category][class] and per-class totals. Deactivating a leaf frees its slot.
  *
  * @example
  * const tree = new HoeffdingTree(schema, { leafModel: 'adaptive' }, 7);
