@@ -210,11 +210,12 @@ export class ParallelBagging {
           preds[seat + m] = shard.preds[from + m]!;
           weights[seat + m] = shard.weights[from + m]!;
         }
-        probs.set(shard.probs.subarray(from * c, (from + n) * c), seat * c);
+        const span = n * c;
+        for (let i = 0, at = from * c, to = seat * c; i < span; i++) probs[to + i] = shard.probs[at + i]!;
         seat += n;
       }
       combineVotes(this.hard, probs, preds, weights, this.members, c, verdict);
-      out.probabilities.set(verdict.probabilities.subarray(0, c), r * c);
+      for (let k = 0; k < c; k++) out.probabilities[r * c + k] = verdict.probabilities[k]!;
       out.predicted[r] = verdict.predicted;
       out.agreement[r] = verdict.agreement;
       out.voters[r] = verdict.voters;

@@ -97,7 +97,8 @@ export function runShard(
       preds[at + i] = m.preds[i]!;
       weights[at + i] = m.weights[i]!;
     }
-    probs.set(m.probs.subarray(0, members * c), at * c);
+    const span = members * c;
+    for (let i = 0, to = at * c; i < span; i++) probs[to + i] = m.probs[i]!;
     if (control !== null && r % PROGRESS_EVERY === 0) Atomics.add(control, C_PROGRESS, 1);
   }
 }
