@@ -1,3 +1,5 @@
+import { spawnSync } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
 import { bench as core } from './core.js';
 import { bench as decode } from './decode.js';
 import { bench as drift } from './drift.js';
@@ -9,20 +11,46 @@ import { bench as parallel } from './parallel.js';
 /**
  * `npm run bench [-- --quick] [-- --json]`: every benchmark section, printed as tables, or as one JSON
  * object whose keys are the sections. Figures and ratios in one output come from the same run.
+ *
+ * Each section runs in a process of its own (this file again, with `--section NAME`), so that what the
+ * compiler learnt in one section — call sites that saw several learner kinds, say — does not slow the
+ * next, and one section's heap does not weigh on another's memory figures.
  */
 const SECTIONS = { learners, core, parallel, memory, drift, decode } as const;
+type SectionName = keyof typeof SECTIONS;
 
-const args = new Set(process.argv.slice(2));
-const quick = args.has('--quick');
-const asJson = args.has('--json');
-const m = machine();
-const out: Record<string, unknown> = { machine: m, quick };
-if (!asJson)
-  console.log(`Shoal benchmarks${quick ? ' (quick)' : ''}: ${m.cores} cores (${m.cpu}), Node ${m.node}\n`);
-for (const [key, run] of Object.entries(SECTIONS)) {
-  const section: BenchSection = await run({ quick });
-  out[key] = section.json;
-  if (asJson) continue;
+const argv = process.argv.slice(2);
+const quick = argv.includes('--quick');
+const asJson = argv.includes('--json');
+const sectionAt = argv.indexOf('--section');
+
+if (sectionAt >= 0) {
+  const name = argv[sectionAt + 1] as SectionName;
+  const section: BenchSection = await SECTIONS[name]({ quick });
+  process.stdout.write(JSON.stringify(section));
+} else {
+  const m = machine();
+  const out: Record<string, unknown> = { machine: m, quick };
+  if (!asJson)
+    console.log(`Shoal benchmarks${quick ? ' (quick)' : ''}: ${m.cores} cores (${m.cpu}), Node ${m.node}\n`);
+  for (const name of Object.keys(SECTIONS)) {
+    const child = spawnSync(
+      process.execPath,
+      [...process.execArgv, fileURLToPath(import.meta.url), '--section', name, ...(quick ? ['--quick'] : [])],
+      { encoding: 'utf8', maxBuffer: 64 * 2 ** 20, stdio: ['ignore', 'pipe', 'inherit'] },
+    );
+    if (child.status !== 0) {
+      console.error(`bench section ${name} failed (exit ${child.status ?? child.signal})`);
+      process.exit(1);
+    }
+    const section = JSON.parse(child.stdout) as BenchSection;
+    out[name] = section.json;
+    if (!asJson) print(section);
+  }
+  if (asJson) console.log(JSON.stringify(out));
+}
+
+function print(section: BenchSection): void {
   console.log(section.title);
   for (const r of section.rows) {
     const rate = r.unit.startsWith('×') ? r.rate.toFixed(2) : Math.round(r.rate).toLocaleString('en-US');
@@ -34,4 +62,3 @@ for (const [key, run] of Object.entries(SECTIONS)) {
   }
   console.log('');
 }
-if (asJson) console.log(JSON.stringify(out));
