@@ -129,6 +129,12 @@ export class ParallelBagging {
     rows: number,
     out: BatchVerdicts,
   ): Promise<void> {
+    if (labels.length < rows) {
+      throw new ShoalError(
+        'invalid-label',
+        `parallel bagging: a batch of ${rows} rows needs ${rows} labels, got ${labels.length}`,
+      );
+    }
     let classes = this.local.classes;
     for (let r = 0; r < rows; r++) if (labels[r]! + 1 > classes) classes = labels[r]! + 1;
     if (this.labels.length < rows) this.labels = new Float64Array(new SharedArrayBuffer(8 * rows));
@@ -163,6 +169,12 @@ export class ParallelBagging {
     out: BatchVerdicts,
   ): void {
     const width = this.local.schema.features.length;
+    if (!(Number.isInteger(rows) && rows >= 0 && values.length >= rows * width)) {
+      throw new ShoalError(
+        'invalid-row',
+        `parallel bagging: a batch of ${rows} rows needs ${rows * width} values, the buffer holds ${values.length}`,
+      );
+    }
     if (this.values.length < rows * width)
       this.values = new Float64Array(new SharedArrayBuffer(8 * rows * width));
     this.values.set(values.subarray(0, rows * width));

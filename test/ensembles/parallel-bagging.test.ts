@@ -63,6 +63,28 @@ describe('parallel bagging', () => {
     }
   });
 
+  it('refuses a batch whose buffer is shorter than its rows, naming both counts', async () => {
+    const gen = sea({}, 2);
+    const parallel = await ParallelBagging.start(
+      gen.schema,
+      { members: 2, lifecycle: { enabled: false } },
+      1,
+      2,
+    );
+    try {
+      const out = new BatchVerdicts();
+      await expect(parallel.scoreBatch(new Float64Array(30), 11, out)).rejects.toMatchObject({
+        code: 'invalid-row',
+        message: expect.stringMatching(/11 rows needs 33 values, the buffer holds 30/),
+      });
+      await expect(
+        parallel.scoreTrainBatch(new Float64Array(30), new Float64Array(9), 10, out),
+      ).rejects.toMatchObject({ code: 'invalid-label', message: expect.stringMatching(/10 labels, got 9/) });
+    } finally {
+      await parallel.close();
+    }
+  });
+
   it('refuses the member lifecycle, which couples seats', async () => {
     await expect(ParallelBagging.start(sea().schema, { members: 4 }, 1, 2)).rejects.toThrow(/lifecycle/);
   });
