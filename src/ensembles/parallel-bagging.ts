@@ -1,7 +1,7 @@
 import { MessageChannel, Worker } from 'node:worker_threads';
 import { type FeatureSchema, integerAtLeast, type Seed, ShoalError } from '../core/index.js';
 import { Bagging, type BaggingSpec } from './bagging.js';
-import { channelControl, runShard, ShardAnswers, ShardClient } from './shard-channel.js';
+import { channelControl, runShard, ShardAnswers, ShardClient, shardReady } from './shard-channel.js';
 import { Verdict } from './verdict.js';
 import { combineVotes } from './vote.js';
 
@@ -44,6 +44,22 @@ interface RemoteShard {
   readonly worker: Worker;
   readonly client: ShardClient;
   readonly answers: ShardAnswers;
+  /** Why the worker stopped, once it has (noticed between batches). */
+  lost: string | null;
+}
+
+/**
+ * This process's Node options for a worker, minus `--input-type`: a worker started from a file
+ * refuses it, and a caller run with `node --input-type=module -e …` would otherwise lose every worker.
+ */
+function workerExecArgv(): string[] {
+  const out: string[] = [];
+  const args = process.execArgv;
+  for (let i = 0; i < args.length; i++) {
+    if (args[i] === '--input-type') i++;
+    else if (!args[i]!.startsWith('--input-type=')) out.push(args[i]!);
+  }
+  return out;
 }
 
 export class ParallelBagging {
@@ -111,12 +127,38 @@ export class ParallelBagging {
             control,
           },
           transferList: [port2],
+          execArgv: workerExecArgv(),
         });
+        const shard: RemoteShard = {
+          worker,
+          client: new ShardClient(port1, control),
+          answers: new ShardAnswers(true),
+          lost: null,
+        };
         await new Promise<void>((resolve, reject) => {
-          worker.once('online', resolve);
-          worker.once('error', reject);
+          const failed = (e: unknown) =>
+            reject(
+              new ShoalError('worker-failure', `parallel bagging: a worker did not start: ${reason(e)}`),
+            );
+          const exited = (code: number) => failed(`exited with code ${code}`);
+          worker.once('error', failed);
+          worker.once('exit', exited);
+          shardReady(control).then(() => {
+            worker.off('error', failed);
+            worker.off('exit', exited);
+            resolve();
+          }, failed);
         });
-        return { worker, client: new ShardClient(port1, control), answers: new ShardAnswers(true) };
+        worker.on('error', (e) => {
+          shard.lost ??= reason(e);
+        });
+        worker.on('exit', (code) => {
+          shard.lost ??= `exited with code ${code}`;
+        });
+        // Work is only ever waited for synchronously, so an idle worker need not keep the process alive.
+        worker.unref();
+        port1.unref();
+        return shard;
       }),
     );
     return new ParallelBagging(local, remote, counts);
@@ -168,6 +210,11 @@ export class ParallelBagging {
     classes: number,
     out: BatchVerdicts,
   ): void {
+    for (const r of this.remote) {
+      if (r.lost !== null) {
+        throw new ShoalError('worker-failure', `parallel bagging: a worker stopped: ${r.lost}`);
+      }
+    }
     const width = this.local.schema.features.length;
     if (!(Number.isInteger(rows) && rows >= 0 && values.length >= rows * width)) {
       throw new ShoalError(
@@ -233,4 +280,8 @@ export class ParallelBagging {
       out.voters[r] = verdict.voters;
     }
   }
+}
+
+function reason(e: unknown): string {
+  return e instanceof Error ? e.message : String(e);
 }

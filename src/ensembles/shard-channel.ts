@@ -6,15 +6,17 @@ import { Verdict } from './verdict.js';
 /**
  * How a batch of rows reaches a shard of a bagging ensemble in another thread, and how its members'
  * answers come back, without copies or the event loop: rows, labels and answers live in shared memory,
- * and four control words wake the sides with `Atomics.wait`/`Atomics.notify` — request number, number
- * of requests done, status of the last (0 = answered, 1 = failed) and a progress counter the shard bumps
- * every 256 rows, so that the waiting side can tell a long batch from a worker that stopped. A request
+ * and control words wake the sides with `Atomics.wait`/`Atomics.notify` — request number, number of
+ * requests done, status of the last (0 = answered, 1 = failed), a progress counter the shard bumps
+ * every 256 rows, so that the waiting side can tell a long batch from a worker that stopped, and a
+ * ready flag the worker raises once its shard is built. A request
  * names its buffers in a message on a port that the worker reads synchronously when woken.
  */
 const C_REQUEST = 0;
 const C_DONE = 1;
 const C_STATUS = 2;
 const C_PROGRESS = 3;
+const C_READY = 4;
 const PROGRESS_EVERY = 256;
 /** A worker that makes no progress for this long is declared lost. */
 const SILENCE_MS = 30_000;
@@ -105,7 +107,17 @@ export function runShard(
 
 /** The control words of a channel, in shared memory. */
 export function channelControl(): Int32Array {
-  return new Int32Array(new SharedArrayBuffer(4 * 4));
+  return new Int32Array(new SharedArrayBuffer(4 * 5));
+}
+
+/** Resolves when the worker behind `control` has built its shard and waits for requests. */
+export async function shardReady(control: Int32Array): Promise<void> {
+  // Atomics.waitAsync is in Node 16 and later, but not yet in TypeScript's ES2022 library.
+  const atomics = Atomics as unknown as {
+    waitAsync(array: Int32Array, index: number, value: number): { async: boolean; value: unknown };
+  };
+  const wait = atomics.waitAsync(control, C_READY, 0);
+  if (wait.async) await wait.value;
 }
 
 /** The main thread's end of a channel: post a request, later wait for its answer. */
@@ -155,6 +167,8 @@ export class ShardClient {
  * between requests.
  */
 export function serveShard(shard: Bagging, port: MessagePort, control: Int32Array): void {
+  Atomics.store(control, C_READY, 1);
+  Atomics.notify(control, C_READY);
   let done = 0;
   for (;;) {
     Atomics.wait(control, C_REQUEST, done);

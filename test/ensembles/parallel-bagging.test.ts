@@ -1,3 +1,4 @@
+import { spawnSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
 // Worker threads load compiled files, so this test uses the build in dist/ (npm test builds first).
 import { Bagging, BatchVerdicts, ParallelBagging, Verdict } from '../../dist/ensembles/index.js';
@@ -83,6 +84,23 @@ describe('parallel bagging', () => {
     } finally {
       await parallel.close();
     }
+  });
+
+  it('lets the process exit when the caller forgets to close it', () => {
+    const script = `
+      import { ParallelBagging, BatchVerdicts } from ${JSON.stringify(new URL('../../dist/ensembles/index.js', import.meta.url).href)};
+      import { numericSchema } from ${JSON.stringify(new URL('../../dist/core/index.js', import.meta.url).href)};
+      const bag = await ParallelBagging.start(numericSchema(2), { members: 2, lifecycle: { enabled: false } }, 1, 2);
+      await bag.scoreTrainBatch(new Float64Array([1, 2, 3, 4]), [0, 1], 2, new BatchVerdicts());
+      process.stdout.write('scored');
+    `;
+    const child = spawnSync(process.execPath, ['--input-type=module', '-e', script], {
+      encoding: 'utf8',
+      timeout: 20_000,
+    });
+    expect(child.stderr).toBe('');
+    expect(child.stdout).toBe('scored');
+    expect(child.status).toBe(0);
   });
 
   it('refuses the member lifecycle, which couples seats', async () => {
