@@ -48,20 +48,6 @@ interface RemoteShard {
   lost: string | null;
 }
 
-/**
- * This process's Node options for a worker, minus `--input-type`: a worker started from a file
- * refuses it, and a caller run with `node --input-type=module -e …` would otherwise lose every worker.
- */
-function workerExecArgv(): string[] {
-  const out: string[] = [];
-  const args = process.execArgv;
-  for (let i = 0; i < args.length; i++) {
-    if (args[i] === '--input-type') i++;
-    else if (!args[i]!.startsWith('--input-type=')) out.push(args[i]!);
-  }
-  return out;
-}
-
 export class ParallelBagging {
   readonly members: number;
   private readonly local: Bagging;
@@ -117,7 +103,11 @@ export class ParallelBagging {
         const i = j + 1;
         const { port1, port2 } = new MessageChannel();
         const control = channelControl();
-        const worker = new Worker(new URL('./bagging-worker.js', import.meta.url), {
+        // Started from a string that imports the entry file: a worker started from a file refuses the
+        // caller's --input-type (set by `node --input-type=module -e …`), which it inherits.
+        const entry = JSON.stringify(new URL('./bagging-worker.js', import.meta.url).href);
+        const worker = new Worker(`import(${entry})`, {
+          eval: true,
           workerData: {
             schema,
             spec: shardSpec(i),
@@ -127,7 +117,6 @@ export class ParallelBagging {
             control,
           },
           transferList: [port2],
-          execArgv: workerExecArgv(),
         });
         const shard: RemoteShard = {
           worker,
