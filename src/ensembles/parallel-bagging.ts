@@ -12,9 +12,9 @@ import { combineVotes } from './vote.js';
  *
  * Work moves in batches of rows (a frame), not rows: each thread scores and trains its seats on the
  * whole batch, then the votes are combined row by row here. Rows and answers cross threads in shared
- * memory (see `shard-channel.ts`), so a batch costs no copies and no trip through the event loop. The member lifecycle couples seats (the
- * replacement cap, member ids), so this form runs with the lifecycle switched off; the classes of a
- * batch are announced before it is scored.
+ * memory (see `shard-channel.ts`), so a batch costs no copies and no trip through the event loop.
+ * The member lifecycle couples seats (the replacement cap, member ids), so this form runs with the
+ * lifecycle switched off; the classes of a batch are announced before it is scored.
  *
  * @example
  * const bag = await ParallelBagging.start(schema, { members: 10, lambda: 1, lifecycle: { enabled: false } }, 7, 2);
@@ -180,15 +180,7 @@ export class ParallelBagging {
 
   /** Stop the workers. */
   async close(): Promise<void> {
-    const stop = { stop: true, rows: 0, classes: 0, values: new ArrayBuffer(0), labels: null };
-    for (const r of this.remote) {
-      r.client.post({
-        ...stop,
-        probs: new ArrayBuffer(0),
-        preds: new ArrayBuffer(0),
-        weights: new ArrayBuffer(0),
-      });
-    }
+    for (const r of this.remote) r.client.stop();
     await Promise.all(this.remote.map((r) => r.worker.terminate()));
   }
 
@@ -238,7 +230,7 @@ export class ParallelBagging {
     }
     for (const r of this.remote) {
       try {
-        r.client.await();
+        r.client.collect();
       } catch (e) {
         failure ??= e;
       }

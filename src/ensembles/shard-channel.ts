@@ -9,8 +9,8 @@ import { Verdict } from './verdict.js';
  * and control words wake the sides with `Atomics.wait`/`Atomics.notify` — request number, number of
  * requests done, status of the last (0 = answered, 1 = failed), a progress counter the shard bumps
  * every 256 rows, so that the waiting side can tell a long batch from a worker that stopped, and a
- * ready flag the worker raises once its shard is built. A request
- * names its buffers in a message on a port that the worker reads synchronously when woken.
+ * ready flag the worker raises once its shard is built. A request names its buffers in a message on
+ * a port that the worker reads synchronously when woken.
  */
 const C_REQUEST = 0;
 const C_DONE = 1;
@@ -137,8 +137,23 @@ export class ShardClient {
     Atomics.notify(this.control, C_REQUEST);
   }
 
+  /** Ask the worker to leave its loop. */
+  stop(): void {
+    const none = new ArrayBuffer(0);
+    this.post({
+      stop: true,
+      rows: 0,
+      classes: 0,
+      values: none,
+      labels: null,
+      probs: none,
+      preds: none,
+      weights: none,
+    });
+  }
+
   /** Block until the last request is answered; throws when the shard failed or went silent. */
-  await(): void {
+  collect(): void {
     const control = this.control;
     let progress = Atomics.load(control, C_PROGRESS);
     let silent = 0;
