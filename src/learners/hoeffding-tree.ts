@@ -194,7 +194,6 @@ export class HoeffdingTree implements Classifier {
   readonly options: HoeffdingTreeOptions;
   private readonly width: number;
   private readonly nominal: Uint8Array;
-  private readonly anyNominal: boolean;
   private readonly cardinality: Int32Array;
   private readonly mode: number;
   /** Features a leaf considers: all, or a random subset of this size. */
@@ -245,7 +244,6 @@ export class HoeffdingTree implements Classifier {
     this.width = schema.features.length;
     this.options = validate({ ...HOEFFDING_TREE_DEFAULTS, ...options }, this.width);
     this.nominal = Uint8Array.from(schema.features, (f) => (f.kind === 'nominal' ? 1 : 0));
-    this.anyNominal = this.nominal.includes(1);
     this.cardinality = Int32Array.from(schema.features, (f) => (f.kind === 'nominal' ? f.values : 0));
     this.mode =
       this.options.leafModel === 'majority'
@@ -398,25 +396,13 @@ export class HoeffdingTree implements Classifier {
 
   /**
    * Walk from the root to a leaf; when `credit` > 0, add it to the weight of every node entered.
-   * Without nominal attributes the step is branch-free but for missing values: the comparison's 0 or 1
-   * picks the child.
+   * A numeric step is branch-free but for missing values: the comparison's 0 or 1 picks the child.
    */
   private route(row: Float64Array, offset: number, credit: number): number {
     const nodeF = this.nodeF;
     const nodeI = this.nodeI;
     let n = 0;
     let f = nodeI[N_FEATURE]!;
-    if (!this.anyNominal) {
-      while (f >= 0) {
-        const x = row[offset + f]!;
-        n = !Number.isNaN(x)
-          ? nodeI[8 * n + N_FIRST]! + Number(x > nodeF[4 * n + N_THRESHOLD]!)
-          : this.heaviestChild(n);
-        if (credit > 0) nodeF[4 * n + N_WEIGHT]! += credit;
-        f = nodeI[8 * n + N_FEATURE]!;
-      }
-      return n;
-    }
     while (f >= 0) {
       const x = row[offset + f]!;
       const first = nodeI[8 * n + N_FIRST]!;
