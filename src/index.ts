@@ -32,10 +32,8 @@ export type {
   EnsembleKind,
   EnsembleSnapshot,
   EnsembleSpec,
-  JournalSink,
   LifecycleOptions,
-  LifecycleRecord,
-  MemberState,
+  LifecycleSink,
   SeatView,
   VoteKind,
 } from './ensembles/index.js';
@@ -57,6 +55,15 @@ export {
   readFrames,
 } from './frames/index.js';
 export type {
+  JournalRecord,
+  LifecycleCause,
+  LifecycleChange,
+  LifecycleRecord,
+  MemberState,
+  SummaryRecord,
+} from './journal/index.js';
+export { journalLine, LIFECYCLE_CAUSES, parseJournal } from './journal/index.js';
+export type {
   Classifier,
   ClassifierSpec,
   LearnerSnapshot,
@@ -71,8 +78,8 @@ export {
   restoreClassifier,
   restoreRegressor,
 } from './learners/index.js';
-export type { JournalRecord, RunConfig, SummaryRecord } from './pipeline/index.js';
+export type { RunConfig } from './pipeline/index.js';
 export { LearningLoop, resolveConfig } from './pipeline/index.js';
-export { parseJournal, renderReport } from './report/index.js';
+export { renderReport } from './report/index.js';
 export type { StreamGenerator, StreamRequest } from './streams/index.js';
 export { buildStream, STREAM_NAMES } from './streams/index.js';

@@ -5,14 +5,9 @@ import { ShoalError } from '../core/index.js';
 import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
 import { countRows, FrameDecoder, type FrameOptions, readFrames } from '../frames/index.js';
+import type { JournalRecord, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
-import {
-  type JournalRecord,
-  LearningLoop,
-  type RunConfig,
-  resolveConfig,
-  type SummaryRecord,
-} from '../pipeline/index.js';
+import { LearningLoop, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
