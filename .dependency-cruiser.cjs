@@ -35,6 +35,7 @@ module.exports = {
       'streams',
       'journal',
     ]),
+    layer('files', ['core', 'frames', 'journal', 'pipeline']),
     layer('report', ['core', 'evaluation', 'ensembles', 'journal']),
     {
       name: 'model-and-pipeline-stay-free-of-io-libraries',

@@ -46,14 +46,9 @@ export {
 } from './ensembles/index.js';
 export type { ClassificationFigures, ClassificationView } from './evaluation/index.js';
 export { ClassificationEvaluator, RegressionEvaluator, SeatScores } from './evaluation/index.js';
+export { createWriter, readFrames } from './files/index.js';
 export type { Decoded, FeatureSpec, Frame, FrameOptions, FrameWriter, Rejection } from './frames/index.js';
-export {
-  createWriter,
-  decodeArrowMessage,
-  decodeJsonRecord,
-  FrameDecoder,
-  readFrames,
-} from './frames/index.js';
+export { decodeArrowMessage, decodeJsonRecord, FrameDecoder } from './frames/index.js';
 export type {
   JournalRecord,
   LifecycleCause,
