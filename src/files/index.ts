@@ -1,0 +1,2 @@
+export type { FileStoreOptions } from './checkpoint-store.js';
+export { FileCheckpointStore, readCheckpointFile } from './checkpoint-store.js';
