@@ -13,7 +13,7 @@ import {
 } from '../core/index.js';
 import { type ClassifierSpec, createClassifier } from '../learners/index.js';
 import type { EnsembleSnapshot } from './ensemble.js';
-import { type JournalSink, LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions } from './lifecycle.js';
+import { LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions, type LifecycleSink } from './lifecycle.js';
 
 import { SeatedEnsemble } from './seated-ensemble.js';
 import type { Verdict } from './verdict.js';
@@ -84,7 +84,7 @@ export class Boosting extends SeatedEnsemble {
     schema: FeatureSchema,
     spec: BoostingSpec = {},
     seed: Seed = 0,
-    journal: JournalSink = () => {},
+    journal: LifecycleSink = () => {},
     restored?: EnsembleSnapshot,
   ) {
     const options = resolve(spec);
@@ -107,7 +107,7 @@ export class Boosting extends SeatedEnsemble {
     this.ensureClasses(Math.max(1, restored?.lifecycle.classes ?? 1));
   }
 
-  static restore(snapshot: EnsembleSnapshot, journal: JournalSink = () => {}): Boosting {
+  static restore(snapshot: EnsembleSnapshot, journal: LifecycleSink = () => {}): Boosting {
     checkSnapshot(snapshot, KIND, VERSION);
     return new Boosting(snapshot.schema, snapshot.options as BoostingSpec, snapshot.seed, journal, snapshot);
   }

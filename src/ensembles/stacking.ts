@@ -21,7 +21,7 @@ import {
   type MlpOptions,
 } from '../learners/index.js';
 import type { EnsembleSnapshot } from './ensemble.js';
-import { type JournalSink, LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions } from './lifecycle.js';
+import { LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions, type LifecycleSink } from './lifecycle.js';
 
 import { SeatedEnsemble } from './seated-ensemble.js';
 import type { Verdict } from './verdict.js';
@@ -101,7 +101,7 @@ export class Stacking extends SeatedEnsemble {
     schema: FeatureSchema,
     spec: StackingSpec = {},
     seed: Seed = 0,
-    journal: JournalSink = () => {},
+    journal: LifecycleSink = () => {},
     restored?: EnsembleSnapshot,
   ) {
     const options = resolve(spec);
@@ -125,7 +125,7 @@ export class Stacking extends SeatedEnsemble {
     this.lifecycle.ensureClasses(classes);
   }
 
-  static restore(snapshot: EnsembleSnapshot, journal: JournalSink = () => {}): Stacking {
+  static restore(snapshot: EnsembleSnapshot, journal: LifecycleSink = () => {}): Stacking {
     checkSnapshot(snapshot, KIND, VERSION);
     return new Stacking(snapshot.schema, snapshot.options as StackingSpec, snapshot.seed, journal, snapshot);
   }

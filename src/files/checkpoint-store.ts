@@ -1,15 +1,8 @@
 import { mkdir, open, readdir, readFile, rename, unlink } from 'node:fs/promises';
 import { join } from 'node:path';
-import {
-  type CheckpointLoad,
-  type CheckpointStore,
-  decodeCheckpoint,
-  encodeCheckpoint,
-  type RefusedCheckpoint,
-  type RunCheckpoint,
-  type SavedCheckpoint,
-} from '../checkpoint/index.js';
+import { decodeCheckpoint, encodeCheckpoint, type RunCheckpoint } from '../checkpoint/index.js';
 import { integerAtLeast, ShoalError } from '../core/index.js';
+import type { CheckpointStore, StoredCheckpoint } from '../pipeline/index.js';
 
 /**
  * Run checkpoints as files in one directory: `checkpoint-<sequence>.shoal`, numbered in the order they
@@ -17,12 +10,14 @@ import { integerAtLeast, ShoalError } from '../core/index.js';
  * place and flushes the directory, so a crash at any moment leaves either the old set or the new one,
  * never a half-written checkpoint under a checkpoint's name; then it deletes all but the newest `keep`.
  * Reading goes from the newest down: a file that is cut short, whose bytes changed or that has another
- * format version is refused (named, with the reason, in `refused`) and the one before it is used.
+ * format version is refused (its name and the reason in `refused`) and the one before it is used. When
+ * there are checkpoints but none is good, `latest` throws, listing each with its reason: a resume must
+ * not quietly start the run afresh.
  *
  * @example
  * const store = new FileCheckpointStore('run/checkpoints', { keep: 3 });
  * await store.save(checkpoint);
- * const { found, refused } = await store.newest();
+ * const stored = await store.latest(); // { where, checkpoint, refused } or null for an empty directory
  */
 export interface FileStoreOptions {
   /** Checkpoints kept; older ones are deleted after each save. */
@@ -45,7 +40,7 @@ export class FileCheckpointStore implements CheckpointStore {
     integerAtLeast('checkpoint store', 'keep', this.keep, 1);
   }
 
-  async save(checkpoint: RunCheckpoint): Promise<SavedCheckpoint> {
+  async save(checkpoint: RunCheckpoint): Promise<string> {
     await mkdir(this.dir, { recursive: true });
     const existing = await this.list();
     // A temporary file is what a save interrupted by a crash leaves behind: never a checkpoint.
@@ -64,22 +59,26 @@ export class FileCheckpointStore implements CheckpointStore {
     await syncDirectory(this.dir);
     const stale = [...existing.map((e) => e.file), file].slice(0, -this.keep);
     for (const old of stale) await unlink(old);
-    return { name: file };
+    return file;
   }
 
-  async newest(): Promise<CheckpointLoad> {
-    const refused: RefusedCheckpoint[] = [];
+  async latest(): Promise<(StoredCheckpoint & { readonly checkpoint: RunCheckpoint }) | null> {
+    const refused: string[] = [];
     const files = await this.list();
     for (let i = files.length - 1; i >= 0; i--) {
       const { file } = files[i]!;
       try {
-        return { found: { name: file, checkpoint: await readCheckpointFile(file) }, refused };
+        return { where: file, checkpoint: await readCheckpointFile(file), refused };
       } catch (e) {
         if (!(e instanceof ShoalError)) throw e;
-        refused.push({ name: file, reason: e.message });
+        refused.push(e.message);
       }
     }
-    return { found: null, refused };
+    if (refused.length === 0) return null;
+    throw new ShoalError(
+      'invalid-snapshot',
+      `no usable checkpoint in ${this.dir}:\n${refused.map((r) => `  ${r}`).join('\n')}`,
+    );
   }
 
   /** Checkpoint files in the directory, oldest first; temporary files of interrupted saves are left out. */

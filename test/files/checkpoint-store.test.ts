@@ -28,7 +28,7 @@ afterEach(async () => {
 describe('file checkpoint store', () => {
   it('writes through a temporary file and keeps the newest K', async () => {
     const store = new FileCheckpointStore(join(dir, 'ck'), { keep: 3 });
-    expect(await store.newest()).toEqual({ found: null, refused: [] });
+    expect(await store.latest()).toBeNull();
     for (let i = 1; i <= 5; i++) await store.save(checkpoint(i * 100));
     const names = (await readdir(join(dir, 'ck'))).sort();
     expect(names).toEqual([
@@ -36,19 +36,19 @@ describe('file checkpoint store', () => {
       'checkpoint-000000000003.shoal',
       'checkpoint-000000000004.shoal',
     ]);
-    const { found, refused } = await store.newest();
-    expect(refused).toEqual([]);
+    const found = await store.latest();
+    expect(found?.refused).toEqual([]);
     expect(rowsOf(found?.checkpoint)).toBe(500);
     // A second store on the same directory (a resumed process) numbers on from the newest.
     const again = new FileCheckpointStore(join(dir, 'ck'), { keep: 3 });
-    expect((await again.save(checkpoint(600))).name).toMatch(/checkpoint-000000000005\.shoal$/);
+    expect(await again.save(checkpoint(600))).toMatch(/checkpoint-000000000005\.shoal$/);
   });
 
   it('ignores and clears what an interrupted save left behind', async () => {
     const store = new FileCheckpointStore(dir, { keep: 2 });
     await store.save(checkpoint(100));
     await writeFile(join(dir, 'checkpoint-000000000001.shoal.tmp'), 'shoal-checkpoint v1 bytes=99');
-    expect(rowsOf((await store.newest()).found?.checkpoint)).toBe(100);
+    expect(rowsOf((await store.latest())?.checkpoint)).toBe(100);
     await store.save(checkpoint(200));
     expect((await readdir(dir)).sort()).toEqual([
       'checkpoint-000000000000.shoal',
@@ -86,29 +86,29 @@ describe('file checkpoint store', () => {
     const store = new FileCheckpointStore(dir, { keep: 3 });
     await store.save(checkpoint(100));
     await store.save(checkpoint(200));
-    const newest = (await store.save(checkpoint(300))).name;
+    const newest = await store.save(checkpoint(300));
     await spoil(newest);
-    const { found, refused } = await store.newest();
+    const found = await store.latest();
     expect(rowsOf(found?.checkpoint)).toBe(200);
-    expect(found?.name).toMatch(/checkpoint-000000000001\.shoal$/);
-    expect(refused).toHaveLength(1);
-    expect(refused[0]!.name).toBe(newest);
-    expect(refused[0]!.reason).toContain(newest);
-    expect(refused[0]!.reason).toMatch(why);
+    expect(found?.where).toMatch(/checkpoint-000000000001\.shoal$/);
+    expect(found?.refused).toHaveLength(1);
+    expect(found?.refused[0]).toContain(newest);
+    expect(found?.refused[0]).toMatch(why);
     await expect(readCheckpointFile(newest)).rejects.toThrow(why);
   });
 
-  it('reports every checkpoint refused when none is good', async () => {
+  it('refuses to go on when no checkpoint is good, naming each with its reason', async () => {
     const store = new FileCheckpointStore(dir, { keep: 2 });
     await store.save(checkpoint(1));
     await store.save(checkpoint(2));
     for (const name of await readdir(dir)) await truncate(join(dir, name), 10);
-    const { found, refused } = await store.newest();
-    expect(found).toBeNull();
-    expect(refused.map((r) => r.name)).toEqual([
-      join(dir, 'checkpoint-000000000001.shoal'),
-      join(dir, 'checkpoint-000000000000.shoal'),
-    ]);
+    const failure = await store.latest().then(
+      () => null,
+      (e: unknown) => e as Error,
+    );
+    expect(failure?.message).toMatch(/no usable checkpoint in /);
+    expect(failure?.message).toMatch(/checkpoint-000000000001\.shoal: cut short within its header/);
+    expect(failure?.message).toMatch(/checkpoint-000000000000\.shoal: cut short within its header/);
   });
 
   it('refuses a keep below 1 and names a missing file', async () => {
