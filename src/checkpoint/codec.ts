@@ -78,6 +78,8 @@ export function decodeCheckpoint(bytes: Uint8Array, name: string): RunCheckpoint
   for (const field of ['shoal', 'fingerprint', 'createdAt'] as const) {
     if (typeof state[field] !== 'string') refuse(`state.${field} must be a string`);
   }
-  if (typeof state.session !== 'object' || state.session === null) refuse('state.session must be a snapshot');
+  for (const part of ['decoder', 'session'] as const) {
+    if (typeof state[part] !== 'object' || state[part] === null) refuse(`state.${part} must be an object`);
+  }
   return parsed as RunCheckpoint;
 }

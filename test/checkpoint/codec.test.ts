@@ -20,11 +20,14 @@ function sample() {
   const v = new Verdict();
   for (let i = 0; i < 500; i++) ensemble.scoreTrain(row, 0, gen.next(row, 0), v);
   const session = { kind: 'test-session', version: 1, state: { ensemble: ensemble.snapshot(), rows: 500 } };
-  return runCheckpoint(session, {
-    shoal: '0.1.0',
-    fingerprint: configFingerprint({ seed: 5 }),
-    createdAt: '2026-12-02T10:00:00.000Z',
-  });
+  return runCheckpoint(
+    { decoder: { classes: ['0', '1'] }, session },
+    {
+      shoal: '0.1.0',
+      fingerprint: configFingerprint({ seed: 5 }),
+      createdAt: '2026-12-02T10:00:00.000Z',
+    },
+  );
 }
 
 describe('checkpoint bytes', () => {
@@ -105,7 +108,7 @@ describe('checkpoint bytes', () => {
     expectShoalError(
       () => decodeCheckpoint(encodeCheckpoint(broken), 's.shoal'),
       'invalid-snapshot',
-      /s\.shoal: state\.session/,
+      /s\.shoal: state\.session must be an object/,
     );
   });
 });

@@ -7,7 +7,7 @@ import { FileCheckpointStore, readCheckpointFile } from '../../src/files/index.j
 
 const checkpoint = (rows: number): RunCheckpoint =>
   runCheckpoint(
-    { kind: 'test-session', version: 1, state: { rows } },
+    { decoder: {}, session: { kind: 'test-session', version: 1, state: { rows } } },
     {
       shoal: '0.1.0',
       fingerprint: 'f'.repeat(64),
@@ -15,7 +15,7 @@ const checkpoint = (rows: number): RunCheckpoint =>
     },
   );
 const rowsOf = (c: RunCheckpoint | undefined): unknown =>
-  (c?.state.session.state as { rows: number } | undefined)?.rows;
+  (c?.state.session as { state: { rows: number } } | undefined)?.state.rows;
 
 let dir: string;
 beforeEach(async () => {
