@@ -83,7 +83,7 @@ export interface LifecycleRecord {
   readonly from: MemberState | null;
   readonly to: MemberState;
   readonly detector: string;
-  /** The monitor's estimate of the member's error rate at the change. */
+  /** The monitor's estimate of the member's error rate at the change (at the alarm, for a drift). */
   readonly estimate: number;
   readonly reason: string;
 }
@@ -329,13 +329,15 @@ export class Lifecycle {
     if (seat.understudy !== null) seat.understudyAge++;
     if (seat.state === 'warming' && seat.age >= o.warmup) this.move(row, seat, 'active', 'warm-up complete');
     const monitor = seat.monitor;
-    const before = monitor.estimate;
     const level = monitor.update(correct ? 0 : 1);
     if (seat.age < o.minAge) return false;
     if (seat.due) return this.replace(seat, row);
     if (level === 'drift') {
-      if (!(monitor.estimate > before)) {
+      // The detector says which way the error rate moved, from its statistics at the alarm.
+      if (monitor.shift === 'fall') {
         if (seat.state === 'watched') this.clearWatch(row, seat, 'drift towards fewer errors');
+        else
+          this.write(row, seat, seat.state, seat.state, 'drift towards fewer errors', monitor.alarmEstimate);
         return false;
       }
       return this.replace(seat, row);
@@ -418,7 +420,7 @@ export class Lifecycle {
       return false;
     }
     seat.due = false;
-    this.move(row, seat, 'retired', 'drift');
+    this.move(row, seat, 'retired', 'drift', seat.monitor.alarmEstimate);
     let reason: string;
     if (seat.understudy !== null) {
       seat.member = seat.understudy;
@@ -447,13 +449,26 @@ export class Lifecycle {
     return true;
   }
 
-  private move(row: number, seat: Seat, to: MemberState, reason: string): void {
+  private move(
+    row: number,
+    seat: Seat,
+    to: MemberState,
+    reason: string,
+    estimate = seat.monitor.estimate,
+  ): void {
     const from = seat.state;
     seat.state = to;
-    this.write(row, seat, from, to, reason);
+    this.write(row, seat, from, to, reason, estimate);
   }
 
-  private write(row: number, seat: Seat, from: MemberState | null, to: MemberState, reason: string): void {
+  private write(
+    row: number,
+    seat: Seat,
+    from: MemberState | null,
+    to: MemberState,
+    reason: string,
+    estimate = seat.monitor.estimate,
+  ): void {
     this.journal({
       type: 'lifecycle',
       row,
@@ -462,7 +477,7 @@ export class Lifecycle {
       from,
       to,
       detector: seat.monitor.kind,
-      estimate: seat.monitor.estimate,
+      estimate,
       reason,
     });
   }
