@@ -111,6 +111,8 @@ export class Seat {
   stableRun = 0;
   /** A drift was found while the replacement cap was reached: replace as soon as the cap allows. */
   due = false;
+  /** The monitor's estimate at the alarm that made the seat due (journaled when it is replaced). */
+  dueEstimate = 0;
   /** No new watch before this age: a warning just cleared should not reopen on the next row. */
   calmUntil = 0;
   private readonly ring: Uint8Array;
@@ -174,6 +176,7 @@ export class Seat {
       understudyAge: this.understudyAge,
       stableRun: this.stableRun,
       due: this.due,
+      dueEstimate: this.dueEstimate,
       calmUntil: this.calmUntil,
       ring: Array.from(this.ring).join(''),
       ringAt: this.ringAt,
@@ -197,6 +200,7 @@ export class Seat {
     seat.understudyAge = s.understudyAge;
     seat.stableRun = s.stableRun;
     seat.due = s.due;
+    seat.dueEstimate = s.dueEstimate ?? 0;
     seat.calmUntil = s.calmUntil;
     if (s.ring.length !== window) {
       throw new ShoalError(
@@ -224,6 +228,7 @@ export interface SeatSnapshot {
   readonly understudyAge: number;
   readonly stableRun: number;
   readonly due: boolean;
+  readonly dueEstimate?: number;
   readonly calmUntil: number;
   readonly ring: string;
   readonly ringAt: number;
@@ -409,18 +414,21 @@ export class Lifecycle {
     if (this.replacements.length >= o.maxReplacements) {
       if (!seat.due) {
         seat.due = true;
+        seat.dueEstimate = seat.monitor.alarmEstimate;
         this.write(
           row,
           seat,
           seat.state,
           seat.state,
           `drift; replacement deferred (cap of ${o.maxReplacements} per ${o.replacementWindow} rows)`,
+          seat.dueEstimate,
         );
       }
       return false;
     }
+    const estimate = seat.due ? seat.dueEstimate : seat.monitor.alarmEstimate;
     seat.due = false;
-    this.move(row, seat, 'retired', 'drift', seat.monitor.alarmEstimate);
+    this.move(row, seat, 'retired', 'drift', estimate);
     let reason: string;
     if (seat.understudy !== null) {
       seat.member = seat.understudy;
