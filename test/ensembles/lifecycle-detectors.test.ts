@@ -79,7 +79,7 @@ describe('every detector as the member monitor replaces members on real drift', 
           stream(),
           c.rows,
         );
-        const retired = journal.records.filter((r) => r.to === 'retired').map((r) => r.row);
+        const retired = journal.records.filter((r) => r.to === 'retired').map((r) => r.trained);
         const delays = detectionDelays(retired, c.changes, c.rows);
         note(
           `${kind} on ${c.request.generator}: delays ${delays.join(', ')} (bound ${c.delay[kind]}); ` +
