@@ -171,10 +171,7 @@ export class Bagging extends SeatedEnsemble {
       if (seat.understudy !== null) seat.understudy.train(row, offset, label, k);
       lifecycle.judge(seat, predicted === label, this.rows);
     }
-    if (verdict !== null) {
-      combineVotes(this.hard, probs, preds, weights, seats.length, classes, verdict);
-      verdict.epoch = lifecycle.epoch;
-    }
+    if (verdict !== null) combineVotes(this.hard, probs, preds, weights, seats.length, classes, verdict);
   }
 
   private weight(seat: Seat): number {

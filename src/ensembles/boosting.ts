@@ -123,11 +123,8 @@ export class Boosting extends SeatedEnsemble {
     const { probs, preds, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     for (let m = 0; m < seats.length; m++) preds[m] = seats[m]!.member.score(row, offset, probs, m * classes);
+    this.weigh();
     this.vote(verdict);
-  }
-
-  protected override classesGrew(n: number): void {
-    this.probe = new Float64Array(n);
   }
 
   protected state(): BoostingState {
@@ -138,6 +135,12 @@ export class Boosting extends SeatedEnsemble {
     const { probs, preds, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     const cap = this.options.maxRepeats;
+    // The vote weights are those the members had before this row's label was known: the same
+    // verdict as `score` gives when the label comes later.
+    if (verdict !== null) this.weigh();
+    // A member that has just learnt a new class answers with one more probability than the ensemble knows.
+    const answers = label < classes ? classes : label + 1;
+    if (this.probe.length < answers) this.probe = new Float64Array(answers);
     let lambda = 1;
     for (let m = 0; m < seats.length; m++) {
       const seat = seats[m]!;
@@ -161,16 +164,21 @@ export class Boosting extends SeatedEnsemble {
     if (verdict !== null) this.vote(verdict);
   }
 
-  /** Weighted hard vote: log((1 − ε)/ε) for members with ε < 0.5 that are not warming. */
-  private vote(verdict: Verdict): void {
-    const { probs, preds, weights, classes } = this.scratch;
+  /** Vote weights: log((1 − ε)/ε) for members with ε < 0.5 that are not warming, 0 for the others. */
+  private weigh(): void {
+    const { weights } = this.scratch;
     const seats = this.lifecycle.seats;
     for (let m = 0; m < seats.length; m++) {
       const e = this.errorOf(m);
       weights[m] =
         e < 0.5 && this.lifecycle.votes(seats[m]!) ? Math.log((1 - e) / Math.max(MIN_ERROR, e)) : 0;
     }
-    combineVotes(true, probs, preds, weights, seats.length, classes, verdict);
+  }
+
+  /** Weighted hard vote of the members' predictions with the weights `weigh` set. */
+  private vote(verdict: Verdict): void {
+    const { probs, preds, weights, classes } = this.scratch;
+    combineVotes(true, probs, preds, weights, this.lifecycle.seats.length, classes, verdict);
     verdict.epoch = this.lifecycle.epoch;
   }
 }

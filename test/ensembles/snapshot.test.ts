@@ -40,14 +40,6 @@ function run(spec: EnsembleSpec, rows: number, seed: number) {
 }
 
 describe.each(SPECS)('$kind ensemble', (spec) => {
-  it('is deterministic: the same seed gives bit-identical verdicts and journals', () => {
-    const a = run(spec, 4000, 3);
-    const b = run(spec, 4000, 3);
-    expect(b.trace).toEqual(a.trace);
-    expect(b.records).toEqual(a.records);
-    expect(run(spec, 4000, 4).trace).not.toEqual(a.trace);
-  });
-
   it('restores mid-stream, with an understudy in flight, and continues identically', () => {
     const a = run(spec, 1500, 3);
     const gen = a.gen;
