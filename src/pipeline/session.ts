@@ -172,6 +172,7 @@ export class LearningSession {
         }
       } else {
         ensemble.scoreTrain(values, offset, label, verdict);
+        if (ids !== null && pending.settled(ids[r]!) === GONE_EVICTED) counts.evictedPredictions++;
         counts.inline++;
         counts.trained++;
         this.judge(verdict.predicted, label, label < verdict.classes ? verdict.probabilities[label]! : 0);

@@ -184,6 +184,10 @@ describe('the learning session', () => {
     expect(counts).toMatchObject({ late: 1, expiredPredictions: 2, pending: 0 });
     expectCountsAddUp(counts, 5, 4);
     expect(s.learn(labelsFrame(['e9'], [Number.NaN]), gen.classes)).toBe(1);
+    // A row that came with its label was judged at once: a later label for its id is a duplicate.
+    s.score(frameOf(gen, 1, { first: 50, ids: true }), gen.classes);
+    learn('e50');
+    expect(s.labelCounts()).toMatchObject({ inline: 1, duplicate: 2 });
   });
 
   it('keeps its bound under a flood of 10× its capacity in unknown labels and in predictions', () => {
