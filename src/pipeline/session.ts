@@ -420,6 +420,7 @@ export class LearningSession {
 
   private delay(ms: number): void {
     const seconds = ms / 1000;
+    this.counts.delaySeconds += seconds;
     let k = 0;
     while (k < LABEL_DELAY_BOUNDS.length && seconds > LABEL_DELAY_BOUNDS[k]!) k++;
     this.delays[k]!++;
@@ -498,6 +499,10 @@ export class LearningSession {
     return Array.from(this.delays);
   }
 
+  delaySum(): number {
+    return this.counts.delaySeconds;
+  }
+
   seats(): readonly SeatView[] {
     return this.ensemble?.seats() ?? [];
   }
@@ -536,6 +541,8 @@ class Counts {
   warnings = 0;
   replacements = 0;
   inputDrifts = 0;
+  /** Sum of the delays of joined labels, in seconds. */
+  delaySeconds = 0;
 }
 
 export type SessionCounts = { readonly [K in keyof Counts]: number };
@@ -590,7 +597,7 @@ function metricsOf(s: LearningSession): SessionMetrics {
     get windowKappa() {
       return s.windowFigures().kappa;
     },
-    labelDelays: () => ({ bounds: LABEL_DELAY_BOUNDS, counts: s.labelDelays() }),
+    labelDelays: () => ({ bounds: LABEL_DELAY_BOUNDS, counts: s.labelDelays(), sum: s.delaySum() }),
     lifecycleCounts: () => s.causeCounts(),
     inputDrifts: () => s.inputDriftsByFeature(),
     recentDriftSignals: () => s.recentDriftSignals(),
