@@ -86,7 +86,8 @@ const VERSION = 1;
  * @example
  * const session = new LearningSession({ config, source: 'legs.arrow', journal, clock, version });
  * for await (const { frame } of readFrames('legs.arrow', decoder)) session.score(frame, decoder.classes);
- * for await (const { frame } of readFrames('labels.csv', decoder.labelsDecoder())) session.learn(frame, decoder.classes);
+ * const labels = decoder.labelsDecoder({ id: 'leg_id', label: 'rejected' });
+ * for await (const { frame } of readFrames('labels.csv', labels)) session.learn(frame, decoder.classes);
  * const summary = session.finish(decoder.classes);
  */
 export class LearningSession {
