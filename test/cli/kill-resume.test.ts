@@ -12,8 +12,8 @@ import { note } from '../support/note.js';
  * Crash and resume, for real: the built CLI (`dist/`, via bin/shoal.js) replays 200,000 rows of SEA with
  * abrupt concept changes (Street & Kim 2001) — enough for the lifecycle to replace members — writing a
  * checkpoint every 10,000 rows. It is killed with SIGKILL at 5 seeded points (after a seeded number of
- * checkpoints, then a seeded pause so the kill lands at an arbitrary moment of the work, a save
- * included), each time resumed with `--resume`, and must end with the checkpoint an uninterrupted run
+ * checkpoints — and at least one more than the process started from — then a seeded pause so the kill
+ * lands at an arbitrary moment of the work, a save included), each time resumed with `--resume`, and must end with the checkpoint an uninterrupted run
  * ends with: the same decoder and session snapshot, byte for byte.
  */
 const ROWS = 200_000;
@@ -114,7 +114,9 @@ describe.each(['bagging', 'boosting', 'stacking'] as const)(
         void child.done.then(() => {
           exited = true;
         });
-        while (!exited && (await newestSequence(dir)) < targets[k]!) await sleep(5);
+        // Each process writes at least one checkpoint of its own before it is killed.
+        const target = Math.max(targets[k]!, (await newestSequence(dir)) + 1);
+        while (!exited && (await newestSequence(dir)) < target) await sleep(5);
         await sleep(pauses[k]!);
         child.process.kill('SIGKILL');
         const end = await child.done;
