@@ -161,7 +161,7 @@ function render(s: CheckpointSummary): string {
     ['recent window', `accuracy ${figure(s.window.accuracy)}, kappa ${figure(s.window.kappa)}`],
   ];
   for (const [stream, next] of Object.entries(s.positions))
-    facts.push(['resumes', `${stream} at ${count(Number(next))}`]);
+    facts.push(['resumes', `${stream} at ${BigInt(next).toLocaleString('en-US')}`]);
   const wide = Math.max(...facts.map((f) => f[0].length));
   for (const [k, v] of facts) lines.push(`  ${k.padEnd(wide)}  ${v}`);
   if (s.seats.length > 0) {
