@@ -51,7 +51,7 @@ const STATE_VERSION = 1;
 export class FrameDecoder {
   readonly options: ResolvedOptions;
   readonly buffer = new FrameBuffer();
-  private readonly given: FrameOptions;
+  private given: FrameOptions;
   private labels: LabelDictionary;
   private current: FeatureSchema | null = null;
   private vocabularies: (Vocabulary | null)[] = [];
@@ -259,6 +259,9 @@ export class FrameDecoder {
       );
     }
     const decoder = new FrameDecoder({ ...state.options, classes: state.classes }, 'frame decoder state');
+    // The classes seed the label dictionary; the options the decoder reports stay the ones it was given,
+    // so that its snapshot after a restore is the snapshot it was restored from.
+    decoder.given = state.options;
     decoder.labels.mode = state.labelMode;
     if (state.features === null) return decoder;
     const issues: ConfigIssue[] = [];

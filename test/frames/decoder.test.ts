@@ -183,6 +183,7 @@ describe('checkpoints', () => {
     records(original, stream);
     const state = JSON.parse(JSON.stringify(original.snapshot())) as FrameDecoderState;
     const restored = FrameDecoder.restore(state);
+    expect(JSON.stringify(restored.snapshot())).toBe(JSON.stringify(original.snapshot()));
     expect(restored.schema).toEqual(original.schema);
     expect(restored.classes).toEqual(original.classes);
     expect(records(restored, later)).toEqual(records(original, later));
