@@ -4,6 +4,7 @@ import { ShoalError } from '../core/index.js';
 import { restoreEnsemble } from '../ensembles/index.js';
 import { ClassificationEvaluator, orNull } from '../evaluation/index.js';
 import { FileCheckpointStore, readCheckpointFile } from '../files/index.js';
+import type { FrameDecoderSnapshot } from '../frames/index.js';
 import { restoreClassifier } from '../learners/index.js';
 import type { SessionSnapshot } from '../pipeline/index.js';
 import { parse, positionals } from './args.js';
@@ -93,7 +94,7 @@ export function summarizeCheckpoint(
 ): CheckpointSummary {
   const { state } = checkpoint;
   const session = state.session as SessionSnapshot;
-  const decoder = state.decoder as { classes?: readonly string[] };
+  const decoder = state.decoder as FrameDecoderSnapshot;
   const evaluator = ClassificationEvaluator.restore(session.evaluator);
   const judged = session.counts.judged;
   const ensemble = session.ensemble === null ? null : restoreEnsemble(session.ensemble);
@@ -122,7 +123,7 @@ export function summarizeCheckpoint(
     fingerprint: state.fingerprint,
     ensemble: session.ensemble?.kind ?? null,
     seed: String(session.config.seed),
-    classes: decoder.classes ?? [],
+    classes: decoder.state.classes,
     scored: session.counts.scored,
     trained: session.counts.trained,
     judged,

@@ -1,7 +1,7 @@
 import { configFingerprint, type RunCheckpoint, runCheckpoint } from '../checkpoint/index.js';
 import { ShoalError } from '../core/index.js';
 import { FileCheckpointStore } from '../files/index.js';
-import { FrameDecoder, type FrameDecoderState } from '../frames/index.js';
+import { FrameDecoder, type FrameDecoderSnapshot } from '../frames/index.js';
 import {
   LearningSession,
   type RunConfig,
@@ -59,7 +59,7 @@ export class ReplayCheckpoints {
     }
     for (const why of stored.refused) terminal.err(`shoal replay: refused ${why}\n`);
     if (stored.refused.length > 0) terminal.err(`shoal replay: going on from ${stored.where}\n`);
-    const { state } = stored.checkpoint as RunCheckpoint<FrameDecoderState, SessionSnapshot>;
+    const { state } = stored.checkpoint as RunCheckpoint<FrameDecoderSnapshot, SessionSnapshot>;
     if (state.fingerprint !== this.fingerprint) {
       throw new ShoalError(
         'invalid-config',
