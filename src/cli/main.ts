@@ -1,4 +1,5 @@
 import { ShoalError } from '../core/index.js';
+import { DEMO_HELP, demo } from './demo.js';
 import { INSPECT_HELP, inspect } from './inspect.js';
 import { REPLAY_HELP, replay } from './replay.js';
 import { REPORT_HELP, report } from './report.js';
@@ -9,6 +10,7 @@ import { shoalVersion } from './version.js';
 const COMMANDS: Readonly<
   Record<string, { run: (args: readonly string[], t: Terminal) => Promise<number>; help: string }>
 > = {
+  demo: { run: demo, help: DEMO_HELP },
   replay: { run: replay, help: REPLAY_HELP },
   synth: { run: synth, help: SYNTH_HELP },
   report: { run: report, help: REPORT_HELP },
@@ -18,6 +20,8 @@ const COMMANDS: Readonly<
 const USAGE = `shoal — online ensembles that keep scoring while the world changes
 
 Commands:
+  shoal demo             the embedded demo: an invented cold-chain stream scored, joined with late
+                         labels, drifting and healed, in-process (no broker); journal, checkpoint, report
   shoal replay FILE      run a recorded stream through an ensemble, test-then-train, and summarise it
   shoal synth GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
   shoal report JOURNAL   turn a run's journal into a self-contained HTML report

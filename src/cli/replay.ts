@@ -2,14 +2,15 @@ import { writeFile } from 'node:fs/promises';
 import { ShoalError } from '../core/index.js';
 import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
-import { countRows, deadLetterFile, journalFile } from '../files/index.js';
+import { countRows, deadLetterFile } from '../files/index.js';
 import { FrameDecoder, type FrameOptions } from '../frames/index.js';
-import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index.js';
+import type { LabelCounts, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
 import { LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
+import { JournalOut } from './journal-out.js';
 import { Progress } from './progress.js';
 import { DEFAULT_CHECKPOINT_EVERY, ReplayCheckpoints } from './replay-checkpoints.js';
 import { feed, type LabelTiming } from './replay-feed.js';
@@ -160,31 +161,6 @@ function frameOptions(config: RunConfig): FrameOptions {
     ...(features === null ? {} : { features: features as FrameOptions['features'] & object }),
     ...(vocabulary === null ? {} : { vocabulary }),
   };
-}
-
-/** The journal: to a file when a path is given, and kept in memory when the report needs it. */
-class JournalOut {
-  readonly kept: JournalRecord[] = [];
-  private readonly file: ReturnType<typeof journalFile> | null;
-  private readonly keep: boolean;
-
-  constructor(path: string | undefined, keep: boolean) {
-    this.file = path === undefined ? null : journalFile(path);
-    this.keep = keep;
-  }
-
-  write(record: JournalRecord): void {
-    if (this.keep) this.kept.push(record);
-    this.file?.write(record);
-  }
-
-  async flush(): Promise<void> {
-    await this.file?.flush();
-  }
-
-  async close(): Promise<void> {
-    await this.file?.close();
-  }
 }
 
 export async function replay(args: readonly string[], terminal: Terminal): Promise<number> {

@@ -12,6 +12,8 @@ import { timeline } from './timeline.js';
 export interface ReportOptions {
   /** The document's title; default: 'Shoal run report'. */
   readonly title?: string;
+  /** The caution in the footer; default: `CAUTION`. A setting with its own rules names them here. */
+  readonly caution?: string;
 }
 
 export const CAUTION =
@@ -57,7 +59,7 @@ export function renderReport(records: readonly JournalRecord[], options: ReportO
     '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">' +
     '<meta name="viewport" content="width=device-width, initial-scale=1">' +
     `<title>${escapeHtml(title)}</title><style>${STYLE}</style></head>` +
-    `<body><main>${sections.join('\n')}\n<footer>${escapeHtml(CAUTION)}</footer></main></body></html>\n`
+    `<body><main>${sections.join('\n')}\n<footer>${escapeHtml(options.caution ?? CAUTION)}</footer></main></body></html>\n`
   );
 }
 
