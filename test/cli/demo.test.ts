@@ -1,0 +1,85 @@
+import { spawn } from 'node:child_process';
+import { readdir, readFile, stat } from 'node:fs/promises';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import type { LifecycleRecord } from '../../src/journal/index.js';
+import { parseJournal } from '../../src/journal/index.js';
+import { driftRows, SCRIPT } from '../../src/scenario/index.js';
+import { scratch } from '../support/cli.js';
+import { note } from '../support/note.js';
+
+/**
+ * `shoal demo --rows 20000` run as a user runs it: the built CLI (bin/shoal.js) as a child process on a
+ * non-terminal (pipes). With the default ensemble (10-member bagging of Hoeffding trees, ADWIN per
+ * member) and the default seed, every scripted abrupt drift is followed within TOLERANCE legs by a
+ * member drift signal and a replacement, and the first stable stretch has neither.
+ */
+const ROWS = 20_000;
+/** Legs after an abrupt drift within which a signal and a replacement must appear (10% of the run). */
+const TOLERANCE = 2_000;
+const SIGNAL = new Set(['drift', 'drift-deferred', 'drift-ignored-improving']);
+const REPLACED = new Set(['promoted', 'fresh']);
+
+function run(args: readonly string[]): Promise<{ code: number | null; out: string; err: string }> {
+  return new Promise((resolve, reject) => {
+    const child = spawn(process.execPath, ['bin/shoal.js', ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
+    let out = '';
+    let err = '';
+    child.stdout.on('data', (d) => {
+      out += d;
+    });
+    child.stderr.on('data', (d) => {
+      err += d;
+    });
+    child.on('error', reject);
+    child.on('close', (code) => resolve({ code, out, err }));
+  });
+}
+
+describe('shoal demo', () => {
+  it('runs the scenario: drift signals and replacements after each abrupt drift, a journal, checkpoint and report', async () => {
+    const dir = await scratch();
+    const { code, out, err } = await run(['demo', '--rows', String(ROWS), '--out', dir]);
+    expect(err).not.toMatch(/unexpected failure/);
+    expect(code).toBe(0);
+    // Plain progress lines and events on a non-terminal: no cursor movement.
+    expect(err).not.toContain('\x1b[');
+    expect(err).toMatch(/^legs 20,000 \/ 20,000 /m);
+    expect(err).toMatch(/^event {2}leg 6,000 {2}scenario: stricter seafood inspection/m);
+    expect(out).toContain("the operator's HACCP plan and the inspector");
+    const journalPath = join(dir, 'journal.ndjson');
+    expect(out).toContain(`journal     ${journalPath}`);
+    expect(out).toContain(`report      ${join(dir, 'report.html')}`);
+
+    const records = parseJournal(await readFile(journalPath, 'utf8'), journalPath);
+    const changes = records.filter((r): r is LifecycleRecord => r.type === 'lifecycle');
+    const at = driftRows(ROWS);
+    const firstDrift = Math.min(...at.values());
+    const early = changes.filter(
+      (c) => c.scored <= firstDrift && (SIGNAL.has(c.cause) || REPLACED.has(c.cause)),
+    );
+    expect(early).toEqual([]);
+    for (const d of SCRIPT.filter((s) => s.kind === 'abrupt')) {
+      const row = at.get(d.name)!;
+      const near = changes.filter((c) => c.scored > row && c.scored <= row + TOLERANCE);
+      const signal = near.find((c) => SIGNAL.has(c.cause) && c.cause !== 'drift-ignored-improving');
+      const replaced = near.find((c) => REPLACED.has(c.cause));
+      note(
+        `${d.name} at leg ${row}: first drift signal ${signal ? `+${signal.scored - row}` : 'none'}, first replacement ${replaced ? `+${replaced.scored - row}` : 'none'} (tolerance ${TOLERANCE})`,
+      );
+      expect(signal, `${d.name}: a member drift signal within ${TOLERANCE} legs`).toBeDefined();
+      expect(replaced, `${d.name}: a replacement within ${TOLERANCE} legs`).toBeDefined();
+    }
+    const summary = records.findLast((r) => r.type === 'summary');
+    expect(summary).toMatchObject({ scored: ROWS });
+    expect(summary!.type === 'summary' && summary!.labels.joined).toBe(ROWS);
+
+    const checkpoints = await readdir(join(dir, 'checkpoints'));
+    expect(checkpoints.some((f) => /^checkpoint-\d+\.shoal$/.test(f))).toBe(true);
+    const report = await readFile(join(dir, 'report.html'), 'utf8');
+    expect((await stat(join(dir, 'report.html'))).size).toBeGreaterThan(10_000);
+    expect(report).toContain('Accuracy and κ over the run');
+    expect(report.match(/<svg/g)?.length ?? 0).toBeGreaterThanOrEqual(2);
+    expect(report).toContain('HACCP');
+  });
+});
