@@ -53,7 +53,6 @@ function draw(seed: number, length = LENGTH): Legs {
 
 /** Mean of `f(row)` over rows [from, to) where `keep(row)` holds, with the count. */
 function mean(
-  legs: Legs,
   from: number,
   to: number,
   f: (i: number) => number,
@@ -86,13 +85,13 @@ describe('freight scenario', () => {
   it('the stricter seafood rule rejects most seafood from its row on, and leaves other classes alone', () => {
     const d = at.get('seafood-rule')!;
     const isSeafood = (i: number) => v(i, PRODUCT) === SEAFOOD;
-    const before = mean(legs, 2000, d, (i) => legs.labels[i]!, isSeafood);
-    const after = mean(legs, d, d + 2000, (i) => legs.labels[i]!, isSeafood);
+    const before = mean(2000, d, (i) => legs.labels[i]!, isSeafood);
+    const after = mean(d, d + 2000, (i) => legs.labels[i]!, isSeafood);
     expect(before.mean).toBeLessThan(0.4);
     expect(after.mean).toBeGreaterThan(0.85);
     const others = (i: number) => v(i, PRODUCT) !== SEAFOOD;
-    const o1 = mean(legs, 2000, d, (i) => legs.labels[i]!, others).mean;
-    const o2 = mean(legs, d, d + 2000, (i) => legs.labels[i]!, others).mean;
+    const o1 = mean(2000, d, (i) => legs.labels[i]!, others).mean;
+    const o2 = mean(d, d + 2000, (i) => legs.labels[i]!, others).mean;
     expect(Math.abs(o2 - o1)).toBeLessThan(0.05);
   });
 
@@ -103,8 +102,8 @@ describe('freight scenario', () => {
     expect(s.heatAt(11_000)).toBe(9);
     expect(s.heatAt(14_000)).toBe(9);
     expect(s.heatAt(18_000)).toBe(0);
-    const calm = mean(legs, 2000, 8000, (i) => v(i, AMBIENT)).mean;
-    const hot = mean(legs, 11_000, 14_000, (i) => v(i, AMBIENT)).mean;
+    const calm = mean(2000, 8000, (i) => v(i, AMBIENT)).mean;
+    const hot = mean(11_000, 14_000, (i) => v(i, AMBIENT)).mean;
     // Ambient noise has sd 4 °C: 3,000 legs put the mean within ±0.3 °C.
     expect(hot - calm).toBeGreaterThan(8.4);
     expect(hot - calm).toBeLessThan(9.6);
@@ -116,8 +115,8 @@ describe('freight scenario', () => {
     expect(FIRMWARE[1]).toBe('thermo-ox 3.0');
     // Same stretch of the heat wave (its plateau) on both sides, so only the sensor changed.
     const excess = (i: number) => v(i, MEAN) - v(i, SETPOINT);
-    const before = mean(legs, 11_000, d, excess).mean;
-    const after = mean(legs, d, 14_000, excess).mean;
+    const before = mean(11_000, d, excess).mean;
+    const after = mean(d, 14_000, excess).mean;
     expect(before - after).toBeGreaterThan(4.7);
     expect(before - after).toBeLessThan(5.3);
   });
@@ -125,7 +124,7 @@ describe('freight scenario', () => {
   it('the new carrier appears only at its row, on half of the legs', () => {
     const d = at.get('new-carrier')!;
     for (let i = 0; i < d; i++) expect(v(i, CARRIER)).not.toBe(NEW_CARRIER);
-    const share = mean(legs, d, LENGTH, (i) => (v(i, CARRIER) === NEW_CARRIER ? 1 : 0)).mean;
+    const share = mean(d, LENGTH, (i) => (v(i, CARRIER) === NEW_CARRIER ? 1 : 0)).mean;
     // 4,000 legs at p = 0.5: sd 0.008, so ±0.03 is beyond 3 sd.
     expect(Math.abs(share - 0.5)).toBeLessThan(0.03);
   });
