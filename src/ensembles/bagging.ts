@@ -147,7 +147,7 @@ export class Bagging extends SeatedEnsemble {
       const seat = seats[m]!;
       preds[m] = seat.member.score(row, offset, probs, m * classes);
       weights[m] = this.weight(seat);
-      confidence[m] = seat.recentAccuracy;
+      confidence[m] = seat.trust;
     }
     combineVotes(this.hard, probs, preds, weights, confidence, seats.length, classes, verdict);
     verdict.epoch = this.lifecycle.epoch;
@@ -167,9 +167,10 @@ export class Bagging extends SeatedEnsemble {
       const k = this.sampler.sample(this.poisson[m]!);
       this.draws[m] = k;
       weights[m] = this.weight(seat);
-      confidence[m] = seat.recentAccuracy;
+      confidence[m] = seat.trust;
       const predicted = seat.member.scoreTrain(row, offset, label, k, probs, m * classes);
       preds[m] = predicted;
+      seat.calibrate(label < classes ? probs[m * classes + label]! : 0, classes);
       if (seat.understudy !== null) seat.understudy.train(row, offset, label, k);
       lifecycle.judge(seat, predicted === label, this.rows);
     }
