@@ -1,7 +1,6 @@
 import { type MessagePort, receiveMessageOnPort } from 'node:worker_threads';
 import { ShoalError, type ShoalErrorCode } from '../core/index.js';
-import type { Bagging } from './bagging.js';
-import { Verdict } from './verdict.js';
+import { type Bagging, Verdict } from '../ensembles/index.js';
 
 /**
  * How a batch of rows reaches a shard of a bagging ensemble in another thread, and how its members'

@@ -1,9 +1,7 @@
 import { MessageChannel, Worker } from 'node:worker_threads';
 import { type FeatureSchema, integerAtLeast, type Seed, ShoalError } from '../core/index.js';
-import { Bagging, type BaggingSpec } from './bagging.js';
+import { Bagging, type BaggingSpec, combineVotes, Verdict } from '../ensembles/index.js';
 import { channelControl, runShard, ShardAnswers, ShardClient, shardReady } from './shard-channel.js';
-import { Verdict } from './verdict.js';
-import { combineVotes } from './vote.js';
 
 /**
  * Online bagging with its members split over threads. Members of online bagging are independent —
