@@ -34,6 +34,13 @@ module.exports = {
       'streams',
     ]),
     layer('report', ['core', 'evaluation', 'ensembles', 'pipeline']),
+    layer('telemetry', ['core']),
+    {
+      name: 'only-telemetry-imports-prom-client',
+      severity: 'error',
+      from: { pathNot: '^src/telemetry/' },
+      to: { path: 'node_modules/prom-client/' },
+    },
     {
       name: 'model-and-pipeline-stay-free-of-io-libraries',
       severity: 'error',

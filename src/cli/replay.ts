@@ -14,9 +14,12 @@ import {
   type SummaryRecord,
 } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
+import { parseListen, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
+import { Pacer } from './pacer.js';
 import { Progress } from './progress.js';
+import { RunTelemetry } from './run-telemetry.js';
 import { count, figure, type Terminal, table } from './terminal.js';
 import { shoalVersion } from './version.js';
 
@@ -39,6 +42,10 @@ Options:
   --report PATH     write a self-contained HTML report of the run
   --rejects PATH    write rows that cannot be decoded to PATH (NDJSON: source, position, reason) and go on;
                     without it the first bad row stops the run with a message naming file and line
+  --metrics HOST:PORT
+                    serve /metrics, /healthz, /readyz and /status on HOST:PORT while the run lasts
+                    (Prometheus; see deploy/prometheus). Off by default
+  --pace N          replay at most N rows per second, as a live stream would arrive (default: as fast as possible)
   --json            print one JSON object instead of the summary table
 Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.`;
 
@@ -131,6 +138,8 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     report: { type: 'string' },
     json: { type: 'boolean' },
     rejects: { type: 'string' },
+    metrics: { type: 'string' },
+    pace: { type: 'string' },
   });
   if (parsed.values.help) {
     terminal.out(`${REPLAY_HELP}\n`);
@@ -145,13 +154,30 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const journal = new NdjsonOut<JournalRecord>(text(parsed, 'journal'), reportPath !== undefined);
   const rejectsPath = text(parsed, 'rejects');
   const rejects = new NdjsonOut<RejectedRow>(rejectsPath, false);
+  const listen = text(parsed, 'metrics');
+  const pace = whole('replay', parsed, 'pace');
+  let tap: RunTelemetry | null = null;
   const loop = new LearningLoop({
     config,
     source: file!,
-    journal: (r) => journal.write(r),
+    journal: (r) => {
+      tap?.record(r);
+      journal.write(r);
+    },
     clock: () => terminal.now(),
     version: shoalVersion(),
   });
+  let telemetry: TelemetryServer | null = null;
+  if (listen !== undefined) {
+    tap = new RunTelemetry(loop);
+    telemetry = new TelemetryServer(tap, {
+      ...parseListen(listen, 'replay --metrics'),
+      version: shoalVersion(),
+      readiness: ['model'],
+    });
+    await telemetry.start();
+  }
+  const pacer = new Pacer(pace, () => terminal.now());
   const json = parsed.values.json === true;
   const progress = new Progress(
     json ? { ...terminal, interactive: false } : terminal,
@@ -162,15 +188,21 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     const reading = readFrames(file!, decoder, { rejects: rejectsPath === undefined ? 'throw' : 'keep' });
     for await (const { frame, rejected } of reading) {
       for (const r of rejected) rejects.write({ source: file!, position: r.index, reason: r.reason });
-      loop.prequential(frame, decoder.classes);
-      progress.update(loop.rows, loop.recentAccuracy);
-      await Promise.all([journal.drain(), rejects.drain()]);
+      tap?.rejected(rejected.length);
+      for (const batch of pacer.slices(frame)) {
+        const started = terminal.now();
+        loop.prequential(batch, decoder.classes);
+        telemetry?.batch(batch.rows, (terminal.now() - started) / 1000);
+        telemetry?.setReady('model', true);
+        progress.update(loop.rows, loop.recentAccuracy);
+        await Promise.all([journal.drain(), rejects.drain(), pacer.wait(batch.rows)]);
+      }
     }
     if (loop.rows === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
     summary = loop.finish(decoder.classes);
   } finally {
     progress.done();
-    await Promise.all([journal.close(), rejects.close()]);
+    await Promise.all([journal.close(), rejects.close(), telemetry?.close()]);
   }
   if (reportPath !== undefined)
     await writeFile(reportPath, renderReport(journal.kept, { title: `Replay of ${file}` }));

@@ -72,6 +72,11 @@ export class LearningLoop {
     return this.evaluated > 0 ? orNull(this.evaluator.windowed.accuracy()) : null;
   }
 
+  /** Cohen's κ over the evaluation window, or null before it is defined. */
+  get recentKappa(): number | null {
+    return this.evaluated > 0 ? orNull(this.evaluator.windowed.kappa()) : null;
+  }
+
   /** Score every row of a batch; rows with a label are judged and then trained on. */
   prequential(batch: RowBatch, classes: readonly string[]): void {
     const ensemble = this.ensure(batch.schema, classes);
