@@ -3,6 +3,8 @@ export type { MetricsOptions } from './metrics.js';
 export { ShoalMetrics } from './metrics.js';
 export type { TelemetryOptions } from './server.js';
 export { parseListen, TelemetryServer } from './server.js';
+export type { SessionTelemetryOptions } from './session-source.js';
+export { SessionTelemetry } from './session-source.js';
 export type {
   DeadLetterReason,
   HistogramView,

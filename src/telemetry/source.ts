@@ -1,3 +1,5 @@
+import type { LifecycleCause } from '../journal/index.js';
+
 /**
  * What telemetry reads from a running session, at scrape time. The session (or whatever drives it:
  * `replay`, `serve`) hands telemetry a `TelemetrySource`; nothing here is updated per row. Every label
@@ -8,7 +10,10 @@
 export const SEAT_STATES = ['warming', 'active', 'watched', 'retired'] as const;
 export type SeatState = (typeof SEAT_STATES)[number];
 
-/** Why an event could not be scored (dead letters in `serve`, the rejects file in `replay`). */
+/**
+ * Why an event could not be scored (dead letters in `serve`, the rejects file in `replay`); a code
+ * outside this set is counted as `other`.
+ */
 export const DEAD_LETTER_REASONS = [
   'undecodable',
   'schema-mismatch',
@@ -16,25 +21,33 @@ export const DEAD_LETTER_REASONS = [
   'bad-label',
   'oversize',
   'unsupported-compression',
+  'other',
 ] as const;
 export type DeadLetterReason = (typeof DEAD_LETTER_REASONS)[number];
 
-export const LABEL_OUTCOMES = ['joined', 'expired', 'orphaned', 'late'] as const;
+/**
+ * What became of labels: `joined` to their prediction (by id, or inline with their row); `late`, after
+ * their prediction expired; `orphaned`, matching no prediction kept (unknown id, or evicted by the count
+ * bound); `duplicate`, for an id already joined; and `expired`: predictions that waited in vain (aged out
+ * or evicted before any label came).
+ */
+export const LABEL_OUTCOMES = ['joined', 'expired', 'orphaned', 'late', 'duplicate'] as const;
 export type LabelOutcome = (typeof LABEL_OUTCOMES)[number];
 
 /**
- * Member-monitor signals by level and cause: a warning that put a member under watch, a drift that
- * replaced it, one held back by the replacement cap, and a drift towards fewer errors (nothing done).
+ * Member-monitor signals by level and the journal's lifecycle cause (`LIFECYCLE_CAUSES`): a warning that
+ * put a member under watch, a drift that retired it, one held back by the replacement cap, and a drift
+ * towards fewer errors (nothing replaced).
  */
 export const SIGNAL_CAUSES = {
   warning: ['watched'],
-  drift: ['drift', 'drift-deferred', 'drift-improved'],
-} as const;
+  drift: ['drift', 'drift-deferred', 'drift-ignored-improving'],
+} as const satisfies Record<string, readonly LifecycleCause[]>;
 export type SignalLevel = keyof typeof SIGNAL_CAUSES;
 export type SignalCause = (typeof SIGNAL_CAUSES)[SignalLevel][number];
 
 /** How a seat got its new member: its understudy was promoted, or a fresh member took it. */
-export const REPLACEMENT_CAUSES = ['promoted', 'fresh'] as const;
+export const REPLACEMENT_CAUSES = ['promoted', 'fresh'] as const satisfies readonly LifecycleCause[];
 export type ReplacementCause = (typeof REPLACEMENT_CAUSES)[number];
 
 /** The test that flagged an input feature: one per feature kind. */

@@ -33,8 +33,8 @@ async function running(gen: StreamGenerator, raw: unknown = {}): Promise<Running
     clock: () => 0,
     version: '0.0.0-test',
   });
-  tap = new RunTelemetry(loop);
-  const server = new TelemetryServer(tap, { port: 0, version: '0.0.0-test', readiness: ['model'] });
+  tap = new RunTelemetry(loop, () => 0);
+  const server = new TelemetryServer(tap.source, { port: 0, version: '0.0.0-test', readiness: ['model'] });
   await server.start();
   open.push(server);
   const width = gen.schema.features.length;

@@ -1,0 +1,148 @@
+import type { JournalRecord, LifecycleRecord } from '../journal/index.js';
+import type { SessionMetrics } from '../pipeline/index.js';
+import {
+  DEAD_LETTER_REASONS,
+  type DeadLetterReason,
+  type HistogramView,
+  type ReplacementCause,
+  SIGNAL_CAUSES,
+  type SignalCause,
+  type SignalLevel,
+  type SignalReading,
+  type TelemetryReading,
+  type TelemetryShape,
+  type TelemetrySource,
+} from './source.js';
+
+/** Drift signals kept for /status. */
+const RECENT_SIGNALS = 20;
+const LEVELS = Object.keys(SIGNAL_CAUSES) as SignalLevel[];
+const CAUSES: readonly SignalCause[] = LEVELS.flatMap((l) => SIGNAL_CAUSES[l]);
+const LEVEL_OF = new Map<string, SignalLevel>(LEVELS.flatMap((l) => SIGNAL_CAUSES[l].map((c) => [c, l])));
+
+/** What the driver of a session knows and the session does not: its shape, the lag, checkpoints. */
+export interface SessionTelemetryOptions {
+  /** The session's read-only metrics surface. */
+  readonly metrics: SessionMetrics;
+  /** The run's shape once its model exists, null before. */
+  readonly shape: () => TelemetryShape | null;
+  /** Wall-clock milliseconds (for the checkpoint age). */
+  readonly wall: () => number;
+  /** Label delays, when the driver or session keeps them. */
+  readonly labelDelaySeconds?: HistogramView;
+}
+
+/**
+ * A `TelemetrySource` over a session's `SessionMetrics`, read at scrape time, plus what only the driver
+ * sees: dead letters by reason, consumer lag, checkpoint times. Per-seat signal counts come from the
+ * journal's lifecycle records (their typed `cause`), counted as each record is written — member changes
+ * are rare events, never one per row.
+ *
+ * @example
+ * const source = new SessionTelemetry({ metrics: session.metrics, shape, wall: () => Date.now() });
+ * journal = tee(journal, (r) => source.record(r));
+ * const server = new TelemetryServer(source, { port: 9470, version, readiness: ['model'] });
+ */
+export class SessionTelemetry implements TelemetrySource {
+  private readonly options: SessionTelemetryOptions;
+  /** signals[seat × CAUSES.length + cause index], grown as seats appear. */
+  private signals = new Float64Array(0);
+  private readonly replacements: Record<ReplacementCause, number> = { promoted: 0, fresh: 0 };
+  private readonly deadLetters = Object.fromEntries(DEAD_LETTER_REASONS.map((r) => [r, 0])) as Record<
+    DeadLetterReason,
+    number
+  >;
+  private readonly recent: SignalReading[] = [];
+  private lag: TelemetryReading['lag'] = [];
+  private lastCheckpoint: number;
+
+  constructor(options: SessionTelemetryOptions) {
+    this.options = options;
+    this.lastCheckpoint = options.wall();
+  }
+
+  /** Tap the journal: call with every record the session writes. */
+  record(r: JournalRecord): void {
+    if (r.type === 'lifecycle') this.lifecycle(r);
+  }
+
+  /** Count dead-lettered inputs by their code (codes outside the closed set count as `other`). */
+  deadLettered(code: string, count = 1): void {
+    const reason = (DEAD_LETTER_REASONS as readonly string[]).includes(code)
+      ? (code as DeadLetterReason)
+      : 'other';
+    this.deadLetters[reason] += count;
+  }
+
+  /** The consumer's lag per assigned partition, as last measured. */
+  setLag(lag: TelemetryReading['lag']): void {
+    this.lag = lag;
+  }
+
+  /** A checkpoint was written now. */
+  checkpointed(): void {
+    this.lastCheckpoint = this.options.wall();
+  }
+
+  shape(): TelemetryShape | null {
+    return this.options.shape();
+  }
+
+  read(): TelemetryReading {
+    const m = this.options.metrics;
+    const labels = m.labels();
+    const signals = this.signals;
+    const drifts = m.inputDrifts();
+    const features = this.options.shape()?.features ?? [];
+    return {
+      scored: m.scored,
+      trained: m.trained,
+      deadLetters: { ...this.deadLetters },
+      accuracy: m.windowAccuracy,
+      kappa: m.windowKappa,
+      seats: m.seats().map((s) => ({
+        seat: s.seat,
+        member: s.member,
+        state: s.state,
+        age: s.age,
+        accuracy: s.age > 0 && Number.isFinite(s.recentAccuracy) ? s.recentAccuracy : null,
+      })),
+      signalCount: (seat, _level, cause) => signals[seat * CAUSES.length + CAUSES.indexOf(cause)] ?? 0,
+      replacements: { ...this.replacements },
+      inputDrift: features.map((f) => drifts.get(f.name) ?? 0),
+      pending: m.pendingSize,
+      pendingCapacity: m.pendingCapacity,
+      labels: {
+        joined: labels.joined + labels.inline,
+        expired: labels.expiredPredictions + labels.evictedPredictions,
+        orphaned: labels.unknown + labels.evicted,
+        late: labels.late,
+        duplicate: labels.duplicate,
+      },
+      labelDelaySeconds: this.options.labelDelaySeconds ?? null,
+      lag: this.lag,
+      checkpointAgeSeconds: Math.max(0, (this.options.wall() - this.lastCheckpoint) / 1000),
+      modelBytes: m.modelBytes(),
+      recentSignals: [...this.recent],
+    };
+  }
+
+  private lifecycle(r: LifecycleRecord): void {
+    if (r.cause === 'promoted' || r.cause === 'fresh') {
+      this.replacements[r.cause]++;
+      return;
+    }
+    const level = LEVEL_OF.get(r.cause);
+    if (level === undefined) return;
+    const cause = r.cause as SignalCause;
+    const need = (r.seat + 1) * CAUSES.length;
+    if (this.signals.length < need) {
+      const grown = new Float64Array(need);
+      grown.set(this.signals);
+      this.signals = grown;
+    }
+    this.signals[r.seat * CAUSES.length + CAUSES.indexOf(cause)]!++;
+    this.recent.push({ row: r.scored, seat: r.seat, level, cause, estimate: r.estimate });
+    if (this.recent.length > RECENT_SIGNALS) this.recent.shift();
+  }
+}
