@@ -67,7 +67,11 @@ export async function readTopic(
 
 /** The rows of scores messages (Arrow IPC streams), as plain objects. */
 export function scoreRows(messages: readonly KafkaMessage[]): Record<string, unknown>[] {
-  return messages.flatMap((m) => tableFromIPC(m.value!).toArray().map((r) => r.toJSON() as Record<string, unknown>));
+  return messages.flatMap((m) =>
+    tableFromIPC(m.value!)
+      .toArray()
+      .map((r) => r.toJSON() as Record<string, unknown>),
+  );
 }
 
 export function countScoreRows(messages: readonly KafkaMessage[]): number {
@@ -84,10 +88,14 @@ export class ServeProcess {
   private readonly child: ChildProcess;
 
   constructor(config: string, env: Record<string, string> = {}, args: string[] = []) {
-    this.child = spawn(process.execPath, [join(repo, 'bin', 'shoal.js'), 'serve', '--config', config, ...args], {
-      env: { ...process.env, ...env },
-      stdio: ['ignore', 'pipe', 'pipe'],
-    });
+    this.child = spawn(
+      process.execPath,
+      [join(repo, 'bin', 'shoal.js'), 'serve', '--config', config, ...args],
+      {
+        env: { ...process.env, ...env },
+        stdio: ['ignore', 'pipe', 'pipe'],
+      },
+    );
     this.child.stdout!.on('data', (c: Buffer) => {
       this.stdout += c.toString('utf8');
     });
@@ -109,7 +117,8 @@ export class ServeProcess {
   async waitFor(msg: string, timeoutMs = 60_000): Promise<void> {
     const began = Date.now();
     while (!this.logs().some((l) => l.msg === msg)) {
-      if (Date.now() - began > timeoutMs) throw new Error(`serve never logged ${JSON.stringify(msg)}:\n${this.stdout}\n${this.stderr}`);
+      if (Date.now() - began > timeoutMs)
+        throw new Error(`serve never logged ${JSON.stringify(msg)}:\n${this.stdout}\n${this.stderr}`);
       await new Promise((d) => setTimeout(d, 100));
     }
   }
