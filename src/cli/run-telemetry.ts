@@ -57,18 +57,7 @@ class LoopMetrics implements SessionMetrics {
     return this.causes.promoted + this.causes.fresh;
   }
   labels(): LabelCounts {
-    return {
-      inline: this.loop.evaluated,
-      joined: 0,
-      duplicate: 0,
-      late: 0,
-      evicted: 0,
-      unknown: 0,
-      trainedUnmatched: 0,
-      expiredPredictions: 0,
-      evictedPredictions: 0,
-      pending: 0,
-    };
+    return this.loop.labels();
   }
   lifecycleCounts(): Readonly<Record<LifecycleCause, number>> {
     return { ...this.causes };

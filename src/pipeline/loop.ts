@@ -178,7 +178,8 @@ export class LearningLoop {
     this.options.journal({ ...change, scored: this.rows });
   }
 
-  private labels(): LabelCounts {
+  /** Label outcomes so far: the loop's labels are inline, each judged the moment its row is scored. */
+  labels(): LabelCounts {
     return {
       inline: this.evaluated,
       joined: 0,
