@@ -54,7 +54,8 @@ class ViewHistogram extends Histogram {
         values.push({ metricName: bucket, labels: { le: view.bounds[i]! }, value: cumulative });
       }
       values.push({ metricName: bucket, labels: { le: '+Inf' }, value: view.count });
-      values.push({ metricName: `${this.metricName}_sum`, labels: {}, value: view.sum });
+      if (view.sum !== null)
+        values.push({ metricName: `${this.metricName}_sum`, labels: {}, value: view.sum });
       values.push({ metricName: `${this.metricName}_count`, labels: {}, value: view.count });
     }
     return {

@@ -69,12 +69,13 @@ export interface TelemetryShape {
 
 /**
  * A histogram kept by the session with fixed bounds: `counts[i]` observations fell in
- * (bounds[i−1], bounds[i]], `counts[bounds.length]` above the last bound.
+ * (bounds[i−1], bounds[i]], `counts[bounds.length]` above the last bound. `sum` is null when the keeper
+ * does not track it (the exposition then has no `_sum` line).
  */
 export interface HistogramView {
   readonly bounds: readonly number[];
   readonly counts: ArrayLike<number>;
-  readonly sum: number;
+  readonly sum: number | null;
   readonly count: number;
 }
 

@@ -93,6 +93,36 @@ describe('the telemetry endpoint', () => {
     expect((await get(`${run.url}/nowhere`)).status).toBe(404);
   });
 
+  it('with a consumer, is ready only once the model is loaded and the consumer has joined', async () => {
+    const tap = new RunTelemetry(
+      new LearningLoop({
+        config: resolveConfig({}, 'test'),
+        source: 'test stream',
+        journal: () => undefined,
+        clock: () => 0,
+        version: '0.0.0-test',
+      }),
+      () => 0,
+    );
+    const server = new TelemetryServer(tap.source, {
+      port: 0,
+      version: '0.0.0-test',
+      readiness: ['model', 'consumer'],
+    });
+    await server.start();
+    open.push(server);
+    const url = `http://127.0.0.1:${server.port}/readyz`;
+    expect(await get(url)).toMatchObject({ status: 503, body: 'not ready: waiting for model, consumer\n' });
+    server.setReady('model', true);
+    expect(await get(url)).toMatchObject({ status: 503, body: 'not ready: waiting for consumer\n' });
+    server.setReady('consumer', true);
+    expect((await get(url)).status).toBe(200);
+    // A rebalance takes the consumer out of its group: not ready again until it rejoins.
+    server.setReady('consumer', false);
+    expect((await get(url)).status).toBe(503);
+    expect(() => server.setReady('brokers', true)).toThrow(/unknown readiness part "brokers"/);
+  });
+
   it('reports seats, accuracy, kappa and recent drift signals on /status', async () => {
     const run = await running(sea('9.5,7', 5000));
     run.feed(15_000);
