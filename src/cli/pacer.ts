@@ -1,18 +1,19 @@
 import { setTimeout as sleep } from 'node:timers/promises';
-import type { RowBatch } from '../pipeline/index.js';
 
 /** Slices per second when pacing: a paced replay moves forward ten times a second. */
 const STEPS_PER_SECOND = 10;
 
 /**
  * Replays a recorded stream no faster than `rowsPerSecond`, as a live stream would arrive: each frame
- * is cut into slices of a tenth of a second's rows (views into the frame, no copies of rows), and
- * `wait` holds the run back until the clock has caught up with the rows done. Without a rate, frames
- * pass whole and nothing waits.
+ * is scored in ranges of a tenth of a second's rows, and `wait` holds the run back until the clock has
+ * caught up with the rows done. Without a rate, a frame is one range and nothing waits.
  *
  * @example
  * const pacer = new Pacer(2000, () => performance.now());
- * for (const slice of pacer.slices(frame)) { loop.prequential(slice, classes); await pacer.wait(slice.rows); }
+ * for (const [from, to] of pacer.ranges(frame.rows)) {
+ *   session.score(frame, classes, from, to);
+ *   await pacer.wait(to - from);
+ * }
  */
 export class Pacer {
   private readonly rate: number | undefined;
@@ -25,24 +26,10 @@ export class Pacer {
     this.now = now;
   }
 
-  *slices(frame: RowBatch): Generator<RowBatch> {
-    const rate = this.rate;
-    if (rate === undefined || frame.rows === 0) {
-      yield frame;
-      return;
-    }
-    const step = Math.max(1, Math.round(rate / STEPS_PER_SECOND));
-    const { width, values, labels } = frame;
-    for (let start = 0; start < frame.rows; start += step) {
-      const rows = Math.min(step, frame.rows - start);
-      yield {
-        schema: frame.schema,
-        rows,
-        width,
-        values: values.subarray(start * width, (start + rows) * width),
-        labels: labels === null ? null : labels.subarray(start, start + rows),
-      };
-    }
+  /** Row ranges [from, to) that cover rows 0 … rows − 1 in order. */
+  *ranges(rows: number): Generator<readonly [number, number]> {
+    const step = this.rate === undefined ? rows : Math.max(1, Math.round(this.rate / STEPS_PER_SECOND));
+    for (let from = 0; from < rows; from += step) yield [from, Math.min(rows, from + step)];
   }
 
   /** Count `rows` as done and wait until the rate allows the next ones. */
@@ -50,8 +37,7 @@ export class Pacer {
     if (this.rate === undefined) return;
     if (Number.isNaN(this.started)) this.started = this.now();
     this.done += rows;
-    const due = this.started + (this.done / this.rate) * 1000;
-    const ahead = due - this.now();
+    const ahead = this.started + (this.done / this.rate) * 1000 - this.now();
     if (ahead > 0) await sleep(ahead);
   }
 }

@@ -2,18 +2,18 @@ import { writeFile } from 'node:fs/promises';
 import { ShoalError } from '../core/index.js';
 import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
-import { countRows, deadLetterFile, journalFile, readFrames } from '../files/index.js';
+import { countRows, deadLetterFile, journalFile } from '../files/index.js';
 import { FrameDecoder, type FrameOptions } from '../frames/index.js';
-import type { JournalRecord, SummaryRecord } from '../journal/index.js';
+import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
-import { LearningLoop, type RunConfig, resolveConfig } from '../pipeline/index.js';
+import { LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
-import { parseListen, TelemetryServer } from '../telemetry/index.js';
+import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
 import { Pacer } from './pacer.js';
 import { Progress } from './progress.js';
-import { RunTelemetry } from './run-telemetry.js';
+import { feed, type LabelTiming } from './replay-feed.js';
 import { count, figure, type Terminal, table } from './terminal.js';
 import { shoalVersion } from './version.js';
 
@@ -32,6 +32,11 @@ Options:
   --seed S          seed of every random choice
   --label COL       the label column (default "label")
   --id COL          an event-id column
+  --labels FILE     labels in a file of their own (the --id and --label columns), joined by id to the
+                    prediction served for each event; the k-th label becomes known once k events were
+                    scored (labels left at the end are joined after the last event)
+  --label-delay N   hold each inline label back until N more rows were scored, then join it by id to
+                    the prediction served for its row (rows without --id are joined by row number)
   --journal PATH    write the run's journal (NDJSON: lifecycle changes, evaluation windows, summary)
   --report PATH     write a self-contained HTML report of the run
   --rejects PATH    write rows that cannot be decoded to PATH (NDJSON: source, position, reason) and go on;
@@ -67,6 +72,26 @@ function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: 
   if (id !== undefined) inputs.id = id;
   const seed = text(parsed, 'seed');
   return { ...base, ...(seed === undefined ? {} : { seed }), ensemble, inputs };
+}
+
+/** When labels become known: inline (the default), held back N rows, or from a labels file. */
+function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): LabelTiming {
+  const path = text(parsed, 'labels');
+  const delay = whole('replay', parsed, 'label-delay', 0);
+  if (path !== undefined && delay !== undefined) {
+    throw new ShoalError('invalid-parameter', 'replay: give --labels or --label-delay, not both');
+  }
+  const { id, label } = config.inputs;
+  if (path !== undefined) {
+    if (id === null || label === null) {
+      throw new ShoalError(
+        'invalid-parameter',
+        'replay: --labels needs --id (the column that joins a label to its event) and a label column',
+      );
+    }
+    return { kind: 'file', path, id, label };
+  }
+  return delay === undefined ? { kind: 'inline' } : { kind: 'delay', rows: delay };
 }
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
@@ -120,6 +145,8 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     report: { type: 'string' },
     json: { type: 'boolean' },
     rejects: { type: 'string' },
+    labels: { type: 'string' },
+    'label-delay': { type: 'string' },
     metrics: { type: 'string' },
     pace: { type: 'string' },
   });
@@ -138,29 +165,32 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const rejects = rejectsPath === undefined ? null : deadLetterFile(rejectsPath);
   let rejected = 0;
   const listen = text(parsed, 'metrics');
-  const pace = whole('replay', parsed, 'pace');
-  let tap: RunTelemetry | null = null;
-  const loop = new LearningLoop({
+  const pacer = new Pacer(whole('replay', parsed, 'pace'), () => terminal.now());
+  let telemetry: SessionTelemetry | null = null;
+  const session = new LearningSession({
     config,
     source: file!,
-    journal: (r) => {
-      tap?.record(r);
-      journal.write(r);
+    journal: {
+      write: (r) => {
+        telemetry?.record(r);
+        journal.write(r);
+      },
+      flush: () => journal.flush(),
     },
-    clock: () => terminal.now(),
+    clock: { monotonic: () => terminal.now(), wall: () => Date.now() },
     version: shoalVersion(),
   });
-  let telemetry: TelemetryServer | null = null;
+  let endpoint: TelemetryServer | null = null;
   if (listen !== undefined) {
-    tap = new RunTelemetry(loop, () => Date.now());
-    telemetry = new TelemetryServer(tap.source, {
+    telemetry = SessionTelemetry.of(session, { checkpoints: false, wall: () => Date.now() });
+    endpoint = new TelemetryServer(telemetry, {
       ...parseListen(listen, 'replay --metrics'),
       version: shoalVersion(),
       readiness: ['model'],
     });
-    await telemetry.start();
+    await endpoint.start();
   }
-  const pacer = new Pacer(pace, () => terminal.now());
+  const timing = labelTiming(parsed, config);
   const json = parsed.values.json === true;
   const progress = new Progress(
     json ? { ...terminal, interactive: false } : terminal,
@@ -168,41 +198,41 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   );
   let summary: SummaryRecord;
   try {
-    const reading = readFrames(file!, decoder, { rejects: rejectsPath === undefined ? 'throw' : 'keep' });
-    for await (const batch of reading) {
-      const frame = batch.frame;
-      for (const r of batch.rejected) {
+    await feed({
+      file: file!,
+      decoder,
+      session,
+      timing,
+      carryFeatures: config.labels.unmatched === 'train',
+      rejects: rejectsPath === undefined ? 'throw' : 'keep',
+      deadLetter: (letter) => {
         rejected++;
-        rejects?.write({
-          stream: file!,
-          position: BigInt(r.index),
-          code: 'undecodable',
-          reason: r.reason,
-          bytes: null,
-        });
-      }
-      tap?.rejected(batch.rejected.length);
-      for (const slice of pacer.slices(frame)) {
-        const started = terminal.now();
-        loop.prequential(slice, decoder.classes);
-        telemetry?.batch(slice.rows, (terminal.now() - started) / 1000);
-        telemetry?.setReady('model', true);
-        progress.update(loop.rows, loop.recentAccuracy);
-        await Promise.all([journal.flush(), rejects?.flush(), pacer.wait(slice.rows)]);
-      }
-    }
-    if (loop.rows === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
-    summary = loop.finish(decoder.classes);
+        telemetry?.deadLettered(letter.code);
+        rejects?.write(letter);
+      },
+      pacer,
+      now: () => terminal.now(),
+      scored: (rows, seconds) => {
+        endpoint?.batch(rows, seconds);
+        endpoint?.setReady('model', true);
+      },
+      afterBatch: async () => {
+        progress.update(session.scored, session.recentAccuracy);
+        await Promise.all([journal.flush(), rejects?.flush()]);
+      },
+    });
+    if (session.scored === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
+    summary = session.finish(decoder.classes);
   } finally {
     progress.done();
-    await Promise.all([journal.close(), rejects?.close(), telemetry?.close()]);
+    await Promise.all([journal.close(), rejects?.close(), endpoint?.close()]);
   }
   if (reportPath !== undefined)
     await writeFile(reportPath, renderReport(journal.kept, { title: `Replay of ${file}` }));
   terminal.out(
     json
       ? `${JSON.stringify({ ...jsonSummary(file!, config, summary), rejected })}\n`
-      : summaryTable(file!, config, summary, loop.rows, rejected),
+      : summaryTable(file!, config, summary, rejected),
   );
   return 0;
 }
@@ -212,6 +242,8 @@ function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<
     file,
     ensemble: config.ensemble.kind,
     seed: config.seed,
+    scored: s.scored,
+    trained: s.trained,
     rows: s.rows,
     accuracy: s.accuracy,
     kappa: s.kappa,
@@ -223,28 +255,25 @@ function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<
     warnings: s.warnings,
     replacements: s.replacements,
     inputDrifts: s.inputDrifts,
+    labels: s.labels,
     classes: s.classes,
     seconds: s.seconds,
     rowsPerSecond: s.rowsPerSecond,
   };
 }
 
-function summaryTable(
-  file: string,
-  config: RunConfig,
-  s: SummaryRecord,
-  scored: number,
-  rejected: number,
-): string {
+function summaryTable(file: string, config: RunConfig, s: SummaryRecord, rejected: number): string {
   const e = config.ensemble as { kind: string; members?: number; learners?: readonly { kind: string }[] };
   const learners = [...new Set((e.learners ?? [{ kind: 'hoeffding-tree' }]).map((l) => l.kind))].join(', ');
   const head = `replay of ${file}: ${e.kind}${e.members === undefined ? '' : ` of ${e.members}`} (${learners}), seed ${config.seed}\n\n`;
   return (
     head +
     table([
-      ['rows scored', count(scored)],
+      ['rows scored', count(s.scored)],
       ['rows rejected', count(rejected)],
       ['rows judged', count(s.rows)],
+      ['rows trained', count(s.trained)],
+      ...labelLines(s.labels),
       ['accuracy', figure(s.accuracy)],
       ['kappa', figure(s.kappa)],
       ['kappa-M', figure(s.kappaM)],
@@ -259,4 +288,20 @@ function summaryTable(
       ['seconds', s.seconds.toFixed(1)],
     ])
   );
+}
+
+/** The label outcomes worth a line: those that happened (inline labels are the rows judged). */
+function labelLines(l: LabelCounts): [string, string][] {
+  const lines: [string, number][] = [
+    ['labels joined late', l.joined],
+    ['labels for joined ids', l.duplicate],
+    ['labels after expiry', l.late],
+    ['labels after eviction', l.evicted],
+    ['labels with unknown ids', l.unknown],
+    ['unmatched labels trained', l.trainedUnmatched],
+    ['predictions expired', l.expiredPredictions],
+    ['predictions evicted', l.evictedPredictions],
+    ['predictions pending', l.pending],
+  ];
+  return lines.filter(([, n]) => n > 0).map(([name, n]) => [name, count(n)]);
 }

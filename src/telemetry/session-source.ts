@@ -1,5 +1,6 @@
+import type { FeatureSchema } from '../core/index.js';
 import type { JournalRecord, LifecycleRecord } from '../journal/index.js';
-import type { SessionMetrics } from '../pipeline/index.js';
+import type { LearningSession, SessionMetrics } from '../pipeline/index.js';
 import {
   DEAD_LETTER_REASONS,
   type DeadLetterReason,
@@ -13,6 +14,13 @@ import {
   type TelemetryShape,
   type TelemetrySource,
 } from './source.js';
+
+/** The session's label-delay buckets as a histogram view (it keeps no sum of delays). */
+function delayView(d: ReturnType<SessionMetrics['labelDelays']>): HistogramView {
+  let count = 0;
+  for (const c of d.counts) count += c;
+  return { bounds: d.bounds, counts: d.counts, sum: null, count };
+}
 
 /** Drift signals kept for /status. */
 const RECENT_SIGNALS = 20;
@@ -28,8 +36,6 @@ export interface SessionTelemetryOptions {
   readonly shape: () => TelemetryShape | null;
   /** Wall-clock milliseconds (for the checkpoint age). */
   readonly wall: () => number;
-  /** Label delays, when the driver or session keeps them. */
-  readonly labelDelaySeconds?: HistogramView;
 }
 
 /**
@@ -55,15 +61,51 @@ export class SessionTelemetry implements TelemetrySource {
   private readonly recent: SignalReading[] = [];
   private lag: TelemetryReading['lag'] = [];
   private lastCheckpoint: number;
+  private runSchema: FeatureSchema | null = null;
 
   constructor(options: SessionTelemetryOptions) {
     this.options = options;
     this.lastCheckpoint = options.wall();
   }
 
+  /**
+   * Telemetry for a `LearningSession`: its metrics surface, and a shape taken from its configuration,
+   * its model and the schema of the journal's `run` record. `checkpoints` says whether the driver
+   * writes checkpoints (and calls `checkpointed()`). Show it every journal record (`record`): the
+   * session writes its `run` record when it scores its first rows.
+   *
+   * @example
+   * let telemetry: SessionTelemetry | null = null;
+   * const session = new LearningSession({ …, journal: { write: (r) => { telemetry?.record(r); out.write(r); }, flush } });
+   * telemetry = SessionTelemetry.of(session, { checkpoints: false, wall: () => Date.now() });
+   */
+  static of(
+    session: LearningSession,
+    options: { readonly checkpoints: boolean; readonly wall: () => number },
+  ): SessionTelemetry {
+    let made: SessionTelemetry | null = null;
+    const shape = (): TelemetryShape | null => {
+      const schema = made?.runSchema ?? null;
+      const model = session.model;
+      if (model === null || schema === null) return null;
+      const lifecycle = session.config.ensemble.lifecycle;
+      return {
+        ensemble: session.config.ensemble.kind,
+        detector: lifecycle?.enabled === false ? null : (lifecycle?.detector?.kind ?? null),
+        seats: model.seats().length,
+        features: schema.features.map((f) => ({ name: f.name, kind: f.kind })),
+        checkpoints: options.checkpoints,
+        pending: true,
+      };
+    };
+    made = new SessionTelemetry({ metrics: session.metrics, shape, wall: options.wall });
+    return made;
+  }
+
   /** Tap the journal: call with every record the session writes. */
   record(r: JournalRecord): void {
-    if (r.type === 'lifecycle') this.lifecycle(r);
+    if (r.type === 'run') this.runSchema = r.schema;
+    else if (r.type === 'lifecycle') this.lifecycle(r);
   }
 
   /** Count dead-lettered inputs by their code (codes outside the closed set count as `other`). */
@@ -119,7 +161,7 @@ export class SessionTelemetry implements TelemetrySource {
         late: labels.late,
         duplicate: labels.duplicate,
       },
-      labelDelaySeconds: this.options.labelDelaySeconds ?? null,
+      labelDelaySeconds: delayView(m.labelDelays()),
       lag: this.lag,
       checkpointAgeSeconds: Math.max(0, (this.options.wall() - this.lastCheckpoint) / 1000),
       modelBytes: m.modelBytes(),

@@ -21,6 +21,7 @@ export const DEAD_LETTER_REASONS = [
   'bad-label',
   'oversize',
   'unsupported-compression',
+  'no-label',
   'other',
 ] as const;
 export type DeadLetterReason = (typeof DEAD_LETTER_REASONS)[number];

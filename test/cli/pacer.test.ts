@@ -1,19 +1,14 @@
 import { describe, expect, it } from 'vitest';
 import { Pacer } from '../../src/cli/pacer.js';
-import { numericSchema } from '../../src/core/index.js';
 import { scratch, shoal } from '../support/cli.js';
 
 describe('replay --pace', () => {
-  it('cuts a frame into slices that cover its rows exactly, in order', () => {
-    const width = 3;
-    const rows = 1234;
-    const values = Float64Array.from({ length: rows * width }, (_, i) => i);
-    const labels = Float64Array.from({ length: rows }, (_, i) => i);
-    const pacer = new Pacer(1000, () => 0);
-    const slices = [...pacer.slices({ schema: numericSchema(width), rows, width, values, labels })];
-    expect(slices.map((s) => s.rows)).toEqual([...Array(12).fill(100), 34]);
-    expect(slices.flatMap((s) => Array.from(s.values))).toEqual(Array.from(values));
-    expect(slices.flatMap((s) => Array.from(s.labels!))).toEqual(Array.from(labels));
+  it('cuts a frame into ranges that cover its rows exactly, in order', () => {
+    expect([...new Pacer(1000, () => 0).ranges(1234)]).toEqual([
+      ...Array.from({ length: 12 }, (_, i) => [i * 100, i * 100 + 100]),
+      [1200, 1234],
+    ]);
+    expect([...new Pacer(undefined, () => 0).ranges(1234)]).toEqual([[0, 1234]]);
   });
 
   it('gives the same run as an unpaced replay', async () => {

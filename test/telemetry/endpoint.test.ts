@@ -1,10 +1,10 @@
 import { execFile } from 'node:child_process';
 import { register as globalRegistry } from 'prom-client';
 import { afterEach, describe, expect, it } from 'vitest';
-import { RunTelemetry } from '../../src/cli/run-telemetry.js';
-import { LearningLoop, resolveConfig } from '../../src/pipeline/index.js';
-import { buildStream, type StreamGenerator, take } from '../../src/streams/index.js';
-import { parseListen, TelemetryServer } from '../../src/telemetry/index.js';
+import { LearningSession, resolveConfig } from '../../src/pipeline/index.js';
+import { buildStream, type StreamGenerator } from '../../src/streams/index.js';
+import { parseListen, SessionTelemetry, TelemetryServer } from '../../src/telemetry/index.js';
+import { frameOf, manualClock } from '../pipeline/session-support.js';
 import { note } from '../support/note.js';
 
 /**
@@ -13,7 +13,7 @@ import { note } from '../support/note.js';
  * label set that does not grow with the length of the run.
  */
 interface Running {
-  readonly loop: LearningLoop;
+  readonly session: LearningSession;
   readonly server: TelemetryServer;
   readonly url: string;
   feed(rows: number): void;
@@ -24,32 +24,33 @@ afterEach(async () => {
   await Promise.all(open.splice(0).map((s) => s.close()));
 });
 
-async function running(gen: StreamGenerator, raw: unknown = {}): Promise<Running> {
-  let tap: RunTelemetry | null = null;
-  const loop = new LearningLoop({
+/** A session with its telemetry (as `replay --metrics` wires them) on a loopback port. */
+function withTelemetry(raw: unknown = {}): { session: LearningSession; telemetry: SessionTelemetry } {
+  let telemetry: SessionTelemetry | null = null;
+  const session = new LearningSession({
     config: resolveConfig(raw, 'test'),
     source: 'test stream',
-    journal: (r) => tap?.record(r),
-    clock: () => 0,
+    journal: { write: (r) => telemetry?.record(r), flush: async () => {} },
+    clock: manualClock(),
     version: '0.0.0-test',
   });
-  tap = new RunTelemetry(loop, () => 0);
-  const server = new TelemetryServer(tap.source, { port: 0, version: '0.0.0-test', readiness: ['model'] });
+  telemetry = SessionTelemetry.of(session, { checkpoints: false, wall: () => 0 });
+  return { session, telemetry };
+}
+
+async function running(gen: StreamGenerator, raw: unknown = {}): Promise<Running> {
+  const { session, telemetry } = withTelemetry(raw);
+  const server = new TelemetryServer(telemetry, { port: 0, version: '0.0.0-test', readiness: ['model'] });
   await server.start();
   open.push(server);
-  const width = gen.schema.features.length;
   return {
-    loop,
+    session,
     server,
     url: `http://127.0.0.1:${server.port}`,
     feed(rows: number) {
       for (let done = 0; done < rows; done += 1000) {
-        const block = take(gen, Math.min(1000, rows - done));
-        const n = block.labels.length;
-        loop.prequential(
-          { schema: gen.schema, rows: n, width, values: block.rows, labels: Float64Array.from(block.labels) },
-          gen.classes,
-        );
+        const n = Math.min(1000, rows - done);
+        session.score(frameOf(gen, n), gen.classes);
         server.batch(n, 0.001);
         server.setReady('model', true);
       }
@@ -94,17 +95,8 @@ describe('the telemetry endpoint', () => {
   });
 
   it('with a consumer, is ready only once the model is loaded and the consumer has joined', async () => {
-    const tap = new RunTelemetry(
-      new LearningLoop({
-        config: resolveConfig({}, 'test'),
-        source: 'test stream',
-        journal: () => undefined,
-        clock: () => 0,
-        version: '0.0.0-test',
-      }),
-      () => 0,
-    );
-    const server = new TelemetryServer(tap.source, {
+    const { telemetry } = withTelemetry();
+    const server = new TelemetryServer(telemetry, {
       port: 0,
       version: '0.0.0-test',
       readiness: ['model', 'consumer'],
@@ -131,8 +123,8 @@ describe('the telemetry endpoint', () => {
     expect(status.ensemble).toBe('bagging');
     expect(status.events).toEqual({ scored: 15_000, trained: 15_000 });
     expect(status.seats).toHaveLength(10);
-    expect(status.accuracy).toBeCloseTo(run.loop.recentAccuracy!, 12);
-    expect(status.kappa).toBeCloseTo(run.loop.recentKappa!, 12);
+    expect(status.accuracy).toBeCloseTo(run.session.recentAccuracy!, 12);
+    expect(status.kappa).toBeCloseTo(run.session.metrics.windowKappa!, 12);
     expect(status.recentSignals.length).toBeGreaterThan(0);
     for (const s of status.seats) expect(['warming', 'active', 'watched', 'retired']).toContain(s.state);
   });
@@ -178,7 +170,8 @@ describe('the telemetry endpoint', () => {
     const early = series((await get(`${run.url}/metrics`)).body);
     run.feed(99_000);
     const late = series((await get(`${run.url}/metrics`)).body);
-    const replaced = run.loop.replacements;
+    const replaced =
+      run.session.metrics.lifecycleCounts().promoted + run.session.metrics.lifecycleCounts().fresh;
     note(
       `series after 1,000 rows: ${early.length}; after 100,000 rows with ${replaced} replacements: ${late.length}`,
     );
