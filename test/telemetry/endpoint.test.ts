@@ -4,7 +4,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import { LearningSession, resolveConfig } from '../../src/pipeline/index.js';
 import { buildStream, type StreamGenerator } from '../../src/streams/index.js';
 import { parseListen, SessionTelemetry, TelemetryServer } from '../../src/telemetry/index.js';
-import { frameOf, manualClock } from '../pipeline/session-support.js';
+import { frameOf, labelsFrame, manualClock } from '../pipeline/session-support.js';
 import { note } from '../support/note.js';
 
 /**
@@ -127,6 +127,41 @@ describe('the telemetry endpoint', () => {
     expect(status.kappa).toBeCloseTo(run.session.metrics.windowKappa!, 12);
     expect(status.recentSignals.length).toBeGreaterThan(0);
     for (const s of status.seats) expect(['warming', 'active', 'watched', 'retired']).toContain(s.state);
+  });
+
+  it('publishes pending predictions, label outcomes and label delays of late labels', async () => {
+    const clock = manualClock();
+    let telemetry: SessionTelemetry | null = null;
+    const session = new LearningSession({
+      config: resolveConfig({ labels: { pending: 1000 } }, 'test'),
+      source: 'test stream',
+      journal: { write: (r) => telemetry?.record(r), flush: async () => {} },
+      clock,
+      version: '0.0.0-test',
+    });
+    telemetry = SessionTelemetry.of(session, { checkpoints: false, wall: () => clock.wallNow });
+    const server = new TelemetryServer(telemetry, { port: 0, version: '0.0.0-test', readiness: ['model'] });
+    await server.start();
+    open.push(server);
+    // 600 events with ids, their labels held back; 500 labels arrive 30 s later, one for an unknown id.
+    const events = frameOf(sea(), 600, { ids: true, hide: () => true });
+    session.score(events, ['0', '1']);
+    clock.wallNow += 30_000;
+    const ids = [...events.ids!.slice(0, 499), 'nobody'];
+    session.learn(labelsFrame(ids, events.truth.slice(0, 500)), ['0', '1']);
+    const body = (await get(`http://127.0.0.1:${server.port}/metrics`)).body;
+    expect(body).toMatch(/^shoal_pending_labels 101$/m);
+    expect(body).toMatch(/^shoal_pending_labels_capacity 1000$/m);
+    expect(body).toMatch(/^shoal_labels_total\{outcome="joined"\} 499$/m);
+    expect(body).toMatch(/^shoal_labels_total\{outcome="orphaned"\} 1$/m);
+    expect(body).toMatch(/^shoal_label_delay_seconds_count 499$/m);
+    expect(body).toMatch(/^shoal_label_delay_seconds_bucket\{le="\+Inf"\} 499$/m);
+    // Every delay was 30 s: no bucket below 30 s holds one.
+    const below = [...body.matchAll(/^shoal_label_delay_seconds_bucket\{le="([0-9.e+]+)"\} (\d+)$/gm)].filter(
+      (m) => Number(m[1]) < 30,
+    );
+    expect(below.length).toBeGreaterThan(0);
+    for (const m of below) expect(m[2]).toBe('0');
   });
 
   it('writes the Prometheus text format, and OpenMetrics when Accept asks for it', async () => {
