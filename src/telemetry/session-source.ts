@@ -5,7 +5,6 @@ import {
   DEAD_LETTER_REASONS,
   type DeadLetterReason,
   type HistogramView,
-  type ReplacementCause,
   SIGNAL_CAUSES,
   type SignalCause,
   type SignalLevel,
@@ -22,8 +21,6 @@ function delayView(d: ReturnType<SessionMetrics['labelDelays']>): HistogramView 
   return { bounds: d.bounds, counts: d.counts, sum: null, count };
 }
 
-/** Drift signals kept for /status. */
-const RECENT_SIGNALS = 20;
 const LEVELS = Object.keys(SIGNAL_CAUSES) as SignalLevel[];
 const CAUSES: readonly SignalCause[] = LEVELS.flatMap((l) => SIGNAL_CAUSES[l]);
 const LEVEL_OF = new Map<string, SignalLevel>(LEVELS.flatMap((l) => SIGNAL_CAUSES[l].map((c) => [c, l])));
@@ -40,9 +37,9 @@ export interface SessionTelemetryOptions {
 
 /**
  * A `TelemetrySource` over a session's `SessionMetrics`, read at scrape time, plus what only the driver
- * sees: dead letters by reason, consumer lag, checkpoint times. Per-seat signal counts come from the
- * journal's lifecycle records (their typed `cause`), counted as each record is written — member changes
- * are rare events, never one per row.
+ * sees: dead letters by reason, consumer lag, checkpoint times. The surface counts lifecycle causes for
+ * the whole ensemble; the per-seat signal counts come from the journal's lifecycle records (their typed
+ * `cause`), counted as each record is written — member changes are rare events, never one per row.
  *
  * @example
  * const source = new SessionTelemetry({ metrics: session.metrics, shape, wall: () => Date.now() });
@@ -53,12 +50,10 @@ export class SessionTelemetry implements TelemetrySource {
   private readonly options: SessionTelemetryOptions;
   /** signals[seat × CAUSES.length + cause index], grown as seats appear. */
   private signals = new Float64Array(0);
-  private readonly replacements: Record<ReplacementCause, number> = { promoted: 0, fresh: 0 };
   private readonly deadLetters = Object.fromEntries(DEAD_LETTER_REASONS.map((r) => [r, 0])) as Record<
     DeadLetterReason,
     number
   >;
-  private readonly recent: SignalReading[] = [];
   private lag: TelemetryReading['lag'] = [];
   private lastCheckpoint: number;
   private runSchema: FeatureSchema | null = null;
@@ -135,6 +130,7 @@ export class SessionTelemetry implements TelemetrySource {
     const labels = m.labels();
     const signals = this.signals;
     const drifts = m.inputDrifts();
+    const causes = m.lifecycleCounts();
     const features = this.options.shape()?.features ?? [];
     return {
       scored: m.scored,
@@ -150,7 +146,7 @@ export class SessionTelemetry implements TelemetrySource {
         accuracy: s.age > 0 && Number.isFinite(s.recentAccuracy) ? s.recentAccuracy : null,
       })),
       signalCount: (seat, _level, cause) => signals[seat * CAUSES.length + CAUSES.indexOf(cause)] ?? 0,
-      replacements: { ...this.replacements },
+      replacements: { promoted: causes.promoted, fresh: causes.fresh },
       inputDrift: features.map((f) => drifts.get(f.name) ?? 0),
       pending: m.pendingSize,
       pendingCapacity: m.pendingCapacity,
@@ -165,17 +161,20 @@ export class SessionTelemetry implements TelemetrySource {
       lag: this.lag,
       checkpointAgeSeconds: Math.max(0, (this.options.wall() - this.lastCheckpoint) / 1000),
       modelBytes: m.modelBytes(),
-      recentSignals: [...this.recent],
+      recentSignals: m.recentDriftSignals().map(
+        (d): SignalReading => ({
+          row: d.scored,
+          seat: d.seat,
+          level: LEVEL_OF.get(d.cause) ?? 'drift',
+          cause: d.cause as SignalCause,
+          estimate: d.estimate,
+        }),
+      ),
     };
   }
 
   private lifecycle(r: LifecycleRecord): void {
-    if (r.cause === 'promoted' || r.cause === 'fresh') {
-      this.replacements[r.cause]++;
-      return;
-    }
-    const level = LEVEL_OF.get(r.cause);
-    if (level === undefined) return;
+    if (!LEVEL_OF.has(r.cause)) return;
     const cause = r.cause as SignalCause;
     const need = (r.seat + 1) * CAUSES.length;
     if (this.signals.length < need) {
@@ -184,7 +183,5 @@ export class SessionTelemetry implements TelemetrySource {
       this.signals = grown;
     }
     this.signals[r.seat * CAUSES.length + CAUSES.indexOf(cause)]!++;
-    this.recent.push({ row: r.scored, seat: r.seat, level, cause, estimate: r.estimate });
-    if (this.recent.length > RECENT_SIGNALS) this.recent.shift();
   }
 }

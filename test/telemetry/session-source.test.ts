@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import type { LifecycleCause, LifecycleRecord } from '../../src/journal/index.js';
+import { LIFECYCLE_CAUSES, type LifecycleCause, type LifecycleRecord } from '../../src/journal/index.js';
 import type { SessionMetrics } from '../../src/pipeline/index.js';
 import { SessionTelemetry, type TelemetryShape } from '../../src/telemetry/index.js';
 
@@ -30,9 +30,24 @@ const surface: SessionMetrics = {
   labelDelays: () => ({ bounds: [1, 10], counts: [800, 60, 10] }),
   windowAccuracy: 0.9,
   windowKappa: 0.8,
-  lifecycleCounts: () => ({}) as Record<LifecycleCause, number>,
+  lifecycleCounts: () =>
+    ({ ...Object.fromEntries(LIFECYCLE_CAUSES.map((c) => [c, 0])), promoted: 3, fresh: 1 }) as Record<
+      LifecycleCause,
+      number
+    >,
   inputDrifts: () => new Map([['x1', 2]]),
-  recentDriftSignals: () => [],
+  recentDriftSignals: () => [
+    { scored: 500, trained: 480, seat: 1, member: 11, detector: 'adwin', cause: 'drift', estimate: 0.4 },
+    {
+      scored: 520,
+      trained: 500,
+      seat: 0,
+      member: 10,
+      detector: 'adwin',
+      cause: 'drift-ignored-improving',
+      estimate: 0.1,
+    },
+  ],
   seats: () => [],
   epoch: 0,
   modelBytes: () => 1234,
@@ -86,7 +101,7 @@ describe('SessionTelemetry', () => {
     expect(source.read().checkpointAgeSeconds).toBe(0);
   });
 
-  it('counts drift signals per seat and cause, replacements by cause, dead letters by code', () => {
+  it('counts drift signals per seat and cause from the journal; replacements, recent signals from the surface', () => {
     const source = new SessionTelemetry({ metrics: surface, shape: () => shape, wall: () => 0 });
     for (const [seat, cause] of [
       [0, 'watched'],
@@ -107,13 +122,10 @@ describe('SessionTelemetry', () => {
     expect(r.signalCount(1, 'drift', 'drift-deferred')).toBe(1);
     expect(r.signalCount(0, 'drift', 'drift-ignored-improving')).toBe(1);
     expect(r.signalCount(0, 'drift', 'drift')).toBe(0);
-    expect(r.replacements).toEqual({ promoted: 1, fresh: 1 });
-    expect(r.recentSignals.map((s) => s.cause)).toEqual([
-      'watched',
-      'drift',
-      'drift',
-      'drift-deferred',
-      'drift-ignored-improving',
+    expect(r.replacements).toEqual({ promoted: 3, fresh: 1 });
+    expect(r.recentSignals).toEqual([
+      { row: 500, seat: 1, level: 'drift', cause: 'drift', estimate: 0.4 },
+      { row: 520, seat: 0, level: 'drift', cause: 'drift-ignored-improving', estimate: 0.1 },
     ]);
     expect(r.deadLetters['schema-mismatch']).toBe(1);
     expect(r.deadLetters.other).toBe(2);
