@@ -121,8 +121,13 @@ describe('Shoal under a real Prometheus', () => {
       } else if (rows >= CHANGE && Number.isNaN(changeSeen)) {
         changeSeen = Date.now();
       }
-      if (alerts.some((a) => a.state === 'firing')) {
+      const firing = alerts.find((a) => a.state === 'firing');
+      if (firing !== undefined) {
         firingAt = Date.now();
+        // The page a person receives: labels and rendered annotations from shoal-alerts.yml.
+        expect(firing.labels).toMatchObject({ severity: 'page', job: 'shoal', instance: target });
+        expect(firing.annotations.summary).toBe(`Concept drift on ${target}`);
+        expect(firing.annotations.description).toMatch(/Runbook: README "ShoalConceptDrift"/);
         break;
       }
       if (run.child.exitCode !== null) break;
