@@ -13,6 +13,7 @@ import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
 import { Pacer } from './pacer.js';
 import { Progress } from './progress.js';
+import { DEFAULT_CHECKPOINT_EVERY, ReplayCheckpoints } from './replay-checkpoints.js';
 import { feed, type LabelTiming } from './replay-feed.js';
 import { count, figure, type Terminal, table } from './terminal.js';
 import { shoalVersion } from './version.js';
@@ -47,6 +48,11 @@ Options:
   --report PATH     write a self-contained HTML report of the run
   --rejects PATH    write rows that cannot be decoded to PATH (NDJSON: source, position, reason) and go on;
                     without it the first bad row stops the run with a message naming file and line
+  --checkpoint DIR  write run checkpoints to DIR (the newest 3 are kept), and one when the run ends
+  --checkpoint-every N
+                    rows between checkpoints (default ${count(DEFAULT_CHECKPOINT_EVERY)})
+  --resume DIR      go on from the newest good checkpoint in DIR, skipping the rows it had consumed (give
+                    the options of the first run); checkpoints go on being written to DIR
   --metrics HOST:PORT
                     serve /metrics, /healthz, /readyz and /status on HOST:PORT while the run lasts
                     (Prometheus; see deploy/prometheus). Off by default
@@ -113,6 +119,43 @@ function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): Label
   return delay === undefined ? { kind: 'inline' } : { kind: 'delay', rows: delay };
 }
 
+/** The run's checkpoints, when `--checkpoint` or `--resume` asks for them. */
+function replayCheckpoints(
+  parsed: ReturnType<typeof parse>,
+  config: RunConfig,
+  timing: LabelTiming,
+): ReplayCheckpoints | null {
+  const resume = text(parsed, 'resume');
+  const dir = text(parsed, 'checkpoint') ?? resume;
+  const every = whole('replay', parsed, 'checkpoint-every');
+  if (dir === undefined) {
+    if (every !== undefined) {
+      throw new ShoalError(
+        'invalid-parameter',
+        'replay: --checkpoint-every needs --checkpoint DIR or --resume DIR',
+      );
+    }
+    return null;
+  }
+  if (
+    resume !== undefined &&
+    text(parsed, 'checkpoint') !== undefined &&
+    text(parsed, 'checkpoint') !== resume
+  ) {
+    throw new ShoalError(
+      'invalid-parameter',
+      'replay: --resume DIR goes on writing checkpoints to DIR; give one directory',
+    );
+  }
+  if (timing.kind !== 'inline') {
+    throw new ShoalError(
+      'invalid-parameter',
+      'replay: checkpoints need inline labels for now (labels held back by --labels or --label-delay are not in a checkpoint)',
+    );
+  }
+  return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion());
+}
+
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
 function frameOptions(config: RunConfig): FrameOptions {
   const { label, id, exclude, features, vocabulary } = config.inputs;
@@ -169,6 +212,9 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     'label-delay': { type: 'string' },
     'label-delay-column': { type: 'string' },
     time: { type: 'string' },
+    checkpoint: { type: 'string' },
+    'checkpoint-every': { type: 'string' },
+    resume: { type: 'string' },
     metrics: { type: 'string' },
     pace: { type: 'string' },
   });
@@ -180,7 +226,8 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const configPath = text(parsed, 'config');
   const raw = configPath === undefined ? {} : await readConfigFile(configPath);
   const config = resolveConfig(withOverrides(raw, parsed, 'replay'), configPath ?? 'command line');
-  const decoder = new FrameDecoder(frameOptions(config), configPath ?? 'command line');
+  const timing = labelTiming(parsed, config);
+  const checkpoints = replayCheckpoints(parsed, config, timing);
   const reportPath = text(parsed, 'report');
   const journal = new JournalOut(text(parsed, 'journal'), reportPath !== undefined);
   const rejectsPath = text(parsed, 'rejects');
@@ -189,11 +236,10 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const listen = text(parsed, 'metrics');
   const pacer = new Pacer(whole('replay', parsed, 'pace'), () => terminal.now());
   let telemetry: SessionTelemetry | null = null;
-  const session = new LearningSession({
-    config,
+  const ports = {
     source: file!,
     journal: {
-      write: (r) => {
+      write: (r: JournalRecord) => {
         telemetry?.record(r);
         journal.write(r);
       },
@@ -201,18 +247,28 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     },
     clock: { monotonic: () => terminal.now(), wall: () => Date.now() },
     version: shoalVersion(),
-  });
+  };
+  const resumed =
+    checkpoints !== null && text(parsed, 'resume') !== undefined
+      ? await checkpoints.resume(file!, ports, terminal)
+      : null;
+  const decoder = resumed?.decoder ?? new FrameDecoder(frameOptions(config), configPath ?? 'command line');
+  const session = resumed?.session ?? new LearningSession({ ...ports, config });
   let endpoint: TelemetryServer | null = null;
   if (listen !== undefined) {
-    telemetry = SessionTelemetry.of(session, { checkpoints: false, wall: () => Date.now() });
-    endpoint = new TelemetryServer(telemetry, {
+    const source = SessionTelemetry.of(session, {
+      checkpoints: checkpoints !== null,
+      wall: () => Date.now(),
+    });
+    if (checkpoints !== null) checkpoints.saved = () => source.checkpointed();
+    telemetry = source;
+    endpoint = new TelemetryServer(source, {
       ...parseListen(listen, 'replay --metrics'),
       version: shoalVersion(),
       readiness: ['model'],
     });
     await endpoint.start();
   }
-  const timing = labelTiming(parsed, config);
   const json = parsed.values.json === true;
   const progress = new Progress(
     json ? { ...terminal, interactive: false } : terminal,
@@ -239,12 +295,14 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
         endpoint?.batch(rows, seconds);
         endpoint?.setReady('model', true);
       },
+      from: resumed?.from ?? 0n,
       afterBatch: async () => {
         progress.update(session.scored, session.recentAccuracy);
-        await Promise.all([journal.flush(), rejects?.flush()]);
+        await Promise.all([journal.flush(), rejects?.flush(), checkpoints?.afterBatch(session, decoder)]);
       },
     });
     if (session.scored === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
+    await checkpoints?.save(session, decoder);
     summary = session.finish(decoder.classes);
   } finally {
     progress.done();

@@ -14,11 +14,11 @@ import {
   type TelemetrySource,
 } from './source.js';
 
-/** The session's label-delay buckets as a histogram view (it keeps no sum of delays). */
+/** The session's label-delay buckets as a histogram view. */
 function delayView(d: ReturnType<SessionMetrics['labelDelays']>): HistogramView {
   let count = 0;
   for (const c of d.counts) count += c;
-  return { bounds: d.bounds, counts: d.counts, sum: null, count };
+  return { bounds: d.bounds, counts: d.counts, sum: d.sum, count };
 }
 
 const LEVELS = Object.keys(SIGNAL_CAUSES) as SignalLevel[];

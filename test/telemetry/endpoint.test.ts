@@ -155,6 +155,7 @@ describe('the telemetry endpoint', () => {
     expect(body).toMatch(/^shoal_labels_total\{outcome="joined"\} 499$/m);
     expect(body).toMatch(/^shoal_labels_total\{outcome="orphaned"\} 1$/m);
     expect(body).toMatch(/^shoal_label_delay_seconds_count 499$/m);
+    expect(body).toMatch(/^shoal_label_delay_seconds_sum 14970$/m);
     expect(body).toMatch(/^shoal_label_delay_seconds_bucket\{le="\+Inf"\} 499$/m);
     // Every delay was 30 s: no bucket below 30 s holds one.
     const below = [...body.matchAll(/^shoal_label_delay_seconds_bucket\{le="([0-9.e+]+)"\} (\d+)$/gm)].filter(

@@ -27,7 +27,7 @@ const surface: SessionMetrics = {
   }),
   pendingSize: 40,
   pendingCapacity: 100,
-  labelDelays: () => ({ bounds: [1, 10], counts: [800, 60, 10] }),
+  labelDelays: () => ({ bounds: [1, 10], counts: [800, 60, 10], sum: 2345 }),
   windowAccuracy: 0.9,
   windowKappa: 0.8,
   lifecycleCounts: () =>
@@ -93,7 +93,7 @@ describe('SessionTelemetry', () => {
       5 + 870 + 4 + 6 + 2 + 7,
     );
     expect(Array.from(r.inputDrift)).toEqual([0, 2]);
-    expect(r.labelDelaySeconds).toEqual({ bounds: [1, 10], counts: [800, 60, 10], sum: null, count: 870 });
+    expect(r.labelDelaySeconds).toEqual({ bounds: [1, 10], counts: [800, 60, 10], sum: 2345, count: 870 });
     expect(r.checkpointAgeSeconds).toBe(0);
     now += 90_000;
     expect(source.read().checkpointAgeSeconds).toBe(90);
