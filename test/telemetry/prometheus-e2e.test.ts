@@ -175,4 +175,40 @@ describe('Shoal under a real Prometheus', () => {
     const [code] = await once(run.child, 'exit');
     expect(code, run.output()).toBe(0);
   });
+
+  it('publishes the checkpoint age while replay writes checkpoints, and not without them', async () => {
+    const dir = await scratch();
+    const stream = join(dir, 'sea.arrow');
+    expect((await shoal('synth', 'sea', '--rows', '20000', '--seed', '5', '--out', stream)).code).toBe(0);
+    const port = await freePort();
+    const target = `127.0.0.1:${port}`;
+    const run = spawnShoal([
+      'replay',
+      stream,
+      '--checkpoint',
+      join(dir, 'checkpoints'),
+      '--checkpoint-every',
+      '2000',
+      '--metrics',
+      target,
+      '--pace',
+      '5000',
+    ]);
+    // The first checkpoint is due at 2,000 rows: from then on the age is that of the newest one.
+    let age = Number.NaN;
+    await eventually(async () => {
+      const body = (await fetchText(`http://${target}/metrics`)).body;
+      const scored = Number(/^shoal_events_total\{outcome="scored"\} (\d+)$/m.exec(body)?.[1] ?? 0);
+      age = Number(/^shoal_checkpoint_age_seconds (\S+)$/m.exec(body)?.[1]);
+      return scored >= 4000;
+    }, 'rows past two checkpoints');
+    expect(age).toBeGreaterThanOrEqual(0);
+    const [code] = await once(run.child, 'exit');
+    expect(code, run.output()).toBe(0);
+
+    const plain = spawnShoal(['replay', stream, '--metrics', target, '--pace', '10000']);
+    await eventually(async () => (await fetchText(`http://${target}/readyz`)).status === 200, 'shoal ready');
+    expect((await fetchText(`http://${target}/metrics`)).body).not.toMatch(/^shoal_checkpoint_age_seconds /m);
+    await once(plain.child, 'exit');
+  });
 });
