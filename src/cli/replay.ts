@@ -84,7 +84,10 @@ function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: 
   if (id !== undefined) inputs.id = id;
   // Time columns are read beside the features, never as features.
   const times = [text(parsed, 'time'), text(parsed, 'label-delay-column')].filter((c) => c !== undefined);
-  if (times.length > 0) inputs.exclude = [...((inputs.exclude as string[] | undefined) ?? []), ...times];
+  if (times.length > 0) {
+    const excluded = (inputs.exclude as string[] | undefined) ?? [];
+    inputs.exclude = [...excluded, ...times.filter((c) => !excluded.includes(c!))];
+  }
   const seed = text(parsed, 'seed');
   return { ...base, ...(seed === undefined ? {} : { seed }), ensemble, inputs };
 }
@@ -120,11 +123,7 @@ function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): Label
 }
 
 /** The run's checkpoints, when `--checkpoint` or `--resume` asks for them. */
-function replayCheckpoints(
-  parsed: ReturnType<typeof parse>,
-  config: RunConfig,
-  timing: LabelTiming,
-): ReplayCheckpoints | null {
+function replayCheckpoints(parsed: ReturnType<typeof parse>, config: RunConfig): ReplayCheckpoints | null {
   const resume = text(parsed, 'resume');
   const dir = text(parsed, 'checkpoint') ?? resume;
   const every = whole('replay', parsed, 'checkpoint-every');
@@ -145,12 +144,6 @@ function replayCheckpoints(
     throw new ShoalError(
       'invalid-parameter',
       'replay: --resume DIR goes on writing checkpoints to DIR; give one directory',
-    );
-  }
-  if (timing.kind !== 'inline') {
-    throw new ShoalError(
-      'invalid-parameter',
-      'replay: checkpoints need inline labels for now (labels held back by --labels or --label-delay are not in a checkpoint)',
     );
   }
   return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion());
@@ -227,7 +220,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const raw = configPath === undefined ? {} : await readConfigFile(configPath);
   const config = resolveConfig(withOverrides(raw, parsed, 'replay'), configPath ?? 'command line');
   const timing = labelTiming(parsed, config);
-  const checkpoints = replayCheckpoints(parsed, config, timing);
+  const checkpoints = replayCheckpoints(parsed, config);
   const reportPath = text(parsed, 'report');
   const journal = new JournalOut(text(parsed, 'journal'), reportPath !== undefined);
   const rejectsPath = text(parsed, 'rejects');
