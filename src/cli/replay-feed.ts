@@ -3,6 +3,7 @@ import { readFrames } from '../files/index.js';
 import { type Decoded, describeRow, type Frame, FrameDecoder, type Rejection } from '../frames/index.js';
 import type { DeadLetter, LearningSession } from '../pipeline/index.js';
 import { LabelQueue } from './label-queue.js';
+import { Pacer } from './pacer.js';
 
 /**
  * When the labels of a replay become known. Time is the events' `--time` column when one is named,
@@ -49,6 +50,12 @@ export interface FeedOptions {
   readonly from?: bigint;
   /** Called after each batch of events is handled (progress, back-pressure, checkpoints). */
   readonly afterBatch: () => Promise<void>;
+  /** Holds the replay to a live stream's rate (`--pace`); inline labels are scored in its ranges. */
+  readonly pacer?: Pacer;
+  /** Milliseconds from any fixed origin, to time each scored range (with `scored`). */
+  readonly now?: () => number;
+  /** Told the rows and seconds of each scored range (the batch histograms). */
+  readonly scored?: (rows: number, seconds: number) => void;
 }
 
 /**
@@ -57,6 +64,9 @@ export interface FeedOptions {
  */
 export async function feed(o: FeedOptions): Promise<void> {
   const { session, decoder, timing } = o;
+  const pacer = o.pacer ?? new Pacer(undefined, () => 0);
+  const clock = o.now ?? (() => 0);
+  const scored = o.scored ?? (() => undefined);
   const refuse = (stream: string, rejected: readonly Rejection[]): void => {
     session.reject(rejected.length);
     for (const r of rejected) {
@@ -139,8 +149,14 @@ export async function feed(o: FeedOptions): Promise<void> {
       }
       refuse(o.file, batch.rejected);
       if (timing.kind === 'inline') {
-        session.score(frame, decoder.classes);
+        for (const [from, to] of pacer.ranges(frame.rows)) {
+          const started = clock();
+          session.score(frame, decoder.classes, from, to);
+          scored(to - from, (clock() - started) / 1000);
+          await pacer.wait(to - from);
+        }
       } else {
+        const started = clock();
         const prepared = await prepare(frame, session.scored);
         const held: Frame = { ...frame, labels: null, ids: prepared.ids };
         for (let r = 0; r < frame.rows; r++) {
@@ -148,6 +164,8 @@ export async function feed(o: FeedOptions): Promise<void> {
           const moment = await hold(frame, r, session.scored, prepared, false);
           prepared.queue.release(moment, session, decoder.classes);
         }
+        scored(frame.rows, (clock() - started) / 1000);
+        await pacer.wait(frame.rows);
       }
       consumed += size;
       session.advance(o.file, consumed);
