@@ -5,6 +5,7 @@ import { setTimeout as sleep, setImmediate as yieldToLoop } from 'node:timers/pr
 import { configFingerprint, runCheckpoint } from '../checkpoint/index.js';
 import { FileCheckpointStore } from '../files/index.js';
 import { type Frame, FrameDecoder } from '../frames/index.js';
+import type { JournalRecord } from '../journal/index.js';
 import { LearningSession, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import {
@@ -16,6 +17,7 @@ import {
   SCRIPT,
   SITES,
 } from '../scenario/index.js';
+import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
 import { decimal, parse, text, whole } from './args.js';
 import { DemoView } from './demo-view.js';
 import { JournalOut } from './journal-out.js';
@@ -48,6 +50,9 @@ Options:
   --forever     run until interrupted (Ctrl-C); the script plays out over the first ${count(DEFAULT_ROWS)} legs
   --seed S      the scenario's and the ensemble's seed (default 7)
   --out DIR     where the journal, checkpoints and report go (default: a new folder under ${tmpdir()})
+  --metrics HOST:PORT
+                serve /metrics, /status, /healthz and /readyz there while the demo runs (default
+                127.0.0.1:0, a free port; the address is printed)
 Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.
 
 ${DEMO_CAUTION}`;
@@ -59,6 +64,7 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
     forever: { type: 'boolean' },
     seed: { type: 'string' },
     out: { type: 'string' },
+    metrics: { type: 'string' },
   });
   if (parsed.values.help) {
     terminal.out(`${DEMO_HELP}\n`);
@@ -94,7 +100,11 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
     config.evaluation.window,
     Math.max(1000, Math.round((total ?? DEFAULT_ROWS) / 20)),
   );
-  const journal = new JournalOut(paths.journal, true, (r) => view.record(r));
+  let telemetry: SessionTelemetry | null = null;
+  const journal = new JournalOut(paths.journal, true, (r: JournalRecord) => {
+    telemetry?.record(r);
+    view.record(r);
+  });
   const session = new LearningSession({
     config,
     source: `freight scenario, seed ${seed}`,
@@ -107,15 +117,26 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
     { label: 'rejected', id: 'leg_id', classes: [...CLASSES] },
     'freight scenario',
   );
+  telemetry = SessionTelemetry.of(session, { checkpoints: true, wall: () => Date.now() });
+  const endpoint = new TelemetryServer(telemetry, {
+    ...parseListen(text(parsed, 'metrics') ?? '127.0.0.1:0', 'demo --metrics'),
+    version: shoalVersion(),
+    readiness: ['model'],
+  });
+  await endpoint.start();
+  const base = `http://${endpoint.host}:${endpoint.port}`;
   const store = new FileCheckpointStore(paths.checkpoints);
   const fingerprint = configFingerprint(config);
-  const checkpoint = (): Promise<string> =>
-    store.save(
+  const checkpoint = async (): Promise<string> => {
+    const where = await store.save(
       runCheckpoint(
         { decoder: decoder.snapshot(), session: session.snapshot() },
         { shoal: shoalVersion(), fingerprint, createdAt: new Date().toISOString() },
       ),
     );
+    telemetry?.checkpointed();
+    return where;
+  };
   const inspections = new LabelQueue('inspection results');
   const width = FREIGHT_SCHEMA.features.length;
   const values = new Float64Array(BATCH * width);
@@ -129,7 +150,9 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
   };
   process.once('SIGINT', interrupt);
   process.once('SIGTERM', interrupt);
-  terminal.err(`${DEMO_CAUTION}\n\n`);
+  terminal.err(
+    `${DEMO_CAUTION}\n\nmetrics  ${base}/metrics   status ${base}/status   (also /healthz, /readyz)\n\n`,
+  );
   const started = terminal.now();
   let produced = 0;
   let nextCheckpoint = CHECKPOINT_EVERY;
@@ -160,7 +183,10 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
         ids,
         origin: { source: 'freight scenario', unit: 'row', batch: -1, positions },
       };
+      const before = terminal.now();
       session.score(frame, CLASSES);
+      endpoint.batch(rows, (terminal.now() - before) / 1000);
+      endpoint.setReady('model', true);
       inspections.release(scenarioNow, session, CLASSES);
       produced += rows;
       session.advance('freight scenario', BigInt(produced));
@@ -192,6 +218,7 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
   } finally {
     process.off('SIGINT', interrupt);
     process.off('SIGTERM', interrupt);
+    await endpoint.close();
   }
   const summary = session.finish(CLASSES);
   await journal.close();

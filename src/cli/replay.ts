@@ -4,13 +4,15 @@ import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
 import { countRows, deadLetterFile } from '../files/index.js';
 import { FrameDecoder, type FrameOptions } from '../frames/index.js';
-import type { LabelCounts, SummaryRecord } from '../journal/index.js';
+import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
 import { LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
+import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
 import { JournalOut } from './journal-out.js';
+import { Pacer } from './pacer.js';
 import { Progress } from './progress.js';
 import { DEFAULT_CHECKPOINT_EVERY, ReplayCheckpoints } from './replay-checkpoints.js';
 import { feed, type LabelTiming } from './replay-feed.js';
@@ -52,6 +54,10 @@ Options:
                     rows between checkpoints (default ${count(DEFAULT_CHECKPOINT_EVERY)})
   --resume DIR      go on from the newest good checkpoint in DIR, skipping the rows it had consumed (give
                     the options of the first run); checkpoints go on being written to DIR
+  --metrics HOST:PORT
+                    serve /metrics, /healthz, /readyz and /status on HOST:PORT while the run lasts
+                    (Prometheus; see deploy/prometheus). Off by default
+  --pace N          replay at most N rows per second, as a live stream would arrive (default: as fast as possible)
   --json            print one JSON object instead of the summary table
 Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.`;
 
@@ -79,7 +85,10 @@ function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: 
   if (id !== undefined) inputs.id = id;
   // Time columns are read beside the features, never as features.
   const times = [text(parsed, 'time'), text(parsed, 'label-delay-column')].filter((c) => c !== undefined);
-  if (times.length > 0) inputs.exclude = [...((inputs.exclude as string[] | undefined) ?? []), ...times];
+  if (times.length > 0) {
+    const excluded = (inputs.exclude as string[] | undefined) ?? [];
+    inputs.exclude = [...excluded, ...times.filter((c) => !excluded.includes(c!))];
+  }
   const seed = text(parsed, 'seed');
   return { ...base, ...(seed === undefined ? {} : { seed }), ensemble, inputs };
 }
@@ -115,11 +124,7 @@ function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): Label
 }
 
 /** The run's checkpoints, when `--checkpoint` or `--resume` asks for them. */
-function replayCheckpoints(
-  parsed: ReturnType<typeof parse>,
-  config: RunConfig,
-  timing: LabelTiming,
-): ReplayCheckpoints | null {
+function replayCheckpoints(parsed: ReturnType<typeof parse>, config: RunConfig): ReplayCheckpoints | null {
   const resume = text(parsed, 'resume');
   const dir = text(parsed, 'checkpoint') ?? resume;
   const every = whole('replay', parsed, 'checkpoint-every');
@@ -140,12 +145,6 @@ function replayCheckpoints(
     throw new ShoalError(
       'invalid-parameter',
       'replay: --resume DIR goes on writing checkpoints to DIR; give one directory',
-    );
-  }
-  if (timing.kind !== 'inline') {
-    throw new ShoalError(
-      'invalid-parameter',
-      'replay: checkpoints need inline labels for now (labels held back by --labels or --label-delay are not in a checkpoint)',
     );
   }
   return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion());
@@ -185,6 +184,8 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     checkpoint: { type: 'string' },
     'checkpoint-every': { type: 'string' },
     resume: { type: 'string' },
+    metrics: { type: 'string' },
+    pace: { type: 'string' },
   });
   if (parsed.values.help) {
     terminal.out(`${REPLAY_HELP}\n`);
@@ -195,15 +196,24 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const raw = configPath === undefined ? {} : await readConfigFile(configPath);
   const config = resolveConfig(withOverrides(raw, parsed, 'replay'), configPath ?? 'command line');
   const timing = labelTiming(parsed, config);
-  const checkpoints = replayCheckpoints(parsed, config, timing);
+  const checkpoints = replayCheckpoints(parsed, config);
   const reportPath = text(parsed, 'report');
   const journal = new JournalOut(text(parsed, 'journal'), reportPath !== undefined);
   const rejectsPath = text(parsed, 'rejects');
   const rejects = rejectsPath === undefined ? null : deadLetterFile(rejectsPath);
   let rejected = 0;
+  const listen = text(parsed, 'metrics');
+  const pacer = new Pacer(whole('replay', parsed, 'pace'), () => terminal.now());
+  let telemetry: SessionTelemetry | null = null;
   const ports = {
     source: file!,
-    journal,
+    journal: {
+      write: (r: JournalRecord) => {
+        telemetry?.record(r);
+        journal.write(r);
+      },
+      flush: () => journal.flush(),
+    },
     clock: { monotonic: () => terminal.now(), wall: () => Date.now() },
     version: shoalVersion(),
   };
@@ -213,6 +223,21 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       : null;
   const decoder = resumed?.decoder ?? new FrameDecoder(frameOptions(config), configPath ?? 'command line');
   const session = resumed?.session ?? new LearningSession({ ...ports, config });
+  let endpoint: TelemetryServer | null = null;
+  if (listen !== undefined) {
+    const source = SessionTelemetry.of(session, {
+      checkpoints: checkpoints !== null,
+      wall: () => Date.now(),
+    });
+    if (checkpoints !== null) checkpoints.saved = () => source.checkpointed();
+    telemetry = source;
+    endpoint = new TelemetryServer(source, {
+      ...parseListen(listen, 'replay --metrics'),
+      version: shoalVersion(),
+      readiness: ['model'],
+    });
+    await endpoint.start();
+  }
   const json = parsed.values.json === true;
   const progress = new Progress(
     json ? { ...terminal, interactive: false } : terminal,
@@ -230,7 +255,14 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       rejects: rejectsPath === undefined ? 'throw' : 'keep',
       deadLetter: (letter) => {
         rejected++;
+        telemetry?.deadLettered(letter.code);
         rejects?.write(letter);
+      },
+      pacer,
+      now: () => terminal.now(),
+      scored: (rows, seconds) => {
+        endpoint?.batch(rows, seconds);
+        endpoint?.setReady('model', true);
       },
       from: resumed?.from ?? 0n,
       afterBatch: async () => {
@@ -243,7 +275,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     summary = session.finish(decoder.classes);
   } finally {
     progress.done();
-    await Promise.all([journal.close(), rejects?.close()]);
+    await Promise.all([journal.close(), rejects?.close(), endpoint?.close()]);
   }
   if (reportPath !== undefined)
     await writeFile(reportPath, renderReport(journal.kept, { title: `Replay of ${file}` }));

@@ -20,26 +20,43 @@ const TOLERANCE = 2_000;
 const SIGNAL = new Set(['drift', 'drift-deferred', 'drift-ignored-improving']);
 const REPLACED = new Set(['promoted', 'fresh']);
 
-function run(args: readonly string[]): Promise<{ code: number | null; out: string; err: string }> {
+interface Ran {
+  readonly code: number | null;
+  readonly out: string;
+  readonly err: string;
+  /** /metrics as answered while the demo ran (fetched as soon as its address was printed). */
+  readonly scrape: Promise<{ status: number; body: string; done: boolean }>;
+}
+
+function run(args: readonly string[]): Promise<Ran> {
   return new Promise((resolve, reject) => {
     const child = spawn(process.execPath, ['bin/shoal.js', ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
     let out = '';
     let err = '';
+    let closed = false;
+    let scrape: Ran['scrape'] | null = null;
     child.stdout.on('data', (d) => {
       out += d;
     });
     child.stderr.on('data', (d) => {
       err += d;
+      const url = /^metrics {2}(http:\/\/127\.0\.0\.1:\d+\/metrics)/m.exec(err)?.[1];
+      if (url !== undefined && scrape === null) {
+        scrape = fetch(url).then(async (r) => ({ status: r.status, body: await r.text(), done: closed }));
+      }
     });
     child.on('error', reject);
-    child.on('close', (code) => resolve({ code, out, err }));
+    child.on('close', (code) => {
+      closed = true;
+      resolve({ code, out, err, scrape: scrape ?? Promise.reject(new Error('no metrics address printed')) });
+    });
   });
 }
 
 describe('shoal demo', () => {
   it('runs the scenario: drift signals and replacements after each abrupt drift, a journal, checkpoint and report', async () => {
     const dir = await scratch();
-    const { code, out, err } = await run(['demo', '--rows', String(ROWS), '--out', dir]);
+    const { code, out, err, scrape } = await run(['demo', '--rows', String(ROWS), '--out', dir]);
     expect(err).not.toMatch(/unexpected failure/);
     expect(code).toBe(0);
     // Plain progress lines and events on a non-terminal: no cursor movement.
@@ -47,6 +64,10 @@ describe('shoal demo', () => {
     expect(err).toMatch(/^legs 20,000 \/ 20,000 /m);
     expect(err).toMatch(/^event {2}leg 6,000 {2}scenario: stricter seafood inspection/m);
     expect(out).toContain("the operator's HACCP plan and the inspector");
+    const metrics = await scrape;
+    expect(metrics.status).toBe(200);
+    expect(metrics.done).toBe(false);
+    expect(metrics.body).toMatch(/^# TYPE shoal_/m);
     const journalPath = join(dir, 'journal.ndjson');
     expect(out).toContain(`journal     ${journalPath}`);
     expect(out).toContain(`report      ${join(dir, 'report.html')}`);
