@@ -1,6 +1,7 @@
 import { ShoalError } from '../core/index.js';
 import { REPLAY_HELP, replay } from './replay.js';
 import { REPORT_HELP, report } from './report.js';
+import { SERVE_HELP, serve } from './serve.js';
 import { SYNTH_HELP, synth } from './synth.js';
 import { processTerminal, type Terminal } from './terminal.js';
 import { shoalVersion } from './version.js';
@@ -11,6 +12,7 @@ const COMMANDS: Readonly<
   replay: { run: replay, help: REPLAY_HELP },
   synth: { run: synth, help: SYNTH_HELP },
   report: { run: report, help: REPORT_HELP },
+  serve: { run: serve, help: SERVE_HELP },
 };
 
 const USAGE = `shoal — online ensembles that keep scoring while the world changes
@@ -19,6 +21,7 @@ Commands:
   shoal replay FILE      run a recorded stream through an ensemble, test-then-train, and summarise it
   shoal synth GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
   shoal report JOURNAL   turn a run's journal into a self-contained HTML report
+  shoal serve --config F score a Kafka events topic live: scores, dead letters, inline labels
 
 shoal COMMAND --help shows a command's options. Scores are advisory: keep a human in the loop.`;
 

@@ -69,7 +69,7 @@ function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: 
 }
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
-function frameOptions(config: RunConfig): FrameOptions {
+export function frameOptions(config: RunConfig): FrameOptions {
   const { label, id, exclude, features, vocabulary } = config.inputs;
   return {
     label,

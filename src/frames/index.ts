@@ -18,5 +18,7 @@ export { DEFAULT_LABEL, DEFAULT_MAX_CLASSES, DEFAULT_VOCABULARY } from './option
 export type { ReadOptions } from './read-options.js';
 export { DEFAULT_BATCH_ROWS } from './read-options.js';
 export { countRows } from './row-count.js';
+export type { ScoreRows } from './score-ipc.js';
+export { encodeScores, SCORES_CONTENT_TYPE } from './score-ipc.js';
 export type { FrameFormat, FrameWriter, RowBlock, WriterOptions } from './writer.js';
 export { DEFAULT_WRITE_BATCH_ROWS } from './writer.js';

@@ -8,5 +8,5 @@ export type {
   ViewFigures,
   WindowRecord,
 } from './journal.js';
-export type { LoopOptions, RowBatch } from './loop.js';
+export type { LoopOptions, RowBatch, VerdictSink } from './loop.js';
 export { LearningLoop } from './loop.js';

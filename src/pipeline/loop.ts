@@ -27,6 +27,9 @@ export interface LoopOptions {
   readonly version: string;
 }
 
+/** Receives the verdict served for each row of a batch (valid only during the call: it is reused). */
+export type VerdictSink = (row: number, verdict: Verdict) => void;
+
 /** The rows the loop needs from a batch: row-major values, the schema, and labels (NaN = none). */
 export interface RowBatch {
   readonly schema: FeatureSchema;
@@ -72,8 +75,11 @@ export class LearningLoop {
     return this.evaluated > 0 ? orNull(this.evaluator.windowed.accuracy()) : null;
   }
 
-  /** Score every row of a batch; rows with a label are judged and then trained on. */
-  prequential(batch: RowBatch, classes: readonly string[]): void {
+  /**
+   * Score every row of a batch; rows with a label are judged and then trained on. `served`, when given,
+   * sees each row's verdict as it was served (before the row's own label trained the ensemble).
+   */
+  prequential(batch: RowBatch, classes: readonly string[], served: VerdictSink | null = null): void {
     const ensemble = this.ensure(batch.schema, classes);
     const { values, labels, width } = batch;
     const verdict = this.verdict;
@@ -89,9 +95,11 @@ export class LearningLoop {
       this.rows++;
       if (Number.isNaN(label)) {
         ensemble.score(values, offset, verdict);
+        if (served !== null) served(r, verdict);
         continue;
       }
       ensemble.scoreTrain(values, offset, label, verdict);
+      if (served !== null) served(r, verdict);
       this.evaluator.record(
         verdict.predicted,
         label,
