@@ -1,18 +1,12 @@
-import { once } from 'node:events';
-import { createWriteStream, type WriteStream } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import { ShoalError } from '../core/index.js';
 import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
-import { countRows, FrameDecoder, type FrameOptions, readFrames } from '../frames/index.js';
+import { countRows, deadLetterFile, journalFile, readFrames } from '../files/index.js';
+import { FrameDecoder, type FrameOptions } from '../frames/index.js';
+import type { JournalRecord, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
-import {
-  type JournalRecord,
-  LearningLoop,
-  type RunConfig,
-  resolveConfig,
-  type SummaryRecord,
-} from '../pipeline/index.js';
+import { LearningLoop, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
@@ -80,41 +74,29 @@ export function frameOptions(config: RunConfig): FrameOptions {
   };
 }
 
-/** NDJSON records to a file (when a path is given), also kept in memory when asked (for the report). */
-class NdjsonOut<T> {
-  readonly kept: T[] = [];
-  count = 0;
-  private readonly file: WriteStream | null;
+/** The journal: to a file when a path is given, and kept in memory when the report needs it. */
+class JournalOut {
+  readonly kept: JournalRecord[] = [];
+  private readonly file: ReturnType<typeof journalFile> | null;
   private readonly keep: boolean;
 
   constructor(path: string | undefined, keep: boolean) {
-    this.file = path === undefined ? null : createWriteStream(path);
+    this.file = path === undefined ? null : journalFile(path);
     this.keep = keep;
   }
 
-  write(record: T): void {
-    this.count++;
+  write(record: JournalRecord): void {
     if (this.keep) this.kept.push(record);
-    this.file?.write(`${JSON.stringify(record)}\n`);
+    this.file?.write(record);
   }
 
-  /** Wait for the file to take what was written (called once per batch, for back-pressure). */
-  async drain(): Promise<void> {
-    if (this.file?.writableNeedDrain) await once(this.file, 'drain');
+  async flush(): Promise<void> {
+    await this.file?.flush();
   }
 
   async close(): Promise<void> {
-    if (this.file === null) return;
-    this.file.end();
-    await once(this.file, 'finish');
+    await this.file?.close();
   }
-}
-
-/** A row the reader could not decode, as written to the --rejects file. */
-interface RejectedRow {
-  readonly source: string;
-  readonly position: number;
-  readonly reason: string;
 }
 
 export async function replay(args: readonly string[], terminal: Terminal): Promise<number> {
@@ -142,9 +124,10 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const config = resolveConfig(withOverrides(raw, parsed, 'replay'), configPath ?? 'command line');
   const decoder = new FrameDecoder(frameOptions(config), configPath ?? 'command line');
   const reportPath = text(parsed, 'report');
-  const journal = new NdjsonOut<JournalRecord>(text(parsed, 'journal'), reportPath !== undefined);
+  const journal = new JournalOut(text(parsed, 'journal'), reportPath !== undefined);
   const rejectsPath = text(parsed, 'rejects');
-  const rejects = new NdjsonOut<RejectedRow>(rejectsPath, false);
+  const rejects = rejectsPath === undefined ? null : deadLetterFile(rejectsPath);
+  let rejected = 0;
   const loop = new LearningLoop({
     config,
     source: file!,
@@ -160,24 +143,34 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   let summary: SummaryRecord;
   try {
     const reading = readFrames(file!, decoder, { rejects: rejectsPath === undefined ? 'throw' : 'keep' });
-    for await (const { frame, rejected } of reading) {
-      for (const r of rejected) rejects.write({ source: file!, position: r.index, reason: r.reason });
+    for await (const batch of reading) {
+      const frame = batch.frame;
+      for (const r of batch.rejected) {
+        rejected++;
+        rejects?.write({
+          stream: file!,
+          position: BigInt(r.index),
+          code: 'undecodable',
+          reason: r.reason,
+          bytes: null,
+        });
+      }
       loop.prequential(frame, decoder.classes);
       progress.update(loop.rows, loop.recentAccuracy);
-      await Promise.all([journal.drain(), rejects.drain()]);
+      await Promise.all([journal.flush(), rejects?.flush()]);
     }
     if (loop.rows === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
     summary = loop.finish(decoder.classes);
   } finally {
     progress.done();
-    await Promise.all([journal.close(), rejects.close()]);
+    await Promise.all([journal.close(), rejects?.close()]);
   }
   if (reportPath !== undefined)
     await writeFile(reportPath, renderReport(journal.kept, { title: `Replay of ${file}` }));
   terminal.out(
     json
-      ? `${JSON.stringify({ ...jsonSummary(file!, config, summary), rejected: rejects.count })}\n`
-      : summaryTable(file!, config, summary, loop.rows, rejects.count),
+      ? `${JSON.stringify({ ...jsonSummary(file!, config, summary), rejected })}\n`
+      : summaryTable(file!, config, summary, loop.rows, rejected),
   );
   return 0;
 }

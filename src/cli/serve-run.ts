@@ -1,5 +1,4 @@
 import type { WriteStream } from 'node:fs';
-import type { Message, TopicMessages } from 'kafkajs';
 import type { Logger } from 'pino';
 import type { Verdict } from '../ensembles/index.js';
 import {
@@ -9,6 +8,7 @@ import {
   SCORES_CONTENT_TYPE,
   type ScoreRows,
 } from '../frames/index.js';
+import type { JournalRecord } from '../journal/index.js';
 import {
   type BatchControl,
   BatchDecoder,
@@ -17,9 +17,11 @@ import {
   type FetchedBatch,
   journalMessage,
   type KafkaSettings,
+  type OutputMessage,
   scoresMessage,
+  type TopicOutputs,
 } from '../kafka/index.js';
-import { type JournalRecord, LearningLoop, type RunConfig } from '../pipeline/index.js';
+import { LearningLoop, type RunConfig } from '../pipeline/index.js';
 
 /** Rows per scores message: about 60 bytes a row (two classes), far below the broker's 1 MiB limit. */
 const SCORE_ROWS_PER_MESSAGE = 4096;
@@ -43,12 +45,12 @@ export class ServeModels {
   ) {}
 
   /** The output messages for one batch (its scores, dead letters and journal records). */
-  handle(batch: FetchedBatch): { outputs: TopicMessages[]; scored: number; dead: number } {
+  handle(batch: FetchedBatch): { outputs: TopicOutputs[]; scored: number; dead: number } {
     const key = this.settings.scope === 'global' ? 'global' : `${batch.topic}/${batch.partition}`;
     const state = this.state(key);
     const dead: DeadLetter[] = [];
     const events = state.batches.decode(batch.topic, batch.partition, batch.messages, dead);
-    const scores: Message[] = [];
+    const scores: OutputMessage[] = [];
     if (events !== null) {
       const classes = state.decoder.classes;
       state.collector.start(events.frame.rows, Math.max(1, classes.length));
@@ -92,8 +94,8 @@ export class ServeModels {
   }
 
   /** Close every model: the summary records to send before exit. */
-  finish(): TopicMessages[] {
-    const out: TopicMessages[] = [];
+  finish(): TopicOutputs[] {
+    const out: TopicOutputs[] = [];
     for (const [key, state] of this.states) {
       if (state.loop.rows > 0) state.loop.finish(state.decoder.classes);
       out.push(...this.outputs(key, state, [], []));
@@ -101,11 +103,16 @@ export class ServeModels {
     return out;
   }
 
-  private outputs(key: string, state: ScopeState, scores: Message[], dead: DeadLetter[]): TopicMessages[] {
+  private outputs(
+    key: string,
+    state: ScopeState,
+    scores: OutputMessage[],
+    dead: DeadLetter[],
+  ): TopicOutputs[] {
     const s = this.settings;
     const records = state.journal.splice(0);
     if (this.journalFile !== null) for (const r of records) this.journalFile.write(`${JSON.stringify(r)}\n`);
-    const out: TopicMessages[] = [
+    const out: TopicOutputs[] = [
       { topic: s.scores.topic, messages: scores },
       { topic: s.deadLetters.topic, messages: dead.map(deadLetterMessage) },
     ];
