@@ -6,6 +6,7 @@ import {
   type FrameDecoder,
   type MessageDecode,
 } from '../frames/index.js';
+import type { SourceBatch } from '../pipeline/index.js';
 import type { EventFormat } from './config.js';
 
 /**
@@ -39,17 +40,14 @@ export interface DeadLetter {
   readonly headers: Readonly<Record<string, string>>;
 }
 
-/** The rows of one fetched batch, in the shape the session's `Source` hands out. */
-export interface EventBatch {
-  readonly frame: Frame;
-  /** `topic/partition`. */
-  readonly stream: string;
-  /** The Kafka offset each row of `frame` came from. */
-  readonly positions: BigInt64Array;
+/**
+ * The rows of one fetched batch, a `SourceBatch` of the session's ports: `stream` is `topic/partition`,
+ * `positions` the Kafka offset of each row, `next` the last offset + 1. Rows and messages that did not
+ * decode are dead letters (with their bytes and headers) rather than `rejected` entries.
+ */
+export interface EventBatch extends SourceBatch {
   /** Each row's message timestamp (ms since 1970). */
   readonly eventTimes: Float64Array;
-  /** The offset to resume from once this batch is handled (last offset + 1). */
-  readonly next: bigint;
 }
 
 /** The parts of a kafkajs message this decoder reads. */
@@ -143,6 +141,7 @@ export class BatchDecoder {
     if (this.rows === 0 || this.decoder.schema === null) return null;
     return {
       frame: this.frame(this.decoder.schema),
+      rejected: [],
       stream: `${topic}/${partition}`,
       positions: this.positions.subarray(0, this.rows),
       eventTimes: this.times.subarray(0, this.rows),

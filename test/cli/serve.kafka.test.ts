@@ -4,8 +4,8 @@ import { tableToIPC } from 'apache-arrow';
 import { describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import { scratch, shoal } from '../support/cli.js';
+import { kafkaSection, serveTopics } from '../support/kafka-config.js';
 import { arrowMessage, eventTable, seaEvents } from '../support/kafka-events.js';
-import { uniqueName } from '../support/kafka-names.js';
 import {
   client,
   countScoreRows,
@@ -19,48 +19,10 @@ import { note } from '../support/note.js';
 
 const RUN = { seed: 11, ensemble: { kind: 'bagging', members: 5 }, inputs: { label: 'label', id: 'id' } };
 
-interface Topics {
-  events: string;
-  scores: string;
-  dead: string;
-  journal: string;
-  group: string;
-}
-
-function names(): Topics {
-  const base = uniqueName('serve');
-  return {
-    events: `${base}-events`,
-    scores: `${base}-scores`,
-    dead: `${base}-dead`,
-    journal: `${base}-journal`,
-    group: `${base}-group`,
-  };
-}
-
-function kafkaSection(
-  brokers: string,
-  t: Topics,
-  extra: Record<string, unknown> = {},
-): Record<string, unknown> {
-  return {
-    brokers: brokers.split(','),
-    group: t.group,
-    events: { topics: [t.events] },
-    scores: { topic: t.scores },
-    deadLetters: { topic: t.dead },
-    journal: { topic: t.journal },
-    maxWaitMs: 200,
-    sessionTimeoutMs: 6000,
-    log: { level: 'debug' },
-    ...extra,
-  };
-}
-
 describe('shoal serve on a real broker', () => {
   it('scores 50,000 Arrow events with inline labels exactly as replay does, and exits 0 on SIGTERM having committed', async () => {
     const brokers = inject('kafkaBrokers');
-    const t = names();
+    const t = serveTopics();
     await createTopics(brokers, { [t.events]: 1, [t.scores]: 1, [t.dead]: 1, [t.journal]: 1 });
     const rows = 50_000;
     const per = 500;
