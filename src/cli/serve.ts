@@ -102,9 +102,10 @@ async function run(config: RunConfig, settings: KafkaSettings, terminal: Termina
     }
   });
   await producer.connect();
+  await consumer.connect();
   if (settings.scope === 'global' && (await consumer.members()) > 0) {
     terminal.err(`shoal serve: ${refuseSecond(settings)}\n`);
-    await producer.stop();
+    await Promise.all([consumer.stop(), producer.stop()]);
     return 2;
   }
   let scored = 0;

@@ -43,6 +43,7 @@ export class EventConsumer {
   private readonly consumer: Consumer;
   private readonly admin: Admin;
   private finish: (outcome: ConsumerOutcome) => void = () => {};
+  private stopping: Promise<void> | null = null;
   /** How the consumer ended: stopped on request, or crashed with a message. */
   readonly finished: Promise<ConsumerOutcome>;
 
@@ -89,9 +90,13 @@ export class EventConsumer {
     return groups[0]?.members.length ?? 0;
   }
 
-  async start(handle: BatchHandler): Promise<void> {
+  /** Connect (before `members()` or `start()`). */
+  async connect(): Promise<void> {
     await this.admin.connect();
     await this.consumer.connect();
+  }
+
+  async start(handle: BatchHandler): Promise<void> {
     await this.consumer.subscribe({
       topics: [...this.settings.events.topics],
       fromBeginning: this.settings.events.fromBeginning,
@@ -130,6 +135,12 @@ export class EventConsumer {
 
   /** Stop fetching, let the batch in flight finish (and commit), leave the group. */
   async stop(): Promise<void> {
+    if (this.stopping !== null) return this.stopping;
+    this.stopping = this.leave();
+    return this.stopping;
+  }
+
+  private async leave(): Promise<void> {
     await this.consumer.stop();
     await this.consumer.disconnect();
     await this.admin.disconnect();

@@ -1,7 +1,7 @@
 import { readFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { tableToIPC } from 'apache-arrow';
-import { describe, expect, inject, it } from 'vitest';
+import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import { scratch, shoal } from '../support/cli.js';
 import { kafkaSection, serveTopics } from '../support/kafka-config.js';
@@ -10,6 +10,7 @@ import {
   client,
   countScoreRows,
   createTopics,
+  killServes,
   produce,
   readTopic,
   ServeProcess,
@@ -20,6 +21,8 @@ import { note } from '../support/note.js';
 const RUN = { seed: 11, ensemble: { kind: 'bagging', members: 5 }, inputs: { label: 'label', id: 'id' } };
 
 describe('shoal serve on a real broker', () => {
+  afterEach(killServes);
+
   it('scores 50,000 Arrow events with inline labels exactly as replay does, and exits 0 on SIGTERM having committed', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();

@@ -2,7 +2,7 @@ import { writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { makeVector, Table, tableToIPC, Utf8, vectorFromArray } from 'apache-arrow';
 import type { Message } from 'kafkajs';
-import { describe, expect, inject, it } from 'vitest';
+import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import { scratch } from '../support/cli.js';
 import { kafkaSection, serveTopics } from '../support/kafka-config.js';
@@ -10,6 +10,7 @@ import { arrowMessage, seaEvents } from '../support/kafka-events.js';
 import {
   countScoreRows,
   createTopics,
+  killServes,
   produce,
   readTopic,
   ServeProcess,
@@ -73,6 +74,8 @@ function badMessages(): { message: Message; code: string }[] {
 }
 
 describe('dead letters', () => {
+  afterEach(killServes);
+
   it('routes 50 malformed messages of 8 kinds to the dead-letter topic with their reasons and scores the 950 good events', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();

@@ -4,11 +4,11 @@ import { writeFile } from 'node:fs/promises';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { promisify } from 'node:util';
-import { describe, expect, inject, it } from 'vitest';
+import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import { scratch } from '../support/cli.js';
 import { kafkaSection, serveTopics } from '../support/kafka-config.js';
-import { createTopics, readTopic, ServeProcess } from '../support/kafka-serve.js';
+import { createTopics, killServes, readTopic, ServeProcess } from '../support/kafka-serve.js';
 
 const run = promisify(execFile);
 const repo = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
@@ -18,6 +18,8 @@ const venv = join(repo, '.cache', 'py', 'bin', 'python');
 const python = existsSync(venv) ? venv : 'python3';
 
 describe('an outside client', () => {
+  afterEach(killServes);
+
   it('has its zstd-compressed Arrow events (librdkafka, pyarrow) scored, and reads the scores back with pyarrow', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();

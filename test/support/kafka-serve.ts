@@ -83,6 +83,14 @@ export function countScoreRows(messages: readonly KafkaMessage[]): number {
   return n;
 }
 
+const running = new Set<ChildProcess>();
+
+/** SIGKILL every `serve` child a test left running (after a failure), so none outlives the test. */
+export function killServes(): void {
+  for (const child of running) child.kill('SIGKILL');
+  running.clear();
+}
+
 /** `shoal serve` as a child process; its stdout (the JSON log) and stderr are kept. */
 export class ServeProcess {
   stdout = '';
@@ -102,7 +110,13 @@ export class ServeProcess {
     this.child.stderr!.on('data', (c: Buffer) => {
       this.stderr += c.toString('utf8');
     });
-    this.exited = new Promise((done) => this.child.once('exit', (code) => done(code)));
+    running.add(this.child);
+    this.exited = new Promise((done) =>
+      this.child.once('exit', (code) => {
+        running.delete(this.child);
+        done(code);
+      }),
+    );
   }
 
   /** Log records (JSON lines of stdout). */
