@@ -2,15 +2,16 @@ import { writeFile } from 'node:fs/promises';
 import { ShoalError } from '../core/index.js';
 import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
-import { countRows, deadLetterFile, journalFile, readFrames } from '../files/index.js';
+import { countRows, deadLetterFile, journalFile } from '../files/index.js';
 import { FrameDecoder, type FrameOptions } from '../frames/index.js';
-import type { JournalRecord, SummaryRecord } from '../journal/index.js';
+import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
-import { LearningLoop, type RunConfig, resolveConfig } from '../pipeline/index.js';
+import { LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
 import { Progress } from './progress.js';
+import { feed, type LabelTiming } from './replay-feed.js';
 import { count, figure, type Terminal, table } from './terminal.js';
 import { shoalVersion } from './version.js';
 
@@ -29,6 +30,17 @@ Options:
   --seed S          seed of every random choice
   --label COL       the label column (default "label")
   --id COL          an event-id column
+  --labels FILE     labels in a file of their own (the --id and --label columns), joined by id to the
+                    prediction served for each event; the k-th label becomes known once k events were
+                    scored (labels left at the end are joined after the last event)
+  --label-time COL  the labels file's column of the time each label became known (on the scale of
+                    --time); then labels become known by time rather than one per event
+  --label-delay N   hold each inline label back until N more rows were scored, then join it by id to
+                    the prediction served for its row (rows without --id are joined by row number)
+  --label-delay-column COL
+                    hold each inline label back until the time in COL (on the scale of --time)
+  --time COL        the events' time column (numeric, in order; not a feature); without it, time is
+                    the row number
   --journal PATH    write the run's journal (NDJSON: lifecycle changes, evaluation windows, summary)
   --report PATH     write a self-contained HTML report of the run
   --rejects PATH    write rows that cannot be decoded to PATH (NDJSON: source, position, reason) and go on;
@@ -58,8 +70,41 @@ function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: 
   if (label !== undefined) inputs.label = label;
   const id = text(parsed, 'id');
   if (id !== undefined) inputs.id = id;
+  // Time columns are read beside the features, never as features.
+  const times = [text(parsed, 'time'), text(parsed, 'label-delay-column')].filter((c) => c !== undefined);
+  if (times.length > 0) inputs.exclude = [...((inputs.exclude as string[] | undefined) ?? []), ...times];
   const seed = text(parsed, 'seed');
   return { ...base, ...(seed === undefined ? {} : { seed }), ensemble, inputs };
+}
+
+/** When labels become known: inline (the default), held back N rows, or from a labels file. */
+function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): LabelTiming {
+  const path = text(parsed, 'labels');
+  const delay = whole('replay', parsed, 'label-delay', 0);
+  const column = text(parsed, 'label-delay-column');
+  const given = [path, delay, column].filter((x) => x !== undefined).length;
+  if (given > 1) {
+    throw new ShoalError(
+      'invalid-parameter',
+      'replay: give one of --labels, --label-delay and --label-delay-column, not both',
+    );
+  }
+  const time = text(parsed, 'label-time');
+  if (time !== undefined && path === undefined) {
+    throw new ShoalError('invalid-parameter', 'replay: --label-time names a column of the --labels file');
+  }
+  const { id, label } = config.inputs;
+  if (path !== undefined) {
+    if (id === null || label === null) {
+      throw new ShoalError(
+        'invalid-parameter',
+        'replay: --labels needs --id (the column that joins a label to its event) and a label column',
+      );
+    }
+    return { kind: 'file', path, id, label, time: time ?? null };
+  }
+  if (column !== undefined) return { kind: 'delay-column', column };
+  return delay === undefined ? { kind: 'inline' } : { kind: 'delay', rows: delay };
 }
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
@@ -113,6 +158,11 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     report: { type: 'string' },
     json: { type: 'boolean' },
     rejects: { type: 'string' },
+    labels: { type: 'string' },
+    'label-time': { type: 'string' },
+    'label-delay': { type: 'string' },
+    'label-delay-column': { type: 'string' },
+    time: { type: 'string' },
   });
   if (parsed.values.help) {
     terminal.out(`${REPLAY_HELP}\n`);
@@ -128,13 +178,14 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const rejectsPath = text(parsed, 'rejects');
   const rejects = rejectsPath === undefined ? null : deadLetterFile(rejectsPath);
   let rejected = 0;
-  const loop = new LearningLoop({
+  const session = new LearningSession({
     config,
     source: file!,
-    journal: (r) => journal.write(r),
-    clock: () => terminal.now(),
+    journal,
+    clock: { monotonic: () => terminal.now(), wall: () => Date.now() },
     version: shoalVersion(),
   });
+  const timing = labelTiming(parsed, config);
   const json = parsed.values.json === true;
   const progress = new Progress(
     json ? { ...terminal, interactive: false } : terminal,
@@ -142,25 +193,25 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   );
   let summary: SummaryRecord;
   try {
-    const reading = readFrames(file!, decoder, { rejects: rejectsPath === undefined ? 'throw' : 'keep' });
-    for await (const batch of reading) {
-      const frame = batch.frame;
-      for (const r of batch.rejected) {
+    await feed({
+      file: file!,
+      decoder,
+      session,
+      timing,
+      time: text(parsed, 'time') ?? null,
+      carryFeatures: config.labels.unmatched === 'train',
+      rejects: rejectsPath === undefined ? 'throw' : 'keep',
+      deadLetter: (letter) => {
         rejected++;
-        rejects?.write({
-          stream: file!,
-          position: BigInt(r.index),
-          code: 'undecodable',
-          reason: r.reason,
-          bytes: null,
-        });
-      }
-      loop.prequential(frame, decoder.classes);
-      progress.update(loop.rows, loop.recentAccuracy);
-      await Promise.all([journal.flush(), rejects?.flush()]);
-    }
-    if (loop.rows === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
-    summary = loop.finish(decoder.classes);
+        rejects?.write(letter);
+      },
+      afterBatch: async () => {
+        progress.update(session.scored, session.recentAccuracy);
+        await Promise.all([journal.flush(), rejects?.flush()]);
+      },
+    });
+    if (session.scored === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
+    summary = session.finish(decoder.classes);
   } finally {
     progress.done();
     await Promise.all([journal.close(), rejects?.close()]);
@@ -170,7 +221,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   terminal.out(
     json
       ? `${JSON.stringify({ ...jsonSummary(file!, config, summary), rejected })}\n`
-      : summaryTable(file!, config, summary, loop.rows, rejected),
+      : summaryTable(file!, config, summary, rejected),
   );
   return 0;
 }
@@ -180,6 +231,8 @@ function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<
     file,
     ensemble: config.ensemble.kind,
     seed: config.seed,
+    scored: s.scored,
+    trained: s.trained,
     rows: s.rows,
     accuracy: s.accuracy,
     kappa: s.kappa,
@@ -191,28 +244,25 @@ function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<
     warnings: s.warnings,
     replacements: s.replacements,
     inputDrifts: s.inputDrifts,
+    labels: s.labels,
     classes: s.classes,
     seconds: s.seconds,
     rowsPerSecond: s.rowsPerSecond,
   };
 }
 
-function summaryTable(
-  file: string,
-  config: RunConfig,
-  s: SummaryRecord,
-  scored: number,
-  rejected: number,
-): string {
+function summaryTable(file: string, config: RunConfig, s: SummaryRecord, rejected: number): string {
   const e = config.ensemble as { kind: string; members?: number; learners?: readonly { kind: string }[] };
   const learners = [...new Set((e.learners ?? [{ kind: 'hoeffding-tree' }]).map((l) => l.kind))].join(', ');
   const head = `replay of ${file}: ${e.kind}${e.members === undefined ? '' : ` of ${e.members}`} (${learners}), seed ${config.seed}\n\n`;
   return (
     head +
     table([
-      ['rows scored', count(scored)],
+      ['rows scored', count(s.scored)],
       ['rows rejected', count(rejected)],
       ['rows judged', count(s.rows)],
+      ['rows trained', count(s.trained)],
+      ...labelLines(s.labels),
       ['accuracy', figure(s.accuracy)],
       ['kappa', figure(s.kappa)],
       ['kappa-M', figure(s.kappaM)],
@@ -227,4 +277,20 @@ function summaryTable(
       ['seconds', s.seconds.toFixed(1)],
     ])
   );
+}
+
+/** The label outcomes worth a line: those that happened (inline labels are the rows judged). */
+function labelLines(l: LabelCounts): [string, string][] {
+  const lines: [string, number][] = [
+    ['labels joined late', l.joined],
+    ['labels for joined ids', l.duplicate],
+    ['labels after expiry', l.late],
+    ['labels after eviction', l.evicted],
+    ['labels with unknown ids', l.unknown],
+    ['unmatched labels trained', l.trainedUnmatched],
+    ['predictions expired', l.expiredPredictions],
+    ['predictions evicted', l.evictedPredictions],
+    ['predictions pending', l.pending],
+  ];
+  return lines.filter(([, n]) => n > 0).map(([name, n]) => [name, count(n)]);
 }

@@ -15,7 +15,7 @@ import { type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { parse, positionals, text } from './args.js';
 import { readConfigFile } from './config-file.js';
 import { frameOptions } from './replay.js';
-import { ServeModels, waitingWith } from './serve-run.js';
+import { ServeModels } from './serve-run.js';
 import type { Terminal } from './terminal.js';
 import { shoalVersion } from './version.js';
 
@@ -81,6 +81,21 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
   const run = collect(() => resolveConfig(rest, source));
   const kafka = collect(() => resolveKafkaSettings(section, source));
   if (kafka !== null) collect(() => readSecrets(kafka, process.env, source));
+  if (run !== null && kafka !== null && kafka.labels !== null) {
+    if (run.inputs.id === null) {
+      issues.push({
+        path: 'inputs.id',
+        message: 'late labels (kafka.labels) are joined by id: name the id column',
+      });
+    }
+    if (kafka.scope === 'partition') {
+      issues.push({
+        path: 'kafka.labels',
+        message:
+          'late labels need scope global: with scope partition a label could reach an instance that does not hold its prediction',
+      });
+    }
+  }
   if (run === null || kafka === null || issues.length > 0) return { issues };
   return { run, kafka };
 }
@@ -91,11 +106,13 @@ async function run(config: RunConfig, settings: KafkaSettings, terminal: Termina
   const kafka = createKafka(settings, secrets, log);
   const journalFile: WriteStream | null =
     settings.journal.file === null ? null : createWriteStream(settings.journal.file, { flags: 'a' });
-  const models = new ServeModels(config, settings, frameOptions(config), shoalVersion(), log, journalFile);
+  const models = new ServeModels(config, settings, frameOptions(config), shoalVersion(), journalFile);
   const producer = new OutputProducer(kafka, log);
   let refusal: string | null = null;
   const consumer = new EventConsumer(kafka, settings, log, async (assignment) => {
-    models.keepOnly(assignment.streams);
+    for (const stream of models.keepOnly(assignment.streams)) {
+      log.info({ stream }, 'partition revoked; its session is dropped (its outputs were committed)');
+    }
     if (settings.scope === 'global' && !assignment.isLeader && (await consumer.members()) > 1) {
       refusal = refuseSecond(settings);
       void consumer.stop();
@@ -112,11 +129,18 @@ async function run(config: RunConfig, settings: KafkaSettings, terminal: Termina
   let dead = 0;
   await consumer.start(async (batch, control) => {
     const handled = models.handle(batch);
-    const delivered = await producer.deliver(handled.outputs, waitingWith(control));
+    for (const d of handled.dead) {
+      log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
+    }
+    // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
+    const delivered = await producer.deliver(handled.outputs, async () => {
+      control.pause();
+      await control.heartbeat().catch(() => undefined);
+    });
     control.resume();
     if (delivered) {
       scored += handled.scored;
-      dead += handled.dead;
+      dead += handled.dead.length;
     }
     return delivered;
   });

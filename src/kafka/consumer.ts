@@ -98,7 +98,10 @@ export class EventConsumer {
 
   async start(handle: BatchHandler): Promise<void> {
     await this.consumer.subscribe({
-      topics: [...this.settings.events.topics],
+      topics: [
+        ...this.settings.events.topics,
+        ...(this.settings.labels === null ? [] : [this.settings.labels.topic]),
+      ],
       fromBeginning: this.settings.events.fromBeginning,
     });
     await this.consumer.run({
