@@ -2,6 +2,7 @@ import { once } from 'node:events';
 import { createWriteStream, type WriteStream } from 'node:fs';
 import { stringify } from 'yaml';
 import { ConfigError, type ConfigIssue } from '../core/index.js';
+import { DEFAULT_LABEL, type FrameOptions } from '../frames/index.js';
 import {
   createKafka,
   createLogger,
@@ -106,7 +107,7 @@ async function run(config: RunConfig, settings: KafkaSettings, terminal: Termina
   const kafka = createKafka(settings, secrets, log);
   const journalFile: WriteStream | null =
     settings.journal.file === null ? null : createWriteStream(settings.journal.file, { flags: 'a' });
-  const models = new ServeModels(config, settings, frameOptions(config), shoalVersion(), journalFile);
+  const models = new ServeModels(config, settings, eventOptions(config), shoalVersion(), journalFile);
   const producer = new OutputProducer(kafka, log);
   let refusal: string | null = null;
   const consumer = new EventConsumer(kafka, settings, log, async (assignment) => {
@@ -181,6 +182,15 @@ async function run(config: RunConfig, settings: KafkaSettings, terminal: Termina
   clearTimeout(deadline);
   log.info({ scored, deadLetters: dead }, 'stopped');
   return 0;
+}
+
+/**
+ * The events decoder's options: replay's, except that the default label column may be absent (events
+ * whose labels come later on the labels topic carry none); a label column named otherwise must exist.
+ */
+function eventOptions(config: RunConfig): FrameOptions {
+  const { label, ...rest } = frameOptions(config);
+  return label === DEFAULT_LABEL || label === undefined ? rest : { label, ...rest };
 }
 
 function refuseSecond(settings: KafkaSettings): string {

@@ -142,3 +142,37 @@ export class ServeProcess {
     this.child.kill(name);
   }
 }
+
+/** A reader that stays subscribed and counts score rows, for tests that wait round after round. */
+export class ScoreCounter {
+  rows = 0;
+  private readonly consumer;
+
+  private constructor(brokers: string) {
+    this.consumer = client(brokers).consumer({ groupId: uniqueName('counter'), maxWaitTimeInMs: 200 });
+  }
+
+  static async start(brokers: string, topic: string): Promise<ScoreCounter> {
+    const counter = new ScoreCounter(brokers);
+    await counter.consumer.connect();
+    await counter.consumer.subscribe({ topic, fromBeginning: true });
+    void counter.consumer.run({
+      eachMessage: async ({ message }) => {
+        counter.rows += tableFromIPC(message.value!).numRows;
+      },
+    });
+    return counter;
+  }
+
+  async reach(rows: number, timeoutMs = 60_000): Promise<void> {
+    const began = performance.now();
+    while (this.rows < rows) {
+      if (performance.now() - began > timeoutMs) throw new Error(`only ${this.rows} of ${rows} score rows`);
+      await new Promise((d) => setTimeout(d, 50));
+    }
+  }
+
+  stop(): Promise<void> {
+    return this.consumer.disconnect();
+  }
+}
