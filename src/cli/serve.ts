@@ -155,12 +155,12 @@ async function run(config: RunConfig, settings: KafkaSettings, terminal: Termina
   if ('crashed' in ended && ended.crashed) {
     log.error({ reason: ended.message }, 'the consumer crashed; exiting');
     terminal.err(`shoal serve: ${ended.message}\n`);
-    await producer.stop().catch(() => undefined);
+    await Promise.all([consumer.stop(), producer.stop()]).catch(() => undefined);
     return 1;
   }
   if (refusal !== null) {
     terminal.err(`shoal serve: ${refusal}\n`);
-    await producer.stop().catch(() => undefined);
+    await Promise.all([consumer.stop(), producer.stop()]).catch(() => undefined);
     return 2;
   }
   log.info(

@@ -60,6 +60,9 @@ export class EventConsumer {
       heartbeatInterval: Math.max(100, Math.floor(settings.sessionTimeoutMs / 5)),
       maxBytesPerPartition: Math.max(1024 * 1024, settings.events.maxMessageBytes),
       allowAutoTopicCreation: false,
+      // kafkajs restarts the consumer after any failure by default: a batch it cannot decode (a snappy or
+      // lz4 one) would then be fetched and refused forever. Restart only after errors it marks retriable.
+      retry: { restartOnFailure: async (e: Error) => (e as { retriable?: boolean }).retriable === true },
     });
     this.admin = kafka.admin();
     this.finished = new Promise((done) => {

@@ -69,4 +69,24 @@ describe('an outside client', () => {
     expect(dead[0]!.headers!['shoal-reason']!.toString()).toBe('undecodable');
     expect(dead[0]!.value!.toString()).toBe('zstd-compressed bytes that are not Arrow');
   });
+
+  it('exits 1 with a message naming the codec when a batch is compressed with one it cannot decode (snappy)', async () => {
+    const brokers = inject('kafkaBrokers');
+    const t = serveTopics();
+    await createTopics(brokers, { [t.events]: 1, [t.scores]: 1, [t.dead]: 1, [t.journal]: 1 });
+    await run(python, [script, 'produce', brokers, t.events, '100', '4', 'snappy']);
+    const config = join(await scratch(), 'shoal.yaml');
+    await writeFile(
+      config,
+      stringify({
+        seed: 2,
+        ensemble: { kind: 'bagging', members: 2 },
+        inputs: { id: 'id' },
+        kafka: kafkaSection(brokers, t),
+      }),
+    );
+    const serve = new ServeProcess(config);
+    expect(await serve.exited).toBe(1);
+    expect(serve.stderr).toMatch(/shoal serve: the consumer stopped: .*Snappy/i);
+  });
 });

@@ -1,7 +1,7 @@
 """An outside Kafka client for Shoal's tests: librdkafka (confluent-kafka) and pyarrow, not kafkajs.
 
-produce BROKERS TOPIC ROWS SEED: write ROWS events as Arrow IPC stream messages of 100 rows, compressed
-    with zstd by the producer, plus one zstd-compressed message that is not Arrow at all.
+produce BROKERS TOPIC ROWS SEED [CODEC]: write ROWS events as Arrow IPC stream messages of 100 rows,
+    compressed by the producer with CODEC (zstd by default), plus one such message that is not Arrow.
 read BROKERS TOPIC ROWS: read the scores topic until ROWS rows arrived, decode each message with pyarrow,
     and print one JSON object: the rows, the distinct ids, the column names and types.
 """
@@ -15,9 +15,9 @@ from confluent_kafka import Consumer, Producer
 ARROW = [("content-type", b"application/vnd.apache.arrow.stream")]
 
 
-def produce(brokers, topic, rows, seed):
+def produce(brokers, topic, rows, seed, codec):
     rng = random.Random(seed)
-    producer = Producer({"bootstrap.servers": brokers, "compression.type": "zstd", "linger.ms": 5})
+    producer = Producer({"bootstrap.servers": brokers, "compression.type": codec, "linger.ms": 5})
     for start in range(0, rows, 100):
         n = min(100, rows - start)
         f1 = [10 * rng.random() for _ in range(n)]
@@ -36,7 +36,7 @@ def produce(brokers, topic, rows, seed):
         with pa.ipc.new_stream(sink, table.schema) as writer:
             writer.write_table(table)
         producer.produce(topic, sink.getvalue().to_pybytes(), headers=ARROW)
-    producer.produce(topic, b"zstd-compressed bytes that are not Arrow", headers=ARROW)
+    producer.produce(topic, f"{codec}-compressed bytes that are not Arrow".encode(), headers=ARROW)
     if producer.flush(30) != 0:
         sys.exit("messages were not delivered")
 
@@ -77,6 +77,6 @@ def read(brokers, topic, rows):
 
 if __name__ == "__main__":
     if sys.argv[1] == "produce":
-        produce(sys.argv[2], sys.argv[3], int(sys.argv[4]), int(sys.argv[5]))
+        produce(sys.argv[2], sys.argv[3], int(sys.argv[4]), int(sys.argv[5]), (sys.argv[6:] or ["zstd"])[0])
     else:
         read(sys.argv[2], sys.argv[3], int(sys.argv[4]))
