@@ -156,6 +156,7 @@ async function run(config: RunConfig, settings: KafkaSettings, terminal: Termina
     log.error({ reason: ended.message }, 'the consumer crashed; exiting');
     terminal.err(`shoal serve: ${ended.message}\n`);
     await Promise.all([consumer.stop(), producer.stop()]).catch(() => undefined);
+    exitSoon(1);
     return 1;
   }
   if (refusal !== null) {
@@ -181,7 +182,18 @@ async function run(config: RunConfig, settings: KafkaSettings, terminal: Termina
   await producer.stop();
   clearTimeout(deadline);
   log.info({ scored, deadLetters: dead }, 'stopped');
+  exitSoon(0);
   return 0;
+}
+
+/**
+ * Everything is flushed, committed and disconnected, but after a broker outage kafkajs can keep a
+ * reconnect timer or socket alive (measured: the process stayed up after a broker stop and start), and a
+ * service told to stop must stop. The timer is unref'd, so it only fires if something else holds the
+ * process open.
+ */
+function exitSoon(code: number): void {
+  setTimeout(() => process.exit(code), 2_000).unref();
 }
 
 /**

@@ -61,8 +61,9 @@ export class EventConsumer {
       maxBytesPerPartition: Math.max(1024 * 1024, settings.events.maxMessageBytes),
       allowAutoTopicCreation: false,
       // kafkajs restarts the consumer after any failure by default: a batch it cannot decode (a snappy or
-      // lz4 one) would then be fetched and refused forever. Restart only after errors it marks retriable.
-      retry: { restartOnFailure: async (e: Error) => (e as { retriable?: boolean }).retriable === true },
+      // lz4 one) would then be fetched and refused forever. Restart only after a transient failure (a
+      // broker away for longer than the retries ends in a retriable cause), and stop on anything else.
+      retry: { restartOnFailure: async (e: Error) => transient(e) },
     });
     this.admin = kafka.admin();
     this.finished = new Promise((done) => {
@@ -157,4 +158,11 @@ export class EventConsumer {
 export interface ConsumerOutcome {
   readonly crashed: boolean;
   readonly message: string;
+}
+
+/** Whether kafkajs marks the error (or, after its retries ran out, the error they ended on) retriable. */
+function transient(e: Error): boolean {
+  const { retriable, cause } = e as { retriable?: boolean; cause?: unknown };
+  if (retriable === true) return true;
+  return e.name === 'KafkaJSNumberOfRetriesExceeded' && cause instanceof Error && transient(cause);
 }
