@@ -1,4 +1,5 @@
 import { ShoalError } from '../core/index.js';
+import { INSPECT_HELP, inspect } from './inspect.js';
 import { REPLAY_HELP, replay } from './replay.js';
 import { REPORT_HELP, report } from './report.js';
 import { SERVE_HELP, serve } from './serve.js';
@@ -13,6 +14,7 @@ const COMMANDS: Readonly<
   synth: { run: synth, help: SYNTH_HELP },
   report: { run: report, help: REPORT_HELP },
   serve: { run: serve, help: SERVE_HELP },
+  inspect: { run: inspect, help: INSPECT_HELP },
 };
 
 const USAGE = `shoal — online ensembles that keep scoring while the world changes
@@ -22,6 +24,8 @@ Commands:
   shoal synth GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
   shoal report JOURNAL   turn a run's journal into a self-contained HTML report
   shoal serve --config F score a Kafka events topic live: scores, dead letters, inline labels
+  shoal inspect CHECKPOINT
+                         summarise a run checkpoint: seats, states, ages, accuracy, positions
 
 shoal COMMAND --help shows a command's options. Scores are advisory: keep a human in the loop.`;
 

@@ -8,9 +8,12 @@ import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index
 import { CLASSIFIER_KINDS } from '../learners/index.js';
 import { LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
+import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
+import { Pacer } from './pacer.js';
 import { Progress } from './progress.js';
+import { DEFAULT_CHECKPOINT_EVERY, ReplayCheckpoints } from './replay-checkpoints.js';
 import { feed, type LabelTiming } from './replay-feed.js';
 import { count, figure, type Terminal, table } from './terminal.js';
 import { shoalVersion } from './version.js';
@@ -45,6 +48,15 @@ Options:
   --report PATH     write a self-contained HTML report of the run
   --rejects PATH    write rows that cannot be decoded to PATH (NDJSON: source, position, reason) and go on;
                     without it the first bad row stops the run with a message naming file and line
+  --checkpoint DIR  write run checkpoints to DIR (the newest 3 are kept), and one when the run ends
+  --checkpoint-every N
+                    rows between checkpoints (default ${count(DEFAULT_CHECKPOINT_EVERY)})
+  --resume DIR      go on from the newest good checkpoint in DIR, skipping the rows it had consumed (give
+                    the options of the first run); checkpoints go on being written to DIR
+  --metrics HOST:PORT
+                    serve /metrics, /healthz, /readyz and /status on HOST:PORT while the run lasts
+                    (Prometheus; see deploy/prometheus). Off by default
+  --pace N          replay at most N rows per second, as a live stream would arrive (default: as fast as possible)
   --json            print one JSON object instead of the summary table
 Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.`;
 
@@ -72,7 +84,10 @@ function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: 
   if (id !== undefined) inputs.id = id;
   // Time columns are read beside the features, never as features.
   const times = [text(parsed, 'time'), text(parsed, 'label-delay-column')].filter((c) => c !== undefined);
-  if (times.length > 0) inputs.exclude = [...((inputs.exclude as string[] | undefined) ?? []), ...times];
+  if (times.length > 0) {
+    const excluded = (inputs.exclude as string[] | undefined) ?? [];
+    inputs.exclude = [...excluded, ...times.filter((c) => !excluded.includes(c!))];
+  }
   const seed = text(parsed, 'seed');
   return { ...base, ...(seed === undefined ? {} : { seed }), ensemble, inputs };
 }
@@ -105,6 +120,33 @@ function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): Label
   }
   if (column !== undefined) return { kind: 'delay-column', column };
   return delay === undefined ? { kind: 'inline' } : { kind: 'delay', rows: delay };
+}
+
+/** The run's checkpoints, when `--checkpoint` or `--resume` asks for them. */
+function replayCheckpoints(parsed: ReturnType<typeof parse>, config: RunConfig): ReplayCheckpoints | null {
+  const resume = text(parsed, 'resume');
+  const dir = text(parsed, 'checkpoint') ?? resume;
+  const every = whole('replay', parsed, 'checkpoint-every');
+  if (dir === undefined) {
+    if (every !== undefined) {
+      throw new ShoalError(
+        'invalid-parameter',
+        'replay: --checkpoint-every needs --checkpoint DIR or --resume DIR',
+      );
+    }
+    return null;
+  }
+  if (
+    resume !== undefined &&
+    text(parsed, 'checkpoint') !== undefined &&
+    text(parsed, 'checkpoint') !== resume
+  ) {
+    throw new ShoalError(
+      'invalid-parameter',
+      'replay: --resume DIR goes on writing checkpoints to DIR; give one directory',
+    );
+  }
+  return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion());
 }
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
@@ -163,6 +205,11 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     'label-delay': { type: 'string' },
     'label-delay-column': { type: 'string' },
     time: { type: 'string' },
+    checkpoint: { type: 'string' },
+    'checkpoint-every': { type: 'string' },
+    resume: { type: 'string' },
+    metrics: { type: 'string' },
+    pace: { type: 'string' },
   });
   if (parsed.values.help) {
     terminal.out(`${REPLAY_HELP}\n`);
@@ -172,20 +219,49 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const configPath = text(parsed, 'config');
   const raw = configPath === undefined ? {} : await readConfigFile(configPath);
   const config = resolveConfig(withOverrides(raw, parsed, 'replay'), configPath ?? 'command line');
-  const decoder = new FrameDecoder(frameOptions(config), configPath ?? 'command line');
+  const timing = labelTiming(parsed, config);
+  const checkpoints = replayCheckpoints(parsed, config);
   const reportPath = text(parsed, 'report');
   const journal = new JournalOut(text(parsed, 'journal'), reportPath !== undefined);
   const rejectsPath = text(parsed, 'rejects');
   const rejects = rejectsPath === undefined ? null : deadLetterFile(rejectsPath);
   let rejected = 0;
-  const session = new LearningSession({
-    config,
+  const listen = text(parsed, 'metrics');
+  const pacer = new Pacer(whole('replay', parsed, 'pace'), () => terminal.now());
+  let telemetry: SessionTelemetry | null = null;
+  const ports = {
     source: file!,
-    journal,
+    journal: {
+      write: (r: JournalRecord) => {
+        telemetry?.record(r);
+        journal.write(r);
+      },
+      flush: () => journal.flush(),
+    },
     clock: { monotonic: () => terminal.now(), wall: () => Date.now() },
     version: shoalVersion(),
-  });
-  const timing = labelTiming(parsed, config);
+  };
+  const resumed =
+    checkpoints !== null && text(parsed, 'resume') !== undefined
+      ? await checkpoints.resume(file!, ports, terminal)
+      : null;
+  const decoder = resumed?.decoder ?? new FrameDecoder(frameOptions(config), configPath ?? 'command line');
+  const session = resumed?.session ?? new LearningSession({ ...ports, config });
+  let endpoint: TelemetryServer | null = null;
+  if (listen !== undefined) {
+    const source = SessionTelemetry.of(session, {
+      checkpoints: checkpoints !== null,
+      wall: () => Date.now(),
+    });
+    if (checkpoints !== null) checkpoints.saved = () => source.checkpointed();
+    telemetry = source;
+    endpoint = new TelemetryServer(source, {
+      ...parseListen(listen, 'replay --metrics'),
+      version: shoalVersion(),
+      readiness: ['model'],
+    });
+    await endpoint.start();
+  }
   const json = parsed.values.json === true;
   const progress = new Progress(
     json ? { ...terminal, interactive: false } : terminal,
@@ -203,18 +279,27 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       rejects: rejectsPath === undefined ? 'throw' : 'keep',
       deadLetter: (letter) => {
         rejected++;
+        telemetry?.deadLettered(letter.code);
         rejects?.write(letter);
       },
+      pacer,
+      now: () => terminal.now(),
+      scored: (rows, seconds) => {
+        endpoint?.batch(rows, seconds);
+        endpoint?.setReady('model', true);
+      },
+      from: resumed?.from ?? 0n,
       afterBatch: async () => {
         progress.update(session.scored, session.recentAccuracy);
-        await Promise.all([journal.flush(), rejects?.flush()]);
+        await Promise.all([journal.flush(), rejects?.flush(), checkpoints?.afterBatch(session, decoder)]);
       },
     });
     if (session.scored === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
+    await checkpoints?.save(session, decoder);
     summary = session.finish(decoder.classes);
   } finally {
     progress.done();
-    await Promise.all([journal.close(), rejects?.close()]);
+    await Promise.all([journal.close(), rejects?.close(), endpoint?.close()]);
   }
   if (reportPath !== undefined)
     await writeFile(reportPath, renderReport(journal.kept, { title: `Replay of ${file}` }));

@@ -47,9 +47,13 @@ export interface BaggingOptions {
 }
 
 /**
- * λ = 6 by default: the leveraging-style weight of Bifet, Holmes & Pfahringer (2010) and of adaptive random
- * forests, which lets trees grow several times faster than λ = 1 after a member is replaced; on SEA with
- * three abrupt changes it is worth about a point of accuracy (see test/ensembles/bagging.test.ts).
+ * The default is leveraging bagging (Bifet, Holmes & Pfahringer, "Leveraging bagging for evolving data
+ * streams", ECML PKDD 2010), not Oza & Russell's plain online bagging: Poisson weights of λ = 6 and an
+ * ADWIN change detector per member that replaces the member it flags (here with an understudy trained
+ * in its shadow, and without the paper's random output codes). λ = 6 lets trees grow several times
+ * faster than λ = 1 after a member is replaced; on SEA with three abrupt changes it is worth about a
+ * point of accuracy (see test/ensembles/bagging.test.ts). `lambda: 1` with the lifecycle off is Oza &
+ * Russell's online bagging.
  */
 export const BAGGING_DEFAULTS: BaggingOptions = {
   members: 10,
@@ -147,7 +151,7 @@ export class Bagging extends SeatedEnsemble {
       const seat = seats[m]!;
       preds[m] = seat.member.score(row, offset, probs, m * classes);
       weights[m] = this.weight(seat);
-      confidence[m] = seat.recentAccuracy;
+      confidence[m] = seat.trust;
     }
     combineVotes(this.hard, probs, preds, weights, confidence, seats.length, classes, verdict);
     verdict.epoch = this.lifecycle.epoch;
@@ -167,9 +171,10 @@ export class Bagging extends SeatedEnsemble {
       const k = this.sampler.sample(this.poisson[m]!);
       this.draws[m] = k;
       weights[m] = this.weight(seat);
-      confidence[m] = seat.recentAccuracy;
+      confidence[m] = seat.trust;
       const predicted = seat.member.scoreTrain(row, offset, label, k, probs, m * classes);
       preds[m] = predicted;
+      seat.calibrate(label < classes ? probs[m * classes + label]! : 0, classes);
       if (seat.understudy !== null) seat.understudy.train(row, offset, label, k);
       lifecycle.judge(seat, predicted === label, this.rows);
     }
