@@ -3,6 +3,7 @@ import { DEMO_HELP, demo } from './demo.js';
 import { INSPECT_HELP, inspect } from './inspect.js';
 import { REPLAY_HELP, replay } from './replay.js';
 import { REPORT_HELP, report } from './report.js';
+import { SERVE_HELP, serve } from './serve.js';
 import { SYNTH_HELP, synth } from './synth.js';
 import { processTerminal, type Terminal } from './terminal.js';
 import { shoalVersion } from './version.js';
@@ -14,6 +15,7 @@ const COMMANDS: Readonly<
   replay: { run: replay, help: REPLAY_HELP },
   synth: { run: synth, help: SYNTH_HELP },
   report: { run: report, help: REPORT_HELP },
+  serve: { run: serve, help: SERVE_HELP },
   inspect: { run: inspect, help: INSPECT_HELP },
 };
 
@@ -25,6 +27,7 @@ Commands:
   shoal replay FILE      run a recorded stream through an ensemble, test-then-train, and summarise it
   shoal synth GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
   shoal report JOURNAL   turn a run's journal into a self-contained HTML report
+  shoal serve --config F score a Kafka events topic live: scores, dead letters, inline labels
   shoal inspect CHECKPOINT
                          summarise a run checkpoint: seats, states, ages, accuracy, positions
 
