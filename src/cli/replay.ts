@@ -1,10 +1,7 @@
-import { once } from 'node:events';
-import { createWriteStream, type WriteStream } from 'node:fs';
-import { writeFile } from 'node:fs/promises';
 import { ShoalError } from '../core/index.js';
 import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
-import { countRows, FrameDecoder, type FrameOptions, readFrames } from '../frames/index.js';
+import { countRows, FrameDecoder, type FrameFormat, type FrameOptions, readFrames } from '../frames/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
 import {
   type JournalRecord,
@@ -16,7 +13,9 @@ import {
 import { renderReport } from '../report/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
+import { type NamedPath, type OutputFile, openOutputs, refuseCollisions } from './outputs.js';
 import { Progress } from './progress.js';
+import { describeSchema, overflowWarnings } from './schema-text.js';
 import { count, figure, type Terminal, table } from './terminal.js';
 import { shoalVersion } from './version.js';
 
@@ -35,21 +34,30 @@ Options:
   --seed S          seed of every random choice
   --label COL       the label column (default "label")
   --id COL          an event-id column
+  --schema FILE     the features, declared (YAML or JSON: a list of {name, kind, categories, values},
+                    or a mapping with "features"); without it the kinds are inferred from the first rows
+  --format F        arrow, csv or ndjson, for a file whose extension does not say
   --journal PATH    write the run's journal (NDJSON: lifecycle changes, evaluation windows, summary)
   --report PATH     write a self-contained HTML report of the run
   --rejects PATH    write rows that cannot be decoded to PATH (NDJSON: source, position, reason) and go on;
                     without it the first bad row stops the run with a message naming file and line
   --json            print one JSON object instead of the summary table
-Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.`;
+Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.
+The schema the run uses is printed to stderr before the first row is scored. No output may name an
+input or another output; outputs are written beside their path and moved into place when the run ends.`;
 
 /** Fold command-line overrides into the raw configuration, so that they are checked like the file. */
-function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: string): unknown {
+function withOverrides(
+  raw: unknown,
+  parsed: ReturnType<typeof parse>,
+  schema: Record<string, unknown> | undefined,
+): unknown {
   const base = (raw ?? {}) as Record<string, unknown>;
   const ensemble = { ...((base.ensemble ?? {}) as Record<string, unknown>) };
   const inputs = { ...((base.inputs ?? {}) as Record<string, unknown>) };
   const kind = text(parsed, 'ensemble');
   if (kind !== undefined) ensemble.kind = kind;
-  const members = whole(command, parsed, 'members');
+  const members = whole(parsed, 'members');
   if (members !== undefined) ensemble.members = members;
   const learner = text(parsed, 'learner');
   if (learner !== undefined) ensemble.learners = [{ kind: learner }];
@@ -64,15 +72,17 @@ function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: 
   if (label !== undefined) inputs.label = label;
   const id = text(parsed, 'id');
   if (id !== undefined) inputs.id = id;
+  if (schema !== undefined) Object.assign(inputs, schema);
   const seed = text(parsed, 'seed');
   return { ...base, ...(seed === undefined ? {} : { seed }), ensemble, inputs };
 }
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
 function frameOptions(config: RunConfig): FrameOptions {
-  const { label, id, exclude, features, vocabulary } = config.inputs;
+  const { label, id, exclude, features, vocabulary, missing } = config.inputs;
   return {
     label,
+    missing,
     ...(id === null ? {} : { id }),
     exclude,
     ...(features === null ? {} : { features: features as FrameOptions['features'] & object }),
@@ -80,15 +90,15 @@ function frameOptions(config: RunConfig): FrameOptions {
   };
 }
 
-/** NDJSON records to a file (when a path is given), also kept in memory when asked (for the report). */
+/** NDJSON records to an output file (when one is given), also kept in memory when asked (for the report). */
 class NdjsonOut<T> {
   readonly kept: T[] = [];
   count = 0;
-  private readonly file: WriteStream | null;
+  readonly file: OutputFile | null;
   private readonly keep: boolean;
 
-  constructor(path: string | undefined, keep: boolean) {
-    this.file = path === undefined ? null : createWriteStream(path);
+  constructor(file: OutputFile | null, keep: boolean) {
+    this.file = file;
     this.keep = keep;
   }
 
@@ -96,17 +106,6 @@ class NdjsonOut<T> {
     this.count++;
     if (this.keep) this.kept.push(record);
     this.file?.write(`${JSON.stringify(record)}\n`);
-  }
-
-  /** Wait for the file to take what was written (called once per batch, for back-pressure). */
-  async drain(): Promise<void> {
-    if (this.file?.writableNeedDrain) await once(this.file, 'drain');
-  }
-
-  async close(): Promise<void> {
-    if (this.file === null) return;
-    this.file.end();
-    await once(this.file, 'finish');
   }
 }
 
@@ -127,6 +126,8 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     seed: { type: 'string' },
     label: { type: 'string' },
     id: { type: 'string' },
+    schema: { type: 'string' },
+    format: { type: 'string' },
     journal: { type: 'string' },
     report: { type: 'string' },
     json: { type: 'boolean' },
@@ -138,13 +139,26 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   }
   const [file] = positionals('replay', parsed, ['FILE']);
   const configPath = text(parsed, 'config');
+  const schemaPath = text(parsed, 'schema');
+  const named = (flag: string): NamedPath[] => {
+    const path = text(parsed, flag);
+    return path === undefined ? [] : [{ flag: `--${flag}`, path }];
+  };
+  const inputs = [{ flag: 'FILE', path: file! }, ...named('config'), ...named('schema')];
+  const outputs = [...named('journal'), ...named('rejects'), ...named('report')];
+  await refuseCollisions(inputs, outputs);
   const raw = configPath === undefined ? {} : await readConfigFile(configPath);
-  const config = resolveConfig(withOverrides(raw, parsed, 'replay'), configPath ?? 'command line');
-  const decoder = new FrameDecoder(frameOptions(config), configPath ?? 'command line');
-  const reportPath = text(parsed, 'report');
-  const journal = new NdjsonOut<JournalRecord>(text(parsed, 'journal'), reportPath !== undefined);
-  const rejectsPath = text(parsed, 'rejects');
-  const rejects = new NdjsonOut<RejectedRow>(rejectsPath, false);
+  const schema = schemaPath === undefined ? undefined : await readSchemaFile(schemaPath);
+  const source = configPath ?? 'command line';
+  const config = resolveConfig(withOverrides(raw, parsed, schema), source);
+  const decoder = new FrameDecoder(frameOptions(config), source);
+  const format = text(parsed, 'format') as FrameFormat | undefined;
+  const opened = await openOutputs(inputs, outputs);
+  const output = (flag: string) => opened.find((o) => o.flag === flag) ?? null;
+  const reportFile = output('--report');
+  const journal = new NdjsonOut<JournalRecord>(output('--journal'), reportFile !== null);
+  const rejectsFile = output('--rejects');
+  const rejects = new NdjsonOut<RejectedRow>(rejectsFile, false);
   const loop = new LearningLoop({
     config,
     source: file!,
@@ -153,33 +167,63 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     version: shoalVersion(),
   });
   const json = parsed.values.json === true;
-  const progress = new Progress(
-    json ? { ...terminal, interactive: false } : terminal,
-    terminal.interactive && !json ? await countRows(file!) : null,
-  );
   let summary: SummaryRecord;
   try {
-    const reading = readFrames(file!, decoder, { rejects: rejectsPath === undefined ? 'throw' : 'keep' });
-    for await (const { frame, rejected } of reading) {
-      for (const r of rejected) rejects.write({ source: file!, position: r.index, reason: r.reason });
-      loop.prequential(frame, decoder.classes);
-      progress.update(loop.rows, loop.recentAccuracy);
-      await Promise.all([journal.drain(), rejects.drain()]);
+    const progress = new Progress(
+      json ? { ...terminal, interactive: false } : terminal,
+      terminal.interactive && !json ? await countRows(file!, format) : null,
+    );
+    try {
+      const reading = readFrames(file!, decoder, {
+        rejects: rejectsFile === null ? 'throw' : 'keep',
+        ...(format === undefined ? {} : { format }),
+      });
+      let announced = false;
+      for await (const { frame, rejected } of reading) {
+        if (!announced && decoder.schema !== null) {
+          terminal.err(describeSchema(file!, decoder, config.inputs.features !== null));
+          announced = true;
+        }
+        for (const r of rejected) rejects.write({ source: file!, position: r.index, reason: r.reason });
+        loop.prequential(frame, decoder.classes);
+        progress.update(loop.rows, loop.recentAccuracy);
+        await Promise.all(opened.map((o) => o.drain()));
+      }
+      if (loop.rows === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
+      summary = loop.finish(decoder.classes);
+    } finally {
+      progress.done();
     }
-    if (loop.rows === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
-    summary = loop.finish(decoder.classes);
-  } finally {
-    progress.done();
-    await Promise.all([journal.close(), rejects.close()]);
+  } catch (e) {
+    await Promise.all(opened.map((o) => o.discard()));
+    throw e;
   }
-  if (reportPath !== undefined)
-    await writeFile(reportPath, renderReport(journal.kept, { title: `Replay of ${file}` }));
+  terminal.err(overflowWarnings(decoder));
   terminal.out(
     json
       ? `${JSON.stringify({ ...jsonSummary(file!, config, summary), rejected: rejects.count })}\n`
       : summaryTable(file!, config, summary, loop.rows, rejects.count),
   );
+  // The summary is out; a failure to finish an output now loses no figures.
+  reportFile?.write(renderReport(journal.kept, { title: `Replay of ${file}` }));
+  const failures: string[] = [];
+  for (const o of opened) {
+    try {
+      await o.commit();
+    } catch (e) {
+      failures.push((e as Error).message);
+    }
+  }
+  if (failures.length > 0) throw new ShoalError('io-failure', failures.join('; '));
   return 0;
+}
+
+/** A `--schema` file: a list of features, or a mapping of input settings with `features`. */
+async function readSchemaFile(path: string): Promise<Record<string, unknown>> {
+  const data = await readConfigFile(path);
+  if (Array.isArray(data)) return { features: data };
+  if (typeof data === 'object' && data !== null) return data as Record<string, unknown>;
+  throw new ShoalError('invalid-config', `--schema ${path}: expected a list of features or a mapping`);
 }
 
 function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<string, unknown> {

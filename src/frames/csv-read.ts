@@ -1,5 +1,5 @@
 import { ShoalError } from '../core/index.js';
-import { mergeTypes, textCellType } from './cells.js';
+import { TypeTally } from './cells.js';
 import type { SourceColumn } from './columns.js';
 import { CsvParser } from './csv-parser.js';
 import type { FrameDecoder } from './decoder.js';
@@ -10,8 +10,8 @@ import { type TextFormat, type TextRecord, textFrames } from './text-frames.js';
 
 /**
  * Frames from a CSV file with a header row (RFC 4180 quoting; an empty field is a missing value),
- * streamed in chunks of lines. Column types are inferred from the first batch: a column whose cells all
- * read as numbers is numeric, `true`/`false` is boolean, anything else is a category.
+ * streamed in chunks of lines. Column types are inferred from the first batch by majority (see
+ * `TypeTally`): a column is a category only when most of its present cells are not numbers.
  *
  * @example
  * const decoder = new FrameDecoder({ label: 'rejected' });
@@ -90,13 +90,12 @@ async function* csvRecords(
 
 function csvFormat(header: readonly string[]): TextFormat<string[]> {
   return {
-    columns(first): SourceColumn[] {
+    columns(first, cells): SourceColumn[] {
       return header.map((name, i) => {
-        let type = textCellType('');
-        for (const record of first) {
-          if (record.length === header.length) type = mergeTypes(type, textCellType(record[i]!));
-        }
-        return { name, type, detail: 'CSV text' };
+        const tally = new TypeTally();
+        for (const record of first)
+          if (record.length === header.length) tally.add(cells.textType(record[i]!));
+        return { name, type: tally.decide(), detail: 'CSV text' };
       });
     },
     cells(record) {

@@ -1,6 +1,7 @@
 export { arrowBufferFrames, decodeArrowMessage, readArrow } from './arrow-read.js';
 export { createArrowWriter } from './arrow-write.js';
 export type { ColumnType } from './cells.js';
+export { CellReader, DEFAULT_MISSING } from './cells.js';
 export type { Binding, BindProblem, SourceColumn } from './columns.js';
 export { CsvParser } from './csv-parser.js';
 export { readCsv } from './csv-read.js';

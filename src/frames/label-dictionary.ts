@@ -6,6 +6,9 @@
  */
 export type LabelMode = 'code' | 'name';
 
+/** Whether a label cell is missing (the decoder's missing-value tokens). */
+export type IsMissing = (value: unknown) => boolean;
+
 export class LabelDictionary {
   /** Undecided (null) until a label column's type or its first label says which. */
   mode: LabelMode | null;
@@ -13,8 +16,16 @@ export class LabelDictionary {
   private readonly list: string[];
   private readonly codes = new Map<string, number>();
 
-  constructor(known: readonly string[], maxClasses: number, mode: LabelMode | null = null) {
+  private readonly isMissing: IsMissing;
+
+  constructor(
+    known: readonly string[],
+    maxClasses: number,
+    isMissing: IsMissing,
+    mode: LabelMode | null = null,
+  ) {
     this.maxClasses = maxClasses;
+    this.isMissing = isMissing;
     this.mode = mode;
     this.list = [];
     for (const name of known) this.add(name);
@@ -54,11 +65,11 @@ export class LabelDictionary {
   }
 
   /**
-   * The code of a label cell of any source: NaN for a missing label (null, undefined, NaN, empty text), −1
+   * The code of a label cell of any source: NaN for a missing label (null, undefined, NaN, a missing-value token), −1
    * for a value that is not a label (see `explain`).
    */
   code(value: unknown): number {
-    if (value === null || value === undefined || value === '' || Number.isNaN(value)) return Number.NaN;
+    if (this.isMissing(value)) return Number.NaN;
     if (this.mode === null) this.mode = typeof value === 'string' && !isCodeText(value) ? 'name' : 'code';
     if (this.mode === 'name') {
       return typeof value === 'object' ? -1 : this.codeOfName(String(value));

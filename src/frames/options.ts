@@ -1,4 +1,5 @@
 import { ConfigError, type ConfigIssue, type Feature } from '../core/index.js';
+import { DEFAULT_MISSING } from './cells.js';
 
 /**
  * What a stream's columns mean. Everything is optional: by default the column `label` is the label,
@@ -33,6 +34,8 @@ export interface FrameOptions {
   readonly vocabulary?: number;
   /** The most classes a label column may name (default 1024). */
   readonly maxClasses?: number;
+  /** Text read as a missing value in any column (default: empty, `NA`, `NaN`, `?`, `null`). */
+  readonly missing?: readonly string[];
 }
 
 /** One feature of an explicit specification. */
@@ -65,6 +68,7 @@ export interface ResolvedOptions {
   readonly classes: readonly string[];
   readonly vocabulary: number;
   readonly maxClasses: number;
+  readonly missing: readonly string[];
 }
 
 function isStringList(value: unknown): value is readonly string[] {
@@ -202,6 +206,8 @@ export function resolveFrameOptions(options: FrameOptions, where = 'frame option
   if (checkNames(issues, 'classes', classes, 'class names') && classes.length > (maxClasses as number)) {
     issues.push({ path: 'classes', message: `lists ${classes.length} classes, more than maxClasses` });
   }
+  const missing = o.missing ?? DEFAULT_MISSING;
+  if (!isStringList(missing)) issues.push({ path: 'missing', message: 'must be a list of texts' });
   const features =
     o.features === undefined ? null : checkFeatureSpecs(issues, 'features', o.features, vocabulary as number);
   features?.forEach((f, i) => {
@@ -228,5 +234,6 @@ export function resolveFrameOptions(options: FrameOptions, where = 'frame option
     classes: classes as readonly string[],
     vocabulary: vocabulary as number,
     maxClasses: maxClasses as number,
+    missing: missing as readonly string[],
   };
 }

@@ -19,6 +19,7 @@ import {
   STACKING_DEFAULTS,
 } from '../ensembles/index.js';
 import { VIEW_DEFAULTS } from '../evaluation/index.js';
+import { DEFAULT_MISSING } from '../frames/index.js';
 import {
   CLASSIFIER_KINDS,
   type ClassifierSpec,
@@ -67,6 +68,8 @@ export interface InputsConfig {
   /** Explicit features (see the frames module); null to infer them from the data. */
   readonly features: readonly unknown[] | null;
   readonly vocabulary: number | null;
+  /** Text read as a missing value (default: empty, `NA`, `NaN`, `?`, `null`). */
+  readonly missing: readonly string[];
   /** Watch each input feature for drift before labels arrive. */
   readonly monitor: boolean;
 }
@@ -252,7 +255,15 @@ function checkEvaluation(c: Checker, value: unknown): EvaluationConfig {
 }
 
 function checkInputs(c: Checker, value: unknown): InputsConfig {
-  const raw = c.object('inputs', value, ['label', 'id', 'exclude', 'features', 'vocabulary', 'monitor']);
+  const raw = c.object('inputs', value, [
+    'label',
+    'id',
+    'exclude',
+    'features',
+    'vocabulary',
+    'missing',
+    'monitor',
+  ]);
   const stringOrNull = (path: string, v: unknown, fallback: string | null): string | null => {
     if (v === undefined) return fallback;
     if (v === null || (typeof v === 'string' && v.length > 0)) return v;
@@ -262,6 +273,9 @@ function checkInputs(c: Checker, value: unknown): InputsConfig {
   const exclude = raw.exclude ?? [];
   if (!Array.isArray(exclude) || !exclude.every((x) => typeof x === 'string'))
     c.fail('inputs.exclude', 'must be a list of column names');
+  const missing = raw.missing ?? DEFAULT_MISSING;
+  if (!Array.isArray(missing) || !missing.every((x) => typeof x === 'string'))
+    c.fail('inputs.missing', 'must be a list of texts read as missing values');
   if (raw.features !== undefined && !Array.isArray(raw.features))
     c.fail('inputs.features', 'must be a list of feature specs');
   if (raw.monitor !== undefined && typeof raw.monitor !== 'boolean')
@@ -278,6 +292,7 @@ function checkInputs(c: Checker, value: unknown): InputsConfig {
         (n) => Number.isInteger(n) && n >= 2,
         'a whole number ≥ 2',
       ) ?? null,
+    missing: Array.isArray(missing) ? (missing as string[]) : [...DEFAULT_MISSING],
     monitor: typeof raw.monitor === 'boolean' ? raw.monitor : true,
   };
 }
