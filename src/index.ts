@@ -32,10 +32,8 @@ export type {
   EnsembleKind,
   EnsembleSnapshot,
   EnsembleSpec,
-  JournalSink,
   LifecycleOptions,
-  LifecycleRecord,
-  MemberState,
+  LifecycleSink,
   SeatView,
   VoteKind,
 } from './ensembles/index.js';
@@ -48,14 +46,18 @@ export {
 } from './ensembles/index.js';
 export type { ClassificationFigures, ClassificationView } from './evaluation/index.js';
 export { ClassificationEvaluator, RegressionEvaluator, SeatScores } from './evaluation/index.js';
+export { createWriter, readFrames } from './files/index.js';
 export type { Decoded, FeatureSpec, Frame, FrameOptions, FrameWriter, Rejection } from './frames/index.js';
-export {
-  createWriter,
-  decodeArrowMessage,
-  decodeJsonRecord,
-  FrameDecoder,
-  readFrames,
-} from './frames/index.js';
+export { decodeArrowMessage, decodeJsonRecord, FrameDecoder } from './frames/index.js';
+export type {
+  JournalRecord,
+  LifecycleCause,
+  LifecycleChange,
+  LifecycleRecord,
+  MemberState,
+  SummaryRecord,
+} from './journal/index.js';
+export { journalLine, LIFECYCLE_CAUSES, parseJournal } from './journal/index.js';
 export type {
   Classifier,
   ClassifierSpec,
@@ -71,8 +73,8 @@ export {
   restoreClassifier,
   restoreRegressor,
 } from './learners/index.js';
-export type { JournalRecord, RunConfig, SummaryRecord } from './pipeline/index.js';
+export type { RunConfig } from './pipeline/index.js';
 export { LearningLoop, resolveConfig } from './pipeline/index.js';
-export { parseJournal, renderReport } from './report/index.js';
+export { renderReport } from './report/index.js';
 export type { StreamGenerator, StreamRequest } from './streams/index.js';
 export { buildStream, STREAM_NAMES } from './streams/index.js';

@@ -1,19 +1,15 @@
 import { ShoalError } from '../core/index.js';
 import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
-import { countRows, FrameDecoder, type FrameFormat, type FrameOptions, readFrames } from '../frames/index.js';
+import { countRows, deadLetterFile, journalFile, readFrames } from '../files/index.js';
+import { FrameDecoder, type FrameFormat, type FrameOptions } from '../frames/index.js';
+import type { JournalRecord, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
-import {
-  type JournalRecord,
-  LearningLoop,
-  type RunConfig,
-  resolveConfig,
-  type SummaryRecord,
-} from '../pipeline/index.js';
+import { LearningLoop, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
-import { type NamedPath, type OutputFile, openOutputs, refuseCollisions } from './outputs.js';
+import { type NamedPath, openOutputs, refuseCollisions } from './outputs.js';
 import { Progress } from './progress.js';
 import { describeSchema, overflowWarnings } from './schema-text.js';
 import { count, figure, type Terminal, table } from './terminal.js';
@@ -90,30 +86,29 @@ function frameOptions(config: RunConfig): FrameOptions {
   };
 }
 
-/** NDJSON records to an output file (when one is given), also kept in memory when asked (for the report). */
-class NdjsonOut<T> {
-  readonly kept: T[] = [];
-  count = 0;
-  readonly file: OutputFile | null;
+/** The journal: to a file when one is given, and kept in memory when the report needs it. */
+class JournalOut {
+  readonly kept: JournalRecord[] = [];
+  private readonly file: ReturnType<typeof journalFile> | null;
   private readonly keep: boolean;
 
-  constructor(file: OutputFile | null, keep: boolean) {
-    this.file = file;
+  constructor(path: string | undefined, keep: boolean) {
+    this.file = path === undefined ? null : journalFile(path);
     this.keep = keep;
   }
 
-  write(record: T): void {
-    this.count++;
+  write(record: JournalRecord): void {
     if (this.keep) this.kept.push(record);
-    this.file?.write(`${JSON.stringify(record)}\n`);
+    this.file?.write(record);
   }
-}
 
-/** A row the reader could not decode, as written to the --rejects file. */
-interface RejectedRow {
-  readonly source: string;
-  readonly position: number;
-  readonly reason: string;
+  async flush(): Promise<void> {
+    await this.file?.flush();
+  }
+
+  async close(): Promise<void> {
+    await this.file?.close();
+  }
 }
 
 export async function replay(args: readonly string[], terminal: Terminal): Promise<number> {
@@ -153,12 +148,15 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const config = resolveConfig(withOverrides(raw, parsed, schema), source);
   const decoder = new FrameDecoder(frameOptions(config), source);
   const format = text(parsed, 'format') as FrameFormat | undefined;
+  // Opened before the run: a path that cannot be written is refused before any row is read. The
+  // journal and rejects writers write to the temporary files, which are moved into place at the end.
   const opened = await openOutputs(inputs, outputs);
   const output = (flag: string) => opened.find((o) => o.flag === flag) ?? null;
   const reportFile = output('--report');
-  const journal = new NdjsonOut<JournalRecord>(output('--journal'), reportFile !== null);
+  const journal = new JournalOut(output('--journal')?.partialPath, reportFile !== null);
   const rejectsFile = output('--rejects');
-  const rejects = new NdjsonOut<RejectedRow>(rejectsFile, false);
+  const rejects = rejectsFile === null ? null : deadLetterFile(rejectsFile.partialPath);
+  let rejected = 0;
   const loop = new LearningLoop({
     config,
     source: file!,
@@ -175,24 +173,34 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     );
     try {
       const reading = readFrames(file!, decoder, {
-        rejects: rejectsFile === null ? 'throw' : 'keep',
+        rejects: rejects === null ? 'throw' : 'keep',
         ...(format === undefined ? {} : { format }),
       });
       let announced = false;
-      for await (const { frame, rejected } of reading) {
+      for await (const batch of reading) {
         if (!announced && decoder.schema !== null) {
           terminal.err(describeSchema(file!, decoder, config.inputs.features !== null));
           announced = true;
         }
-        for (const r of rejected) rejects.write({ source: file!, position: r.index, reason: r.reason });
-        loop.prequential(frame, decoder.classes);
+        for (const r of batch.rejected) {
+          rejected++;
+          rejects?.write({
+            stream: file!,
+            position: BigInt(r.index),
+            code: 'undecodable',
+            reason: r.reason,
+            bytes: null,
+          });
+        }
+        loop.prequential(batch.frame, decoder.classes);
         progress.update(loop.rows, loop.recentAccuracy);
-        await Promise.all(opened.map((o) => o.drain()));
+        await Promise.all([journal.flush(), rejects?.flush()]);
       }
       if (loop.rows === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
       summary = loop.finish(decoder.classes);
     } finally {
       progress.done();
+      await Promise.all([journal.close(), rejects?.close()]);
     }
   } catch (e) {
     await Promise.all(opened.map((o) => o.discard()));
@@ -201,8 +209,8 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   terminal.err(overflowWarnings(decoder));
   terminal.out(
     json
-      ? `${JSON.stringify({ ...jsonSummary(file!, config, summary), rejected: rejects.count })}\n`
-      : summaryTable(file!, config, summary, loop.rows, rejects.count),
+      ? `${JSON.stringify({ ...jsonSummary(file!, config, summary), rejected })}\n`
+      : summaryTable(file!, config, summary, loop.rows, rejected),
   );
   // The summary is out; a failure to finish an output now loses no figures.
   reportFile?.write(renderReport(journal.kept, { title: `Replay of ${file}` }));

@@ -1,6 +1,7 @@
 import { readFile } from 'node:fs/promises';
 import { ShoalError } from '../core/index.js';
-import { parseJournal, renderReport } from '../report/index.js';
+import { parseJournal } from '../journal/index.js';
+import { renderReport } from '../report/index.js';
 import { parse, positionals, text } from './args.js';
 import { openOutputs } from './outputs.js';
 import type { Terminal } from './terminal.js';

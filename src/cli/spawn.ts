@@ -1,5 +1,6 @@
 import { ShoalError } from '../core/index.js';
-import { createWriter, type FrameFormat, formatOf } from '../frames/index.js';
+import { createWriter, formatOf } from '../files/index.js';
+import type { FrameFormat } from '../frames/index.js';
 import { buildStream, STREAM_NAMES, STREAMS, type StreamName, take } from '../streams/index.js';
 import { decimal, parse, positionals, text, whole } from './args.js';
 import { OutputFile } from './outputs.js';

@@ -37,5 +37,5 @@ export {
   welfordSampleVariance,
   welfordVariance,
 } from './running-stats.js';
-export type { VersionedSnapshot } from './snapshot.js';
+export type { ConfiguredSnapshot, Snapshot } from './snapshot.js';
 export { checkSnapshot } from './snapshot.js';

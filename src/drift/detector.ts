@@ -1,4 +1,4 @@
-import { decodeF64, encodeF64, ShoalError } from '../core/index.js';
+import { type ConfiguredSnapshot, decodeF64, encodeF64, ShoalError } from '../core/index.js';
 
 /**
  * The one contract every drift detector keeps. A detector is fed one value at a time — a member's
@@ -35,12 +35,8 @@ export interface DriftDetector {
   snapshot(): DetectorSnapshot;
 }
 
-export interface DetectorSnapshot {
-  readonly kind: string;
-  readonly version: number;
-  readonly options: Readonly<Record<string, unknown>>;
-  readonly state: unknown;
-}
+/** A detector's snapshot: the shared envelope with the detector's settings. */
+export type DetectorSnapshot = ConfiguredSnapshot;
 
 /** The level codes a snapshot stores for a detector that remembers its last level between values. */
 export const LEVEL_CODES: readonly DriftLevel[] = ['stable', 'warning', 'drift'];

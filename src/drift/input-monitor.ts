@@ -1,4 +1,10 @@
-import { checkSchema, checkSnapshot, type FeatureSchema, ShoalError } from '../core/index.js';
+import {
+  type ConfiguredSnapshot,
+  checkSchema,
+  checkSnapshot,
+  type FeatureSchema,
+  ShoalError,
+} from '../core/index.js';
 import { CategoryShift, type CategoryShiftOptions, resolveCategoryShift } from './category-shift.js';
 
 import { NumericShift, type NumericShiftOptions, resolveNumericShift } from './numeric-shift.js';
@@ -25,12 +31,9 @@ export interface InputMonitor {
   snapshot(): InputMonitorSnapshot;
 }
 
-export interface InputMonitorSnapshot {
-  readonly kind: string;
-  readonly version: number;
+/** An input monitor's snapshot: the shared envelope, with the schema and settings it was built with. */
+export interface InputMonitorSnapshot extends ConfiguredSnapshot {
   readonly schema: FeatureSchema;
-  readonly options: Readonly<Record<string, unknown>>;
-  readonly state: unknown;
 }
 
 export type InputMonitorOptions = {

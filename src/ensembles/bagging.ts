@@ -14,10 +14,10 @@ import {
 import { type ClassifierSpec, createClassifier } from '../learners/index.js';
 import type { EnsembleSnapshot } from './ensemble.js';
 import {
-  type JournalSink,
   LIFECYCLE_DEFAULTS,
   Lifecycle,
   type LifecycleOptions,
+  type LifecycleSink,
   type Seat,
 } from './lifecycle.js';
 
@@ -100,7 +100,7 @@ export class Bagging extends SeatedEnsemble {
     schema: FeatureSchema,
     spec: BaggingSpec = {},
     seed: Seed = 0,
-    journal: JournalSink = () => {},
+    journal: LifecycleSink = () => {},
     restored?: EnsembleSnapshot,
     firstSeat = 0,
   ) {
@@ -134,7 +134,7 @@ export class Bagging extends SeatedEnsemble {
     this.ensureClasses(Math.max(1, restored?.lifecycle.classes ?? 1));
   }
 
-  static restore(snapshot: EnsembleSnapshot, journal: JournalSink = () => {}): Bagging {
+  static restore(snapshot: EnsembleSnapshot, journal: LifecycleSink = () => {}): Bagging {
     checkSnapshot(snapshot, KIND, VERSION);
     return new Bagging(snapshot.schema, snapshot.options as BaggingSpec, snapshot.seed, journal, snapshot);
   }
@@ -171,10 +171,7 @@ export class Bagging extends SeatedEnsemble {
       if (seat.understudy !== null) seat.understudy.train(row, offset, label, k);
       lifecycle.judge(seat, predicted === label, this.rows);
     }
-    if (verdict !== null) {
-      combineVotes(this.hard, probs, preds, weights, seats.length, classes, verdict);
-      verdict.epoch = lifecycle.epoch;
-    }
+    if (verdict !== null) combineVotes(this.hard, probs, preds, weights, seats.length, classes, verdict);
   }
 
   private weight(seat: Seat): number {

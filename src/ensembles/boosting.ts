@@ -13,7 +13,7 @@ import {
 } from '../core/index.js';
 import { type ClassifierSpec, createClassifier } from '../learners/index.js';
 import type { EnsembleSnapshot } from './ensemble.js';
-import { type JournalSink, LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions } from './lifecycle.js';
+import { LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions, type LifecycleSink } from './lifecycle.js';
 
 import { SeatedEnsemble } from './seated-ensemble.js';
 import type { Verdict } from './verdict.js';
@@ -84,7 +84,7 @@ export class Boosting extends SeatedEnsemble {
     schema: FeatureSchema,
     spec: BoostingSpec = {},
     seed: Seed = 0,
-    journal: JournalSink = () => {},
+    journal: LifecycleSink = () => {},
     restored?: EnsembleSnapshot,
   ) {
     const options = resolve(spec);
@@ -107,7 +107,7 @@ export class Boosting extends SeatedEnsemble {
     this.ensureClasses(Math.max(1, restored?.lifecycle.classes ?? 1));
   }
 
-  static restore(snapshot: EnsembleSnapshot, journal: JournalSink = () => {}): Boosting {
+  static restore(snapshot: EnsembleSnapshot, journal: LifecycleSink = () => {}): Boosting {
     checkSnapshot(snapshot, KIND, VERSION);
     return new Boosting(snapshot.schema, snapshot.options as BoostingSpec, snapshot.seed, journal, snapshot);
   }
@@ -123,11 +123,8 @@ export class Boosting extends SeatedEnsemble {
     const { probs, preds, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     for (let m = 0; m < seats.length; m++) preds[m] = seats[m]!.member.score(row, offset, probs, m * classes);
+    this.weigh();
     this.vote(verdict);
-  }
-
-  protected override classesGrew(n: number): void {
-    this.probe = new Float64Array(n);
   }
 
   protected state(): BoostingState {
@@ -138,6 +135,12 @@ export class Boosting extends SeatedEnsemble {
     const { probs, preds, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     const cap = this.options.maxRepeats;
+    // The vote weights are those the members had before this row's label was known: the same
+    // verdict as `score` gives when the label comes later.
+    if (verdict !== null) this.weigh();
+    // A member that has just learnt a new class answers with one more probability than the ensemble knows.
+    const answers = label < classes ? classes : label + 1;
+    if (this.probe.length < answers) this.probe = new Float64Array(answers);
     let lambda = 1;
     for (let m = 0; m < seats.length; m++) {
       const seat = seats[m]!;
@@ -161,16 +164,21 @@ export class Boosting extends SeatedEnsemble {
     if (verdict !== null) this.vote(verdict);
   }
 
-  /** Weighted hard vote: log((1 − ε)/ε) for members with ε < 0.5 that are not warming. */
-  private vote(verdict: Verdict): void {
-    const { probs, preds, weights, classes } = this.scratch;
+  /** Vote weights: log((1 − ε)/ε) for members with ε < 0.5 that are not warming, 0 for the others. */
+  private weigh(): void {
+    const { weights } = this.scratch;
     const seats = this.lifecycle.seats;
     for (let m = 0; m < seats.length; m++) {
       const e = this.errorOf(m);
       weights[m] =
         e < 0.5 && this.lifecycle.votes(seats[m]!) ? Math.log((1 - e) / Math.max(MIN_ERROR, e)) : 0;
     }
-    combineVotes(true, probs, preds, weights, seats.length, classes, verdict);
+  }
+
+  /** Weighted hard vote of the members' predictions with the weights `weigh` set. */
+  private vote(verdict: Verdict): void {
+    const { probs, preds, weights, classes } = this.scratch;
+    combineVotes(true, probs, preds, weights, this.lifecycle.seats.length, classes, verdict);
     verdict.epoch = this.lifecycle.epoch;
   }
 }

@@ -1,4 +1,4 @@
-import type { FeatureSchema } from '../core/index.js';
+import type { ConfiguredSnapshot, FeatureSchema } from '../core/index.js';
 import type { LifecycleSnapshot, SeatView } from './lifecycle.js';
 import type { Verdict } from './verdict.js';
 
@@ -35,11 +35,13 @@ export interface Ensemble {
   snapshot(): EnsembleSnapshot;
 }
 
-export interface EnsembleSnapshot {
+/**
+ * An ensemble's snapshot: the shared envelope, with the schema, settings and seed it was built with, the
+ * rows it has learnt and its seats.
+ */
+export interface EnsembleSnapshot extends ConfiguredSnapshot {
   readonly kind: EnsembleKind;
-  readonly version: number;
   readonly schema: FeatureSchema;
-  readonly options: Readonly<Record<string, unknown>>;
   readonly seed: string;
   readonly rows: number;
   readonly lifecycle: LifecycleSnapshot;

@@ -4,13 +4,7 @@ export type { BoostingOptions, BoostingSpec } from './boosting.js';
 export { BOOSTING_DEFAULTS, Boosting } from './boosting.js';
 export type { Ensemble, EnsembleKind, EnsembleSnapshot } from './ensemble.js';
 export { ENSEMBLE_KINDS } from './ensemble.js';
-export type {
-  JournalSink,
-  LifecycleOptions,
-  LifecycleRecord,
-  MemberState,
-  SeatView,
-} from './lifecycle.js';
+export type { LifecycleOptions, LifecycleSink, SeatView } from './lifecycle.js';
 export { LIFECYCLE_DEFAULTS } from './lifecycle.js';
 export { BatchVerdicts, ParallelBagging } from './parallel-bagging.js';
 export type { EnsembleSpec } from './registry.js';

@@ -6,6 +6,7 @@ import {
   type DriftDetector,
   restoreDetector,
 } from '../drift/index.js';
+import type { LifecycleCause, LifecycleChange, MemberState } from '../journal/index.js';
 import type { Classifier, LearnerSnapshot } from '../learners/index.js';
 import { restoreClassifier } from '../learners/index.js';
 
@@ -23,10 +24,9 @@ import { restoreClassifier } from '../learners/index.js';
  * Guards: no member is judged before `minAge` rows; at most `maxReplacements` replacements happen within
  * any `replacementWindow` rows (no flapping) — a seat found drifting while the cap is reached is replaced
  * as soon as the cap allows; a drift towards lower error replaces nothing.
- * Every change of state is a `LifecycleRecord` written to the journal.
+ * Every change of state is a `LifecycleChange` with a cause from the journal's closed set, handed to
+ * the ensemble's `LifecycleSink` (the session journals it).
  */
-
-export type MemberState = 'warming' | 'active' | 'watched' | 'retired';
 
 export interface LifecycleOptions {
   /** Monitor members and replace degraded ones. Off: every member stays `active` for good. */
@@ -71,24 +71,8 @@ export function checkLifecycleOptions(o: LifecycleOptions): LifecycleOptions {
   return o;
 }
 
-/** One entry of the journal: a member changed state. */
-export interface LifecycleRecord {
-  readonly type: 'lifecycle';
-  /** Rows the ensemble had trained on when the change happened. */
-  readonly row: number;
-  readonly seat: number;
-  /** The member's id, unique within the ensemble and never reused. */
-  readonly member: number;
-  /** The state before; null for a member that has just taken a seat. */
-  readonly from: MemberState | null;
-  readonly to: MemberState;
-  readonly detector: string;
-  /** The monitor's estimate of the member's error rate at the change. */
-  readonly estimate: number;
-  readonly reason: string;
-}
-
-export type JournalSink = (record: LifecycleRecord) => void;
+/** Where a lifecycle hands its changes (the session adds the rows scored and journals them). */
+export type LifecycleSink = (change: LifecycleChange) => void;
 
 /** Builds the member for a seat; `memberId` seeds it, so replacements are deterministic. */
 export type MemberFactory = (seat: number, memberId: number) => Classifier;
@@ -255,7 +239,7 @@ export class Lifecycle {
   readonly options: LifecycleOptions;
   readonly seats: Seat[];
   private readonly make: MemberFactory;
-  private readonly journal: JournalSink;
+  private readonly journal: LifecycleSink;
   private nextMemberId = 0;
   /** Seat replacements so far: the model epoch. */
   epoch = 0;
@@ -270,7 +254,7 @@ export class Lifecycle {
     options: LifecycleOptions,
     seats: number,
     make: MemberFactory,
-    journal: JournalSink,
+    journal: LifecycleSink,
     restored?: LifecycleSnapshot,
     firstId = 0,
   ) {
@@ -299,7 +283,7 @@ export class Lifecycle {
         options.accuracyWindow,
       );
       this.seats.push(seat);
-      this.write(0, seat, null, first, 'ensemble created');
+      this.write(0, seat, null, first, 'created', 'ensemble created');
     }
   }
 
@@ -327,7 +311,8 @@ export class Lifecycle {
     const o = this.options;
     if (!o.enabled) return false;
     if (seat.understudy !== null) seat.understudyAge++;
-    if (seat.state === 'warming' && seat.age >= o.warmup) this.move(row, seat, 'active', 'warm-up complete');
+    if (seat.state === 'warming' && seat.age >= o.warmup)
+      this.move(row, seat, 'active', 'warmed', 'warm-up complete');
     const monitor = seat.monitor;
     const before = monitor.estimate;
     const level = monitor.update(correct ? 0 : 1);
@@ -335,7 +320,8 @@ export class Lifecycle {
     if (seat.due) return this.replace(seat, row);
     if (level === 'drift') {
       if (!(monitor.estimate > before)) {
-        if (seat.state === 'watched') this.clearWatch(row, seat, 'drift towards fewer errors');
+        if (seat.state === 'watched')
+          this.clearWatch(row, seat, 'drift-ignored-improving', 'drift towards fewer errors');
         return false;
       }
       return this.replace(seat, row);
@@ -351,7 +337,7 @@ export class Lifecycle {
         this.watch(seat, row);
       }
     } else if (seat.state === 'watched' && ++seat.stableRun >= Math.max(1, o.warmup)) {
-      this.clearWatch(row, seat, 'warning cleared');
+      this.clearWatch(row, seat, 'watch-cleared', 'warning cleared');
     }
     return false;
   }
@@ -388,16 +374,16 @@ export class Lifecycle {
     seat.understudyId = id;
     seat.understudyAge = 0;
     seat.stableRun = 0;
-    this.move(row, seat, 'watched', `warning; understudy ${id} started`);
+    this.move(row, seat, 'watched', 'watched', `warning; understudy ${id} started`);
   }
 
-  private clearWatch(row: number, seat: Seat, reason: string): void {
+  private clearWatch(row: number, seat: Seat, cause: LifecycleCause, reason: string): void {
     seat.calmUntil = seat.age + this.options.warmup;
     seat.understudy = null;
     seat.understudyId = -1;
     seat.understudyAge = 0;
     seat.stableRun = 0;
-    this.move(row, seat, 'active', reason);
+    this.move(row, seat, 'active', cause, reason);
   }
 
   private replace(seat: Seat, row: number): boolean {
@@ -412,26 +398,27 @@ export class Lifecycle {
           seat,
           seat.state,
           seat.state,
+          'drift-deferred',
           `drift; replacement deferred (cap of ${o.maxReplacements} per ${o.replacementWindow} rows)`,
         );
       }
       return false;
     }
     seat.due = false;
-    this.move(row, seat, 'retired', 'drift');
-    let reason: string;
+    this.move(row, seat, 'retired', 'drift', 'drift');
+    let cause: LifecycleCause;
     if (seat.understudy !== null) {
       seat.member = seat.understudy;
       seat.memberId = seat.understudyId;
       seat.age = seat.understudyAge;
-      reason = 'understudy promoted';
+      cause = 'promoted';
     } else {
       const id = this.nextMemberId++;
       seat.member = this.make(seat.index, id);
       seat.member.ensureClasses(this.classes);
       seat.memberId = id;
       seat.age = 0;
-      reason = 'fresh member';
+      cause = 'fresh';
     }
     seat.understudy = null;
     seat.understudyId = -1;
@@ -441,26 +428,41 @@ export class Lifecycle {
     seat.clearRecord();
     seat.monitor = createDetector(o.detector);
     seat.state = seat.age >= o.warmup || o.warmup === 0 ? 'active' : 'warming';
-    this.write(row, seat, null, seat.state, reason);
+    this.write(
+      row,
+      seat,
+      null,
+      seat.state,
+      cause,
+      cause === 'promoted' ? 'understudy promoted' : 'fresh member',
+    );
     this.replacements.push(row);
     this.epoch++;
     return true;
   }
 
-  private move(row: number, seat: Seat, to: MemberState, reason: string): void {
+  private move(row: number, seat: Seat, to: MemberState, cause: LifecycleCause, reason: string): void {
     const from = seat.state;
     seat.state = to;
-    this.write(row, seat, from, to, reason);
+    this.write(row, seat, from, to, cause, reason);
   }
 
-  private write(row: number, seat: Seat, from: MemberState | null, to: MemberState, reason: string): void {
+  private write(
+    row: number,
+    seat: Seat,
+    from: MemberState | null,
+    to: MemberState,
+    cause: LifecycleCause,
+    reason: string,
+  ): void {
     this.journal({
       type: 'lifecycle',
-      row,
+      trained: row,
       seat: seat.index,
       member: seat.memberId,
       from,
       to,
+      cause,
       detector: seat.monitor.kind,
       estimate: seat.monitor.estimate,
       reason,

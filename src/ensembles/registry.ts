@@ -2,7 +2,7 @@ import { type FeatureSchema, type Seed, ShoalError } from '../core/index.js';
 import { Bagging, type BaggingSpec } from './bagging.js';
 import { Boosting, type BoostingSpec } from './boosting.js';
 import { ENSEMBLE_KINDS, type Ensemble, type EnsembleSnapshot } from './ensemble.js';
-import type { JournalSink } from './lifecycle.js';
+import type { LifecycleSink } from './lifecycle.js';
 import { Stacking, type StackingSpec } from './stacking.js';
 
 /** An ensemble as configuration describes it. */
@@ -22,7 +22,7 @@ export function createEnsemble(
   spec: EnsembleSpec,
   schema: FeatureSchema,
   seed: Seed,
-  journal?: JournalSink,
+  journal?: LifecycleSink,
 ): Ensemble {
   const { kind, ...options } = spec ?? ({} as EnsembleSpec);
   switch (kind) {
@@ -41,7 +41,7 @@ export function createEnsemble(
 }
 
 /** Rebuild an ensemble from a snapshot; it continues exactly where the original was. */
-export function restoreEnsemble(snapshot: EnsembleSnapshot, journal?: JournalSink): Ensemble {
+export function restoreEnsemble(snapshot: EnsembleSnapshot, journal?: LifecycleSink): Ensemble {
   switch (snapshot?.kind) {
     case 'bagging':
       return Bagging.restore(snapshot, journal);

@@ -1,4 +1,6 @@
 import {
+  type ConfiguredSnapshot,
+  checkSnapshot,
   deriveSeed,
   type FeatureSchema,
   integerAtLeast,
@@ -43,13 +45,14 @@ export const REGRESSION_BAGGING_DEFAULTS: RegressionBaggingOptions = {
 const KIND = 'regression-bagging';
 const VERSION = 1;
 
-export interface RegressionBaggingSnapshot {
-  readonly kind: typeof KIND;
-  readonly version: number;
-  readonly schema: FeatureSchema;
-  readonly options: RegressionBaggingOptions;
+interface RegressionBaggingState {
   readonly members: readonly LearnerSnapshot[];
   readonly poisson: readonly RngState[];
+}
+
+/** The shared snapshot envelope, with the schema the bag reads and its members and generators as state. */
+export interface RegressionBaggingSnapshot extends ConfiguredSnapshot<RegressionBaggingState> {
+  readonly schema: FeatureSchema;
 }
 
 export class RegressionBagging {
@@ -77,13 +80,15 @@ export class RegressionBagging {
   }
 
   static restore(snapshot: RegressionBaggingSnapshot): RegressionBagging {
-    if (snapshot?.kind !== KIND || snapshot.version !== VERSION) {
-      throw new ShoalError('invalid-snapshot', `expected a ${KIND} snapshot (version ${VERSION})`);
+    checkSnapshot(snapshot, KIND, VERSION);
+    const bag = new RegressionBagging(snapshot.schema, snapshot.options as Partial<RegressionBaggingOptions>);
+    const { members, poisson } = snapshot.state;
+    if (!Array.isArray(members) || !Array.isArray(poisson) || members.length !== bag.members.length) {
+      throw new ShoalError('invalid-snapshot', `${KIND} state: expected ${bag.members.length} members`);
     }
-    const bag = new RegressionBagging(snapshot.schema, snapshot.options);
-    snapshot.members.forEach((m, i) => {
+    members.forEach((m, i) => {
       bag.members[i] = restoreRegressor(m);
-      bag.poisson[i] = Rng.fromState(snapshot.poisson[i]!);
+      bag.poisson[i] = Rng.fromState(poisson[i]!);
     });
     return bag;
   }
@@ -116,9 +121,11 @@ export class RegressionBagging {
       kind: KIND,
       version: VERSION,
       schema: this.schema,
-      options: this.options,
-      members: this.members.map((m) => m.snapshot()),
-      poisson: this.poisson.map((r) => r.state()),
+      options: { ...this.options },
+      state: {
+        members: this.members.map((m) => m.snapshot()),
+        poisson: this.poisson.map((r) => r.state()),
+      },
     };
   }
 }

@@ -70,7 +70,11 @@ export abstract class SeatedEnsemble implements Ensemble {
 
   scoreTrain(row: Float64Array, offset: number, label: number, verdict: Verdict): void {
     this.checked(row, offset, label);
+    // The verdict is the model's as it was when the row came: a seat replaced while learning from the
+    // row belongs to the next epoch, as it would had the label come later (`score`, then `train`).
+    const epoch = this.lifecycle.epoch;
     this.step(row, offset, label, verdict);
+    verdict.epoch = epoch;
     this.learnt(label);
   }
 
@@ -99,8 +103,9 @@ export abstract class SeatedEnsemble implements Ensemble {
   }
 
   /**
-   * Score every member on a labelled row before it trains, train it, judge it; fill `verdict` when
-   * given. The row and label are checked, and the classes grown after it, by the caller.
+   * Score every member on a labelled row before it trains, train it, judge it; when `verdict` is given,
+   * fill it (all but the epoch) exactly as `score` would have before the row was learnt. The row and
+   * label are checked, and the classes grown after it, by the caller.
    */
   protected abstract step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void;
 

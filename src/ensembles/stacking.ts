@@ -21,7 +21,7 @@ import {
   type MlpOptions,
 } from '../learners/index.js';
 import type { EnsembleSnapshot } from './ensemble.js';
-import { type JournalSink, LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions } from './lifecycle.js';
+import { LIFECYCLE_DEFAULTS, Lifecycle, type LifecycleOptions, type LifecycleSink } from './lifecycle.js';
 
 import { SeatedEnsemble } from './seated-ensemble.js';
 import type { Verdict } from './verdict.js';
@@ -94,12 +94,14 @@ export class Stacking extends SeatedEnsemble {
   readonly options: StackingOptions;
   private readonly rng: Rng;
   private meta: MetaLearner;
+  /** Per seat, 1 when the last row learnt replaced its member. */
+  private readonly replaced: Uint8Array;
 
   constructor(
     schema: FeatureSchema,
     spec: StackingSpec = {},
     seed: Seed = 0,
-    journal: JournalSink = () => {},
+    journal: LifecycleSink = () => {},
     restored?: EnsembleSnapshot,
   ) {
     const options = resolve(spec);
@@ -118,11 +120,12 @@ export class Stacking extends SeatedEnsemble {
     this.rng = state === undefined ? new Rng(deriveSeed(root, 'holdout')) : Rng.fromState(state.rng);
     const classes = Math.max(1, restored?.lifecycle.classes ?? 1);
     this.meta = state === undefined ? this.freshMeta(classes) : restoreMeta(state.meta);
+    this.replaced = new Uint8Array(learners.length);
     this.scratch.fit(classes);
     this.lifecycle.ensureClasses(classes);
   }
 
-  static restore(snapshot: EnsembleSnapshot, journal: JournalSink = () => {}): Stacking {
+  static restore(snapshot: EnsembleSnapshot, journal: LifecycleSink = () => {}): Stacking {
     checkSnapshot(snapshot, KIND, VERSION);
     return new Stacking(snapshot.schema, snapshot.options as StackingSpec, snapshot.seed, journal, snapshot);
   }
@@ -155,28 +158,35 @@ export class Stacking extends SeatedEnsemble {
   protected step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void {
     const { probs, preds, classes } = this.scratch;
     const seats = this.lifecycle.seats;
+    const replaced = this.replaced;
     const holdout = this.options.holdout;
     const weight = holdout > 0 && this.rng.next() < holdout ? 0 : 1;
+    let replacements = 0;
     for (let m = 0; m < seats.length; m++) {
       const seat = seats[m]!;
       const predicted = seat.member.scoreTrain(row, offset, label, weight, probs, m * classes);
       preds[m] = predicted;
       if (seat.understudy !== null && weight > 0) seat.understudy.train(row, offset, label, weight);
-      if (this.lifecycle.judge(seat, predicted === label, this.rows))
-        this.meta.forgetInputs(m * classes, classes);
+      replaced[m] = this.lifecycle.judge(seat, predicted === label, this.rows) ? 1 : 0;
+      replacements += replaced[m]!;
     }
     // The meta-learner learns from the members' out-of-sample outputs; a label of a class appearing
-    // now is learnt once the classes have grown.
+    // now is learnt once the classes have grown. It scores the row as it stood before the label came
+    // (the verdict `score` gives), and forgets a replaced seat's inputs only before it learns.
     const known = label < classes;
     if (verdict !== null) {
       const out = verdict.fit(classes);
-      this.finish(
-        known ? this.meta.scoreTrain(probs, 0, label, 1, out, 0) : this.meta.score(probs, 0, out, 0),
-        verdict,
-      );
-    } else if (known) {
-      this.meta.train(probs, 0, label, 1);
+      if (known && replacements === 0) {
+        this.finish(this.meta.scoreTrain(probs, 0, label, 1, out, 0), verdict);
+        return;
+      }
+      this.finish(this.meta.score(probs, 0, out, 0), verdict);
     }
+    if (replacements > 0) {
+      for (let m = 0; m < seats.length; m++)
+        if (replaced[m] === 1) this.meta.forgetInputs(m * classes, classes);
+    }
+    if (known) this.meta.train(probs, 0, label, 1);
   }
 
   private finish(predicted: number, verdict: Verdict): void {

@@ -1,4 +1,4 @@
-import { argmax, integerAtLeast, openUnit, ShoalError } from '../core/index.js';
+import { argmax, checkSnapshot, integerAtLeast, openUnit, ShoalError } from '../core/index.js';
 import {
   type ClassificationFigures,
   type ClassificationView,
@@ -10,7 +10,7 @@ import {
   writeOutcome,
 } from './confusion-tally.js';
 import { PrequentialViews, type PrequentialViewsState } from './prequential-views.js';
-import { checkEvaluatorSnapshot, type EvaluatorSnapshot, readInteger } from './snapshot.js';
+import { type EvaluatorSnapshot, readInteger } from './snapshot.js';
 import { resolveViewOptions, type ViewOptions } from './view-options.js';
 
 export interface ClassificationEvaluatorOptions extends ViewOptions {
@@ -217,7 +217,7 @@ export class ClassificationEvaluator {
   }
 
   static restore(snapshot: EvaluatorSnapshot): ClassificationEvaluator {
-    checkEvaluatorSnapshot(snapshot, KIND, VERSION);
+    checkSnapshot(snapshot, KIND, VERSION);
     const evaluator = new ClassificationEvaluator(snapshot.options as ClassificationEvaluatorOptions);
     const state = snapshot.state as ClassificationEvaluatorState;
     const previous = readInteger(state, 'previousLabel', `${KIND} snapshot`, -1);

@@ -1,4 +1,4 @@
-import { ShoalError } from '../core/index.js';
+import { checkSnapshot, ShoalError } from '../core/index.js';
 import { PrequentialViews, type PrequentialViewsState } from './prequential-views.js';
 import {
   PAIR_FLOATS,
@@ -8,7 +8,7 @@ import {
   type RegressionView,
   writePair,
 } from './regression-tally.js';
-import { checkEvaluatorSnapshot, type EvaluatorSnapshot } from './snapshot.js';
+import type { EvaluatorSnapshot } from './snapshot.js';
 import { resolveViewOptions, type ViewOptions } from './view-options.js';
 
 /** Headline figures of a regression evaluator, JSON-safe. */
@@ -103,7 +103,7 @@ export class RegressionEvaluator {
   }
 
   static restore(snapshot: EvaluatorSnapshot): RegressionEvaluator {
-    checkEvaluatorSnapshot(snapshot, KIND, VERSION);
+    checkSnapshot(snapshot, KIND, VERSION);
     const evaluator = new RegressionEvaluator(snapshot.options as ViewOptions);
     evaluator.views.load((snapshot.state as RegressionEvaluatorState).views);
     return evaluator;

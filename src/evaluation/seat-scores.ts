@@ -1,7 +1,7 @@
-import { integerAtLeast, ShoalError } from '../core/index.js';
+import { checkSnapshot, integerAtLeast, ShoalError } from '../core/index.js';
 import { ClassificationEvaluator, type ClassificationEvaluatorOptions } from './classification-evaluator.js';
 import { orNull } from './figure.js';
-import { checkEvaluatorSnapshot, type EvaluatorSnapshot } from './snapshot.js';
+import type { EvaluatorSnapshot } from './snapshot.js';
 
 /** One seat's line in a report. */
 export interface SeatFigures {
@@ -86,7 +86,7 @@ export class SeatScores {
   }
 
   static restore(snapshot: EvaluatorSnapshot): SeatScores {
-    checkEvaluatorSnapshot(snapshot, KIND, VERSION);
+    checkSnapshot(snapshot, KIND, VERSION);
     const { seats, ...options } = snapshot.options as unknown as ClassificationEvaluatorOptions & {
       seats: number;
     };

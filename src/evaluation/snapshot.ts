@@ -1,24 +1,11 @@
-import { checkSnapshot, ShoalError } from '../core/index.js';
+import { type ConfiguredSnapshot, ShoalError } from '../core/index.js';
 
 /**
  * The checkpoint form of every evaluator: JSON-safe and exact. Counts and sums that must survive bit
  * for bit travel as base64 of their IEEE-754 bytes (see `encodeF64`); finite scalars travel as JSON
  * numbers, which round-trip every finite double exactly.
  */
-export interface EvaluatorSnapshot {
-  readonly kind: string;
-  /** Format version of `state`, bumped when the layout changes. */
-  readonly version: number;
-  readonly options: Readonly<Record<string, unknown>>;
-  readonly state: unknown;
-}
-
-/** Check kind and version (see core), and that options and state are objects, before restoring. */
-export function checkEvaluatorSnapshot(snapshot: EvaluatorSnapshot, kind: string, version: number): void {
-  checkSnapshot(snapshot, kind, version);
-  expectObject(snapshot.options, `${kind} snapshot options`);
-  expectObject(snapshot.state, `${kind} snapshot state`);
-}
+export type EvaluatorSnapshot = ConfiguredSnapshot;
 
 /** Throw `invalid-snapshot` unless `value` is a non-null object. */
 export function expectObject(value: unknown, what: string): asserts value is object {

@@ -5,7 +5,6 @@ import { DirectStream } from './arrow-direct.js';
 import type { Binding, BindProblem } from './columns.js';
 import type { FrameDecoder } from './decoder.js';
 import type { Decoded, MessageDecode, Rejection } from './frame.js';
-import { openInput } from './input-file.js';
 import { type ReadOptions, rejectionError, resolveReadOptions } from './read-options.js';
 
 /**
@@ -96,45 +95,48 @@ function bound(session: ArrowSession, schema: Schema, source: string): Binding {
 }
 
 /**
- * Frames from an Arrow IPC file or stream on disk, one per record batch.
+ * What Arrow JS's reader reads from asynchronously: an opened file handle (random access, so the file
+ * format is read batch by batch through its footer) or an async iterable of byte chunks.
+ */
+export type ArrowByteSource = Parameters<typeof RecordBatchReader.from>[0];
+
+/**
+ * Frames from an Arrow IPC file or stream read asynchronously, one per record batch (`src/files/`
+ * opens the file and closes it). `path` names the source in messages.
  *
  * @example
  * const decoder = new FrameDecoder({ id: 'leg_id' });
- * for await (const { frame } of readArrow('legs.arrow', decoder)) total += frame.rows;
+ * for await (const { frame } of arrowFrames(handle, 'legs.arrow', decoder)) total += frame.rows;
  */
-export async function* readArrow(
+export async function* arrowFrames(
+  input: ArrowByteSource,
   path: string,
   decoder: FrameDecoder,
   options: ReadOptions = {},
 ): AsyncGenerator<Decoded> {
   const { rejects } = resolveReadOptions(options);
-  const handle = await openInput(path);
   const session = new ArrowSession(decoder);
   let index = 0;
+  let reader: Awaited<ReturnType<typeof RecordBatchReader.from>>;
   try {
-    let reader: Awaited<ReturnType<typeof RecordBatchReader.from>>;
-    try {
-      reader = await RecordBatchReader.from(handle);
-      await reader.open();
-    } catch (e) {
-      throw unreadable(path, e, 0);
-    }
-    for (;;) {
-      let next: IteratorResult<RecordBatch>;
-      try {
-        next = await reader.next();
-      } catch (e) {
-        throw unreadable(path, e, index);
-      }
-      if (next.done) break;
-      const binding = bound(session, reader.schema, path);
-      yield checked(session.decode([columnsOf(next.value)], binding, path, index), rejects);
-      index++;
-    }
-    if (index === 0 && reader.schema === undefined) throw unreadable(path, new Error('no schema'), 0);
-  } finally {
-    await handle.close();
+    reader = await RecordBatchReader.from(input);
+    await reader.open();
+  } catch (e) {
+    throw unreadable(path, e, 0);
   }
+  for (;;) {
+    let next: IteratorResult<RecordBatch>;
+    try {
+      next = await reader.next();
+    } catch (e) {
+      throw unreadable(path, e, index);
+    }
+    if (next.done) break;
+    const binding = bound(session, reader.schema, path);
+    yield checked(session.decode([columnsOf(next.value)], binding, path, index), rejects);
+    index++;
+  }
+  if (index === 0 && reader.schema === undefined) throw unreadable(path, new Error('no schema'), 0);
 }
 
 /** Record batches from bytes in memory: the direct route when the stream allows it, else Arrow JS's reader. */

@@ -4,25 +4,26 @@ import type { SourceColumn } from './columns.js';
 import { CsvParser } from './csv-parser.js';
 import type { FrameDecoder } from './decoder.js';
 import type { Decoded } from './frame.js';
-import { fileLines, type LineChunk } from './input-file.js';
 import type { ReadOptions } from './read-options.js';
-import { type TextFormat, type TextRecord, textFrames } from './text-frames.js';
+import { type LineChunk, type TextFormat, type TextRecord, textFrames } from './text-frames.js';
 
 /**
- * Frames from a CSV file with a header row (RFC 4180 quoting; an empty field is a missing value),
- * streamed in chunks of lines. Column types are inferred from the first batch by majority (see
- * `TypeTally`): a column is a category only when most of its present cells are not numbers.
+ * Frames from CSV text with a header row (RFC 4180 quoting; an empty field is a missing value), given
+ * as chunks of lines (`src/files/` reads them from disk). Column types are inferred from the first
+ * batch by majority (see `TypeTally`): a column is a category only when most of its present cells are
+ * not numbers. `path` names the source in messages.
  *
  * @example
  * const decoder = new FrameDecoder({ label: 'rejected' });
- * for await (const { frame } of readCsv('legs.csv', decoder)) total += frame.rows;
+ * for await (const { frame } of csvFrames(fileLines('legs.csv'), 'legs.csv', decoder)) total += frame.rows;
  */
-export async function* readCsv(
+export async function* csvFrames(
+  lines: AsyncGenerator<LineChunk>,
   path: string,
   decoder: FrameDecoder,
   options: ReadOptions = {},
 ): AsyncGenerator<Decoded> {
-  const records = csvRecords(path, fileLines(path));
+  const records = csvRecords(path, lines);
   try {
     const first = await records.next();
     if (first.done) return;

@@ -1,5 +1,4 @@
-import { createTextWriter } from './text-writer.js';
-import type { FrameWriter, WriterOptions } from './writer.js';
+import type { TextLayout } from './writer.js';
 
 /** Quote a field when RFC 4180 §2 requires it: it holds a comma, a double quote or a line break. */
 export function csvField(text: string): string {
@@ -7,15 +6,15 @@ export function csvField(text: string): string {
 }
 
 /**
- * A CSV writer: a header row, then one line per row. Numbers are written in the shortest form that
+ * The CSV layout of a writer (`src/files/` writes it to disk): a header row, then one line per row. Numbers are written in the shortest form that
  * reads back as the same double (ECMAScript Number::toString); missing values and labels are empty
  * fields; nominal codes are written as their category names.
  *
  * @example
- * const writer = await createCsvWriter('sea.csv', { schema: gen.schema, classes: gen.classes });
+ * const writer = await createTextWriter('sea.csv', { schema: gen.schema, classes: gen.classes }, csvLayout());
  */
-export function createCsvWriter(path: string, options: WriterOptions): Promise<FrameWriter> {
-  return createTextWriter(path, options, {
+export function csvLayout(): TextLayout {
+  return {
     header: (plan) => plan.columns().map(csvField).join(','),
     row(plan, block, r) {
       const cells: string[] = [];
@@ -30,5 +29,5 @@ export function createCsvWriter(path: string, options: WriterOptions): Promise<F
       cells.push(label === null ? '' : csvField(label));
       return cells.join(',');
     },
-  });
+  };
 }

@@ -2,25 +2,27 @@ import { TypeTally } from './cells.js';
 import type { SourceColumn } from './columns.js';
 import type { FrameDecoder } from './decoder.js';
 import type { Decoded, MessageDecode } from './frame.js';
-import { fileLines } from './input-file.js';
 import type { ReadOptions } from './read-options.js';
-import { type TextFormat, type TextRecord, textFrames } from './text-frames.js';
+import { type LineChunk, type TextFormat, type TextRecord, textFrames } from './text-frames.js';
 
 /**
- * Frames from newline-delimited JSON: one JSON object per line, keys are columns. Column types are
- * inferred from the JSON types of the first batch, by majority (a JSON string is a category even when
- * it looks like a number, but a few quoted numbers do not make a numeric column a category). A key that a later record leaves out is a missing value; keys first seen after the first
+ * Frames from newline-delimited JSON given as chunks of lines (`src/files/` reads them from disk):
+ * one JSON object per line, keys are columns. Column types are inferred from the JSON types of the
+ * first batch, by majority (a JSON string is a category even when it looks like a number, but a few
+ * quoted numbers do not make a numeric column a category). A key that a later record leaves out is a
+ * missing value; keys first seen after the first
  * batch are ignored.
  *
  * @example
- * for await (const { frame } of readNdjson('legs.ndjson', new FrameDecoder())) total += frame.rows;
+ * for await (const { frame } of ndjsonFrames(fileLines('legs.ndjson'), 'legs.ndjson', decoder)) total += frame.rows;
  */
-export async function* readNdjson(
+export async function* ndjsonFrames(
+  lines: AsyncIterable<LineChunk>,
   path: string,
   decoder: FrameDecoder,
   options: ReadOptions = {},
 ): AsyncGenerator<Decoded> {
-  yield* textFrames(jsonLines(path), jsonFormat(), decoder, path, options);
+  yield* textFrames(jsonLines(lines), jsonFormat(), decoder, path, options);
 }
 
 type JsonObject = Readonly<Record<string, unknown>>;
@@ -43,8 +45,8 @@ function asRecord(value: unknown): JsonObject | string {
   return value as JsonObject;
 }
 
-async function* jsonLines(path: string): AsyncGenerator<TextRecord<JsonObject>[]> {
-  for await (const { lines, first } of fileLines(path)) {
+async function* jsonLines(chunks: AsyncIterable<LineChunk>): AsyncGenerator<TextRecord<JsonObject>[]> {
+  for await (const { lines, first } of chunks) {
     const records: TextRecord<JsonObject>[] = [];
     for (let k = 0; k < lines.length; k++) {
       const text = lines[k]!;

@@ -1,17 +1,16 @@
-import { createTextWriter } from './text-writer.js';
-import type { FrameWriter, WriterOptions } from './writer.js';
+import type { TextLayout } from './writer.js';
 
 /**
- * An NDJSON writer: one JSON object per line, keys in column order. A missing value or label is null
+ * The NDJSON layout of a writer (`src/files/` writes it to disk): one JSON object per line, keys in column order. A missing value or label is null
  * (JSON has no NaN; ±Infinity are written as null too); nominal codes are written as their category
  * names; labels as class names, or as numbers with `labels: 'code'`.
  *
  * @example
- * const writer = await createNdjsonWriter('sea.ndjson', { schema: gen.schema, classes: gen.classes });
+ * const writer = await createTextWriter('sea.ndjson', { schema: gen.schema, classes: gen.classes }, ndjsonLayout());
  */
-export function createNdjsonWriter(path: string, options: WriterOptions): Promise<FrameWriter> {
+export function ndjsonLayout(): TextLayout {
   let keys: string[] = [];
-  return createTextWriter(path, options, {
+  return {
     header(plan) {
       keys = plan.columns().map((n) => `${JSON.stringify(n)}:`);
       return null;
@@ -33,5 +32,5 @@ export function createNdjsonWriter(path: string, options: WriterOptions): Promis
       parts.push(keys[k]! + shown);
       return `{${parts.join(',')}}`;
     },
-  });
+  };
 }

@@ -6,6 +6,12 @@ import type { Decoded, Rejection } from './frame.js';
 import { type ReadOptions, rejectionError, resolveReadOptions } from './read-options.js';
 
 /** One record of a text source: its parsed value, or what is wrong with its text. */
+/** Consecutive lines of a text source: `lines[k]` is line `first + k` (1-based). */
+export interface LineChunk {
+  readonly lines: readonly string[];
+  readonly first: number;
+}
+
 export interface TextRecord<T> {
   /** The 1-based line on which the record starts. */
   readonly line: number;

@@ -138,3 +138,11 @@ export class WriterPlan {
     return this.labelsAsCodes ? String(code) : this.classes[code]!;
   }
 }
+
+/** How a text format writes its header and its rows. */
+export interface TextLayout {
+  /** The first line (without its line break), or null for none. */
+  header(plan: WriterPlan): string | null;
+  /** Row r of a checked block as one line (without its line break). */
+  row(plan: WriterPlan, block: RowBlock, r: number): string;
+}

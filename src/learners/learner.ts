@@ -1,4 +1,4 @@
-import type { FeatureSchema } from '../core/index.js';
+import type { ConfiguredSnapshot, FeatureSchema } from '../core/index.js';
 import { ShoalError } from '../core/index.js';
 
 /**
@@ -65,13 +65,9 @@ export interface ForgetsInputs {
   forgetInputs(first: number, count: number): void;
 }
 
-export interface LearnerSnapshot {
-  readonly kind: string;
-  /** Format version of `state`, bumped when the layout changes. */
-  readonly version: number;
+/** A learner's snapshot: the shared envelope, with the schema and settings it was built with. */
+export interface LearnerSnapshot extends ConfiguredSnapshot {
   readonly schema: FeatureSchema;
-  readonly options: Readonly<Record<string, unknown>>;
-  readonly state: unknown;
 }
 
 /** Labels above this are refused: a label is a class code, not an arbitrary number. */

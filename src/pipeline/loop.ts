@@ -1,9 +1,17 @@
 import type { FeatureSchema } from '../core/index.js';
 import { createInputMonitor, type InputMonitor } from '../drift/index.js';
-import { createEnsemble, type Ensemble, type LifecycleRecord, Verdict } from '../ensembles/index.js';
+import { createEnsemble, type Ensemble, Verdict } from '../ensembles/index.js';
 import { ClassificationEvaluator, type ClassificationFigures, orNull } from '../evaluation/index.js';
+import {
+  isDriftSignal,
+  JOURNAL_VERSION,
+  type JournalRecord,
+  type LabelCounts,
+  type LifecycleChange,
+  type SummaryRecord,
+  type ViewFigures,
+} from '../journal/index.js';
 import type { RunConfig } from './config.js';
-import type { JournalRecord, SummaryRecord, ViewFigures } from './journal.js';
 
 /**
  * The learning loop: for each row, score it, judge the served prediction when its label is known,
@@ -108,6 +116,8 @@ export class LearningLoop {
     const seconds = Math.max(1e-9, (this.options.clock() - this.started) / 1000);
     const summary: SummaryRecord = {
       type: 'summary',
+      scored: this.rows,
+      trained: this.evaluated,
       rows: this.evaluated,
       accuracy: cumulative.accuracy,
       kappa: cumulative.kappa,
@@ -121,6 +131,7 @@ export class LearningLoop {
       warnings: this.warnings,
       replacements: this.replacements,
       inputDrifts: this.inputDrifts,
+      labels: this.labels(),
       seconds,
       rowsPerSecond: this.rows / seconds,
     };
@@ -136,7 +147,7 @@ export class LearningLoop {
       this.started = clock();
       this.options.journal({
         type: 'run',
-        version: 1,
+        version: JOURNAL_VERSION,
         shoal: version,
         startedAt: new Date().toISOString(),
         source,
@@ -155,11 +166,26 @@ export class LearningLoop {
     return this.ensemble;
   }
 
-  private lifecycle(record: LifecycleRecord): void {
-    if (record.reason.startsWith('drift')) this.driftSignals++;
-    if (record.to === 'watched') this.warnings++;
-    if (record.to === 'retired') this.replacements++;
-    this.options.journal(record);
+  private lifecycle(change: LifecycleChange): void {
+    if (isDriftSignal(change.cause)) this.driftSignals++;
+    if (change.to === 'watched') this.warnings++;
+    if (change.to === 'retired') this.replacements++;
+    this.options.journal({ ...change, scored: this.rows });
+  }
+
+  private labels(): LabelCounts {
+    return {
+      inline: this.evaluated,
+      joined: 0,
+      duplicate: 0,
+      late: 0,
+      evicted: 0,
+      unknown: 0,
+      trainedUnmatched: 0,
+      expiredPredictions: 0,
+      evictedPredictions: 0,
+      pending: 0,
+    };
   }
 
   private inputDrift(monitor: InputMonitor, count: number): void {
@@ -167,7 +193,13 @@ export class LearningLoop {
     for (let i = 0; i < count; i++) {
       const f = features[monitor.flagged[i]!]!;
       this.inputDrifts++;
-      this.options.journal({ type: 'input-drift', row: this.rows, feature: f.name, kind: f.kind });
+      this.options.journal({
+        type: 'input-drift',
+        scored: this.rows,
+        trained: this.evaluated,
+        feature: f.name,
+        kind: f.kind,
+      });
     }
   }
 
@@ -175,10 +207,12 @@ export class LearningLoop {
     const s = this.evaluator.summary();
     this.options.journal({
       type: 'window',
-      row: this.evaluated,
+      scored: this.rows,
+      trained: this.evaluated,
       window: figures(s.windowed),
       cumulative: figures(s.cumulative),
       seats: this.ensemble!.seats().map((seat) => seat.recentAccuracy),
+      labels: this.labels(),
     });
   }
 }

@@ -1,4 +1,4 @@
-import type { SummaryRecord } from '../pipeline/journal.js';
+import type { SummaryRecord } from '../journal/index.js';
 import { escapeHtml } from './escape.js';
 import { fixed, grouped, percent } from './format.js';
 

@@ -1,11 +1,10 @@
-import type { LifecycleRecord } from '../ensembles/index.js';
-import type { InputDriftRecord } from '../pipeline/journal.js';
+import type { InputDriftRecord, LifecycleRecord } from '../journal/index.js';
 import { fixed, grouped } from './format.js';
-import type { Replacement } from './timeline.js';
+import type { Placed, Replacement } from './timeline.js';
 
 /** Hover lines for the events on the rows axis: what happened, where and at which row. */
 
-export function driftSignalText(r: LifecycleRecord): string {
+export function driftSignalText(r: Placed<LifecycleRecord>): string {
   return `row ${grouped(r.row)}: seat ${r.seat}, member ${r.member}: ${r.reason} (error ${fixed(r.estimate, 3)})`;
 }
 
@@ -17,6 +16,6 @@ export function replacementText(r: Replacement, seat = true): string {
   );
 }
 
-export function inputDriftText(r: InputDriftRecord): string {
+export function inputDriftText(r: Placed<InputDriftRecord>): string {
   return `row ${grouped(r.row)}: ${r.feature} (${r.kind})`;
 }

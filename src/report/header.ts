@@ -1,4 +1,4 @@
-import type { RunRecord, SummaryRecord, ViewFigures } from '../pipeline/journal.js';
+import type { RunRecord, SummaryRecord, ViewFigures } from '../journal/index.js';
 import { escapeHtml } from './escape.js';
 import { fixed, grouped, percent } from './format.js';
 import type { Timeline } from './timeline.js';

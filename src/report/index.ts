@@ -1,7 +1,6 @@
 export type { ClassScore } from './confusion.js';
 export { classScores } from './confusion.js';
 export { escapeHtml } from './escape.js';
-export { JOURNAL_VERSION, parseJournal } from './parse-journal.js';
 export type { ReportOptions } from './render.js';
 export { CAUTION, renderReport } from './render.js';
 export type { SeriesPoint } from './thin.js';

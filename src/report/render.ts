@@ -1,4 +1,4 @@
-import type { JournalRecord, RunRecord, SummaryRecord } from '../pipeline/journal.js';
+import type { JournalRecord, RunRecord, SummaryRecord } from '../journal/index.js';
 import { configTable, schemaTable } from './config-table.js';
 import { confusionTables } from './confusion.js';
 import { escapeHtml } from './escape.js';

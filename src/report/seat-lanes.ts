@@ -1,4 +1,4 @@
-import type { MemberState } from '../ensembles/index.js';
+import type { MemberState } from '../journal/index.js';
 import { replacementText } from './event-text.js';
 import { grouped, percent } from './format.js';
 import { LANE_MARK_COLOUR } from './styles.js';

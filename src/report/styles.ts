@@ -1,4 +1,4 @@
-import type { MemberState } from '../ensembles/index.js';
+import type { MemberState } from '../journal/index.js';
 
 /**
  * Colours of the report. Series and events take hues far apart that stay distinct for the common

@@ -1,5 +1,25 @@
-import type { LifecycleRecord, MemberState } from '../ensembles/index.js';
-import type { InputDriftRecord, JournalRecord, WindowRecord } from '../pipeline/journal.js';
+import {
+  type InputDriftRecord,
+  isDriftSignal,
+  type JournalRecord,
+  type LifecycleRecord,
+  type MemberState,
+  type WindowRecord,
+} from '../journal/index.js';
+
+/**
+ * The report's axis, chosen explicitly: rows trained on. Records carry both rows scored and rows
+ * trained; with late labels the two differ by the label delay, and every figure the report draws
+ * (evaluation windows, member changes) happens when a label is learnt.
+ */
+export const AXIS = 'trained' as const;
+
+/** A journal record placed on the report's axis at `row`. */
+export type Placed<T> = T & { readonly row: number };
+
+function place<T extends { readonly trained: number }>(record: T): Placed<T> {
+  return { ...record, row: record[AXIS] };
+}
 
 /** A stretch of rows during which one member held a seat in one state. */
 export interface LaneSegment {
@@ -31,11 +51,11 @@ export interface Timeline {
   readonly seats: number;
   /** Per seat, its segments in row order. */
   readonly lanes: readonly (readonly LaneSegment[])[];
-  readonly windows: readonly WindowRecord[];
-  /** Lifecycle records whose reason starts with `drift`: a member monitor signalled drift. */
-  readonly driftSignals: readonly LifecycleRecord[];
+  readonly windows: readonly Placed<WindowRecord>[];
+  /** Lifecycle records whose cause is a drift signal of a member monitor. */
+  readonly driftSignals: readonly Placed<LifecycleRecord>[];
   readonly replacements: readonly Replacement[];
-  readonly inputDrifts: readonly InputDriftRecord[];
+  readonly inputDrifts: readonly Placed<InputDriftRecord>[];
 }
 
 /**
@@ -44,38 +64,38 @@ export interface Timeline {
  * appear at the same row, so retirements make no segment of their own but a `Replacement`.
  */
 export function timeline(records: readonly JournalRecord[]): Timeline {
-  const lifecycle: LifecycleRecord[] = [];
-  const windows: WindowRecord[] = [];
-  const inputDrifts: InputDriftRecord[] = [];
+  const lifecycle: Placed<LifecycleRecord>[] = [];
+  const windows: Placed<WindowRecord>[] = [];
+  const inputDrifts: Placed<InputDriftRecord>[] = [];
   let rows = 1;
   let seats = 0;
   for (const r of records) {
     if (r.type === 'lifecycle') {
-      lifecycle.push(r);
+      lifecycle.push(place(r));
       seats = Math.max(seats, r.seat + 1);
     } else if (r.type === 'window') {
-      windows.push(r);
+      windows.push(place(r));
       seats = Math.max(seats, r.seats.length);
-    } else if (r.type === 'input-drift') inputDrifts.push(r);
-    if (r.type !== 'run') rows = Math.max(rows, r.type === 'summary' ? r.rows : r.row);
+    } else if (r.type === 'input-drift') inputDrifts.push(place(r));
+    if (r.type !== 'run') rows = Math.max(rows, r[AXIS]);
   }
   // A stable sort: records of one row keep the order they were written in.
   lifecycle.sort((a, b) => a.row - b.row);
   windows.sort((a, b) => a.row - b.row);
-  const bySeat: LifecycleRecord[][] = Array.from({ length: seats }, () => []);
+  const bySeat: Placed<LifecycleRecord>[][] = Array.from({ length: seats }, () => []);
   for (const r of lifecycle) bySeat[r.seat]!.push(r);
   return {
     rows,
     seats,
     lanes: bySeat.map((list) => segments(list, rows)),
     windows,
-    driftSignals: lifecycle.filter((r) => r.reason.startsWith('drift')),
+    driftSignals: lifecycle.filter((r) => isDriftSignal(r.cause)),
     replacements: bySeat.flatMap(replacements).sort((a, b) => a.row - b.row || a.seat - b.seat),
     inputDrifts: [...inputDrifts].sort((a, b) => a.row - b.row),
   };
 }
 
-function segments(list: readonly LifecycleRecord[], end: number): LaneSegment[] {
+function segments(list: readonly Placed<LifecycleRecord>[], end: number): LaneSegment[] {
   const out: LaneSegment[] = [];
   list.forEach((r, i) => {
     const next = list[i + 1]?.row ?? end;
@@ -84,7 +104,7 @@ function segments(list: readonly LifecycleRecord[], end: number): LaneSegment[] 
   return out;
 }
 
-function replacements(list: readonly LifecycleRecord[]): Replacement[] {
+function replacements(list: readonly Placed<LifecycleRecord>[]): Replacement[] {
   const out: Replacement[] = [];
   list.forEach((r, i) => {
     if (r.to !== 'retired') return;

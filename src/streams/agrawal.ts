@@ -1,6 +1,11 @@
 import { closedUnit, nominal, numeric, Rng, type Seed } from '../core/index.js';
 import { integerIn } from './checks.js';
-import type { GeneratorState, StreamGenerator } from './generator.js';
+import {
+  type GeneratorSnapshot,
+  generatorSnapshot,
+  generatorState,
+  type StreamGenerator,
+} from './generator.js';
 import { noisyLabel } from './label-noise.js';
 
 /**
@@ -193,8 +198,9 @@ export function agrawal(options: Partial<AgrawalOptions> = {}, seed: Seed = 1): 
       }
       return noisyLabel(rng, noise, label, 2);
     },
-    state: (): GeneratorState => ({ rng: rng.state() }),
-    restore(state) {
+    snapshot: (): GeneratorSnapshot => generatorSnapshot('agrawal', { rng: rng.state() }),
+    restore(snapshot) {
+      const state = generatorState(snapshot, 'agrawal');
       rng = Rng.fromState(state.rng);
     },
   };

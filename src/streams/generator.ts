@@ -1,4 +1,4 @@
-import type { FeatureSchema, RngState } from '../core/index.js';
+import { checkSnapshot, type FeatureSchema, type RngState, type Snapshot } from '../core/index.js';
 
 /**
  * The contract of a seeded stream generator: each call writes the next row in place and returns its
@@ -17,16 +17,31 @@ export interface StreamGenerator {
   readonly classes: readonly string[];
   /** Write the next row at row[offset …] and return its label. */
   next(row: Float64Array, offset: number): number;
-  /** The generator's state, JSON-safe, for checkpoints. */
-  state(): GeneratorState;
-  /** Resume from a state taken with `state()` on a generator built with the same options. */
-  restore(state: GeneratorState): void;
+  /** The generator's state in the snapshot envelope, JSON-safe, for checkpoints. */
+  snapshot(): GeneratorSnapshot;
+  /** Resume from a snapshot taken with `snapshot()` on a generator built with the same options. */
+  restore(snapshot: GeneratorSnapshot): void;
 }
 
 export interface GeneratorState {
   readonly rng: RngState;
   /** Any further fields a generator needs (a drifting hyperplane's weights, moving centroids, …). */
   readonly extra?: unknown;
+}
+
+export type GeneratorSnapshot = Snapshot<GeneratorState>;
+
+const VERSION = 1;
+
+/** Wrap a generator's state in the snapshot envelope; `kind` names the generator. */
+export function generatorSnapshot(kind: string, state: GeneratorState): GeneratorSnapshot {
+  return { kind, version: VERSION, state };
+}
+
+/** The state inside a generator's snapshot, once its kind and version are checked. */
+export function generatorState(snapshot: GeneratorSnapshot, kind: string): GeneratorState {
+  checkSnapshot(snapshot, kind, VERSION);
+  return snapshot.state;
 }
 
 /** A block of generated rows: row-major features and their labels. */

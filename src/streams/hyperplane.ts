@@ -8,7 +8,12 @@ import {
   type Seed,
 } from '../core/index.js';
 import { integerIn, stateArray, stateExtra, stateInteger } from './checks.js';
-import type { GeneratorState, StreamGenerator } from './generator.js';
+import {
+  type GeneratorSnapshot,
+  generatorSnapshot,
+  generatorState,
+  type StreamGenerator,
+} from './generator.js';
 import { noisyLabel } from './label-noise.js';
 
 /**
@@ -86,11 +91,13 @@ export function hyperplane(options: Partial<HyperplaneOptions> = {}, seed: Seed 
       }
       return label;
     },
-    state: (): GeneratorState => ({
-      rng: rng.state(),
-      extra: { weights: encodeF64(weights), directions: encodeF64(directions), clock },
-    }),
-    restore(state) {
+    snapshot: (): GeneratorSnapshot =>
+      generatorSnapshot(OWNER, {
+        rng: rng.state(),
+        extra: { weights: encodeF64(weights), directions: encodeF64(directions), clock },
+      }),
+    restore(snapshot) {
+      const state = generatorState(snapshot, OWNER);
       const extra = stateExtra(OWNER, state);
       const w = stateArray(OWNER, extra, 'weights', features);
       const d = stateArray(OWNER, extra, 'directions', drifting);

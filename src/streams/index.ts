@@ -2,7 +2,7 @@ export type { AgrawalOptions, AgrawalRule } from './agrawal.js';
 export { AGRAWAL_COLUMNS, AGRAWAL_DEFAULTS, AGRAWAL_RULES, agrawal } from './agrawal.js';
 export type { StreamRequest } from './build.js';
 export { buildStream } from './build.js';
-export type { GeneratedBlock, GeneratorState, StreamGenerator } from './generator.js';
+export type { GeneratedBlock, GeneratorSnapshot, GeneratorState, StreamGenerator } from './generator.js';
 export { take } from './generator.js';
 export type { HyperplaneOptions } from './hyperplane.js';
 export { HYPERPLANE_DEFAULTS, hyperplane } from './hyperplane.js';

@@ -1,6 +1,11 @@
 import { closedUnit, integerAtLeast, nominal, Rng, type Seed } from '../core/index.js';
 import { integerIn } from './checks.js';
-import type { GeneratorState, StreamGenerator } from './generator.js';
+import {
+  type GeneratorSnapshot,
+  generatorSnapshot,
+  generatorState,
+  type StreamGenerator,
+} from './generator.js';
 
 /**
  * LED display — Breiman, Friedman, Olshen & Stone, Classification and Regression Trees, 1984,
@@ -74,8 +79,9 @@ export function led(options: Partial<LedOptions> = {}, seed: Seed = 1): StreamGe
       for (let s = 7; s < 7 + irrelevant; s++) row[offset + columns[s]!] = rng.next() < 0.5 ? 1 : 0;
       return digit;
     },
-    state: (): GeneratorState => ({ rng: rng.state() }),
-    restore(state) {
+    snapshot: (): GeneratorSnapshot => generatorSnapshot('led', { rng: rng.state() }),
+    restore(snapshot) {
+      const state = generatorState(snapshot, 'led');
       rng = Rng.fromState(state.rng);
     },
   };

@@ -8,7 +8,12 @@ import {
   ShoalError,
 } from '../core/index.js';
 import { integerIn, numberIn, stateArray, stateExtra, stateInteger } from './checks.js';
-import type { GeneratorState, StreamGenerator } from './generator.js';
+import {
+  type GeneratorSnapshot,
+  generatorSnapshot,
+  generatorState,
+  type StreamGenerator,
+} from './generator.js';
 import { noisyLabel } from './label-noise.js';
 
 /**
@@ -123,18 +128,20 @@ export function rbf(options: Partial<RbfOptions> = {}, seed: Seed = 1): StreamGe
       clock++;
       return noisyLabel(rng, noise, labels[c]!, classes);
     },
-    state: (): GeneratorState => ({
-      rng: rng.state(),
-      extra: {
-        clock,
-        origins: encodeF64(origins),
-        velocities: encodeF64(velocities),
-        labels: encodeF64(labels),
-        spreads: encodeF64(spreads),
-        weights: encodeF64(weights),
-      },
-    }),
-    restore(state) {
+    snapshot: (): GeneratorSnapshot =>
+      generatorSnapshot(OWNER, {
+        rng: rng.state(),
+        extra: {
+          clock,
+          origins: encodeF64(origins),
+          velocities: encodeF64(velocities),
+          labels: encodeF64(labels),
+          spreads: encodeF64(spreads),
+          weights: encodeF64(weights),
+        },
+      }),
+    restore(snapshot) {
+      const state = generatorState(snapshot, OWNER);
       const extra = stateExtra(OWNER, state);
       const next = {
         clock: stateInteger(OWNER, extra, 'clock', 0, Number.MAX_SAFE_INTEGER),

@@ -8,7 +8,12 @@ import {
   sigmoid,
 } from '../core/index.js';
 import { stateExtra, stateInteger } from './checks.js';
-import type { GeneratorState, StreamGenerator } from './generator.js';
+import {
+  type GeneratorSnapshot,
+  generatorSnapshot,
+  generatorState,
+  type StreamGenerator,
+} from './generator.js';
 
 /**
  * A concept schedule: concepts (generators on one schema and one set of classes) take turns, a new one
@@ -161,11 +166,13 @@ export function conceptSchedule(options: ScheduleOptions, seed: Seed): ConceptSc
       row++;
       return generators[turns[lastTurn]!]!.next(out, offset);
     },
-    state: (): GeneratorState => ({
-      rng: rng.state(),
-      extra: { row, lastTurn, concepts: generators.map((g) => g.state()) },
-    }),
-    restore(state) {
+    snapshot: (): GeneratorSnapshot =>
+      generatorSnapshot(OWNER, {
+        rng: rng.state(),
+        extra: { row, lastTurn, concepts: generators.map((g) => g.snapshot()) },
+      }),
+    restore(snapshot) {
+      const state = generatorState(snapshot, OWNER);
       const extra = stateExtra(OWNER, state);
       const rows = stateInteger(OWNER, extra, 'row', 0, Number.MAX_SAFE_INTEGER);
       const turn = stateInteger(OWNER, extra, 'lastTurn', rows === 0 ? -1 : 0, rows === 0 ? -1 : last);
@@ -178,9 +185,9 @@ export function conceptSchedule(options: ScheduleOptions, seed: Seed): ConceptSc
       }
       const resumed = Rng.fromState(state.rng);
       // All or nothing: if one concept refuses its state, put back the states the others had.
-      const before = generators.map((g) => g.state());
+      const before = generators.map((g) => g.snapshot());
       try {
-        for (let i = 0; i < generators.length; i++) generators[i]!.restore(states[i] as GeneratorState);
+        for (let i = 0; i < generators.length; i++) generators[i]!.restore(states[i] as GeneratorSnapshot);
       } catch (e) {
         for (let i = 0; i < generators.length; i++) generators[i]!.restore(before[i]!);
         throw e;

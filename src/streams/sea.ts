@@ -1,6 +1,11 @@
 import { closedUnit, numeric, Rng, type Seed } from '../core/index.js';
 import { numberIn } from './checks.js';
-import type { GeneratorState, StreamGenerator } from './generator.js';
+import {
+  type GeneratorSnapshot,
+  generatorSnapshot,
+  generatorState,
+  type StreamGenerator,
+} from './generator.js';
 
 /**
  * SEA concepts — Street & Kim, "A streaming ensemble algorithm (SEA) for large-scale classification",
@@ -33,8 +38,9 @@ export function sea(options: Partial<SeaOptions> = {}, seed: Seed = 1): StreamGe
       const label = a + b <= threshold ? 1 : 0;
       return rng.next() < noise ? 1 - label : label;
     },
-    state: (): GeneratorState => ({ rng: rng.state() }),
-    restore(state) {
+    snapshot: (): GeneratorSnapshot => generatorSnapshot('sea', { rng: rng.state() }),
+    restore(snapshot) {
+      const state = generatorState(snapshot, 'sea');
       rng = Rng.fromState(state.rng);
     },
   };

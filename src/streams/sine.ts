@@ -1,5 +1,10 @@
 import { closedUnit, numeric, oneOf, Rng, type Seed, ShoalError } from '../core/index.js';
-import type { GeneratorState, StreamGenerator } from './generator.js';
+import {
+  type GeneratorSnapshot,
+  generatorSnapshot,
+  generatorState,
+  type StreamGenerator,
+} from './generator.js';
 import { noisyLabel } from './label-noise.js';
 
 /**
@@ -47,8 +52,9 @@ export function sine(options: Partial<SineOptions> = {}, seed: Seed = 1): Stream
       row[offset + 1] = y;
       return noisyLabel(rng, noise, y < boundary(x) ? under : 1 - under, 2);
     },
-    state: (): GeneratorState => ({ rng: rng.state() }),
-    restore(state) {
+    snapshot: (): GeneratorSnapshot => generatorSnapshot(OWNER, { rng: rng.state() }),
+    restore(snapshot) {
+      const state = generatorState(snapshot, OWNER);
       rng = Rng.fromState(state.rng);
     },
   };

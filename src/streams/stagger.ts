@@ -1,5 +1,10 @@
 import { closedUnit, nominal, oneOf, Rng, type Seed } from '../core/index.js';
-import type { GeneratorState, StreamGenerator } from './generator.js';
+import {
+  type GeneratorSnapshot,
+  generatorSnapshot,
+  generatorState,
+  type StreamGenerator,
+} from './generator.js';
 import { noisyLabel } from './label-noise.js';
 
 /**
@@ -45,8 +50,9 @@ export function stagger(options: Partial<StaggerOptions> = {}, seed: Seed = 1): 
       row[offset + 2] = shape;
       return noisyLabel(rng, noise, rule(size, color, shape) ? 1 : 0, 2);
     },
-    state: (): GeneratorState => ({ rng: rng.state() }),
-    restore(state) {
+    snapshot: (): GeneratorSnapshot => generatorSnapshot('stagger', { rng: rng.state() }),
+    restore(snapshot) {
+      const state = generatorState(snapshot, 'stagger');
       rng = Rng.fromState(state.rng);
     },
   };

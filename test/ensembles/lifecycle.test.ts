@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { Bagging, type LifecycleRecord } from '../../src/ensembles/index.js';
+import { Bagging } from '../../src/ensembles/index.js';
+import type { LifecycleChange } from '../../src/journal/index.js';
 import { buildStream, sea } from '../../src/streams/index.js';
 import { note } from '../support/note.js';
 import { prequential, recordingJournal, windowed } from '../support/prequential.js';
@@ -40,34 +41,36 @@ describe('member lifecycle', () => {
     const journal = recordingJournal();
     const stream = () => buildStream({ generator: 'agrawal', concepts: '1,2', every: 10_000, seed: 8 });
     prequential(new Bagging(stream().schema, {}, 3, journal.sink), stream(), 13_000);
-    const retired = journal.records.filter((r) => r.to === 'retired').map((r) => r.row);
+    const retired = journal.records.filter((r) => r.to === 'retired').map((r) => r.trained);
     note(`Agrawal 1 → 2 at row 10,000: members retired at rows ${retired.join(', ')}`);
     expect(retired.filter((row) => row < 10_000)).toEqual([]);
     expect(retired.some((row) => row >= 10_000 && row < 13_000)).toBe(true);
   });
 
-  it('journals every state change with row, seat, member, detector, estimate and reason', () => {
+  it('journals every state change with row, seat, member, detector, estimate, cause and reason', () => {
     const journal = recordingJournal();
     const stream = () => buildStream({ generator: 'stagger', concepts: 'a,c', every: 3000, seed: 6 });
     prequential(new Bagging(stream().schema, { members: 4 }, 2, journal.sink), stream(), 6000);
     const records = journal.records;
-    expect(records.slice(0, 4).map((r) => [r.seat, r.from, r.to, r.reason])).toEqual([
-      [0, null, 'warming', 'ensemble created'],
-      [1, null, 'warming', 'ensemble created'],
-      [2, null, 'warming', 'ensemble created'],
-      [3, null, 'warming', 'ensemble created'],
+    expect(records.slice(0, 4).map((r) => [r.seat, r.from, r.to, r.cause, r.reason])).toEqual([
+      [0, null, 'warming', 'created', 'ensemble created'],
+      [1, null, 'warming', 'created', 'ensemble created'],
+      [2, null, 'warming', 'created', 'ensemble created'],
+      [3, null, 'warming', 'created', 'ensemble created'],
     ]);
     const retired = records.filter((r) => r.to === 'retired');
     expect(retired.length).toBeGreaterThan(0);
     for (const r of retired) {
       expect(r.detector).toBe('adwin');
       expect(r.estimate).toBeGreaterThan(0);
+      expect(r.cause).toBe('drift');
       // The retirement is followed at once by the seat's new member.
-      const next = records[records.indexOf(r) + 1] as LifecycleRecord;
+      const next = records[records.indexOf(r) + 1] as LifecycleChange;
       expect(next.seat).toBe(r.seat);
       expect(next.from).toBeNull();
       expect(next.member).not.toBe(r.member);
       expect(['understudy promoted', 'fresh member']).toContain(next.reason);
+      expect(next.cause).toBe(next.reason === 'fresh member' ? 'fresh' : 'promoted');
     }
     // Member ids are never reused.
     const born = records.filter((r) => r.from === null).map((r) => r.member);
@@ -84,7 +87,7 @@ describe('member lifecycle', () => {
       journal.sink,
     );
     prequential(bag, stream(), 6000);
-    const rows = journal.records.filter((r) => r.to === 'retired').map((r) => r.row);
+    const rows = journal.records.filter((r) => r.to === 'retired').map((r) => r.trained);
     for (const row of rows)
       expect(rows.filter((x) => x > row - 500 && x <= row).length).toBeLessThanOrEqual(2);
     expect(journal.records.some((r) => r.reason.startsWith('drift; replacement deferred'))).toBe(true);

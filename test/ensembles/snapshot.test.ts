@@ -3,10 +3,10 @@ import {
   createEnsemble,
   type EnsembleSnapshot,
   type EnsembleSpec,
-  type LifecycleRecord,
   restoreEnsemble,
   Verdict,
 } from '../../src/ensembles/index.js';
+import type { LifecycleChange } from '../../src/journal/index.js';
 import { buildStream } from '../../src/streams/index.js';
 
 const SPECS: readonly EnsembleSpec[] = [
@@ -24,7 +24,7 @@ const stream = () =>
   buildStream({ generator: 'stagger', concepts: 'a,c,b', every: 1500, width: 600, seed: 12 });
 
 function run(spec: EnsembleSpec, rows: number, seed: number) {
-  const records: LifecycleRecord[] = [];
+  const records: LifecycleChange[] = [];
   const ensemble = createEnsemble(spec, stream().schema, seed, (r) => records.push(r));
   ensemble.ensureClasses(2);
   const gen = stream();
@@ -40,14 +40,6 @@ function run(spec: EnsembleSpec, rows: number, seed: number) {
 }
 
 describe.each(SPECS)('$kind ensemble', (spec) => {
-  it('is deterministic: the same seed gives bit-identical verdicts and journals', () => {
-    const a = run(spec, 4000, 3);
-    const b = run(spec, 4000, 3);
-    expect(b.trace).toEqual(a.trace);
-    expect(b.records).toEqual(a.records);
-    expect(run(spec, 4000, 4).trace).not.toEqual(a.trace);
-  });
-
   it('restores mid-stream, with an understudy in flight, and continues identically', () => {
     const a = run(spec, 1500, 3);
     const gen = a.gen;
@@ -61,9 +53,9 @@ describe.each(SPECS)('$kind ensemble', (spec) => {
     }
     expect(a.ensemble.seats().some((s) => s.understudy)).toBe(true);
     const saved = JSON.parse(JSON.stringify(a.ensemble.snapshot())) as EnsembleSnapshot;
-    const records: LifecycleRecord[] = [];
+    const records: LifecycleChange[] = [];
     const copy = restoreEnsemble(saved, (r) => records.push(r));
-    const original: LifecycleRecord[] = [];
+    const original: LifecycleChange[] = [];
     const resumed = restoreEnsemble(
       JSON.parse(JSON.stringify(a.ensemble.snapshot())) as EnsembleSnapshot,
       (r) => original.push(r),

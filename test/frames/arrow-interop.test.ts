@@ -1,13 +1,8 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
+import { readArrow } from '../../src/files/index.js';
 import { DirectStream } from '../../src/frames/arrow-direct.js';
-import {
-  arrowBufferFrames,
-  decodeArrowMessage,
-  describeRow,
-  FrameDecoder,
-  readArrow,
-} from '../../src/frames/index.js';
+import { arrowBufferFrames, decodeArrowMessage, describeRow, FrameDecoder } from '../../src/frames/index.js';
 import { collect, concat, expectShoalError, fixture, sameDoubles } from './support.js';
 
 /**

@@ -3,12 +3,12 @@ import { join } from 'node:path';
 import { tableFromArrays, tableToIPC } from 'apache-arrow';
 import { afterAll, describe, expect, it } from 'vitest';
 import { ConfigError } from '../../src/core/index.js';
+import { readFrames } from '../../src/files/index.js';
 import {
   decodeArrowMessage,
   decodeJsonRecord,
   FrameDecoder,
   type FrameOptions,
-  readFrames,
 } from '../../src/frames/index.js';
 import { collect, expectShoalError, fixture, scratchDir } from './support.js';
 

@@ -13,13 +13,13 @@ import {
   vectorFromArray,
 } from 'apache-arrow';
 import { afterAll, describe, expect, it } from 'vitest';
+import { readFrames } from '../../src/files/index.js';
 import {
   cloneFrame,
   decodeArrowMessage,
   decodeJsonRecord,
   FrameDecoder,
   type FrameDecoderState,
-  readFrames,
 } from '../../src/frames/index.js';
 import { collect, expectShoalError, scratchDir } from './support.js';
 

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { FrameDecoder, readFrames } from '../../src/frames/index.js';
+import { readFrames } from '../../src/files/index.js';
+import { FrameDecoder } from '../../src/frames/index.js';
 import { collect, concat, fixture, sameDoubles } from './support.js';
 
 /**

@@ -1,13 +1,8 @@
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { FeatureSchema } from '../../src/core/index.js';
-import {
-  createWriter,
-  type FeatureSpec,
-  FrameDecoder,
-  type FrameFormat,
-  readFrames,
-} from '../../src/frames/index.js';
+import { createWriter, readFrames } from '../../src/files/index.js';
+import { type FeatureSpec, FrameDecoder, type FrameFormat } from '../../src/frames/index.js';
 import { type StreamGenerator, sea, stagger, take } from '../../src/streams/index.js';
 import { collect, concat, expectShoalError, sameDoubles, scratchDir } from './support.js';
 

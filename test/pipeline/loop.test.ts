@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { type JournalRecord, LearningLoop, resolveConfig } from '../../src/pipeline/index.js';
+import type { JournalRecord } from '../../src/journal/index.js';
+import { LearningLoop, resolveConfig } from '../../src/pipeline/index.js';
 import { buildStream, rbf, type StreamGenerator, take } from '../../src/streams/index.js';
 
 /** Feed `rows` rows of a generator to a loop in batches of 500, labels optionally hidden. */
@@ -43,7 +44,7 @@ describe('the learning loop', () => {
     );
     expect(records[0]).toMatchObject({ type: 'run', source: 'test stream', shoal: '0.0.0-test', seed: '1' });
     const windows = records.filter((r) => r.type === 'window');
-    expect(windows.map((w) => w.row)).toEqual([1000, 2000, 3000, 4000, 5000, 6000]);
+    expect(windows.map((w) => w.trained)).toEqual([1000, 2000, 3000, 4000, 5000, 6000]);
     const lifecycle = records.filter((r) => r.type === 'lifecycle');
     expect(summary.replacements).toBe(lifecycle.filter((r) => r.to === 'retired').length);
     expect(summary.warnings).toBe(lifecycle.filter((r) => r.to === 'watched').length);

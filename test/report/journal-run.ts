@@ -1,8 +1,16 @@
 import { readFileSync } from 'node:fs';
 import { performance } from 'node:perf_hooks';
-import { Bagging, type LifecycleRecord, Verdict } from '../../src/ensembles/index.js';
+import { Bagging, Verdict } from '../../src/ensembles/index.js';
 import { ClassificationEvaluator, type ClassificationFigures } from '../../src/evaluation/index.js';
-import type { JournalRecord, ViewFigures } from '../../src/pipeline/journal.js';
+import {
+  isDriftSignal,
+  JOURNAL_VERSION,
+  type JournalRecord,
+  type LabelCounts,
+  type LifecycleChange,
+  type LifecycleRecord,
+  type ViewFigures,
+} from '../../src/journal/index.js';
 import { buildStream, type StreamRequest } from '../../src/streams/index.js';
 
 export interface JournalRunOptions {
@@ -47,7 +55,9 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
   const stream = buildStream(request);
   const records: JournalRecord[] = [];
   const lifecycle: LifecycleRecord[] = [];
-  const sink = (r: LifecycleRecord): void => {
+  let scored = 0;
+  const sink = (change: LifecycleChange): void => {
+    const r: LifecycleRecord = { ...change, scored };
     lifecycle.push(r);
     records.push(r);
   };
@@ -58,7 +68,7 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
   ).version;
   records.unshift({
     type: 'run',
-    version: 1,
+    version: JOURNAL_VERSION,
     shoal: version,
     startedAt: started.toISOString(),
     source: `${request.generator} ${String(request.concepts ?? '')} every ${request.every ?? '-'}`,
@@ -80,6 +90,7 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
   const clock = performance.now();
   for (let i = 1; i <= rows; i++) {
     const label = stream.next(row, 0);
+    scored = i;
     ensemble.scoreTrain(row, 0, label, verdict);
     evaluation.record(verdict.predicted, label, verdict.probabilities[label]!);
     counted[label]![verdict.predicted]!++;
@@ -87,10 +98,12 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
       const s = evaluation.summary();
       records.push({
         type: 'window',
-        row: i,
+        scored: i,
+        trained: i,
         window: view(s.windowed),
         cumulative: view(s.cumulative),
         seats: ensemble.seats().map((seat) => seat.recentAccuracy),
+        labels: inline(i),
       });
     }
   }
@@ -98,6 +111,8 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
   const total = evaluation.summary().cumulative;
   records.push({
     type: 'summary',
+    scored: rows,
+    trained: rows,
     rows,
     accuracy: total.accuracy,
     kappa: total.kappa,
@@ -107,10 +122,11 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
     macroF1: total.macroF1,
     classes: stream.classes,
     confusion: total.confusion,
-    driftSignals: lifecycle.filter((r) => r.reason.startsWith('drift')).length,
+    driftSignals: lifecycle.filter((r) => isDriftSignal(r.cause)).length,
     warnings: lifecycle.filter((r) => r.to === 'watched').length,
     replacements: lifecycle.filter((r) => r.to === 'retired').length,
     inputDrifts: 0,
+    labels: inline(rows),
     seconds,
     rowsPerSecond: rows / seconds,
   });
@@ -133,13 +149,14 @@ export function tiled(run: JournalRun, times: number): JournalRecord[] {
     for (const r of records) {
       if (r.type === 'lifecycle') {
         // Only the first copy creates the ensemble; later copies carry on with the members they have.
-        if (k > 0 && r.reason === 'ensemble created') continue;
-        out.push({ ...r, row: r.row + k * span, member: r.member + k * members });
-      } else if (r.type === 'window' || r.type === 'input-drift') out.push({ ...r, row: r.row + k * span });
+        if (k > 0 && r.cause === 'created') continue;
+        out.push({ ...r, ...shifted(r, k * span), member: r.member + k * members });
+      } else if (r.type === 'window' || r.type === 'input-drift') out.push({ ...r, ...shifted(r, k * span) });
     }
   }
   out.push({
     ...summary,
+    ...shifted(summary, span * (times - 1)),
     rows: span * times,
     confusion: summary.confusion.map((row) => row.map((c) => c * times)),
     driftSignals: summary.driftSignals * times,
@@ -147,4 +164,24 @@ export function tiled(run: JournalRun, times: number): JournalRecord[] {
     replacements: summary.replacements * times,
   });
   return out;
+}
+
+/** The label counts of a run whose `rows` labels all came with their rows. */
+function inline(rows: number): LabelCounts {
+  return {
+    inline: rows,
+    joined: 0,
+    duplicate: 0,
+    late: 0,
+    evicted: 0,
+    unknown: 0,
+    trainedUnmatched: 0,
+    expiredPredictions: 0,
+    evictedPredictions: 0,
+    pending: 0,
+  };
+}
+
+function shifted(r: { readonly scored: number; readonly trained: number }, by: number) {
+  return { scored: r.scored + by, trained: r.trained + by };
 }

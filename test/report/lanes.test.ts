@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import type { LifecycleRecord } from '../../src/ensembles/index.js';
+import type { LifecycleRecord } from '../../src/journal/index.js';
 import { LANE_UNIT, laneBlocks } from '../../src/report/seat-lanes.js';
 import { timeFrame } from '../../src/report/time-axis.js';
 import { type LaneSegment, timeline } from '../../src/report/timeline.js';
@@ -17,11 +17,13 @@ describe('seat lanes', () => {
     const at = (row: number, member: number, from: LifecycleRecord['from'], to: LifecycleRecord['to']) =>
       ({
         type: 'lifecycle',
-        row,
+        scored: row,
+        trained: row,
         seat: 0,
         member,
         from,
         to,
+        cause: 'created',
         detector: 'adwin',
         estimate: 0.1,
         reason: to,
@@ -32,7 +34,7 @@ describe('seat lanes', () => {
       at(400, 0, 'active', 'watched'),
       at(700, 0, 'watched', 'retired'),
       at(700, 1, null, 'active'),
-      { type: 'input-drift', row: 1000, feature: 'f', kind: 'numeric' },
+      { type: 'input-drift', scored: 1000, trained: 1000, feature: 'f', kind: 'numeric' },
     ]);
     expect(t.rows).toBe(1000);
     expect(t.lanes[0]!.map((s) => [s.start, s.end, s.state, s.member])).toEqual([

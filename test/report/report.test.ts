@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import type { JournalRecord, SummaryRecord } from '../../src/pipeline/journal.js';
+import { isDriftSignal, type JournalRecord, type SummaryRecord } from '../../src/journal/index.js';
 import { CAUTION, classScores, escapeHtml, MOST_POINTS, renderReport } from '../../src/report/index.js';
 import { note } from '../support/note.js';
 import { attribute, openTags, pathPoints, section } from './html.js';
@@ -67,7 +67,7 @@ describe('renderReport on a real journal (bagging over STAGGER a → c → b)', 
       expect(points).toHaveLength(drawn.length);
       // Rows map onto x and figures onto y by one affine map each (y grows downwards).
       expectAffine(
-        drawn.map((w) => w.row),
+        drawn.map((w) => w.trained),
         points.map((p) => p.x),
       );
       expectAffine(
@@ -80,15 +80,15 @@ describe('renderReport on a real journal (bagging over STAGGER a → c → b)', 
   it('marks every replacement at its row, under the chart and in its seat’s lane', () => {
     const retired = run.lifecycle.filter((r) => r.to === 'retired');
     expect(retired.length).toBeGreaterThan(0);
-    expect(markedRows(html, 'g', 'replacement')).toEqual(retired.map((r) => r.row).sort((a, b) => a - b));
-    const signals = run.lifecycle.filter((r) => r.reason.startsWith('drift')).map((r) => r.row);
+    expect(markedRows(html, 'g', 'replacement')).toEqual(retired.map((r) => r.trained).sort((a, b) => a - b));
+    const signals = run.lifecycle.filter((r) => isDriftSignal(r.cause)).map((r) => r.trained);
     expect(markedRows(html, 'g', 'drift')).toEqual(signals.sort((a, b) => a - b));
     const lanes = html.split('<g class="lane" ').slice(1);
     lanes.forEach((lane, seat) => {
-      const own = retired.filter((r) => r.seat === seat).map((r) => r.row);
+      const own = retired.filter((r) => r.seat === seat).map((r) => r.trained);
       expect(markedRows(lane, 'g', 'lane-mark')).toEqual(own);
     });
-    note(`replacements at rows ${retired.map((r) => `${r.row} (seat ${r.seat})`).join(', ')}`);
+    note(`replacements at rows ${retired.map((r) => `${r.trained} (seat ${r.seat})`).join(', ')}`);
   });
 
   it('draws one lane per seat, for 1, 10 and 30 seats, with every member id on hover', () => {
@@ -195,7 +195,9 @@ describe('renderReport against hostile journals', () => {
     },
     {
       type: 'lifecycle',
-      row: 0,
+      scored: 0,
+      trained: 0,
+      cause: 'created',
       seat: 0,
       member: 0,
       from: null,
@@ -206,7 +208,9 @@ describe('renderReport against hostile journals', () => {
     },
     {
       type: 'lifecycle',
-      row: 10,
+      scored: 10,
+      trained: 10,
+      cause: 'drift',
       seat: 0,
       member: 0,
       from: 'warming',
@@ -217,7 +221,9 @@ describe('renderReport against hostile journals', () => {
     },
     {
       type: 'lifecycle',
-      row: 10,
+      scored: 10,
+      trained: 10,
+      cause: 'fresh',
       seat: 0,
       member: 1,
       from: null,
@@ -226,7 +232,7 @@ describe('renderReport against hostile journals', () => {
       estimate: 0,
       reason: quote,
     },
-    { type: 'input-drift', row: 20, feature: evil, kind: 'numeric' },
+    { type: 'input-drift', scored: 20, trained: 20, feature: evil, kind: 'numeric' },
     { ...summary, classes: [evil, quote] },
   ];
   const doc = renderReport(hostile, { title: evil });

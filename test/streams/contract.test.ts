@@ -3,7 +3,7 @@ import { ShoalError } from '../../src/core/index.js';
 import {
   agrawal,
   buildStream,
-  type GeneratorState,
+  type GeneratorSnapshot,
   hyperplane,
   led,
   rbf,
@@ -90,7 +90,7 @@ describe.each(CASES)('%s keeps the generator contract', (_name, make) => {
   it('resumes bit-identically from a JSON round trip of its state, in place and in a new instance', () => {
     const gen = make(5);
     take(gen, 1234);
-    const saved = JSON.parse(JSON.stringify(gen.state())) as GeneratorState;
+    const saved = JSON.parse(JSON.stringify(gen.snapshot())) as GeneratorSnapshot;
     const ahead = take(gen, 2000);
     gen.restore(saved);
     expect(same(take(gen, 2000), ahead)).toBe(true);
@@ -101,13 +101,23 @@ describe.each(CASES)('%s keeps the generator contract', (_name, make) => {
 
   it('refuses a corrupt state with invalid-snapshot', () => {
     const gen = make(6);
-    const good = gen.state();
-    const bad: GeneratorState[] = [{ ...good, rng: { ...good.rng, s0: Number.NaN } }];
-    if (good.extra !== undefined) bad.push({ ...good, extra: 'nonsense' }, { ...good, extra: {} });
-    for (const state of bad) {
+    const good = gen.snapshot();
+    const state = good.state;
+    const bad: GeneratorSnapshot[] = [
+      { ...good, state: { ...state, rng: { ...state.rng, s0: Number.NaN } } },
+      { ...good, kind: 'another' },
+      { ...good, version: 99 },
+    ];
+    if (state.extra !== undefined) {
+      bad.push(
+        { ...good, state: { ...state, extra: 'nonsense' } },
+        { ...good, state: { ...state, extra: {} } },
+      );
+    }
+    for (const snapshot of bad) {
       let thrown: unknown;
       try {
-        gen.restore(state);
+        gen.restore(snapshot);
       } catch (e) {
         thrown = e;
       }

@@ -4,34 +4,34 @@ import { hyperplane, rbf, sine, take } from '../../src/streams/index.js';
 import { note } from '../support/note.js';
 import { expectShare } from './sampling.js';
 
-function extra(state: { extra?: unknown }): Record<string, unknown> {
-  return state.extra as Record<string, unknown>;
+function extra(snapshot: { state: { extra?: unknown } }): Record<string, unknown> {
+  return snapshot.state.extra as Record<string, unknown>;
 }
 
 describe('rotating hyperplane drift', () => {
   // Hulten, Spencer & Domingos, KDD 2001 (PUBLISHED.md, from memory): drifting weights move by dᵢ·t.
   it('moves each drifting weight by magnitude × moves when directions never reverse, and no other weight', () => {
     const gen = hyperplane({ features: 6, drifting: 3, magnitude: 0.002, reversal: 0, period: 4 }, 91);
-    const start = decodeF64(extra(gen.state()).weights as string);
-    const directions = decodeF64(extra(gen.state()).directions as string);
+    const start = decodeF64(extra(gen.snapshot()).weights as string);
+    const directions = decodeF64(extra(gen.snapshot()).directions as string);
     take(gen, 4003); // 1000 moves: after rows 4, 8, …, 4000
-    const end = decodeF64(extra(gen.state()).weights as string);
+    const end = decodeF64(extra(gen.snapshot()).weights as string);
     for (let i = 0; i < 6; i++) {
       const expected = i < 3 ? start[i]! + directions[i]! * 0.002 * 1000 : start[i]!;
       expect(end[i]).toBeCloseTo(expected, 10);
     }
-    expect(extra(gen.state()).clock).toBe(3);
+    expect(extra(gen.snapshot()).clock).toBe(3);
   });
 
   it('reverses a direction with the stated probability per move (within 5 SE)', () => {
     const moves = 100_000;
     const gen = hyperplane({ features: 2, drifting: 1, magnitude: 0.001, reversal: 0.1 }, 92);
     const row = new Float64Array(2);
-    let previous = decodeF64(extra(gen.state()).directions as string)[0]!;
+    let previous = decodeF64(extra(gen.snapshot()).directions as string)[0]!;
     let reversals = 0;
     for (let i = 0; i < moves; i++) {
       gen.next(row, 0);
-      const now = decodeF64(extra(gen.state()).directions as string)[0]!;
+      const now = decodeF64(extra(gen.snapshot()).directions as string)[0]!;
       if (now !== previous) reversals++;
       previous = now;
     }
@@ -65,7 +65,7 @@ describe('random RBF', () => {
     // probability proportional to its weight and lends the row its class.
     const n = 200_000;
     const gen = rbf({ classes: 3, centroids: 50 }, 93);
-    const state = extra(gen.state());
+    const state = extra(gen.snapshot());
     const weights = decodeF64(state.weights as string);
     const labels = decodeF64(state.labels as string);
     const total = weights.reduce((a, b) => a + b, 0);
@@ -83,7 +83,7 @@ describe('random RBF', () => {
     // moving `speed` per row and bouncing off 0 and 1 (stepped independently in `bounce`).
     const speed = 0.0005;
     const gen = rbf({ features: 2, centroids: 1, speed }, 94);
-    const state = extra(gen.state());
+    const state = extra(gen.snapshot());
     const origin = decodeF64(state.origins as string);
     const velocity = decodeF64(state.velocities as string);
     const spread = decodeF64(state.spreads as string)[0]!;
@@ -119,7 +119,7 @@ describe('random RBF', () => {
 
   it('keeps centroids still at speed 0', () => {
     const gen = rbf({ speed: 0 }, 95);
-    expect(decodeF64(extra(gen.state()).velocities as string).every((v) => v === 0)).toBe(true);
+    expect(decodeF64(extra(gen.snapshot()).velocities as string).every((v) => v === 0)).toBe(true);
   });
 });
 

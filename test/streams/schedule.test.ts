@@ -106,8 +106,8 @@ describe('concept schedule', () => {
       buildStream({ generator: 'sea', concepts: '8,9,8', every: 1000, width: 400, seed: 84 });
     const s = make();
     take(s, 1100);
-    const saved = JSON.parse(JSON.stringify(s.state()));
-    const extra = saved.extra as { row: number; concepts: unknown[] };
+    const saved = JSON.parse(JSON.stringify(s.snapshot()));
+    const extra = saved.state.extra as { row: number; concepts: unknown[] };
     expect(extra.row).toBe(1100);
     expect(extra.concepts).toHaveLength(2);
     const ahead = take(s, 1500);
@@ -125,17 +125,15 @@ describe('concept schedule', () => {
     const s = make();
     const twin = make();
     take(s, 300);
-    const good = s.state(); // an earlier state: restoring any part of it would rewind that concept
+    const good = s.snapshot(); // an earlier state: restoring any part of it would rewind that concept
     take(s, 400);
     take(twin, 700);
-    const concepts = (good.extra as { concepts: { rng: unknown; extra: Record<string, unknown> }[] })
-      .concepts;
+    type Part = { state: { rng: unknown; extra: Record<string, unknown> } };
+    const concepts = (good.state.extra as { concepts: Part[] }).concepts;
+    const broken = { ...concepts[1]!, state: { ...concepts[1]!.state, extra: { weights: 'AAAA' } } };
     const corrupt = {
       ...good,
-      extra: {
-        ...(good.extra as object),
-        concepts: [concepts[0], { ...concepts[1], extra: { weights: 'AAAA' } }],
-      },
+      state: { ...good.state, extra: { ...(good.state.extra as object), concepts: [concepts[0], broken] } },
     };
     expect(() => s.restore(corrupt as typeof good)).toThrow(ShoalError);
     const a = take(s, 1000);

@@ -45,7 +45,7 @@ export function describeLearnerContract(c: LearnerCase): void {
         run(learner, gen, 2000);
         const copy = c.restore(JSON.parse(JSON.stringify(learner.snapshot())) as LearnerSnapshot);
         expect(copy.classes).toBe(learner.classes);
-        const state = gen.state();
+        const state = gen.snapshot();
         const a = run(learner, gen, 1000);
         gen.restore(state);
         const b = run(copy, gen, 1000);

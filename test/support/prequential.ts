@@ -1,5 +1,6 @@
-import type { Ensemble, LifecycleRecord } from '../../src/ensembles/index.js';
+import type { Ensemble } from '../../src/ensembles/index.js';
 import { Verdict } from '../../src/ensembles/index.js';
+import type { LifecycleChange } from '../../src/journal/index.js';
 import type { StreamGenerator } from '../../src/streams/index.js';
 
 /** What a prequential (test-then-train) run over a generator measured. */
@@ -41,7 +42,7 @@ export function windowed(hits: Uint8Array, window: number): Float64Array {
 }
 
 /** A journal that keeps every record. */
-export function recordingJournal(): { records: LifecycleRecord[]; sink: (r: LifecycleRecord) => void } {
-  const records: LifecycleRecord[] = [];
+export function recordingJournal(): { records: LifecycleChange[]; sink: (r: LifecycleChange) => void } {
+  const records: LifecycleChange[] = [];
   return { records, sink: (r) => records.push(r) };
 }

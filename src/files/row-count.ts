@@ -2,8 +2,8 @@ import { open } from 'node:fs/promises';
 import { MessageHeader } from 'apache-arrow';
 import { Footer } from 'apache-arrow/ipc/metadata/file';
 import { Message, type RecordBatch } from 'apache-arrow/ipc/metadata/message';
+import type { FrameFormat } from '../frames/index.js';
 import { formatOf } from './formats.js';
-import type { FrameFormat } from './writer.js';
 
 /** The Arrow IPC file format ends with the footer's length (int32) and the magic `ARROW1`. */
 const MAGIC = 'ARROW1';

@@ -17,9 +17,15 @@ import {
   vectorFromArray,
 } from 'apache-arrow';
 import { ShoalError } from '../core/index.js';
-import { CLASSES_KEY, FEATURES_KEY } from './arrow-batch.js';
+import {
+  CLASSES_KEY,
+  FEATURES_KEY,
+  type FrameWriter,
+  type RowBlock,
+  type WriterOptions,
+  WriterPlan,
+} from '../frames/index.js';
 import { createFile } from './output-file.js';
-import { type FrameWriter, type RowBlock, type WriterOptions, WriterPlan } from './writer.js';
 
 /**
  * The bytes Arrow's writer produces, collected in order instead of queued for a reader, so that each

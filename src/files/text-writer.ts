@@ -1,14 +1,6 @@
 import { ShoalError } from '../core/index.js';
+import { type FrameWriter, type TextLayout, type WriterOptions, WriterPlan } from '../frames/index.js';
 import { createFile } from './output-file.js';
-import { type FrameWriter, type RowBlock, type WriterOptions, WriterPlan } from './writer.js';
-
-/** How a text format writes its header and its rows. */
-export interface TextLayout {
-  /** The first line (without its line break), or null for none. */
-  header(plan: WriterPlan): string | null;
-  /** Row r of a checked block as one line (without its line break). */
-  row(plan: WriterPlan, block: RowBlock, r: number): string;
-}
 
 /** A line-per-row writer (CSV, NDJSON): each block becomes one write of its lines. */
 export async function createTextWriter(

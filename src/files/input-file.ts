@@ -1,5 +1,6 @@
 import { type FileHandle, open } from 'node:fs/promises';
 import { ShoalError } from '../core/index.js';
+import type { LineChunk } from '../frames/index.js';
 
 /** Open a file for reading; a missing or unreadable file is a `ShoalError` naming the path. */
 export async function openInput(path: string): Promise<FileHandle> {
@@ -12,12 +13,6 @@ export async function openInput(path: string): Promise<FileHandle> {
       throw new ShoalError('invalid-input', `${path}: is a directory, not a file`, { cause: e });
     throw new ShoalError('io-failure', `${path}: cannot open (${code ?? String(e)})`, { cause: e });
   }
-}
-
-/** Consecutive lines of a text file: `lines[k]` is line `first + k` (1-based). */
-export interface LineChunk {
-  readonly lines: readonly string[];
-  readonly first: number;
 }
 
 const CHUNK_BYTES = 1 << 16;

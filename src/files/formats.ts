@@ -1,15 +1,21 @@
 import { extname } from 'node:path';
 import { oneOf, ShoalError } from '../core/index.js';
-import { readArrow } from './arrow-read.js';
+import {
+  arrowFrames,
+  csvFrames,
+  csvLayout,
+  type Decoded,
+  type FrameDecoder,
+  type FrameFormat,
+  type FrameWriter,
+  ndjsonFrames,
+  ndjsonLayout,
+  type ReadOptions,
+  type WriterOptions,
+} from '../frames/index.js';
 import { createArrowWriter } from './arrow-write.js';
-import { readCsv } from './csv-read.js';
-import { createCsvWriter } from './csv-write.js';
-import type { FrameDecoder } from './decoder.js';
-import type { Decoded } from './frame.js';
-import { readNdjson } from './ndjson-read.js';
-import { createNdjsonWriter } from './ndjson-write.js';
-import type { ReadOptions } from './read-options.js';
-import type { FrameFormat, FrameWriter, WriterOptions } from './writer.js';
+import { fileLines, openInput } from './input-file.js';
+import { createTextWriter } from './text-writer.js';
 
 const FORMATS = ['arrow', 'csv', 'ndjson'] as const;
 
@@ -50,8 +56,27 @@ export function readFrames(
 ): AsyncGenerator<Decoded> {
   const format = formatOf(path, options.format);
   if (format === 'arrow') return readArrow(path, decoder, options);
-  if (format === 'csv') return readCsv(path, decoder, options);
-  return readNdjson(path, decoder, options);
+  if (format === 'csv') return csvFrames(fileLines(path), path, decoder, options);
+  return ndjsonFrames(fileLines(path), path, decoder, options);
+}
+
+/**
+ * Frames from an Arrow IPC file or stream on disk, one per record batch.
+ *
+ * @example
+ * for await (const { frame } of readArrow('legs.arrow', new FrameDecoder({ id: 'leg_id' }))) total += frame.rows;
+ */
+export async function* readArrow(
+  path: string,
+  decoder: FrameDecoder,
+  options: ReadOptions = {},
+): AsyncGenerator<Decoded> {
+  const handle = await openInput(path);
+  try {
+    yield* arrowFrames(handle, path, decoder, options);
+  } finally {
+    await handle.close();
+  }
 }
 
 /** A writer for a file of the given format (by default the one its extension names). */
@@ -62,6 +87,6 @@ export function createWriter(
 ): Promise<FrameWriter> {
   const chosen = formatOf(path, format);
   if (chosen === 'arrow') return createArrowWriter(path, options);
-  if (chosen === 'csv') return createCsvWriter(path, options);
-  return createNdjsonWriter(path, options);
+  if (chosen === 'csv') return createTextWriter(path, options, csvLayout());
+  return createTextWriter(path, options, ndjsonLayout());
 }

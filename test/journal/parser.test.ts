@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { ShoalError } from '../../src/core/index.js';
-import { parseJournal } from '../../src/report/index.js';
-import { journalRun } from './journal-run.js';
+import { parseJournal } from '../../src/journal/index.js';
+import { journalRun } from '../report/journal-run.js';
 
 const run = journalRun({ members: 3, rows: 3000 });
 const text = `${run.records.map((r) => JSON.stringify(r)).join('\n')}\n`;
@@ -47,8 +47,11 @@ describe('parseJournal', () => {
     const window = run.records.findIndex((r) => r.type === 'window') + 1;
     const w = JSON.parse(lines[window - 1]!) as Record<string, unknown>;
     const bad = (patch: object): string => withLine(window, JSON.stringify({ ...w, ...patch }));
-    expect(failure('run.ndjson', bad({ row: -3 })).message).toBe(
-      `run.ndjson:${window}: window record: row must be an integer ≥ 0, got -3`,
+    expect(failure('run.ndjson', bad({ scored: -3 })).message).toBe(
+      `run.ndjson:${window}: window record: scored must be an integer ≥ 0, got -3`,
+    );
+    expect(failure('run.ndjson', bad({ labels: { ...(w.labels as object), joined: 0.5 } })).message).toBe(
+      `run.ndjson:${window}: window record: labels.joined must be an integer ≥ 0, got 0.5`,
     );
     expect(failure('run.ndjson', bad({ window: { ...(w.window as object), kappa: 'high' } })).message).toBe(
       `run.ndjson:${window}: window record: window.kappa must be a number or null, got "high"`,
@@ -60,6 +63,9 @@ describe('parseJournal', () => {
     const l = JSON.parse(lines[life - 1]!) as Record<string, unknown>;
     expect(failure('x', withLine(life, JSON.stringify({ ...l, to: 'asleep' }))).message).toBe(
       `x:${life}: lifecycle record: to must be one of warming, active, watched, retired, got "asleep"`,
+    );
+    expect(failure('x', withLine(life, JSON.stringify({ ...l, cause: 'bored' }))).message).toBe(
+      `x:${life}: lifecycle record: cause must be one of created, warmed, watched, watch-cleared, drift, drift-deferred, drift-ignored-improving, promoted, fresh, got "bored"`,
     );
     expect(failure('x', withLine(life, JSON.stringify({ ...l, seat: 1e9 }))).message).toBe(
       `x:${life}: lifecycle record: seat must be an integer in [0, 65535], got 1000000000`,
@@ -77,13 +83,13 @@ describe('parseJournal', () => {
 
   it('refuses another journal version, skips record types it does not know, reads null estimates as NaN', () => {
     const r = JSON.parse(lines[0]!) as object;
-    expect(failure('x', withLine(1, JSON.stringify({ ...r, version: 2 }))).message).toBe(
-      'x:1: run record: version must be 1 (the journal format this Shoal reads), got 2',
+    expect(failure('x', withLine(1, JSON.stringify({ ...r, version: 1 }))).message).toBe(
+      'x:1: run record: version must be 2 (the journal format this Shoal reads), got 1',
     );
-    const extra = `${lines[0]}\n{"type":"checkpoint","row":100,"bytes":5120}\n${lines.slice(1).join('\n')}`;
+    const extra = `${lines[0]}\n{"type":"checkpoint","scored":100,"bytes":5120}\n${lines.slice(1).join('\n')}`;
     expect(parseJournal(extra, 'x')).toEqual(run.records);
     const record = parseJournal(
-      '{"type":"lifecycle","row":0,"seat":0,"member":0,"from":null,"to":"warming","detector":"adwin","estimate":null,"reason":"ensemble created"}',
+      '{"type":"lifecycle","scored":0,"trained":0,"seat":0,"member":0,"from":null,"to":"warming","cause":"created","detector":"adwin","estimate":null,"reason":"ensemble created"}',
       'x',
     )[0]!;
     expect(record.type === 'lifecycle' && Number.isNaN(record.estimate)).toBe(true);
