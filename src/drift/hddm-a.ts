@@ -24,35 +24,36 @@ import {
  * so with ε_α = √((n − n_cut)/(2·n·n_cut) · ln(1/α)) the detector answers `drift` when
  * Z̄ − X̄_cut ≥ ε_{α_D} and `warning` when Z̄ − X̄_cut ≥ ε_{α_W}. After `drift` it restarts from nothing.
  *
- * Defaults (the paper, from memory): drift confidence α_D = 0.001, warning confidence α_W = 0.005.
+ * Defaults (the paper, from memory): drift significance α_D = 0.001, warning significance α_W = 0.005;
+ * the options are named after these symbols (`alphaD`, `alphaW`).
  *
  * @example
  * const hddm = new HddmA();
  * const level = hddm.update(error);
  */
 export type HddmAOptions = {
-  /** α_D, the drift confidence, in (0, 1). */
-  readonly driftConfidence: number;
-  /** α_W, the warning confidence, in (driftConfidence, 1). */
-  readonly warningConfidence: number;
+  /** α_D, the significance level of the drift test, in (0, 1). */
+  readonly alphaD: number;
+  /** α_W, the significance level of the warning test, in (alphaD, 1). */
+  readonly alphaW: number;
 };
 
-export const HDDM_A_DEFAULTS: HddmAOptions = { driftConfidence: 0.001, warningConfidence: 0.005 };
+export const HDDM_A_DEFAULTS: HddmAOptions = { alphaD: 0.001, alphaW: 0.005 };
 
 const KIND = 'hddm-a';
 const VERSION = 1;
 
 function resolve(options: Partial<HddmAOptions>): HddmAOptions {
   const o = { ...HDDM_A_DEFAULTS, ...options };
-  openUnit(KIND, 'driftConfidence', o.driftConfidence);
-  openUnit(KIND, 'warningConfidence', o.warningConfidence);
-  if (!(o.warningConfidence > o.driftConfidence)) {
+  openUnit(KIND, 'alphaD', o.alphaD);
+  openUnit(KIND, 'alphaW', o.alphaW);
+  if (!(o.alphaW > o.alphaD)) {
     throw new ShoalError(
       'invalid-parameter',
-      `${KIND}: warningConfidence must be larger than driftConfidence (${o.driftConfidence}), got ${o.warningConfidence}`,
+      `${KIND}: alphaW must be larger than alphaD (${o.alphaD}), got ${o.alphaW}`,
     );
   }
-  return { driftConfidence: o.driftConfidence, warningConfidence: o.warningConfidence };
+  return { alphaD: o.alphaD, alphaW: o.alphaW };
 }
 
 export class HddmA implements DriftDetector {
@@ -68,8 +69,8 @@ export class HddmA implements DriftDetector {
 
   constructor(options: Partial<HddmAOptions> = {}) {
     this.options = resolve(options);
-    this.logDrift = Math.log(1 / this.options.driftConfidence);
-    this.logWarning = Math.log(1 / this.options.warningConfidence);
+    this.logDrift = Math.log(1 / this.options.alphaD);
+    this.logWarning = Math.log(1 / this.options.alphaW);
   }
 
   get count(): number {

@@ -29,21 +29,32 @@ const EXTENSIONS: Readonly<Record<string, FrameFormat>> = {
   '.jsonl': 'ndjson',
 };
 
-/** The format of a file: the one given, else the one its extension names. */
+/** Whether a file is gzip-compressed, by its extension (`legs.csv.gz`). */
+export function isGzip(path: string): boolean {
+  return extname(path).toLowerCase() === '.gz';
+}
+
+/**
+ * The format of a file: the one given, else the one its extension names (for `x.csv.gz`, the one
+ * before `.gz`: text formats are read through gunzip).
+ */
 export function formatOf(path: string, format?: FrameFormat): FrameFormat {
   if (format !== undefined) return oneOf('format', 'format', format, FORMATS);
-  const found = EXTENSIONS[extname(path).toLowerCase()];
+  const inner = isGzip(path) ? path.slice(0, -3) : path;
+  const found = EXTENSIONS[extname(inner).toLowerCase()];
   if (found === undefined) {
+    const ext = extname(inner);
     throw new ShoalError(
       'invalid-parameter',
-      `${path}: cannot tell the format from the extension; name it (${FORMATS.join(', ')}) or use one of ${Object.keys(EXTENSIONS).join(', ')}`,
+      `${path}: cannot tell the format from ${ext === '' ? 'a name without an extension' : `the extension ${ext}`}; give --format ${FORMATS.join('|')} (known extensions: ${Object.keys(EXTENSIONS).join(', ')}, each optionally followed by .gz)`,
     );
   }
   return found;
 }
 
 /**
- * Frames from a recorded file of any format Shoal reads (Arrow IPC file or stream, CSV, NDJSON).
+ * Frames from a recorded file of any format Shoal reads (Arrow IPC file or stream, CSV, NDJSON; CSV
+ * and NDJSON also gzip-compressed, read through gunzip as they stream).
  *
  * @example
  * const decoder = new FrameDecoder({ label: 'rejected', id: 'leg_id' });
@@ -55,9 +66,16 @@ export function readFrames(
   options: ReadOptions & { readonly format?: FrameFormat } = {},
 ): AsyncGenerator<Decoded> {
   const format = formatOf(path, options.format);
+  const gzip = isGzip(path);
+  if (format === 'arrow' && gzip) {
+    throw new ShoalError(
+      'invalid-input',
+      `${path}: a compressed Arrow IPC file cannot be read in batches; decompress it first (gunzip -k ${path})`,
+    );
+  }
   if (format === 'arrow') return readArrow(path, decoder, options);
-  if (format === 'csv') return csvFrames(fileLines(path), path, decoder, options);
-  return ndjsonFrames(fileLines(path), path, decoder, options);
+  if (format === 'csv') return csvFrames(fileLines(path, gzip), path, decoder, options);
+  return ndjsonFrames(fileLines(path, gzip), path, decoder, options);
 }
 
 /**

@@ -121,7 +121,7 @@ function readView(f: Fields): ViewFigures {
     accuracy: f.numberOrNull('accuracy'),
     kappa: f.numberOrNull('kappa'),
     kappaM: f.numberOrNull('kappaM'),
-    kappaTemporal: f.numberOrNull('kappaTemporal'),
+    kappaNoChange: f.numberOrNull('kappaNoChange'),
     logLoss: f.numberOrNull('logLoss'),
   };
 }
@@ -174,7 +174,7 @@ function readSummary(f: Fields): SummaryRecord {
     accuracy: f.numberOrNull('accuracy'),
     kappa: f.numberOrNull('kappa'),
     kappaM: f.numberOrNull('kappaM'),
-    kappaTemporal: f.numberOrNull('kappaTemporal'),
+    kappaNoChange: f.numberOrNull('kappaNoChange'),
     logLoss: f.numberOrNull('logLoss'),
     macroF1: f.numberOrNull('macroF1'),
     classes,

@@ -108,7 +108,7 @@ export interface ViewFigures {
   readonly accuracy: number | null;
   readonly kappa: number | null;
   readonly kappaM: number | null;
-  readonly kappaTemporal: number | null;
+  readonly kappaNoChange: number | null;
   readonly logLoss: number | null;
 }
 
@@ -170,7 +170,7 @@ export interface SummaryRecord {
   readonly accuracy: number | null;
   readonly kappa: number | null;
   readonly kappaM: number | null;
-  readonly kappaTemporal: number | null;
+  readonly kappaNoChange: number | null;
   readonly logLoss: number | null;
   readonly macroF1: number | null;
   /** Class names, index = class code. */

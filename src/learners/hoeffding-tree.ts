@@ -409,7 +409,7 @@ export class HoeffdingTree implements Classifier {
       if (this.nominal[f] === 0) {
         n = !Number.isNaN(x) ? first + Number(x > nodeF[4 * n + N_THRESHOLD]!) : this.heaviestChild(n);
       } else {
-        n = x >= 0 && x < nodeI[8 * n + N_COUNT]! ? first + x : this.heaviestChild(n);
+        n = x >= 0 && x < nodeI[8 * n + N_COUNT]! && (x | 0) === x ? first + x : this.heaviestChild(n);
       }
       if (credit > 0) nodeF[4 * n + N_WEIGHT]! += credit;
       f = nodeI[8 * n + N_FEATURE]!;
@@ -566,7 +566,7 @@ export class HoeffdingTree implements Classifier {
         pred += PRED * c;
       } else {
         const v = this.cardinality[f]!;
-        if (x >= 0 && x < v) {
+        if (x >= 0 && x < v && (x | 0) === x) {
           const cell = nom + x * c;
           const totals = nom + v * c;
           for (let k = 0; k < c; k++) {
@@ -655,7 +655,7 @@ export class HoeffdingTree implements Classifier {
         pred += 2 * PRED;
       } else {
         const v = this.cardinality[f]!;
-        if (x >= 0 && x < v) {
+        if (x >= 0 && x < v && (x | 0) === x) {
           const cell = nom + x * 2;
           const totals = nom + v * 2;
           const q0 = (stats[cell]! + 1) / (stats[totals]! + v);
@@ -722,7 +722,8 @@ export class HoeffdingTree implements Classifier {
         pred += PRED * c;
       } else {
         const v = this.cardinality[f]!;
-        if (x >= 0 && x < v) lp += Math.log((stats[nom + x * c + k]! + 1) / (stats[nom + v * c + k]! + v));
+        if (x >= 0 && x < v && (x | 0) === x)
+          lp += Math.log((stats[nom + x * c + k]! + 1) / (stats[nom + v * c + k]! + v));
         nom += (v + 1) * c;
       }
     }
@@ -817,7 +818,7 @@ export class HoeffdingTree implements Classifier {
         train += TRAIN;
       } else {
         const v = this.cardinality[f]!;
-        if (x >= 0 && x < v) {
+        if (x >= 0 && x < v && (x | 0) === x) {
           stats[nom + x * c + label]! += weight;
           stats[nom + v * c + label]! += weight;
         }

@@ -122,7 +122,7 @@ export class LearningLoop {
       accuracy: cumulative.accuracy,
       kappa: cumulative.kappa,
       kappaM: cumulative.kappaM,
-      kappaTemporal: cumulative.kappaTemporal,
+      kappaNoChange: cumulative.kappaNoChange,
       logLoss: cumulative.logLoss,
       macroF1: cumulative.macroF1,
       classes: [...classes],
@@ -223,7 +223,7 @@ function figures(f: ClassificationFigures): ViewFigures {
     accuracy: f.accuracy,
     kappa: f.kappa,
     kappaM: f.kappaM,
-    kappaTemporal: f.kappaTemporal,
+    kappaNoChange: f.kappaNoChange,
     logLoss: f.logLoss,
   };
 }

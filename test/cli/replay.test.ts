@@ -52,7 +52,7 @@ describe('shoal spawn → shoal replay', () => {
       'accuracy',
       'kappa',
       'kappaM',
-      'kappaTemporal',
+      'kappaNoChange',
       'logLoss',
       'driftSignals',
       'replacements',

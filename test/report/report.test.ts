@@ -117,7 +117,7 @@ describe('renderReport on a real journal (bagging over STAGGER a → c → b)', 
     const header = html.slice(0, html.indexOf('<section>'));
     expect(header).toContain(`${(100 * summary.accuracy!).toFixed(2)}%`);
     expect(header).toContain(summary.kappa!.toFixed(3));
-    expect(header).toContain(summary.kappaTemporal!.toFixed(3));
+    expect(header).toContain(summary.kappaNoChange!.toFixed(3));
     expect(section(html, 'Configuration')).toContain('<th>lifecycle</th>');
     expect(section(html, 'Configuration')).toContain('<code>hoeffding-tree</code>');
     for (const f of ['size', 'color', 'shape'])
