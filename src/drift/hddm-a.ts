@@ -1,4 +1,11 @@
-import { checkSnapshot, openUnit, ShoalError } from '../core/index.js';
+import {
+  checkSnapshot,
+  defaultsOf,
+  type OptionsOf,
+  type OptionTable,
+  optionConflict,
+  resolveOptions,
+} from '../core/index.js';
 import {
   checkUnitValue,
   type DetectorSnapshot,
@@ -31,29 +38,36 @@ import {
  * const hddm = new HddmA();
  * const level = hddm.update(error);
  */
-export type HddmAOptions = {
-  /** α_D, the significance level of the drift test, in (0, 1). */
-  readonly alphaD: number;
-  /** α_W, the significance level of the warning test, in (alphaD, 1). */
-  readonly alphaW: number;
-};
+/** HDDM_A's options (see `OptionTable`), named after the paper's symbols. */
+export const HDDM_A_OPTIONS = {
+  alphaD: {
+    type: 'number',
+    above: 0,
+    below: 1,
+    default: 0.001,
+    doc: 'α_D, the significance level of the drift test',
+  },
+  alphaW: {
+    type: 'number',
+    above: 0,
+    below: 1,
+    default: 0.005,
+    doc: 'α_W, the significance level of the warning test, larger than alphaD',
+  },
+} as const satisfies OptionTable;
 
-export const HDDM_A_DEFAULTS: HddmAOptions = { alphaD: 0.001, alphaW: 0.005 };
+export type HddmAOptions = OptionsOf<typeof HDDM_A_OPTIONS>;
+
+export const HDDM_A_DEFAULTS: HddmAOptions = defaultsOf(HDDM_A_OPTIONS);
 
 const KIND = 'hddm-a';
 const VERSION = 1;
 
 function resolve(options: Partial<HddmAOptions>): HddmAOptions {
-  const o = { ...HDDM_A_DEFAULTS, ...options };
-  openUnit(KIND, 'alphaD', o.alphaD);
-  openUnit(KIND, 'alphaW', o.alphaW);
-  if (!(o.alphaW > o.alphaD)) {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${KIND}: alphaW must be larger than alphaD (${o.alphaD}), got ${o.alphaW}`,
-    );
-  }
-  return { alphaD: o.alphaD, alphaW: o.alphaW };
+  const o = resolveOptions(KIND, HDDM_A_OPTIONS, options);
+  if (!(o.alphaW > o.alphaD))
+    optionConflict(KIND, 'alphaW', `must be larger than alphaD (${o.alphaD}), got ${o.alphaW}`);
+  return o;
 }
 
 export class HddmA implements DriftDetector {

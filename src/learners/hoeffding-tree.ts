@@ -3,19 +3,19 @@ import {
   checkSnapshot,
   decodeF64,
   decodeI32,
+  defaultsOf,
   encodeF64,
   encodeI32,
   erfc,
   type FeatureSchema,
   hoeffdingBound,
-  integerAtLeast,
-  nonNegative,
   normalCdf,
-  oneOf,
-  openUnit,
-  positive,
+  type OptionsOf,
+  type OptionTable,
+  optionConflict,
   Rng,
   type RngState,
+  resolveOptions,
   type Seed,
   ShoalError,
 } from '../core/index.js';
@@ -27,7 +27,7 @@ import {
   checkWeight,
   type LearnerSnapshot,
 } from './learner.js';
-import { impurity, type SplitCriterion, splitMerit } from './split-merit.js';
+import { impurity, splitMerit } from './split-merit.js';
 
 /**
  * Hoeffding tree classifier — Domingos & Hulten, "Mining high-speed data streams", KDD 2000 (VFDT).
@@ -59,41 +59,72 @@ import { impurity, type SplitCriterion, splitMerit } from './split-merit.js';
  * const predicted = tree.scoreTrain(rows, i * width, label, 1, probabilities, 0);
  */
 
-export type LeafModel = 'majority' | 'naive-bayes' | 'adaptive';
+/** The Hoeffding tree's options (see `OptionTable`). */
+export const HOEFFDING_TREE_OPTIONS = {
+  checkInterval: {
+    type: 'integer',
+    atLeast: 1,
+    default: 200,
+    doc: 'n_min, the weight a leaf sees between split attempts (Domingos & Hulten: 200)',
+  },
+  hoeffdingDelta: {
+    type: 'number',
+    above: 0,
+    below: 1,
+    default: 1e-7,
+    doc: 'δ, the confidence of the Hoeffding bound (Domingos & Hulten: 1e-7)',
+  },
+  tieBreak: {
+    type: 'number',
+    atLeast: 0,
+    default: 0.05,
+    doc: 'τ: split anyway when ε falls below it (Domingos & Hulten: 0.05)',
+  },
+  merit: { type: 'choice', choices: ['info-gain', 'gini'], default: 'info-gain', doc: 'the split criterion' },
+  leafModel: {
+    type: 'choice',
+    choices: ['majority', 'naive-bayes', 'adaptive'],
+    default: 'adaptive',
+    doc: 'what a leaf predicts with (adaptive: whichever of the two has been right more often)',
+  },
+  candidateThresholds: {
+    type: 'integer',
+    atLeast: 1,
+    default: 10,
+    doc: 'candidate thresholds per numeric attribute (Pfahringer et al. 2008 use 10)',
+  },
+  featureSubset: {
+    type: 'integer',
+    atLeast: 0,
+    default: 0,
+    doc: 'attributes a leaf considers, drawn per leaf; 0 = all, at most the schema width',
+  },
+  depthLimit: {
+    type: 'integer',
+    atLeast: 0,
+    default: 30,
+    doc: 'leaves at this depth stop splitting (root: 0)',
+  },
+  byteLimit: {
+    type: 'number',
+    above: 0,
+    default: 256 * 1024,
+    doc: 'memory cap for leaf statistics and nodes; the least promising leaves are deactivated above it',
+  },
+  branchShareFloor: {
+    type: 'number',
+    atLeast: 0,
+    below: 0.5,
+    default: 0.01,
+    doc: 'smallest share of weight each of two branches must get for a split to count (common practice)',
+  },
+} as const satisfies OptionTable;
 
-export interface HoeffdingTreeOptions {
-  /** Weight a leaf must see between split attempts (n_min). Domingos & Hulten: 200. */
-  readonly checkInterval: number;
-  /** Confidence δ of the Hoeffding bound. Domingos & Hulten: 1e-7. */
-  readonly hoeffdingDelta: number;
-  /** Tie threshold τ: split anyway when ε falls below it. Domingos & Hulten: 0.05. */
-  readonly tieBreak: number;
-  readonly merit: SplitCriterion;
-  readonly leafModel: LeafModel;
-  /** Candidate thresholds per numeric attribute (Pfahringer et al. 2008 use 10). */
-  readonly candidateThresholds: number;
-  /** Attributes a leaf considers for its split, drawn at random per leaf; 0 = all (forest-style when > 0). */
-  readonly featureSubset: number;
-  /** Maximum depth of a leaf (the root has depth 0); leaves at this depth stop splitting. */
-  readonly depthLimit: number;
-  /** Memory cap in bytes for leaf statistics and nodes; the least promising leaves are deactivated above it. */
-  readonly byteLimit: number;
-  /** Smallest share of weight each of two branches must get for a split to count (common practice: 0.01). */
-  readonly branchShareFloor: number;
-}
+export type HoeffdingTreeOptions = OptionsOf<typeof HOEFFDING_TREE_OPTIONS>;
 
-export const HOEFFDING_TREE_DEFAULTS: HoeffdingTreeOptions = {
-  checkInterval: 200,
-  hoeffdingDelta: 1e-7,
-  tieBreak: 0.05,
-  merit: 'info-gain',
-  leafModel: 'adaptive',
-  candidateThresholds: 10,
-  featureSubset: 0,
-  depthLimit: 30,
-  byteLimit: 256 * 1024,
-  branchShareFloor: 0.01,
-};
+export type LeafModel = HoeffdingTreeOptions['leafModel'];
+
+export const HOEFFDING_TREE_DEFAULTS: HoeffdingTreeOptions = defaultsOf(HOEFFDING_TREE_OPTIONS);
 
 const KIND = 'hoeffding-tree';
 const VERSION = 3;
@@ -133,26 +164,13 @@ const PREDICT_ADAPTIVE = 2;
 /** Weight trained between two checks of the memory cap, in check intervals. */
 const MEMORY_CHECK_GRACE_PERIODS = 10;
 
-function validate(o: HoeffdingTreeOptions, width: number): HoeffdingTreeOptions {
-  integerAtLeast(KIND, 'checkInterval', o.checkInterval, 1);
-  openUnit(KIND, 'hoeffdingDelta', o.hoeffdingDelta);
-  nonNegative(KIND, 'tieBreak', o.tieBreak);
-  oneOf(KIND, 'merit', o.merit, ['info-gain', 'gini'] as const);
-  oneOf(KIND, 'leafModel', o.leafModel, ['majority', 'naive-bayes', 'adaptive'] as const);
-  integerAtLeast(KIND, 'candidateThresholds', o.candidateThresholds, 1);
-  integerAtLeast(KIND, 'featureSubset', o.featureSubset, 0);
+function validate(options: Partial<HoeffdingTreeOptions>, width: number): HoeffdingTreeOptions {
+  const o = resolveOptions(KIND, HOEFFDING_TREE_OPTIONS, options);
   if (o.featureSubset > width) {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${KIND}: featureSubset must be at most the ${width} features of the schema, got ${o.featureSubset}`,
-    );
-  }
-  integerAtLeast(KIND, 'depthLimit', o.depthLimit, 0);
-  positive(KIND, 'byteLimit', o.byteLimit);
-  if (!(o.branchShareFloor >= 0 && o.branchShareFloor < 0.5)) {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${KIND}: branchShareFloor must be in [0, 0.5), got ${o.branchShareFloor}`,
+    optionConflict(
+      KIND,
+      'featureSubset',
+      `must be at most the ${width} features of the schema, got ${o.featureSubset}`,
     );
   }
   return o;
@@ -242,7 +260,7 @@ export class HoeffdingTree implements Classifier {
   constructor(schema: FeatureSchema, options: Partial<HoeffdingTreeOptions> = {}, seed: Seed = 0) {
     this.schema = checkSchema(KIND, schema);
     this.width = schema.features.length;
-    this.options = validate({ ...HOEFFDING_TREE_DEFAULTS, ...options }, this.width);
+    this.options = validate(options, this.width);
     this.nominal = Uint8Array.from(schema.features, (f) => (f.kind === 'nominal' ? 1 : 0));
     this.cardinality = Int32Array.from(schema.features, (f) => (f.kind === 'nominal' ? f.values : 0));
     this.mode =

@@ -103,8 +103,8 @@ const ENSEMBLE_DEFAULTS: Readonly<Record<string, object>> = {
 class Checker {
   readonly issues: ConfigIssue[] = [];
 
-  fail(path: string, message: string): void {
-    this.issues.push({ path, message });
+  fail(path: string, message: string, code: ConfigIssue['code'] = 'wrong-type'): void {
+    this.issues.push({ path, code, message });
   }
 
   /** A plain object (or absent: an empty one) whose keys are all among `allowed`. */

@@ -45,7 +45,7 @@ function isRecord(value: unknown): value is Readonly<Record<string, unknown>> {
 export function buildStream(request: StreamRequest): ConceptSchedule {
   const issues: ConfigIssue[] = [];
   const problem = (path: string, message: string): void => {
-    issues.push({ path, message });
+    issues.push({ path, code: message.startsWith('unknown') ? 'not-one-of' : 'wrong-type', message });
   };
   const { generator, every, width, noise, seed } = request;
   if (!(typeof seed === 'string' || (typeof seed === 'number' && Number.isFinite(seed)))) {

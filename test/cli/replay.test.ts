@@ -62,7 +62,7 @@ describe('shoal spawn → shoal replay', () => {
     }
     expect(csv).toEqual(arrow);
     expect(ndjson).toEqual(arrow);
-  });
+  }, 120_000);
 
   it('replays pyarrow-written Arrow (float, int, bool, dictionary-string and null columns), rows without labels scored only', async () => {
     // Outside writer: pyarrow 26.0.1 (test/frames/fixtures/make_fixtures.py); two of its 12 labels are null.
