@@ -35,7 +35,7 @@ module.exports = {
       'streams',
       'journal',
     ]),
-    layer('files', ['core', 'frames', 'journal', 'pipeline']),
+    layer('files', ['core', 'frames', 'journal', 'pipeline', 'checkpoint']),
     layer('report', ['core', 'evaluation', 'ensembles', 'journal']),
     {
       name: 'model-and-pipeline-stay-free-of-io-libraries',

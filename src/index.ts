@@ -73,8 +73,17 @@ export {
   restoreClassifier,
   restoreRegressor,
 } from './learners/index.js';
-export type { RunConfig } from './pipeline/index.js';
-export { LearningLoop, resolveConfig } from './pipeline/index.js';
+export type {
+  Clock,
+  JournalSink,
+  RunConfig,
+  ScoreBatch,
+  SessionMetrics,
+  SessionSnapshot,
+  Source,
+  SourceBatch,
+} from './pipeline/index.js';
+export { LearningSession, resolveConfig } from './pipeline/index.js';
 export { renderReport } from './report/index.js';
 export type { StreamGenerator, StreamRequest } from './streams/index.js';
 export { buildStream, STREAM_NAMES } from './streams/index.js';

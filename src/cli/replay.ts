@@ -1,16 +1,17 @@
 import { ShoalError } from '../core/index.js';
 import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
-import { countRows, deadLetterFile, journalFile, readFrames } from '../files/index.js';
+import { countRows, deadLetterFile, journalFile } from '../files/index.js';
 import { FrameDecoder, type FrameFormat, type FrameOptions } from '../frames/index.js';
-import type { JournalRecord, SummaryRecord } from '../journal/index.js';
+import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
-import { LearningLoop, type RunConfig, resolveConfig } from '../pipeline/index.js';
+import { LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
 import { type NamedPath, openOutputs, refuseCollisions } from './outputs.js';
 import { Progress } from './progress.js';
+import { feed, type LabelTiming } from './replay-feed.js';
 import { describeSchema, overflowWarnings } from './schema-text.js';
 import { count, figure, type Terminal, table } from './terminal.js';
 import { shoalVersion } from './version.js';
@@ -33,6 +34,11 @@ Options:
   --schema FILE     the features, declared (YAML or JSON: a list of {name, kind, categories, values},
                     or a mapping with "features"); without it the kinds are inferred from the first rows
   --format F        arrow, csv or ndjson, for a file whose extension does not say
+  --labels FILE     labels in a file of their own (the --id and --label columns), joined by id to the
+                    prediction served for each event; the k-th label becomes known once k events were
+                    scored (labels left at the end are joined after the last event)
+  --label-delay N   hold each inline label back until N more rows were scored, then join it by id to
+                    the prediction served for its row (rows without --id are joined by row number)
   --journal PATH    write the run's journal (NDJSON: lifecycle changes, evaluation windows, summary)
   --report PATH     write a self-contained HTML report of the run
   --rejects PATH    write rows that cannot be decoded to PATH (NDJSON: source, position, reason) and go on;
@@ -73,6 +79,26 @@ function withOverrides(
   return { ...base, ...(seed === undefined ? {} : { seed }), ensemble, inputs };
 }
 
+/** When labels become known: inline (the default), held back N rows, or from a labels file. */
+function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): LabelTiming {
+  const path = text(parsed, 'labels');
+  const delay = whole(parsed, 'label-delay', 0);
+  if (path !== undefined && delay !== undefined) {
+    throw new ShoalError('invalid-parameter', 'give --labels or --label-delay, not both');
+  }
+  const { id, label } = config.inputs;
+  if (path !== undefined) {
+    if (id === null || label === null) {
+      throw new ShoalError(
+        'invalid-parameter',
+        '--labels needs --id (the column that joins a label to its event) and a label column',
+      );
+    }
+    return { kind: 'file', path, id, label };
+  }
+  return delay === undefined ? { kind: 'inline' } : { kind: 'delay', rows: delay };
+}
+
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
 function frameOptions(config: RunConfig): FrameOptions {
   const { label, id, exclude, features, vocabulary, missing } = config.inputs;
@@ -86,7 +112,7 @@ function frameOptions(config: RunConfig): FrameOptions {
   };
 }
 
-/** The journal: to a file when one is given, and kept in memory when the report needs it. */
+/** The journal: to a file when a path is given, and kept in memory when the report needs it. */
 class JournalOut {
   readonly kept: JournalRecord[] = [];
   private readonly file: ReturnType<typeof journalFile> | null;
@@ -121,12 +147,14 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     seed: { type: 'string' },
     label: { type: 'string' },
     id: { type: 'string' },
-    schema: { type: 'string' },
-    format: { type: 'string' },
     journal: { type: 'string' },
     report: { type: 'string' },
     json: { type: 'boolean' },
     rejects: { type: 'string' },
+    labels: { type: 'string' },
+    'label-delay': { type: 'string' },
+    schema: { type: 'string' },
+    format: { type: 'string' },
   });
   if (parsed.values.help) {
     terminal.out(`${REPLAY_HELP}\n`);
@@ -139,7 +167,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     const path = text(parsed, flag);
     return path === undefined ? [] : [{ flag: `--${flag}`, path }];
   };
-  const inputs = [{ flag: 'FILE', path: file! }, ...named('config'), ...named('schema')];
+  const inputs = [{ flag: 'FILE', path: file! }, ...named('config'), ...named('schema'), ...named('labels')];
   const outputs = [...named('journal'), ...named('rejects'), ...named('report')];
   await refuseCollisions(inputs, outputs);
   const raw = configPath === undefined ? {} : await readConfigFile(configPath);
@@ -148,6 +176,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const config = resolveConfig(withOverrides(raw, parsed, schema), source);
   const decoder = new FrameDecoder(frameOptions(config), source);
   const format = text(parsed, 'format') as FrameFormat | undefined;
+  const timing = labelTiming(parsed, config);
   // Opened before the run: a path that cannot be written is refused before any row is read. The
   // journal and rejects writers write to the temporary files, which are moved into place at the end.
   const opened = await openOutputs(inputs, outputs);
@@ -157,11 +186,11 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const rejectsFile = output('--rejects');
   const rejects = rejectsFile === null ? null : deadLetterFile(rejectsFile.partialPath);
   let rejected = 0;
-  const loop = new LearningLoop({
+  const session = new LearningSession({
     config,
     source: file!,
-    journal: (r) => journal.write(r),
-    clock: () => terminal.now(),
+    journal,
+    clock: { monotonic: () => terminal.now(), wall: () => Date.now() },
     version: shoalVersion(),
   });
   const json = parsed.values.json === true;
@@ -171,33 +200,32 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       json ? { ...terminal, interactive: false } : terminal,
       terminal.interactive && !json ? await countRows(file!, format) : null,
     );
+    let announced = false;
     try {
-      const reading = readFrames(file!, decoder, {
-        rejects: rejects === null ? 'throw' : 'keep',
+      await feed({
+        file: file!,
         ...(format === undefined ? {} : { format }),
-      });
-      let announced = false;
-      for await (const batch of reading) {
-        if (!announced && decoder.schema !== null) {
-          terminal.err(describeSchema(file!, decoder, config.inputs.features !== null));
-          announced = true;
-        }
-        for (const r of batch.rejected) {
+        decoder,
+        session,
+        timing,
+        carryFeatures: config.labels.unmatched === 'train',
+        rejects: rejects === null ? 'throw' : 'keep',
+        deadLetter: (letter) => {
           rejected++;
-          rejects?.write({
-            stream: file!,
-            position: BigInt(r.index),
-            code: 'undecodable',
-            reason: r.reason,
-            bytes: null,
-          });
-        }
-        loop.prequential(batch.frame, decoder.classes);
-        progress.update(loop.rows, loop.recentAccuracy);
-        await Promise.all([journal.flush(), rejects?.flush()]);
-      }
-      if (loop.rows === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
-      summary = loop.finish(decoder.classes);
+          rejects?.write(letter);
+        },
+        beforeScoring: () => {
+          if (announced) return;
+          announced = true;
+          terminal.err(describeSchema(file!, decoder, config.inputs.features !== null));
+        },
+        afterBatch: async () => {
+          progress.update(session.scored, session.recentAccuracy);
+          await Promise.all([journal.flush(), rejects?.flush()]);
+        },
+      });
+      if (session.scored === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
+      summary = session.finish(decoder.classes);
     } finally {
       progress.done();
       await Promise.all([journal.close(), rejects?.close()]);
@@ -210,7 +238,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   terminal.out(
     json
       ? `${JSON.stringify({ ...jsonSummary(file!, config, summary), rejected })}\n`
-      : summaryTable(file!, config, summary, loop.rows, rejected),
+      : summaryTable(file!, config, summary, rejected),
   );
   // The summary is out; a failure to finish an output now loses no figures.
   reportFile?.write(renderReport(journal.kept, { title: `Replay of ${file}` }));
@@ -239,6 +267,8 @@ function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<
     file,
     ensemble: config.ensemble.kind,
     seed: config.seed,
+    scored: s.scored,
+    trained: s.trained,
     rows: s.rows,
     accuracy: s.accuracy,
     kappa: s.kappa,
@@ -250,28 +280,25 @@ function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<
     warnings: s.warnings,
     replacements: s.replacements,
     inputDrifts: s.inputDrifts,
+    labels: s.labels,
     classes: s.classes,
     seconds: s.seconds,
     rowsPerSecond: s.rowsPerSecond,
   };
 }
 
-function summaryTable(
-  file: string,
-  config: RunConfig,
-  s: SummaryRecord,
-  scored: number,
-  rejected: number,
-): string {
+function summaryTable(file: string, config: RunConfig, s: SummaryRecord, rejected: number): string {
   const e = config.ensemble as { kind: string; members?: number; learners?: readonly { kind: string }[] };
   const learners = [...new Set((e.learners ?? [{ kind: 'hoeffding-tree' }]).map((l) => l.kind))].join(', ');
   const head = `replay of ${file}: ${e.kind}${e.members === undefined ? '' : ` of ${e.members}`} (${learners}), seed ${config.seed}\n\n`;
   return (
     head +
     table([
-      ['rows scored', count(scored)],
+      ['rows scored', count(s.scored)],
       ['rows rejected', count(rejected)],
       ['rows judged', count(s.rows)],
+      ['rows trained', count(s.trained)],
+      ...labelLines(s.labels),
       ['accuracy', figure(s.accuracy)],
       ['kappa', figure(s.kappa)],
       ['kappa-M', figure(s.kappaM)],
@@ -286,4 +313,20 @@ function summaryTable(
       ['seconds', s.seconds.toFixed(1)],
     ])
   );
+}
+
+/** The label outcomes worth a line: those that happened (inline labels are the rows judged). */
+function labelLines(l: LabelCounts): [string, string][] {
+  const lines: [string, number][] = [
+    ['labels joined late', l.joined],
+    ['labels for joined ids', l.duplicate],
+    ['labels after expiry', l.late],
+    ['labels after eviction', l.evicted],
+    ['labels with unknown ids', l.unknown],
+    ['unmatched labels trained', l.trainedUnmatched],
+    ['predictions expired', l.expiredPredictions],
+    ['predictions evicted', l.evictedPredictions],
+    ['predictions pending', l.pending],
+  ];
+  return lines.filter(([, n]) => n > 0).map(([name, n]) => [name, count(n)]);
 }

@@ -16,6 +16,7 @@ import {
   type DetectorSnapshot,
   type DriftDetector,
   type DriftLevel,
+  type DriftShift,
   LEVEL_CODES,
   packScalars,
   stateField,
@@ -42,8 +43,8 @@ import {
  * Shoal's reading:
  * - The cut is checked every `checkEvery` values (common practice, trading up to checkEvery − 1 values of delay
  *   for work); on a cut the oldest bucket is dropped and the check repeated until no cut remains, as in
- *   the paper. `drift` is answered for a change in either direction; `estimate` after the drop tells
- *   which way the mean moved.
+ *   the paper. `drift` is answered for a change in either direction; `shift` says which way the mean
+ *   moved, from the first cut found (the newer part's mean against the older part's).
  * - Warning comes from a second, larger δ (`warningDelta`): a cut that holds at `warningDelta` but not
  *   at `delta` answers `warning` and drops nothing; the level persists until the next check.
  * - Defaults: δ = 0.002 (common practice; the value PUBLISHED.md derives ε_cut for), M = 5 (the paper's
@@ -162,6 +163,10 @@ export class Adwin implements DriftDetector {
   private deviations = 0;
   private tick = 0;
   private level: DriftLevel = 'stable';
+  /** Set by `scan` when a boundary cuts at δ: whether the newer part's mean is above the older part's. */
+  private cutRises = false;
+  shift: DriftShift | null = null;
+  alarmEstimate = Number.NaN;
 
   constructor(options: Partial<AdwinOptions> = {}) {
     this.options = resolve(options);
@@ -209,13 +214,16 @@ export class Adwin implements DriftDetector {
     this.tick = 0;
     let dropped = false;
     let found = this.scan();
+    if (found === 2) this.shift = this.cutRises ? 'rise' : 'fall';
     while (found === 2) {
       this.dropOldest();
       dropped = true;
       found = this.scan();
     }
     this.level = found === 1 ? 'warning' : 'stable';
-    return dropped ? 'drift' : this.level;
+    if (!dropped) return this.level;
+    this.alarmEstimate = this.estimate;
+    return 'drift';
   }
 
   reset(): void {
@@ -297,7 +305,8 @@ export class Adwin implements DriftDetector {
 
   /**
    * Test every bucket boundary, oldest first, as a cut W = W₀ · W₁. Returns 2 if some boundary cuts at
-   * `delta`, else 1 if some boundary cuts at `warningDelta`, else 0. In the multiplied-through form
+   * `delta` (noting in `cutRises` which way the means differ at the first such boundary), else 1 if some
+   * boundary cuts at `warningDelta`, else 0. In the multiplied-through form
    * (see `cutCoefficients`) a boundary cuts when |s₀n₁ − s₁n₀| ≥ √(A·n₀n₁) + B. The warning ε is the
    * smaller, so the drift ε is computed only where the warning one is exceeded.
    */
@@ -328,10 +337,15 @@ export class Adwin implements DriftDetector {
         if (++slot === end) slot = base;
         const n1 = n - n0;
         if (n1 === 0) return found;
-        const gap = Math.abs(s0 * n1 - (total - s0) * n0);
+        // s₀n₁ − s₁n₀ = n₀n₁(μ₀ − μ₁): its sign says which part has the larger mean.
+        const signed = s0 * n1 - (total - s0) * n0;
+        const gap = Math.abs(signed);
         const product = n0 * n1;
         if (gap >= Math.sqrt(aWarning * product) + bWarning) {
-          if (gap >= Math.sqrt(aDrift * product) + bDrift) return 2;
+          if (gap >= Math.sqrt(aDrift * product) + bDrift) {
+            this.cutRises = signed < 0;
+            return 2;
+          }
           found = 1;
         }
       }

@@ -11,6 +11,7 @@ import {
   type DetectorSnapshot,
   type DriftDetector,
   type DriftLevel,
+  type DriftShift,
   packScalars,
   stateField,
   unpackScalars,
@@ -70,6 +71,9 @@ export class Ddm implements DriftDetector {
   private errors = 0;
   private pMin = Number.POSITIVE_INFINITY;
   private sMin = Number.POSITIVE_INFINITY;
+  /** DDM's test is one-sided: it alarms only when the error rate rose. */
+  shift: DriftShift | null = null;
+  alarmEstimate = Number.NaN;
 
   constructor(options: Partial<DdmOptions> = {}) {
     this.options = resolve(options);
@@ -105,11 +109,13 @@ export class Ddm implements DriftDetector {
       this.pMin = p;
       this.sMin = s;
     }
-    if (p + s >= this.driftThreshold) {
+    if (p + s > this.driftThreshold) {
+      this.shift = 'rise';
+      this.alarmEstimate = p;
       this.reset();
       return 'drift';
     }
-    return p + s >= this.warningThreshold ? 'warning' : 'stable';
+    return p + s > this.warningThreshold ? 'warning' : 'stable';
   }
 
   reset(): void {

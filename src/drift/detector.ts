@@ -9,8 +9,8 @@ import { type ConfiguredSnapshot, decodeF64, encodeF64, ShoalError } from '../co
  * stale part of its window; DDM, EDDM, Page-Hinkley and HDDM_A have restarted their statistics), so the
  * caller only acts on the answer.
  *
- * Levels by kind: `adwin` answers `drift` for a change of the mean in either direction (compare
- * `estimate` before and after to tell which) and `warning` while a cut holds at its larger warning δ, from
+ * Levels by kind: `adwin` answers `drift` for a change of the mean in either direction (`shift` tells
+ * which) and `warning` while a cut holds at its larger warning δ, from
  * one check to the next; `ddm` and `hddm-a` judge every value; `eddm` judges at each error and its level
  * holds until the next error; `page-hinkley` has no warning level.
  *
@@ -20,6 +20,12 @@ import { type ConfiguredSnapshot, decodeF64, encodeF64, ShoalError } from '../co
  */
 export type DriftLevel = 'stable' | 'warning' | 'drift';
 
+/**
+ * Which way the monitored mean moved at a drift alarm: `rise` (for a 0/1 error, the member got worse)
+ * or `fall` (it got better).
+ */
+export type DriftShift = 'rise' | 'fall';
+
 export interface DriftDetector {
   /** The detector's kind, as in configuration (`adwin`, `ddm`, …). */
   readonly kind: string;
@@ -27,6 +33,17 @@ export interface DriftDetector {
   update(value: number): DriftLevel;
   /** The detector's current estimate of the monitored quantity (for example the error rate). */
   readonly estimate: number;
+  /**
+   * Which way the mean moved at the last `drift` answer, decided from the detector's own statistics at
+   * the moment of the alarm, before any reset (null before the first alarm). Read it right after
+   * `update` answered `drift`; it is not part of the snapshot.
+   */
+  readonly shift: DriftShift | null;
+  /**
+   * The detector's estimate of the monitored mean at the last alarm, before any reset: the mean of the
+   * recent part of ADWIN's window after its cut, the running mean of the others (NaN before any alarm).
+   */
+  readonly alarmEstimate: number;
   /** Values seen since the last reset (or, for ADWIN, the current window width). */
   readonly count: number;
   /** Forget everything seen. */

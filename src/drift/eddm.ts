@@ -15,6 +15,7 @@ import {
   type DetectorSnapshot,
   type DriftDetector,
   type DriftLevel,
+  type DriftShift,
   LEVEL_CODES,
   packScalars,
   stateField,
@@ -88,6 +89,9 @@ export class Eddm implements DriftDetector {
   private readonly distances = new Float64Array(WELFORD_SLOTS);
   private maxScore = 0;
   private level: DriftLevel = 'stable';
+  /** EDDM alarms when errors come closer together: the error rate rose. */
+  shift: DriftShift | null = null;
+  alarmEstimate = Number.NaN;
 
   constructor(options: Partial<EddmOptions> = {}) {
     this.options = resolve(options);
@@ -114,6 +118,8 @@ export class Eddm implements DriftDetector {
     if (score > this.maxScore) this.maxScore = score;
     const ratio = score / this.maxScore;
     if (ratio < this.options.driftRatio) {
+      this.shift = 'rise';
+      this.alarmEstimate = this.errors / n;
       this.reset();
       return 'drift';
     }

@@ -11,6 +11,7 @@ import {
   type DetectorSnapshot,
   type DriftDetector,
   type DriftLevel,
+  type DriftShift,
   packScalars,
   stateField,
   unpackScalars,
@@ -80,6 +81,9 @@ export class HddmA implements DriftDetector {
   private total = 0;
   private prefixCount = 0;
   private prefixTotal = 0;
+  /** The A-test here is one-sided: it alarms only when the mean rose above the cut point's. */
+  shift: DriftShift | null = null;
+  alarmEstimate = Number.NaN;
 
   constructor(options: Partial<HddmAOptions> = {}) {
     this.options = resolve(options);
@@ -124,6 +128,8 @@ export class HddmA implements DriftDetector {
     const diff = mean - this.prefixTotal / this.prefixCount;
     const spread = (n - this.prefixCount) / (2 * n * this.prefixCount);
     if (diff >= Math.sqrt(spread * log)) {
+      this.shift = 'rise';
+      this.alarmEstimate = mean;
       this.reset();
       return 'drift';
     }

@@ -4,7 +4,7 @@ export type { CategoryShiftOptions, ChiSquareResult } from './category-shift.js'
 export { CATEGORY_SHIFT_DEFAULTS, chiSquareHomogeneity } from './category-shift.js';
 export type { DdmOptions } from './ddm.js';
 export { DDM_DEFAULTS, Ddm } from './ddm.js';
-export type { DetectorSnapshot, DriftDetector, DriftLevel } from './detector.js';
+export type { DetectorSnapshot, DriftDetector, DriftLevel, DriftShift } from './detector.js';
 export type { EddmOptions } from './eddm.js';
 export { EDDM_DEFAULTS, Eddm } from './eddm.js';
 export type { HddmAOptions } from './hddm-a.js';

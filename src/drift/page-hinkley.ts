@@ -10,6 +10,7 @@ import {
   type DetectorSnapshot,
   type DriftDetector,
   type DriftLevel,
+  type DriftShift,
   packScalars,
   stateField,
   unpackScalars,
@@ -74,6 +75,9 @@ export class PageHinkley implements DriftDetector {
   private upMin = 0;
   private down = 0;
   private downMax = 0;
+  /** Which test alarmed: the increase test says `rise`, the decrease test `fall`. */
+  shift: DriftShift | null = null;
+  alarmEstimate = Number.NaN;
 
   constructor(options: Partial<PageHinkleyOptions> = {}) {
     this.options = resolve(options);
@@ -108,10 +112,10 @@ export class PageHinkley implements DriftDetector {
     this.down = fading * this.down + deviation + delta;
     if (this.down > this.downMax) this.downMax = this.down;
     if (n < this.options.minCount) return 'stable';
-    if (
-      (this.watchIncrease && this.up - this.upMin > lambda) ||
-      (this.watchDecrease && this.downMax - this.down > lambda)
-    ) {
+    const rose = this.watchIncrease && this.up - this.upMin > lambda;
+    if (rose || (this.watchDecrease && this.downMax - this.down > lambda)) {
+      this.shift = rose ? 'rise' : 'fall';
+      this.alarmEstimate = this.mean;
       this.reset();
       return 'drift';
     }

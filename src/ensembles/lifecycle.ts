@@ -95,6 +95,8 @@ export class Seat {
   stableRun = 0;
   /** A drift was found while the replacement cap was reached: replace as soon as the cap allows. */
   due = false;
+  /** The monitor's estimate at the alarm that made the seat due (journaled when it is replaced). */
+  dueEstimate = 0;
   /** No new watch before this age: a warning just cleared should not reopen on the next row. */
   calmUntil = 0;
   private readonly ring: Uint8Array;
@@ -158,6 +160,7 @@ export class Seat {
       understudyAge: this.understudyAge,
       stableRun: this.stableRun,
       due: this.due,
+      dueEstimate: this.dueEstimate,
       calmUntil: this.calmUntil,
       ring: Array.from(this.ring).join(''),
       ringAt: this.ringAt,
@@ -181,6 +184,7 @@ export class Seat {
     seat.understudyAge = s.understudyAge;
     seat.stableRun = s.stableRun;
     seat.due = s.due;
+    seat.dueEstimate = s.dueEstimate ?? 0;
     seat.calmUntil = s.calmUntil;
     if (s.ring.length !== window) {
       throw new ShoalError(
@@ -208,6 +212,7 @@ export interface SeatSnapshot {
   readonly understudyAge: number;
   readonly stableRun: number;
   readonly due: boolean;
+  readonly dueEstimate?: number;
   readonly calmUntil: number;
   readonly ring: string;
   readonly ringAt: number;
@@ -314,14 +319,24 @@ export class Lifecycle {
     if (seat.state === 'warming' && seat.age >= o.warmup)
       this.move(row, seat, 'active', 'warmed', 'warm-up complete');
     const monitor = seat.monitor;
-    const before = monitor.estimate;
     const level = monitor.update(correct ? 0 : 1);
     if (seat.age < o.minAge) return false;
     if (seat.due) return this.replace(seat, row);
     if (level === 'drift') {
-      if (!(monitor.estimate > before)) {
-        if (seat.state === 'watched')
-          this.clearWatch(row, seat, 'drift-ignored-improving', 'drift towards fewer errors');
+      // The detector says which way the error rate moved, from its statistics at the alarm.
+      if (monitor.shift === 'fall') {
+        const reason = 'drift towards fewer errors';
+        if (seat.state === 'watched') this.clearWatch(row, seat, 'drift-ignored-improving', reason);
+        else
+          this.write(
+            row,
+            seat,
+            seat.state,
+            seat.state,
+            'drift-ignored-improving',
+            reason,
+            monitor.alarmEstimate,
+          );
         return false;
       }
       return this.replace(seat, row);
@@ -393,6 +408,7 @@ export class Lifecycle {
     if (this.replacements.length >= o.maxReplacements) {
       if (!seat.due) {
         seat.due = true;
+        seat.dueEstimate = seat.monitor.alarmEstimate;
         this.write(
           row,
           seat,
@@ -400,12 +416,14 @@ export class Lifecycle {
           seat.state,
           'drift-deferred',
           `drift; replacement deferred (cap of ${o.maxReplacements} per ${o.replacementWindow} rows)`,
+          seat.dueEstimate,
         );
       }
       return false;
     }
+    const estimate = seat.due ? seat.dueEstimate : seat.monitor.alarmEstimate;
     seat.due = false;
-    this.move(row, seat, 'retired', 'drift', 'drift');
+    this.move(row, seat, 'retired', 'drift', 'drift', estimate);
     let cause: LifecycleCause;
     if (seat.understudy !== null) {
       seat.member = seat.understudy;
@@ -441,10 +459,17 @@ export class Lifecycle {
     return true;
   }
 
-  private move(row: number, seat: Seat, to: MemberState, cause: LifecycleCause, reason: string): void {
+  private move(
+    row: number,
+    seat: Seat,
+    to: MemberState,
+    cause: LifecycleCause,
+    reason: string,
+    estimate = seat.monitor.estimate,
+  ): void {
     const from = seat.state;
     seat.state = to;
-    this.write(row, seat, from, to, cause, reason);
+    this.write(row, seat, from, to, cause, reason, estimate);
   }
 
   private write(
@@ -454,6 +479,7 @@ export class Lifecycle {
     to: MemberState,
     cause: LifecycleCause,
     reason: string,
+    estimate = seat.monitor.estimate,
   ): void {
     this.journal({
       type: 'lifecycle',
@@ -464,7 +490,7 @@ export class Lifecycle {
       to,
       cause,
       detector: seat.monitor.kind,
-      estimate: seat.monitor.estimate,
+      estimate,
       reason,
     });
   }

@@ -54,7 +54,7 @@ export class FrameDecoder {
   /** Reads cells with this stream's missing-value tokens. */
   readonly cells: CellReader;
   private readonly given: FrameOptions;
-  private readonly labels: LabelDictionary;
+  private labels: LabelDictionary;
   private current: FeatureSchema | null = null;
   private vocabularies: (Vocabulary | null)[] = [];
   private last: Binding | null = null;
@@ -119,6 +119,45 @@ export class FrameDecoder {
   /** The vocabulary of feature j (null for a numeric feature). */
   vocabulary(j: number): Vocabulary | null {
     return this.vocabularies[j] ?? null;
+  }
+
+  /**
+   * A decoder for labels that arrive on their own (a labels file or topic): it reads the `id` and
+   * `label` columns and shares this decoder's class dictionary, so that a class has the same code in
+   * both inputs whichever names it first. With `carryFeatures` it also reads this stream's feature
+   * columns (sharing the schema and every vocabulary, so category codes agree too); the events' schema
+   * must be known by then. Without, the labels' frames have no features (`width` 0).
+   *
+   * @example
+   * const events = new FrameDecoder({ label: 'rejected', id: 'leg_id' });
+   * const labels = events.labelsDecoder({ id: 'leg_id', label: 'rejected' });
+   */
+  labelsDecoder(
+    columns: { readonly id: string; readonly label: string; readonly carryFeatures?: boolean },
+    where = 'labels options',
+  ): FrameDecoder {
+    const carry = columns.carryFeatures === true;
+    if (carry && this.current === null) {
+      throw new ShoalError(
+        'invalid-parameter',
+        `${where}: the events' schema is not known yet, so labels cannot carry its features`,
+      );
+    }
+    const decoder = new FrameDecoder(
+      {
+        id: columns.id,
+        label: columns.label,
+        features: [],
+        maxClasses: this.options.maxClasses,
+      },
+      where,
+    );
+    decoder.labels = this.labels;
+    if (carry) {
+      decoder.current = this.current;
+      decoder.vocabularies = this.vocabularies;
+    }
+    return decoder;
   }
 
   /** The label dictionary, for readers. */

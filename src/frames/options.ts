@@ -98,11 +98,9 @@ function checkNames(
 
 function wholeAtLeast(issues: ConfigIssue[], path: string, value: unknown, min: number): value is number {
   if (typeof value === 'number' && Number.isInteger(value) && value >= min) return true;
-  issues.push({
-    path,
-    code: 'wrong-type',
-    message: `must be an integer ≥ ${min}, got ${JSON.stringify(value)}`,
-  });
+  const code =
+    typeof value !== 'number' ? 'wrong-type' : Number.isInteger(value) ? 'out-of-range' : 'not-an-integer';
+  issues.push({ path, code, message: `must be an integer ≥ ${min}, got ${JSON.stringify(value)}` });
   return false;
 }
 

@@ -34,8 +34,12 @@ import { impurity, splitMerit } from './split-merit.js';
  *
  * A leaf collects sufficient statistics; every `checkInterval` units of weight it ranks candidate splits
  * by merit G (information gain, or Gini reduction) and splits on the best attribute when
- *   G(best) − G(second best) > ε  or  ε < τ,   with ε = √(R² ln(1/δ) / 2n)   (the Hoeffding bound, eq. 1),
- * R = log₂(classes) for information gain and 1 for Gini. Numeric attributes keep one Gaussian per class
+ *   G(best) − G(second best) > ε  or  ε < τR,   with ε = √(R² ln(1/δ) / 2n)   (the Hoeffding bound, eq. 1),
+ * R = log₂(classes) for information gain and 1 for Gini. The paper's tie rule ε < τ was stated for two
+ * classes (R = 1); Shoal reads τ as a share of the range, so that the rule asks for the same n at any
+ * number of classes — with ε < τ a 26-class tree needed 22 times the rows (R² ≈ 22) before its first
+ * split. n is the weight the leaf observed itself; a split's children start from the parent's class
+ * counts and statistics (see `inherit`). Numeric attributes keep one Gaussian per class
  * and test `candidateThresholds` evenly spaced thresholds between the observed minimum and maximum
  * (Pfahringer, Holmes & Kirkby, "Handling numeric attributes in Hoeffding trees", PAKDD 2008).
  * Nominal attributes keep class counts per category and split multiway. Leaves predict by the majority
@@ -47,7 +51,7 @@ import { impurity, splitMerit } from './split-merit.js';
  *
  * Layout, for speed: nodes are 32-byte records (one cache line holds what a step of a walk reads).
  * Every leaf has a row of `heads`
- *   [last attempt, majority right, naive Bayes right, weight seen | class counts (C)],
+ *   [last attempt, majority right, naive Bayes right, weight observed | class counts (C)],
  * and every active leaf one slot of the `stats` pool with its attribute statistics. A slot's numeric
  * region holds, first, each numeric attribute's per-class [mean, 1/variance] side by side (all that
  * naive Bayes reads, so a prediction touches a third of the slot), then, class by class, each numeric
@@ -78,7 +82,7 @@ export const HOEFFDING_TREE_OPTIONS = {
     type: 'number',
     atLeast: 0,
     default: 0.05,
-    doc: 'τ: split anyway when ε falls below it (Domingos & Hulten: 0.05)',
+    doc: "τ, in units of the merit's range R: split anyway when ε < τR (Domingos & Hulten: 0.05, R = 1)",
   },
   merit: { type: 'choice', choices: ['info-gain', 'gini'], default: 'info-gain', doc: 'the split criterion' },
   leafModel: {
@@ -127,13 +131,17 @@ export type LeafModel = HoeffdingTreeOptions['leafModel'];
 export const HOEFFDING_TREE_DEFAULTS: HoeffdingTreeOptions = defaultsOf(HOEFFDING_TREE_OPTIONS);
 
 const KIND = 'hoeffding-tree';
-const VERSION = 3;
+const VERSION = 4;
 
 // Leaf head.
 const H_LAST_ATTEMPT = 0;
 const H_MC_CORRECT = 1;
 const H_NB_CORRECT = 2;
-const H_SEEN = 3;
+/**
+ * Weight the leaf's own statistics have observed: the n of the Hoeffding bound and the clock of split
+ * attempts. Not the class counts, which a split seeds from the parent.
+ */
+const H_OBSERVED = 3;
 const HEAD = 4;
 // Numeric statistics of one attribute and class, in two regions of a slot (see the class comment):
 // what naive Bayes reads, feature-major, ...
@@ -161,6 +169,8 @@ const NODE_BYTES = 32 + 4;
 const PREDICT_MAJORITY = 0;
 const PREDICT_NB = 1;
 const PREDICT_ADAPTIVE = 2;
+/** The prior a split's children inherit, in check intervals of the parent's weight (see `inherit`). */
+const PRIOR_SHARE = 0.25;
 /** Weight trained between two checks of the memory cap, in check intervals. */
 const MEMORY_CHECK_GRACE_PERIODS = 10;
 
@@ -192,6 +202,21 @@ interface TreeState {
   readonly stats: readonly (string | null)[];
   readonly subsets: string | null;
   readonly rng: RngState;
+}
+
+/** What a split hands its children: a copy of the parent's slot and what is needed to read it. */
+interface ParentStats {
+  readonly stats: Float64Array;
+  /** Where each feature sits in the parent's slot (see `layoutOf`). */
+  readonly where: Int32Array;
+  /** Each class's weight in the split attribute's statistics. */
+  readonly classWeight: Float64Array;
+  /** Weight the parent's statistics observed. */
+  readonly observed: number;
+  readonly majorityRight: number;
+  readonly naiveBayesRight: number;
+  readonly splitFeature: number;
+  readonly threshold: number;
 }
 
 function grownI32(a: Int32Array, size: number): Int32Array<ArrayBuffer> {
@@ -777,12 +802,12 @@ export class HoeffdingTree implements Classifier {
       if (nb === label) heads[head + H_NB_CORRECT]! += weight;
     }
     heads[head + HEAD + label]! += weight;
-    heads[head + H_SEEN]! += weight;
-    const seen = heads[head + H_SEEN]!;
     if (slot < 0) return;
     this.observe(leaf, slot, row, offset, label, weight);
-    if (seen - heads[head + H_LAST_ATTEMPT]! >= this.options.checkInterval) {
-      heads[head + H_LAST_ATTEMPT] = seen;
+    heads[head + H_OBSERVED]! += weight;
+    const observed = heads[head + H_OBSERVED]!;
+    if (observed - heads[head + H_LAST_ATTEMPT]! >= this.options.checkInterval) {
+      heads[head + H_LAST_ATTEMPT] = observed;
       if (this.depth[node]! < this.options.depthLimit) this.attemptSplit(node, leaf);
     }
     this.sinceMemoryCheck += weight;
@@ -851,16 +876,16 @@ export class HoeffdingTree implements Classifier {
     const heads = this.heads;
     const head = leaf * this.headSize;
     let seenClasses = 0;
-    let total = 0;
-    for (let k = 0; k < c; k++) {
-      const v = heads[head + HEAD + k]!;
-      if (v > 0) seenClasses++;
-      total += v;
-    }
+    for (let k = 0; k < c; k++) if (heads[head + HEAD + k]! > 0) seenClasses++;
     if (seenClasses < 2) return;
     const o = this.options;
     const range = o.merit === 'gini' ? 1 : Math.log2(c);
-    const epsilon = hoeffdingBound(range, o.hoeffdingDelta, total);
+    // n is the weight this leaf has observed itself, not its class counts: a split seeds those with the
+    // parent's, and a bound over the parent's n let each child split again after one check interval of
+    // its own rows (the cascade of splits that collapsed members at λ = 6). The tie rule is in units of
+    // the merit's range R, so that it means the same for any number of classes: ε < τR, that is
+    // n > ln(1/δ)/(2τ²) (Domingos & Hulten 2000, eq. 1, with τ stated for R = 1).
+    const epsilon = hoeffdingBound(range, o.hoeffdingDelta, heads[head + H_OBSERVED]!);
     const stats = this.stats;
     const subset = this.subsets;
     const per = this.perLeaf;
@@ -892,7 +917,7 @@ export class HoeffdingTree implements Classifier {
         second = merit;
       }
     }
-    if (bestFeature >= 0 && (bestMerit - second > epsilon || epsilon < o.tieBreak)) {
+    if (bestFeature >= 0 && (bestMerit - second > epsilon || epsilon < o.tieBreak * range)) {
       this.split(node, leaf, bestFeature, bestThreshold);
     }
   }
@@ -977,44 +1002,161 @@ export class HoeffdingTree implements Classifier {
     return w * normalCdf(cut, mean, Math.sqrt(variance));
   }
 
-  /** Turn a leaf into an internal node with fresh leaves below it. */
+  /**
+   * Turn a leaf into an internal node with new leaves below it. Each child starts with the class counts
+   * the split attribute sends its way and inherits the parent's per-class attribute statistics (see
+   * `inherit`), so that its first predictions are the parent's naive Bayes with the child's priors
+   * instead of a majority vote or a naive Bayes over a handful of rows.
+   */
   private split(node: number, leaf: number, f: number, threshold: number): void {
     const c = this.c;
     const stats = this.stats;
+    const heads = this.heads;
     const branches = this.nominal[f] === 1 ? this.cardinality[f]! : 2;
     const childDepth = this.depth[node]! + 1;
-    // Locate the attribute's statistics to seed the children's class counts.
-    const subset = this.subsets;
-    const per = this.perLeaf;
     const base = this.slotOf[leaf]! * this.slotSize;
-    let numeric = 0;
-    let nom = base + this.numericSize;
-    for (let j = 0; j < per; j++) {
-      const g = subset === null ? j : subset[leaf * per + j]!;
-      if (g === f) break;
-      if (this.nominal[g] === 1) nom += (this.cardinality[g]! + 1) * c;
-      else numeric++;
-    }
+    const where = this.layoutOf(leaf);
+    const at = where[f]!;
+    // The weight of each class in the split attribute, and the share of it each branch gets.
     const seeds = new Float64Array(branches * c);
+    const classWeight = new Float64Array(c);
     for (let k = 0; k < c; k++) {
       if (this.nominal[f] === 1) {
+        const nom = base + this.numericSize + at;
         for (let b = 0; b < branches; b++) seeds[b * c + k] = stats[nom + b * c + k]!;
+        classWeight[k] = stats[nom + branches * c + k]!;
       } else {
-        const below = this.weightBelow(base, numeric, k, threshold);
+        const w = stats[this.trainAt(base, at, k) + T_W]!;
+        const below = this.weightBelow(base, at, k, threshold);
         seeds[k] = below;
-        seeds[c + k] = Math.max(0, stats[this.trainAt(base, numeric, k) + T_W]! - below);
+        seeds[c + k] = Math.max(0, w - below);
+        classWeight[k] = w;
       }
     }
+    const parent = stats.slice(base, base + this.slotSize);
+    const head = leaf * this.headSize;
+    const from: ParentStats = {
+      stats: parent,
+      where,
+      classWeight,
+      observed: heads[head + H_OBSERVED]!,
+      majorityRight: heads[head + H_MC_CORRECT]!,
+      naiveBayesRight: heads[head + H_NB_CORRECT]!,
+      splitFeature: f,
+      threshold,
+    };
     // The split node gives up its leaf: the first child takes over the leaf's index, with a fresh slot.
     this.releaseSlot(leaf);
     for (let b = 0; b < branches; b++) {
       const child = this.addLeafNode(childDepth, seeds.subarray(b * c, (b + 1) * c), b === 0 ? leaf : -1);
       if (b === 0) this.nodeI[8 * node + N_FIRST] = child;
+      this.inherit(this.nodeI[8 * child + N_LEAF]!, from, seeds, b);
     }
     this.nodeF[4 * node + N_THRESHOLD] = threshold;
     this.nodeI[8 * node + N_FEATURE] = f;
     this.nodeI[8 * node + N_COUNT] = branches;
     this.nodeI[8 * node + N_LEAF] = -1;
+  }
+
+  /**
+   * Where each feature's statistics sit in a leaf's slot: the numeric index for a numeric feature, the
+   * offset within the nominal region for a nominal one, −1 for a feature the leaf does not consider.
+   */
+  private layoutOf(leaf: number): Int32Array {
+    const where = new Int32Array(this.width).fill(-1);
+    const subset = this.subsets;
+    const per = this.perLeaf;
+    let numeric = 0;
+    let nom = 0;
+    for (let j = 0; j < per; j++) {
+      const g = subset === null ? j : subset[leaf * per + j]!;
+      if (this.nominal[g] === 1) {
+        where[g] = nom;
+        nom += (this.cardinality[g]! + 1) * this.c;
+      } else {
+        where[g] = numeric++;
+      }
+    }
+    return where;
+  }
+
+  /**
+   * Give the child of branch `b` the parent's per-class statistics of every attribute both consider,
+   * each class's weight scaled by the share of it the branch received. Under naive Bayes's own
+   * assumption (attributes independent given the class) the class-conditional distribution of the other
+   * attributes is the same on both sides of a split, so this is the parent's model restricted to the
+   * branch; the split attribute keeps its mean and spread, with its range cut at the threshold.
+   * The inherited statistics act as a prior worth at most a quarter of `checkInterval` of the parent's
+   * weight, so that the child's own rows outweigh them long before its first split can pass the
+   * Hoeffding bound (whose n counts only what the child observed): a stronger prior held SEA's thin
+   * leaves to the parent's Gaussians (θ = 8: 0.868 at a full interval, 0.877 at a quarter, 0.882 at a
+   * twentieth), a weaker one let a 26-class tree fall back towards its fresh leaves' guesses. The adaptive leaf's scores are inherited in the same
+   * proportion, so a parent that predicted by naive Bayes has children that do too.
+   */
+  private inherit(leaf: number, from: ParentStats, seeds: Float64Array, b: number): void {
+    const c = this.c;
+    const stats = this.stats;
+    const parent = from.stats;
+    let branchWeight = 0;
+    let parentWeight = 0;
+    for (let k = 0; k < c; k++) {
+      branchWeight += seeds[b * c + k]!;
+      parentWeight += from.classWeight[k]!;
+    }
+    if (!(branchWeight > 0 && parentWeight > 0 && from.observed > 0)) return;
+    const prior = (PRIOR_SHARE * this.options.checkInterval * parentWeight) / from.observed;
+    const scale = branchWeight > prior ? prior / branchWeight : 1;
+    const share = this.probe;
+    for (let k = 0; k < c; k++) {
+      const w = from.classWeight[k]!;
+      share[k] = w > 0 ? (seeds[b * c + k]! / w) * scale : 0;
+    }
+    const base = this.slotOf[leaf]! * this.slotSize;
+    const subset = this.subsets;
+    const per = this.perLeaf;
+    let numeric = 0;
+    let nom = base + this.numericSize;
+    for (let j = 0; j < per; j++) {
+      const g = subset === null ? j : subset[leaf * per + j]!;
+      const at = from.where[g]!;
+      if (this.nominal[g] === 1) {
+        const v = this.cardinality[g]!;
+        if (at >= 0) {
+          const src = this.numericSize + at;
+          for (let r = 0; r <= v; r++)
+            for (let k = 0; k < c; k++) stats[nom + r * c + k] = parent[src + r * c + k]! * share[k]!;
+        }
+        nom += (v + 1) * c;
+        continue;
+      }
+      if (at >= 0) {
+        for (let k = 0; k < c; k++) {
+          const w = parent[this.trainAt(0, at, k) + T_W]! * share[k]!;
+          if (!(w > 0)) continue;
+          const p = this.predAt(base, numeric, k);
+          const t = this.trainAt(base, numeric, k);
+          const pp = this.predAt(0, at, k);
+          const pt = this.trainAt(0, at, k);
+          stats[p + P_MEAN] = parent[pp + P_MEAN]!;
+          stats[p + P_INV_VAR] = parent[pp + P_INV_VAR]!;
+          stats[t + T_W] = w;
+          stats[t + T_M2] = parent[pt + T_M2]! * share[k]!;
+          let lo = parent[pt + T_MIN]!;
+          let hi = parent[pt + T_MAX]!;
+          if (g === from.splitFeature) {
+            if (b === 0) hi = Math.min(hi, from.threshold);
+            else lo = Math.max(lo, from.threshold);
+          }
+          stats[t + T_MIN] = lo;
+          stats[t + T_MAX] = hi;
+        }
+      }
+      numeric++;
+    }
+    const head = leaf * this.headSize;
+    const inherited = (branchWeight * scale) / parentWeight;
+    this.heads[head + H_MC_CORRECT] = from.majorityRight * inherited;
+    this.heads[head + H_NB_CORRECT] = from.naiveBayesRight * inherited;
   }
 
   /** Append a leaf node (taking over leaf index `reuse` when ≥ 0); returns the node index. */
@@ -1141,7 +1283,8 @@ export class HoeffdingTree implements Classifier {
       const head = leaf * this.headSize;
       this.heads[head + H_MC_CORRECT] = 0;
       this.heads[head + H_NB_CORRECT] = 0;
-      this.heads[head + H_LAST_ATTEMPT] = this.heads[head + H_SEEN]!;
+      this.heads[head + H_LAST_ATTEMPT] = 0;
+      this.heads[head + H_OBSERVED] = 0;
       this.slotOf[leaf] = this.allocateSlot();
     }
   }

@@ -46,13 +46,35 @@ import {
  *   lifecycle: { detector: { kind: adwin, delta: 0.002 } }
  * evaluation: { window: 1000 }
  * inputs: { label: rejected, id: leg_id }
+ * labels: { pending: 100000, maxAgeSeconds: 604800, unmatched: ignore }
  */
 export interface RunConfig {
   readonly seed: string;
   readonly ensemble: EnsembleSpec;
   readonly evaluation: EvaluationConfig;
   readonly inputs: InputsConfig;
+  readonly labels: LabelsConfig;
 }
+
+/**
+ * How late labels are joined to the predictions served for them (see `LearningSession`).
+ * - `pending`: predictions kept waiting for a label at most (a prediction is evicted once this many
+ *   newer ones were made);
+ * - `maxAgeSeconds`: a prediction waits at most this long (wall-clock time), or null for no age bound;
+ * - `unmatched`: what a label that finds no prediction does: `ignore` (counted only), or `train` on the
+ *   label's own row when the label carries the row's features.
+ */
+export interface LabelsConfig {
+  readonly pending: number;
+  readonly maxAgeSeconds: number | null;
+  readonly unmatched: 'ignore' | 'train';
+}
+
+export const LABELS_DEFAULTS: LabelsConfig = {
+  pending: 100_000,
+  maxAgeSeconds: 604_800,
+  unmatched: 'ignore',
+};
 
 export interface EvaluationConfig {
   readonly window: number;
@@ -297,6 +319,24 @@ function checkInputs(c: Checker, value: unknown): InputsConfig {
   };
 }
 
+function checkLabels(c: Checker, value: unknown): LabelsConfig {
+  const raw = c.object('labels', value, ['pending', 'maxAgeSeconds', 'unmatched']);
+  const unmatched = raw.unmatched ?? LABELS_DEFAULTS.unmatched;
+  if (unmatched !== 'ignore' && unmatched !== 'train')
+    c.fail('labels.unmatched', `must be one of ignore, train, got ${describe(unmatched)}`);
+  return {
+    pending:
+      c.number('labels.pending', raw.pending, (n) => Number.isInteger(n) && n >= 1, 'a whole number ≥ 1') ??
+      LABELS_DEFAULTS.pending,
+    maxAgeSeconds:
+      raw.maxAgeSeconds === null
+        ? null
+        : (c.number('labels.maxAgeSeconds', raw.maxAgeSeconds, (n) => n > 0, 'a number > 0 or null') ??
+          LABELS_DEFAULTS.maxAgeSeconds),
+    unmatched: unmatched === 'train' ? 'train' : 'ignore',
+  };
+}
+
 /**
  * Check a parsed configuration and fill in the defaults. Every problem is reported at once in a
  * `ConfigError` whose issues name the field (`ensemble.learners[1].checkInterval: …`); `source` names
@@ -304,7 +344,7 @@ function checkInputs(c: Checker, value: unknown): InputsConfig {
  */
 export function resolveConfig(raw: unknown, source: string): RunConfig {
   const c = new Checker();
-  const top = c.object('', raw, ['seed', 'ensemble', 'evaluation', 'inputs']);
+  const top = c.object('', raw, ['seed', 'ensemble', 'evaluation', 'inputs', 'labels']);
   let seed = DEFAULT_SEED;
   if (top.seed !== undefined) {
     if (
@@ -319,6 +359,7 @@ export function resolveConfig(raw: unknown, source: string): RunConfig {
   const ensemble = checkEnsemble(c, top.ensemble);
   const evaluation = checkEvaluation(c, top.evaluation);
   const inputs = checkInputs(c, top.inputs);
+  const labels = checkLabels(c, top.labels);
   if (c.issues.length > 0) throw new ConfigError(source, c.issues);
-  return { seed, ensemble, evaluation, inputs };
+  return { seed, ensemble, evaluation, inputs, labels };
 }

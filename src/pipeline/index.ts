@@ -1,7 +1,5 @@
-export type { EvaluationConfig, InputsConfig, RunConfig } from './config.js';
-export { DEFAULT_SEED, resolveConfig } from './config.js';
-export type { LoopOptions, RowBatch } from './loop.js';
-export { LearningLoop } from './loop.js';
+export type { EvaluationConfig, InputsConfig, LabelsConfig, RunConfig } from './config.js';
+export { DEFAULT_SEED, LABELS_DEFAULTS, resolveConfig } from './config.js';
 export type {
   CheckpointStore,
   Clock,
@@ -18,3 +16,5 @@ export type {
   SourceBatch,
   StoredCheckpoint,
 } from './ports.js';
+export type { SessionCounts, SessionOptions, SessionSnapshot } from './session.js';
+export { LABEL_DELAY_BOUNDS, LearningSession } from './session.js';

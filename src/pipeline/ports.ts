@@ -59,10 +59,12 @@ export interface LabelSource {
  * class probabilities are `probabilities[r × classes … (r + 1) × classes)`.
  */
 export interface ScoreBatch {
+  /** Row r of the batch is row `first + r` of the frame scored (and of `ids`). */
+  readonly first: number;
   readonly rows: number;
   /** Class names, index = class code. */
   readonly classes: readonly string[];
-  /** Event id of each row, or null when the source has none. */
+  /** The frame's event ids (row r of the batch has id `ids[first + r]`), or null when it has none. */
   readonly ids: readonly string[] | null;
   readonly probabilities: Float64Array;
   readonly predicted: Int32Array;
@@ -164,6 +166,11 @@ export interface SessionMetrics {
   /** Predictions waiting for a label now, and the store's count bound. */
   readonly pendingSize: number;
   readonly pendingCapacity: number;
+  /**
+   * Joined labels by delay from serving to joining: `counts[k]` labels took at most `bounds[k]` seconds
+   * (and more than the bound before); the last count is beyond the last bound.
+   */
+  labelDelays(): { readonly bounds: readonly number[]; readonly counts: readonly number[] };
   /** Accuracy and Cohen's κ over the evaluation window; null before the first judged row. */
   readonly windowAccuracy: number | null;
   readonly windowKappa: number | null;

@@ -4,7 +4,7 @@ import { type ConceptSchedule, conceptSchedule, type ScheduledConcept } from './
 
 /**
  * A stream as a user asks for it, on the command line or in `shoal.yaml`:
- * `shoal synth sea --concepts 8,9,7,9.5 --every 25000 --width 0 --noise 0.1`.
+ * `shoal spawn sea --concepts 8,9,7,9.5 --every 25000 --width 0 --noise 0.1`.
  */
 export interface StreamRequest {
   /** A generator name (see `STREAM_NAMES`). */

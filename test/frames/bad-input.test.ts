@@ -315,7 +315,7 @@ describe('frame options are validated, every bad field named by its path', () =>
       'features[3].name',
     ]);
     expect((error as ConfigError).message).toMatch(
-      /^shoal\.yaml: input: exclude\[0\]: excludes the label or id column "outcome"/,
+      /^shoal\.yaml: input: 8 problems\n {2}exclude\[0\]: excludes the label or id column "outcome" \[conflict\]/,
     );
     expect((error as ConfigError).message).toMatch(
       /features\[1\]\.kind: must be numeric or nominal, got "categorical"/,

@@ -108,6 +108,19 @@ export function describeDetectorContract(c: DetectorCase): void {
       expect(worst).toBeLessThan(1e-9);
     });
 
+    it('says the mean rose at the first alarm after the suite stream rises, before any reset', () => {
+      const values = stream(c.domain, 43, 9000);
+      const detector = createDetector(c.spec);
+      expect(detector.shift).toBeNull();
+      let t = 3000;
+      for (let i = 0; i < 3000; i++) detector.update(values[i]!);
+      while (t < 9000 && detector.update(values[t]!) !== 'drift') t++;
+      expect(t).toBeLessThan(9000);
+      expect(detector.shift).toBe('rise');
+      // The estimate at the alarm is the risen level (0.6 in the stream), not the one after a reset.
+      expect(detector.alarmEstimate).toBeGreaterThan(c.domain === 'real' ? 2 : 0.2);
+    });
+
     it('forgets everything on reset', () => {
       const values = stream(c.domain, 53, 8000);
       const used = createDetector(c.spec);

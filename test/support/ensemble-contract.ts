@@ -4,10 +4,10 @@ import {
   type Ensemble,
   type EnsembleSnapshot,
   type EnsembleSpec,
-  type LifecycleRecord,
   restoreEnsemble,
   Verdict,
 } from '../../src/ensembles/index.js';
+import type { LifecycleChange } from '../../src/journal/index.js';
 import { buildStream, type ConceptSchedule } from '../../src/streams/index.js';
 
 /**
@@ -43,7 +43,7 @@ function push(trace: number[], v: Verdict): void {
 interface Run {
   readonly ensemble: Ensemble;
   readonly trace: Float64Array;
-  readonly records: LifecycleRecord[];
+  readonly records: LifecycleChange[];
 }
 
 type Step = (e: Ensemble, row: Float64Array, label: number, v: Verdict) => void;
@@ -55,7 +55,7 @@ const apart: Step = (e, row, label, v) => {
 };
 
 function run(c: EnsembleCase, step: Step, rows = ROWS, seed = SEED): Run {
-  const records: LifecycleRecord[] = [];
+  const records: LifecycleChange[] = [];
   const gen = stream();
   const ensemble = createEnsemble(c.spec, gen.schema, seed, (r) => records.push(r));
   return { ensemble, records, trace: continueRun(ensemble, gen, step, rows) };
@@ -106,7 +106,7 @@ export function describeEnsembleContract(c: EnsembleCase): void {
     it('restores from a JSON snapshot mid-run and ends identically', () => {
       const whole = run(c, together);
       const half = ROWS * 0.45;
-      const records: LifecycleRecord[] = [];
+      const records: LifecycleChange[] = [];
       const gen = stream();
       const first = createEnsemble(c.spec, gen.schema, SEED, (r) => records.push(r));
       const before = continueRun(first, gen, together, half);

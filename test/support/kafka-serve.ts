@@ -1,0 +1,129 @@
+import { type ChildProcess, spawn } from 'node:child_process';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { tableFromIPC } from 'apache-arrow';
+import { Kafka, type KafkaMessage, logLevel, type Message } from 'kafkajs';
+import { uniqueName } from './kafka-names.js';
+
+/**
+ * Helpers for tests that run `shoal serve` against the test broker: topics, producing events, reading
+ * a topic back, and the service as a real child process (so that signals and exit codes are real).
+ */
+
+const repo = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
+
+export function client(brokers: string): Kafka {
+  return new Kafka({ clientId: 'shoal-test', brokers: brokers.split(','), logLevel: logLevel.NOTHING });
+}
+
+export async function createTopics(brokers: string, topics: Record<string, number>): Promise<void> {
+  const admin = client(brokers).admin();
+  await admin.connect();
+  await admin.createTopics({
+    topics: Object.entries(topics).map(([topic, numPartitions]) => ({ topic, numPartitions })),
+    waitForLeaders: true,
+  });
+  await admin.disconnect();
+}
+
+export async function produce(brokers: string, topic: string, messages: Message[]): Promise<void> {
+  const producer = client(brokers).producer();
+  await producer.connect();
+  for (let i = 0; i < messages.length; i += 200) {
+    await producer.send({ topic, messages: messages.slice(i, i + 200), acks: -1 });
+  }
+  await producer.disconnect();
+}
+
+/** Read a topic from the start until `done(messages)` says enough (or the timeout passes). */
+export async function readTopic(
+  brokers: string,
+  topic: string,
+  done: (seen: readonly KafkaMessage[]) => boolean,
+  timeoutMs = 120_000,
+): Promise<KafkaMessage[]> {
+  const consumer = client(brokers).consumer({ groupId: uniqueName('reader'), maxWaitTimeInMs: 500 });
+  await consumer.connect();
+  await consumer.subscribe({ topic, fromBeginning: true });
+  const seen: KafkaMessage[] = [];
+  await new Promise<void>((finish, fail) => {
+    const timer = setTimeout(
+      () => fail(new Error(`${topic}: only ${seen.length} messages after ${timeoutMs} ms`)),
+      timeoutMs,
+    );
+    void consumer.run({
+      eachMessage: async ({ message }) => {
+        seen.push(message);
+        if (done(seen)) {
+          clearTimeout(timer);
+          finish();
+        }
+      },
+    });
+  });
+  await consumer.disconnect();
+  return seen;
+}
+
+/** The rows of scores messages (Arrow IPC streams), as plain objects. */
+export function scoreRows(messages: readonly KafkaMessage[]): Record<string, unknown>[] {
+  return messages.flatMap((m) =>
+    tableFromIPC(m.value!)
+      .toArray()
+      .map((r) => r.toJSON() as Record<string, unknown>),
+  );
+}
+
+export function countScoreRows(messages: readonly KafkaMessage[]): number {
+  let n = 0;
+  for (const m of messages) n += tableFromIPC(m.value!).numRows;
+  return n;
+}
+
+/** `shoal serve` as a child process; its stdout (the JSON log) and stderr are kept. */
+export class ServeProcess {
+  stdout = '';
+  stderr = '';
+  readonly exited: Promise<number | null>;
+  private readonly child: ChildProcess;
+
+  constructor(config: string, env: Record<string, string> = {}, args: string[] = []) {
+    this.child = spawn(
+      process.execPath,
+      [join(repo, 'bin', 'shoal.js'), 'serve', '--config', config, ...args],
+      {
+        env: { ...process.env, ...env },
+        stdio: ['ignore', 'pipe', 'pipe'],
+      },
+    );
+    this.child.stdout!.on('data', (c: Buffer) => {
+      this.stdout += c.toString('utf8');
+    });
+    this.child.stderr!.on('data', (c: Buffer) => {
+      this.stderr += c.toString('utf8');
+    });
+    this.exited = new Promise((done) => this.child.once('exit', (code) => done(code)));
+  }
+
+  /** Log records (JSON lines of stdout). */
+  logs(): Record<string, unknown>[] {
+    return this.stdout
+      .split('\n')
+      .filter((l) => l.startsWith('{'))
+      .map((l) => JSON.parse(l) as Record<string, unknown>);
+  }
+
+  /** Resolves once a log line says `msg`. */
+  async waitFor(msg: string, timeoutMs = 60_000): Promise<void> {
+    const began = Date.now();
+    while (!this.logs().some((l) => l.msg === msg)) {
+      if (Date.now() - began > timeoutMs)
+        throw new Error(`serve never logged ${JSON.stringify(msg)}:\n${this.stdout}\n${this.stderr}`);
+      await new Promise((d) => setTimeout(d, 100));
+    }
+  }
+
+  signal(name: NodeJS.Signals): void {
+    this.child.kill(name);
+  }
+}
