@@ -1,4 +1,4 @@
-import { ShoalError } from '../core/index.js';
+import { ConfigError, ShoalError } from '../core/index.js';
 import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
 import { countRows, deadLetterFile, journalFile } from '../files/index.js';
@@ -54,6 +54,8 @@ function withOverrides(
   parsed: ReturnType<typeof parse>,
   schema: Record<string, unknown> | undefined,
 ): unknown {
+  // Not a mapping: nothing to fold into; the check reports the top level as it is.
+  if (Array.isArray(raw) || (raw !== null && typeof raw !== 'object')) return raw;
   const base = (raw ?? {}) as Record<string, unknown>;
   const ensemble = { ...((base.ensemble ?? {}) as Record<string, unknown>) };
   const inputs = { ...((base.inputs ?? {}) as Record<string, unknown>) };
@@ -173,7 +175,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const raw = configPath === undefined ? {} : await readConfigFile(configPath);
   const schema = schemaPath === undefined ? undefined : await readSchemaFile(schemaPath);
   const source = configPath ?? 'command line';
-  const config = resolveConfig(withOverrides(raw, parsed, schema), source);
+  const config = resolveWithFlags(withOverrides(raw, parsed, schema), source, parsed, schemaPath);
   const decoder = new FrameDecoder(frameOptions(config), source);
   const format = text(parsed, 'format') as FrameFormat | undefined;
   const timing = labelTiming(parsed, config);
@@ -252,6 +254,47 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   }
   if (failures.length > 0) throw new ShoalError('io-failure', failures.join('; '));
   return 0;
+}
+
+/** The configuration paths each command-line flag sets. */
+const FLAG_PATHS: readonly (readonly [string, string])[] = [
+  ['ensemble', 'ensemble.kind'],
+  ['members', 'ensemble.members'],
+  ['learner', 'ensemble.learners'],
+  ['detector', 'ensemble.lifecycle.detector'],
+  ['label', 'inputs.label'],
+  ['id', 'inputs.id'],
+  ['seed', 'seed'],
+];
+
+/**
+ * Check the configuration with the flags folded in; an issue about a value a flag set is reported
+ * against the flag (`--learner: must be one of …`), one from a `--schema` file against that file.
+ */
+function resolveWithFlags(
+  raw: unknown,
+  source: string,
+  parsed: ReturnType<typeof parse>,
+  schemaPath: string | undefined,
+): RunConfig {
+  try {
+    return resolveConfig(raw, source);
+  } catch (e) {
+    if (!(e instanceof ConfigError)) throw e;
+    const issues = e.issues.map((issue) => {
+      for (const [flag, path] of FLAG_PATHS) {
+        if (
+          parsed.values[flag] !== undefined &&
+          (issue.path === path || issue.path.startsWith(`${path}.`) || issue.path.startsWith(`${path}[`))
+        )
+          return { ...issue, path: `--${flag}` };
+      }
+      if (schemaPath !== undefined && issue.path.startsWith('inputs.'))
+        return { ...issue, path: `--schema ${schemaPath}: ${issue.path.slice('inputs.'.length)}` };
+      return issue;
+    });
+    throw new ConfigError(source, issues);
+  }
 }
 
 /** A `--schema` file: a list of features, or a mapping of input settings with `features`. */

@@ -15,7 +15,7 @@ export type { LabelMode } from './label-dictionary.js';
 export { decodeJsonRecord, ndjsonFrames } from './ndjson-read.js';
 export { ndjsonLayout } from './ndjson-write.js';
 export type { FeatureSpec, FrameOptions } from './options.js';
-export { DEFAULT_LABEL, DEFAULT_MAX_CLASSES, DEFAULT_VOCABULARY } from './options.js';
+export { checkFeatureSpecs, DEFAULT_LABEL, DEFAULT_MAX_CLASSES, DEFAULT_VOCABULARY } from './options.js';
 export type { ReadOptions } from './read-options.js';
 export { DEFAULT_BATCH_ROWS } from './read-options.js';
 export type { LineChunk } from './text-frames.js';
