@@ -5,10 +5,11 @@ import type { LearningSession } from '../pipeline/index.js';
 const NO_FEATURES: FeatureSchema = { features: [] };
 
 /**
- * Labels held back until the replay reaches the row count at which each becomes known (its `due`:
- * rows scored), then handed to the session in the order they were queued. Dues never decrease. The
- * queue is a ring of typed arrays that doubles when full (so it allocates only while it grows), and it
- * is exposed to the session as one frame over the ring: `learn` reads a contiguous range of it.
+ * Labels held back until the replay reaches the moment each becomes known (its `due`, in rows scored
+ * or in the events' time), then handed to the session earliest due first (ties in the order queued).
+ * The labels sit in slots of typed arrays that double when full (so the queue allocates only while it
+ * grows), ordered by a binary heap of slot numbers; the session reads each one in place through one
+ * frame over the slots.
  *
  * @example
  * const queue = new LabelQueue('labels.csv');
@@ -20,11 +21,15 @@ export class LabelQueue {
   private readonly width: number;
   private readonly schema: FeatureSchema;
   private dues = new Float64Array(16);
+  private order = new Float64Array(16);
   private labels = new Float64Array(16);
   private values: Float64Array;
   private ids: string[] = new Array<string>(16).fill('');
-  private head = 0;
+  private heap = new Int32Array(16);
+  private free = new Int32Array(16);
   private size = 0;
+  private freeCount = 16;
+  private pushed = 0;
   private view: Frame;
 
   /** `schema`: the events' schema when labels carry their rows' features; none by default. */
@@ -33,6 +38,7 @@ export class LabelQueue {
     this.width = schema.features.length;
     this.schema = schema;
     this.values = new Float64Array(16 * this.width);
+    for (let k = 0; k < 16; k++) this.free[k] = 15 - k;
     this.view = this.frame();
   }
 
@@ -41,61 +47,78 @@ export class LabelQueue {
     return this.size;
   }
 
-  /** The due of the oldest label waiting, or +∞ when none waits. */
-  nextDue(): number {
-    return this.size === 0 ? Number.POSITIVE_INFINITY : this.dues[this.head]!;
-  }
-
-  /** Hold `label` for `id` until `due` rows were scored; `row` at `offset` holds its features (width > 0). */
+  /** Hold `label` for `id` until `due`; `row` at `offset` holds its features (when the queue keeps them). */
   push(due: number, id: string, label: number, row: Float64Array | null = null, offset = 0): void {
-    if (this.size === this.dues.length) this.grow();
-    const cap = this.dues.length;
-    const at = (this.head + this.size) % cap;
-    this.dues[at] = due;
-    this.labels[at] = label;
-    this.ids[at] = id;
+    if (this.freeCount === 0) this.grow();
+    const slot = this.free[--this.freeCount]!;
+    this.dues[slot] = due;
+    this.order[slot] = this.pushed++;
+    this.labels[slot] = label;
+    this.ids[slot] = id;
     if (this.width > 0 && row !== null) {
-      this.values.set(row.subarray(offset, offset + this.width), at * this.width);
+      this.values.set(row.subarray(offset, offset + this.width), slot * this.width);
     }
-    this.size++;
+    let at = this.size++;
+    const heap = this.heap;
+    while (at > 0) {
+      const parent = (at - 1) >> 1;
+      if (!this.before(slot, heap[parent]!)) break;
+      heap[at] = heap[parent]!;
+      at = parent;
+    }
+    heap[at] = slot;
   }
 
-  /** Give the session every label due by `scored` rows (all of them with +∞), oldest first. */
-  release(scored: number, session: LearningSession, classes: readonly string[]): void {
-    while (this.size > 0 && this.dues[this.head]! <= scored) {
-      const cap = this.dues.length;
-      let end = this.head;
-      let n = 0;
-      while (n < this.size && end < cap && this.dues[end]! <= scored) {
-        end++;
-        n++;
-      }
-      session.learn(this.view, classes, this.head, end);
-      this.head = end === cap ? 0 : end;
-      this.size -= n;
+  /** Give the session every label due by `now` (all of them with +∞), earliest due first. */
+  release(now: number, session: LearningSession, classes: readonly string[]): void {
+    while (this.size > 0 && this.dues[this.heap[0]!]! <= now) {
+      const slot = this.heap[0]!;
+      session.learn(this.view, classes, slot, slot + 1);
+      this.pop();
+      this.free[this.freeCount++] = slot;
     }
+  }
+
+  private before(a: number, b: number): boolean {
+    const da = this.dues[a]!;
+    const db = this.dues[b]!;
+    return da < db || (da === db && this.order[a]! < this.order[b]!);
+  }
+
+  private pop(): void {
+    const heap = this.heap;
+    const last = heap[--this.size]!;
+    let at = 0;
+    for (;;) {
+      const left = 2 * at + 1;
+      if (left >= this.size) break;
+      const right = left + 1;
+      const child = right < this.size && this.before(heap[right]!, heap[left]!) ? right : left;
+      if (!this.before(heap[child]!, last)) break;
+      heap[at] = heap[child]!;
+      at = child;
+    }
+    heap[at] = last;
   }
 
   private grow(): void {
     const cap = this.dues.length;
-    const dues = new Float64Array(cap * 2);
-    const labels = new Float64Array(cap * 2);
-    const values = new Float64Array(cap * 2 * this.width);
-    const ids = new Array<string>(cap * 2).fill('');
-    for (let k = 0; k < this.size; k++) {
-      const from = (this.head + k) % cap;
-      dues[k] = this.dues[from]!;
-      labels[k] = this.labels[from]!;
-      ids[k] = this.ids[from]!;
-      if (this.width > 0) {
-        values.set(this.values.subarray(from * this.width, (from + 1) * this.width), k * this.width);
-      }
-    }
-    this.dues = dues;
-    this.labels = labels;
-    this.values = values;
-    this.ids = ids;
-    this.head = 0;
+    const twice = (a: Float64Array): Float64Array<ArrayBuffer> => {
+      const b = new Float64Array(a.length * 2);
+      b.set(a);
+      return b;
+    };
+    this.dues = twice(this.dues);
+    this.order = twice(this.order);
+    this.labels = twice(this.labels);
+    this.values = twice(this.values);
+    this.ids = [...this.ids, ...new Array<string>(cap).fill('')];
+    const heap = new Int32Array(cap * 2);
+    heap.set(this.heap);
+    this.heap = heap;
+    this.free = new Int32Array(cap * 2);
+    for (let k = 0; k < cap; k++) this.free[k] = 2 * cap - 1 - k;
+    this.freeCount = cap;
     this.view = this.frame();
   }
 

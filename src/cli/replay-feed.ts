@@ -3,7 +3,7 @@ import {
   type Decoded,
   describeRow,
   type Frame,
-  type FrameDecoder,
+  FrameDecoder,
   type FrameFormat,
   type Rejection,
 } from '../frames/index.js';
@@ -11,19 +11,29 @@ import type { DeadLetter, LearningSession } from '../pipeline/index.js';
 import { LabelQueue } from './label-queue.js';
 
 /**
- * When the labels of a replay become known:
+ * When the labels of a replay become known. Time is the events' `--time` column when one is named,
+ * else the row number (1 for the first event scored); events are taken to come in time order.
  * - `inline`: with their rows (prequential, test-then-train);
- * - `delay`: each inline label is held back until `rows` more rows have been scored, then joined to
- *   the prediction served for its row by id (rows without an id column are joined by their row number);
- * - `file`: labels come from a file of their own (id and label columns), read alongside the events: the
- *   k-th label becomes known once k events have been scored (labels left over at the end are joined
- *   after the last event). A label whose row was not scored yet when it becomes known finds no
- *   prediction and counts as unknown.
+ * - `delay`: each inline label is held back until `rows` more rows have been scored;
+ * - `delay-column`: each inline label is held back until the time in the row's `column`;
+ * - `file`: labels come from a file of their own (id and label columns, in the order they arrived):
+ *   with `time`, each becomes known at the time in that column; without, the k-th label becomes known
+ *   once k events have been scored. Labels left at the end are joined after the last event.
+ * Held-back labels are joined by id to the prediction served for their row (in the delay modes, rows
+ * without an id column are joined by their row number). A label whose row has not been scored yet when
+ * it becomes known finds no prediction and counts as unknown.
  */
 export type LabelTiming =
   | { readonly kind: 'inline' }
   | { readonly kind: 'delay'; readonly rows: number }
-  | { readonly kind: 'file'; readonly path: string; readonly id: string; readonly label: string };
+  | { readonly kind: 'delay-column'; readonly column: string }
+  | {
+      readonly kind: 'file';
+      readonly path: string;
+      readonly id: string;
+      readonly label: string;
+      readonly time: string | null;
+    };
 
 export interface FeedOptions {
   readonly file: string;
@@ -32,13 +42,15 @@ export interface FeedOptions {
   readonly decoder: FrameDecoder;
   readonly session: LearningSession;
   readonly timing: LabelTiming;
+  /** The events' time column (excluded from the features), or null: time is the row number. */
+  readonly time: string | null;
   /** Carry the label rows' features (the `train` policy for unmatched labels). */
   readonly carryFeatures: boolean;
   /** `keep`: undecodable rows go to `deadLetter`; `throw`: the first stops the run. */
   readonly rejects: 'throw' | 'keep';
   readonly deadLetter: (letter: DeadLetter) => void;
   /** Called once the schema is known, before the first row is scored. */
-  readonly beforeScoring: () => void;
+  readonly beforeScoring?: () => void;
   /** Called after each batch of events is handled (progress, back-pressure). */
   readonly afterBatch: () => Promise<void>;
 }
@@ -55,100 +67,156 @@ export async function feed(o: FeedOptions): Promise<void> {
       o.deadLetter({ stream, position: BigInt(r.index), code: 'undecodable', reason: r.reason, bytes: null });
     }
   };
+  const columns = [o.time, timing.kind === 'delay-column' ? timing.column : null];
+  const format = o.format === undefined ? {} : { format: o.format };
+  const extra = columns.some((c) => c !== null) ? new ColumnReader(o.file, columns, format) : null;
+  const byTime = timing.kind === 'delay-column' || (timing.kind === 'file' && timing.time !== null);
+  let now = Number.NEGATIVE_INFINITY;
   let queue: LabelQueue | null = null;
   let labels: LabelReader | null = null;
   let consumed = 0n;
-  for await (const batch of readFrames(o.file, decoder, {
-    rejects: o.rejects,
-    ...(o.format === undefined ? {} : { format: o.format }),
-  })) {
-    refuse(o.file, batch.rejected);
-    o.beforeScoring();
-    const frame = batch.frame;
-    if (timing.kind === 'inline') {
-      session.score(frame, decoder.classes);
-    } else {
-      const schema = o.carryFeatures ? frame.schema : undefined;
-      queue ??= new LabelQueue(timing.kind === 'file' ? timing.path : o.file, schema);
-      if (timing.kind === 'file') {
-        labels ??= new LabelReader(timing, decoder, o.carryFeatures, o.rejects, refuse, o.deadLetter);
-        await fromFile(frame, session, decoder, queue, labels);
+  try {
+    for await (const batch of readFrames(o.file, decoder, { rejects: o.rejects, ...format })) {
+      refuse(o.file, batch.rejected);
+      o.beforeScoring?.();
+      const frame = batch.frame;
+      if (timing.kind === 'inline') {
+        session.score(frame, decoder.classes);
       } else {
-        delayed(frame, session, decoder, queue, timing.rows);
+        queue ??= new LabelQueue(
+          timing.kind === 'file' ? timing.path : o.file,
+          o.carryFeatures ? frame.schema : undefined,
+        );
+        if (timing.kind === 'file') {
+          labels ??= new LabelReader(timing, decoder, o.carryFeatures, o.rejects, refuse, o.deadLetter);
+        }
+        const values = extra === null ? null : await extra.align(frame);
+        const before = session.scored;
+        // Rows without an id column are joined by their row number (a string per row, in this mode only).
+        const ids = frame.ids ?? Array.from({ length: frame.rows }, (_, i) => String(before + i + 1));
+        const held: Frame = { ...frame, labels: null, ids };
+        for (let r = 0; r < frame.rows; r++) {
+          session.score(held, decoder.classes, r, r + 1);
+          const rows = session.scored;
+          const time = o.time === null ? rows : values![r * 2]!;
+          if (time > now) now = time;
+          const label = frame.labels === null ? Number.NaN : frame.labels[r]!;
+          if (timing.kind === 'delay' && !Number.isNaN(label)) {
+            queue.push(rows + timing.rows, ids[r]!, label, frame.values, r * frame.width);
+          } else if (timing.kind === 'delay-column' && !Number.isNaN(label)) {
+            queue.push(values![r * 2 + 1]!, ids[r]!, label, frame.values, r * frame.width);
+          } else if (labels?.behind(byTime ? now : rows)) {
+            await labels.fill(queue, byTime ? now : rows);
+          }
+          queue.release(byTime ? now : rows, session, decoder.classes);
+        }
+      }
+      consumed += BigInt(frame.rows + batch.rejected.length);
+      session.advance(o.file, consumed);
+      await o.afterBatch();
+    }
+    if (queue !== null) {
+      if (labels !== null) await labels.fill(queue, Number.POSITIVE_INFINITY);
+      queue.release(Number.POSITIVE_INFINITY, session, decoder.classes);
+    }
+  } finally {
+    await Promise.all([extra?.close(), labels?.close()]);
+  }
+}
+
+/**
+ * Numeric columns of the events file that are not features (the time, a label's time), read by a
+ * second pass in step with the first and matched row by row through each row's position.
+ */
+class ColumnReader {
+  private readonly frames: AsyncIterator<Decoded>;
+  private readonly width: number;
+  private frame: Frame | null = null;
+  private at = 0;
+  private done = false;
+  private out = new Float64Array(0);
+  private readonly slots: readonly number[];
+
+  /** `columns[k]` null leaves slot k of each row NaN. */
+  constructor(path: string, columns: readonly (string | null)[], format: { readonly format?: FrameFormat }) {
+    this.width = columns.length;
+    const named = columns.filter((c): c is string => c !== null);
+    const decoder = new FrameDecoder(
+      { label: null, features: named.map((name) => ({ name, kind: 'numeric' as const })) },
+      path,
+    );
+    this.frames = readFrames(path, decoder, { rejects: 'keep', ...format })[Symbol.asyncIterator]();
+    this.slots = columns.map((c) => (c === null ? -1 : named.indexOf(c)));
+  }
+
+  /** Stop reading (the file is closed). */
+  async close(): Promise<void> {
+    await this.frames.return?.(undefined);
+  }
+
+  /** The columns' values for each row of an events frame (`width` per row; NaN where unreadable). */
+  async align(events: Frame): Promise<Float64Array> {
+    if (this.out.length < events.rows * this.width) this.out = new Float64Array(events.rows * this.width * 2);
+    const out = this.out.fill(Number.NaN);
+    for (let r = 0; r < events.rows; r++) {
+      const batch = events.origin.batch;
+      const position = events.origin.positions[r]!;
+      for (;;) {
+        const frame = this.frame;
+        if (frame === null || this.at >= frame.rows) {
+          if (this.done) break;
+          const next = await this.frames.next();
+          if (next.done === true) {
+            this.done = true;
+            break;
+          }
+          this.frame = next.value.frame;
+          this.at = 0;
+          continue;
+        }
+        const b = frame.origin.batch;
+        const p = frame.origin.positions[this.at]!;
+        if (b < batch || (b === batch && p < position)) {
+          this.at++;
+          continue;
+        }
+        if (b === batch && p === position) {
+          for (let k = 0; k < this.width; k++) {
+            const j = this.slots[k]!;
+            if (j >= 0) out[r * this.width + k] = frame.values[this.at * frame.width + j]!;
+          }
+          this.at++;
+        }
+        break;
       }
     }
-    consumed += BigInt(frame.rows + batch.rejected.length);
-    session.advance(o.file, consumed);
-    await o.afterBatch();
-  }
-  if (queue !== null) {
-    if (labels !== null) await labels.fill(queue, Number.POSITIVE_INFINITY);
-    queue.release(Number.POSITIVE_INFINITY, session, decoder.classes);
+    return out;
   }
 }
 
-/** Score a frame with its labels held back `delay` rows each. */
-function delayed(
-  frame: Frame,
-  session: LearningSession,
-  decoder: FrameDecoder,
-  queue: LabelQueue,
-  delay: number,
-): void {
-  const before = session.scored;
-  // Rows without an id column are joined by their row number (a string per row, in this mode only).
-  const ids = frame.ids ?? Array.from({ length: frame.rows }, (_, i) => String(before + i + 1));
-  const held: Frame = { ...frame, labels: null, ids };
-  const labels = frame.labels;
-  for (let r = 0; r < frame.rows; ) {
-    const room = Math.max(1, Math.min(delay + 1, queue.nextDue() - session.scored));
-    const end = Math.min(frame.rows, r + room);
-    const base = session.scored;
-    session.score(held, decoder.classes, r, end);
-    if (labels !== null) {
-      for (let i = r; i < end; i++) {
-        const label = labels[i]!;
-        if (!Number.isNaN(label))
-          queue.push(base + (i - r) + 1 + delay, ids[i]!, label, frame.values, i * frame.width);
-      }
-    }
-    queue.release(session.scored, session, decoder.classes);
-    r = end;
-  }
-}
-
-/** Score a frame, joining the labels file's k-th label once k events have been scored. */
-async function fromFile(
-  frame: Frame,
-  session: LearningSession,
-  decoder: FrameDecoder,
-  queue: LabelQueue,
-  labels: LabelReader,
-): Promise<void> {
-  const held: Frame = { ...frame, labels: null };
-  await labels.fill(queue, session.scored + frame.rows);
-  for (let r = 0; r < frame.rows; ) {
-    const room = Math.max(1, queue.nextDue() - session.scored);
-    const end = Math.min(frame.rows, r + room);
-    session.score(held, decoder.classes, r, end);
-    queue.release(session.scored, session, decoder.classes);
-    r = end;
-  }
-}
-
-/** The labels file, read on demand into the queue: its k-th label (from 1) is due at k rows scored. */
+/**
+ * The labels file, read on demand into the queue. Its k-th label (from 1) is due at k rows scored, or
+ * at the time in its time column; one label is read ahead, so `behind(now)` tells whether more may be due.
+ */
 class LabelReader {
   private readonly path: string;
   private readonly frames: AsyncIterator<Decoded>;
   private readonly refuse: (stream: string, rejected: readonly Rejection[]) => void;
   private readonly deadLetter: (letter: DeadLetter) => void;
+  private readonly timed: boolean;
   private frame: Frame | null = null;
   private at = 0;
   private read = 0;
+  private last = Number.NEGATIVE_INFINITY;
   private done = false;
 
   constructor(
-    timing: { readonly path: string; readonly id: string; readonly label: string },
+    timing: {
+      readonly path: string;
+      readonly id: string;
+      readonly label: string;
+      readonly time: string | null;
+    },
     events: FrameDecoder,
     carryFeatures: boolean,
     rejects: 'throw' | 'keep',
@@ -156,15 +224,34 @@ class LabelReader {
     deadLetter: (letter: DeadLetter) => void,
   ) {
     this.path = timing.path;
-    const decoder = events.labelsDecoder({ id: timing.id, label: timing.label, carryFeatures }, timing.path);
+    this.timed = timing.time !== null;
+    const decoder = events.labelsDecoder(
+      {
+        id: timing.id,
+        label: timing.label,
+        carryFeatures,
+        ...(timing.time === null ? {} : { time: timing.time }),
+      },
+      timing.path,
+    );
     this.frames = readFrames(timing.path, decoder, { rejects })[Symbol.asyncIterator]();
     this.refuse = refuse;
     this.deadLetter = deadLetter;
   }
 
-  /** Queue labels until `upTo` have been read (or the file ends). */
-  async fill(queue: LabelQueue, upTo: number): Promise<void> {
-    while (!this.done && this.read < upTo) {
+  /** Stop reading (the file is closed). */
+  async close(): Promise<void> {
+    await this.frames.return?.(undefined);
+  }
+
+  /** Whether the last label read is due by `now`, so that later ones may be too. */
+  behind(now: number): boolean {
+    return !this.done && this.last <= now;
+  }
+
+  /** Queue labels until one is due after `now` (or the file ends). */
+  async fill(queue: LabelQueue, now: number): Promise<void> {
+    while (this.behind(now)) {
       const frame = this.frame;
       if (frame === null || this.at >= frame.rows) {
         const next = await this.frames.next();
@@ -179,18 +266,20 @@ class LabelReader {
       }
       const r = this.at++;
       const label = frame.labels![r]!;
-      if (Number.isNaN(label)) {
+      const due = this.timed ? frame.values[r * frame.width + frame.width - 1]! : this.read + 1;
+      if (Number.isNaN(label) || Number.isNaN(due)) {
         this.deadLetter({
           stream: this.path,
           position: BigInt(frame.origin.positions[r]!),
-          code: 'no-label',
-          reason: `${describeRow(frame, r)}: no label`,
+          code: Number.isNaN(label) ? 'no-label' : 'no-time',
+          reason: `${describeRow(frame, r)}: no ${Number.isNaN(label) ? 'label' : 'time'}`,
           bytes: null,
         });
         continue;
       }
       this.read++;
-      queue.push(this.read, frame.ids![r]!, label, frame.values, r * frame.width);
+      this.last = due;
+      queue.push(due, frame.ids![r]!, label, frame.values, r * frame.width);
     }
   }
 }

@@ -37,8 +37,14 @@ Options:
   --labels FILE     labels in a file of their own (the --id and --label columns), joined by id to the
                     prediction served for each event; the k-th label becomes known once k events were
                     scored (labels left at the end are joined after the last event)
+  --label-time COL  the labels file's column of the time each label became known (on the scale of
+                    --time); then labels become known by time rather than one per event
   --label-delay N   hold each inline label back until N more rows were scored, then join it by id to
                     the prediction served for its row (rows without --id are joined by row number)
+  --label-delay-column COL
+                    hold each inline label back until the time in COL (on the scale of --time)
+  --time COL        the events' time column (numeric, in order; not a feature); without it, time is
+                    the row number
   --journal PATH    write the run's journal (NDJSON: lifecycle changes, evaluation windows, summary)
   --report PATH     write a self-contained HTML report of the run
   --rejects PATH    write rows that cannot be decoded to PATH (NDJSON: source, position, reason) and go on;
@@ -77,6 +83,9 @@ function withOverrides(
   const id = text(parsed, 'id');
   if (id !== undefined) inputs.id = id;
   if (schema !== undefined) Object.assign(inputs, schema);
+  // Time columns are read beside the features, never as features.
+  const times = [text(parsed, 'time'), text(parsed, 'label-delay-column')].filter((c) => c !== undefined);
+  if (times.length > 0) inputs.exclude = [...((inputs.exclude as string[] | undefined) ?? []), ...times];
   const seed = text(parsed, 'seed');
   return { ...base, ...(seed === undefined ? {} : { seed }), ensemble, inputs };
 }
@@ -85,8 +94,17 @@ function withOverrides(
 function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): LabelTiming {
   const path = text(parsed, 'labels');
   const delay = whole(parsed, 'label-delay', 0);
-  if (path !== undefined && delay !== undefined) {
-    throw new ShoalError('invalid-parameter', 'give --labels or --label-delay, not both');
+  const column = text(parsed, 'label-delay-column');
+  const given = [path, delay, column].filter((x) => x !== undefined).length;
+  if (given > 1) {
+    throw new ShoalError(
+      'invalid-parameter',
+      'give one of --labels, --label-delay and --label-delay-column, not both',
+    );
+  }
+  const time = text(parsed, 'label-time');
+  if (time !== undefined && path === undefined) {
+    throw new ShoalError('invalid-parameter', '--label-time names a column of the --labels file');
   }
   const { id, label } = config.inputs;
   if (path !== undefined) {
@@ -96,8 +114,9 @@ function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): Label
         '--labels needs --id (the column that joins a label to its event) and a label column',
       );
     }
-    return { kind: 'file', path, id, label };
+    return { kind: 'file', path, id, label, time: time ?? null };
   }
+  if (column !== undefined) return { kind: 'delay-column', column };
   return delay === undefined ? { kind: 'inline' } : { kind: 'delay', rows: delay };
 }
 
@@ -154,9 +173,12 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     json: { type: 'boolean' },
     rejects: { type: 'string' },
     labels: { type: 'string' },
+    'label-time': { type: 'string' },
     'label-delay': { type: 'string' },
     schema: { type: 'string' },
     format: { type: 'string' },
+    'label-delay-column': { type: 'string' },
+    time: { type: 'string' },
   });
   if (parsed.values.help) {
     terminal.out(`${REPLAY_HELP}\n`);
@@ -210,6 +232,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
         decoder,
         session,
         timing,
+        time: text(parsed, 'time') ?? null,
         carryFeatures: config.labels.unmatched === 'train',
         rejects: rejects === null ? 'throw' : 'keep',
         deadLetter: (letter) => {

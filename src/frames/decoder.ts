@@ -126,14 +126,20 @@ export class FrameDecoder {
    * `label` columns and shares this decoder's class dictionary, so that a class has the same code in
    * both inputs whichever names it first. With `carryFeatures` it also reads this stream's feature
    * columns (sharing the schema and every vocabulary, so category codes agree too); the events' schema
-   * must be known by then. Without, the labels' frames have no features (`width` 0).
+   * must be known by then. With `time`, that numeric column comes last in each row (after any carried
+   * features). With neither, the labels' frames have no features (`width` 0).
    *
    * @example
    * const events = new FrameDecoder({ label: 'rejected', id: 'leg_id' });
    * const labels = events.labelsDecoder({ id: 'leg_id', label: 'rejected' });
    */
   labelsDecoder(
-    columns: { readonly id: string; readonly label: string; readonly carryFeatures?: boolean },
+    columns: {
+      readonly id: string;
+      readonly label: string;
+      readonly carryFeatures?: boolean;
+      readonly time?: string;
+    },
     where = 'labels options',
   ): FrameDecoder {
     const carry = columns.carryFeatures === true;
@@ -153,9 +159,11 @@ export class FrameDecoder {
       where,
     );
     decoder.labels = this.labels;
-    if (carry) {
-      decoder.current = this.current;
-      decoder.vocabularies = this.vocabularies;
+    const time: Feature[] =
+      columns.time === undefined ? [] : [{ name: columns.time, kind: 'numeric', values: 0 }];
+    if (carry || time.length > 0) {
+      decoder.current = { features: [...(carry ? this.current!.features : []), ...time] };
+      decoder.vocabularies = [...(carry ? this.vocabularies : []), ...time.map(() => null)];
     }
     return decoder;
   }

@@ -213,3 +213,36 @@ describe('frames and their buffers', () => {
     expect(second.frame.schema).toBe(first.frame.schema);
   });
 });
+
+describe('the labels decoder', () => {
+  it('shares the events decoder’s class dictionary, so a class has one code in both inputs', () => {
+    const events = new FrameDecoder({ label: 'outcome', id: 'leg' });
+    const one = decodeJsonRecord(events, { leg: 'a', temp: 4.5, outcome: 'kept' });
+    expect(one.ok).toBe(true);
+    const labels = events.labelsDecoder({ id: 'leg', label: 'outcome' });
+    // A frame views the decoder's buffers until its next decode: read each one before the next.
+    const late = decodeJsonRecord(labels, { leg: 'a', outcome: 'rejected' });
+    if (!late.ok) throw new Error(late.reason);
+    expect(late.frame.width).toBe(0);
+    expect(late.frame.ids).toEqual(['a']);
+    // "rejected" was first named by the labels input: the events decoder knows it under the same code.
+    expect(Array.from(late.frame.labels!)).toEqual([1]);
+    const again = decodeJsonRecord(labels, { leg: 'b', outcome: 'kept' });
+    expect(again.ok && Array.from(again.frame.labels!)).toEqual([0]);
+    expect(events.classes).toEqual(['kept', 'rejected']);
+    const back = decodeJsonRecord(events, { leg: 'c', temp: 5, outcome: 'rejected' });
+    expect(back.ok && Array.from(back.frame.labels!)).toEqual([1]);
+  });
+
+  it('carries the events’ features and category codes, and a time column last, when asked', () => {
+    const events = new FrameDecoder({ label: 'y', id: 'id' });
+    decodeJsonRecord(events, { id: '1', carrier: 'Polar Haul', temp: 3, y: 0 });
+    const labels = events.labelsDecoder({ id: 'id', label: 'y', carryFeatures: true, time: 'known' });
+    const decoded = decodeJsonRecord(labels, { id: '9', carrier: 'Polar Haul', temp: 7, known: 12, y: 1 });
+    if (!decoded.ok) throw new Error(decoded.reason);
+    expect(Array.from(decoded.frame.values)).toEqual([0, 7, 12]);
+    expect(() =>
+      new FrameDecoder({ id: 'id' }).labelsDecoder({ id: 'id', label: 'y', carryFeatures: true }),
+    ).toThrow(/schema is not known yet/);
+  });
+});
