@@ -1,6 +1,7 @@
 import { type Feature, type FeatureSchema, ShoalError } from '../core/index.js';
 import { Fields, isObject, show } from './fields.js';
 import {
+  INPUT_DRIFT_CAUSES,
   type InputDriftRecord,
   JOURNAL_VERSION,
   type JournalRecord,
@@ -160,6 +161,7 @@ function readInputDrift(f: Fields): InputDriftRecord {
     trained: f.integer('trained', 0),
     feature: f.string('feature'),
     kind: f.oneOf('kind', KINDS),
+    cause: f.oneOf('cause', INPUT_DRIFT_CAUSES),
   };
 }
 

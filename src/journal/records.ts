@@ -159,7 +159,14 @@ export interface InputDriftRecord {
   readonly trained: number;
   readonly feature: string;
   readonly kind: 'numeric' | 'nominal';
+  /** `distribution`: the feature's values moved; `missing-share`: how often it is missing jumped. */
+  readonly cause: InputDriftCause;
 }
+
+/** Why an input drift was raised. */
+export type InputDriftCause = 'distribution' | 'missing-share';
+
+export const INPUT_DRIFT_CAUSES: readonly InputDriftCause[] = ['distribution', 'missing-share'];
 
 export interface SummaryRecord {
   readonly type: 'summary';

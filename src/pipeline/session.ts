@@ -459,6 +459,7 @@ export class LearningSession {
         trained: c.trained,
         feature: f.name,
         kind: f.kind,
+        cause: monitor.missingFlags[i] === 1 ? 'missing-share' : 'distribution',
       });
     }
   }

@@ -104,3 +104,29 @@ describe('schema inference a few stray values cannot tip', () => {
     );
   });
 });
+
+describe('a field renamed mid-stream', () => {
+  it('raises an input drift whose cause is the missing share, soon after the rename', async () => {
+    const dir = await scratch();
+    const file = join(dir, 'legs.ndjson');
+    const journal = join(dir, 'run.ndjson');
+    const lines: string[] = [];
+    for (let i = 0; i < 4000; i++) {
+      const temp = 2 + (i % 13) / 4;
+      const field = i < 2000 ? 'box_temp' : 'box_temperature';
+      lines.push(JSON.stringify({ [field]: temp, doors: i % 5, label: temp > 4 ? 1 : 0 }));
+    }
+    await writeFile(file, `${lines.join('\n')}\n`);
+    const r = await shoal('replay', file, '--journal', journal, '--json', '--members', '2');
+    expect(r.code).toBe(0);
+    const drifts = (await readFile(journal, 'utf8'))
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l) as { type: string; scored: number; feature: string; cause: string })
+      .filter((x) => x.type === 'input-drift' && x.cause === 'missing-share');
+    expect(drifts).toHaveLength(1);
+    expect(drifts[0]).toMatchObject({ feature: 'box_temp' });
+    expect(drifts[0]!.scored).toBeGreaterThan(2000);
+    expect(drifts[0]!.scored).toBeLessThan(2500);
+  });
+});

@@ -232,7 +232,7 @@ describe('renderReport against hostile journals', () => {
       estimate: 0,
       reason: quote,
     },
-    { type: 'input-drift', scored: 20, trained: 20, feature: evil, kind: 'numeric' },
+    { type: 'input-drift', scored: 20, trained: 20, feature: evil, kind: 'numeric', cause: 'missing-share' },
     { ...summary, classes: [evil, quote] },
   ];
   const doc = renderReport(hostile, { title: evil });
