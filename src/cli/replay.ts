@@ -34,6 +34,8 @@ Options:
   --schema FILE     the features, declared (YAML or JSON: a list of {name, kind, categories, values},
                     or a mapping with "features"); without it the kinds are inferred from the first rows
   --format F        arrow, csv or ndjson, for a file whose extension does not say
+  --labels-as HOW   class-codes (integers 0, 1, …) or class-names (any value names a class); by default
+                    codes when the first rows' labels are all integers from 0 to 1023, else names
   --labels FILE     labels in a file of their own (the --id and --label columns), joined by id to the
                     prediction served for each event; the k-th label becomes known once k events were
                     scored (labels left at the end are joined after the last event)
@@ -82,6 +84,8 @@ function withOverrides(
   if (label !== undefined) inputs.label = label;
   const id = text(parsed, 'id');
   if (id !== undefined) inputs.id = id;
+  const labelsAs = text(parsed, 'labels-as');
+  if (labelsAs !== undefined) inputs.labelsAs = labelsAs;
   if (schema !== undefined) Object.assign(inputs, schema);
   // Time columns are read beside the features, never as features.
   const times = [text(parsed, 'time'), text(parsed, 'label-delay-column')].filter((c) => c !== undefined);
@@ -122,10 +126,11 @@ function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): Label
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
 function frameOptions(config: RunConfig): FrameOptions {
-  const { label, id, exclude, features, vocabulary, missing } = config.inputs;
+  const { label, id, exclude, features, vocabulary, missing, labelsAs } = config.inputs;
   return {
     label,
     missing,
+    ...(labelsAs === null ? {} : { labelsAs }),
     ...(id === null ? {} : { id }),
     exclude,
     ...(features === null ? {} : { features: features as FrameOptions['features'] & object }),
@@ -176,6 +181,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     'label-time': { type: 'string' },
     'label-delay': { type: 'string' },
     schema: { type: 'string' },
+    'labels-as': { type: 'string' },
     format: { type: 'string' },
     'label-delay-column': { type: 'string' },
     time: { type: 'string' },
@@ -287,6 +293,7 @@ const FLAG_PATHS: readonly (readonly [string, string])[] = [
   ['detector', 'ensemble.lifecycle.detector'],
   ['label', 'inputs.label'],
   ['id', 'inputs.id'],
+  ['labels-as', 'inputs.labelsAs'],
   ['seed', 'seed'],
 ];
 

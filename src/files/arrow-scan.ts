@@ -71,7 +71,8 @@ export async function scanArrow(handle: FileHandle, size: number): Promise<Arrow
       length = prefix.readInt32LE(4);
       metaStart = at + 8;
     }
-    if (length === 0) return result(null, null);
+    if (length === 0)
+      return fileFormat && !footer ? result(at, 'the file ends before its footer') : result(null, null);
     if (length < 0 || metaStart + length > size) {
       return result(
         at,

@@ -119,8 +119,9 @@ export async function* readArrow(
     } catch (e) {
       if (!(e instanceof ShoalError) || e.code !== 'invalid-input' || !e.message.includes('Arrow IPC'))
         throw e;
-      const scan = await scanArrow(handle, size);
-      if (scan.problem === null) throw e;
+      // The reader may have closed the file on its way out; then there is nothing more to say.
+      const scan = await scanArrow(handle, size).catch(() => null);
+      if (scan === null || scan.problem === null || scan.problemAt === (scan.fileFormat ? 8 : 0)) throw e;
       if (options.rejects !== 'keep' || batches === 0) throw cutShort(path, scan, e);
       yield cutRejection(decoder, path, scan);
     }

@@ -8,6 +8,9 @@
 /** The type a column suggests for inference; `other` cannot be a feature (nested values, binary, dates). */
 export type ColumnType = 'number' | 'bool' | 'string' | 'empty' | 'other';
 
+/** Numeric labels below this are read as class codes by default; any other label is a class name. */
+export const CODE_LIMIT = 1024;
+
 /** Text read as a missing value unless the caller names other tokens. */
 export const DEFAULT_MISSING: readonly string[] = ['', 'NA', 'NaN', '?', 'null'];
 
@@ -105,13 +108,25 @@ export function showCell(value: unknown): string {
  * do not fit the type chosen are rejected row by row later, never re-typed.
  */
 export class TypeTally {
+  /** Numbers that could be class codes: integers from 0 to `CODE_LIMIT` − 1. */
+  codes = 0;
   number = 0;
   bool = 0;
   string = 0;
   other = 0;
 
-  add(type: ColumnType): void {
-    if (type !== 'empty') this[type]++;
+  add(type: ColumnType, value?: unknown): void {
+    if (type === 'empty') return;
+    this[type]++;
+    if (type === 'number') {
+      const n = Number(value);
+      if (Number.isInteger(n) && n >= 0 && n < CODE_LIMIT) this.codes++;
+    }
+  }
+
+  /** Whether every number seen could be a class code (labels are then read as codes by default). */
+  codeLike(): boolean {
+    return this.codes === this.number;
   }
 
   decide(): ColumnType {

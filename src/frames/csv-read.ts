@@ -94,9 +94,10 @@ function csvFormat(header: readonly string[]): TextFormat<string[]> {
     columns(first, cells): SourceColumn[] {
       return header.map((name, i) => {
         const tally = new TypeTally();
-        for (const record of first)
-          if (record.length === header.length) tally.add(cells.textType(record[i]!));
-        return { name, type: tally.decide(), detail: 'CSV text' };
+        for (const record of first) {
+          if (record.length === header.length) tally.add(cells.textType(record[i]!), record[i]);
+        }
+        return { name, type: tally.decide(), codeLike: tally.codeLike(), detail: 'CSV text' };
       });
     },
     cells(record) {

@@ -63,8 +63,15 @@ export class FrameDecoder {
     this.options = resolveFrameOptions(options, where);
     this.given = options;
     this.cells = new CellReader(this.options.missing);
-    this.labels = new LabelDictionary(this.options.classes, this.options.maxClasses, (v) =>
-      this.cells.isMissing(v),
+    this.labels = new LabelDictionary(
+      this.options.classes,
+      this.options.maxClasses,
+      (v) => this.cells.isMissing(v),
+      this.options.labelsAs === 'class-codes'
+        ? 'code'
+        : this.options.labelsAs === 'class-names'
+          ? 'name'
+          : null,
     );
     if (this.options.features !== null) this.settle(this.options.features);
   }
@@ -190,7 +197,7 @@ export class FrameDecoder {
     const bound = bindColumns(columns, this.options, known);
     if ('reason' in bound) return bound;
     if (this.current === null) this.settle(bound.features);
-    this.labels.decide(bound.labelType === 'other' ? 'string' : bound.labelType);
+    this.labels.decide(bound.labelType === 'other' ? 'string' : bound.labelType, bound.labelCodes);
     this.last = bound.binding;
     return bound.binding;
   }

@@ -40,9 +40,9 @@ export class LabelDictionary {
    * Settle the mode from a column's type. A boolean column is a code column whose classes are named
    * `false` and `true` unless names were given.
    */
-  decide(kind: 'number' | 'bool' | 'string' | 'empty'): void {
+  decide(kind: 'number' | 'bool' | 'string' | 'empty', codeLike = true): void {
     if (this.mode !== null || kind === 'empty') return;
-    this.mode = kind === 'string' ? 'name' : 'code';
+    this.mode = kind === 'string' || (kind === 'number' && !codeLike) ? 'name' : 'code';
     if (kind === 'bool' && this.list.length === 0) {
       this.add('false');
       this.add('true');
@@ -79,7 +79,8 @@ export class LabelDictionary {
     if (typeof value === 'bigint') return this.codeOfNumber(Number(value));
     if (typeof value === 'string') {
       if (value === 'true' || value === 'false') return this.codeOfNumber(value === 'true' ? 1 : 0);
-      if (isCodeText(value)) return this.codeOfNumber(Number(value));
+      const n = Number(value);
+      if (value.trim() !== '' && Number.isInteger(n)) return this.codeOfNumber(n);
     }
     return -1;
   }
@@ -90,7 +91,7 @@ export class LabelDictionary {
     if (this.mode === 'name' && typeof value !== 'object') {
       return `label ${shown} would be class ${this.list.length + 1}, more than maxClasses (${this.maxClasses})`;
     }
-    return `label ${shown} is not a class code (an integer from 0 to ${this.maxClasses - 1})`;
+    return `label ${shown} is not a class code (an integer from 0 to ${this.maxClasses - 1}); set inputs.labelsAs: class-names (--labels-as class-names) to read labels as names`;
   }
 
   private add(name: string): number {

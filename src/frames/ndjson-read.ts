@@ -70,12 +70,17 @@ function jsonFormat(): TextFormat<JsonObject> {
         for (const key of Object.keys(record)) {
           const tally = types.get(key) ?? new TypeTally();
           types.set(key, tally);
-          tally.add(cells.jsonType(record[key]));
+          tally.add(cells.jsonType(record[key]), record[key]);
         }
       }
       return [...types].map(([name, tally]) => {
         const type = tally.decide();
-        return { name, type, detail: type === 'other' ? 'JSON object or array' : `JSON ${type}` };
+        return {
+          name,
+          type,
+          codeLike: tally.codeLike(),
+          detail: type === 'other' ? 'JSON object or array' : `JSON ${type}`,
+        };
       });
     },
     cells(record, names) {

@@ -36,6 +36,11 @@ export interface FrameOptions {
   readonly maxClasses?: number;
   /** Text read as a missing value in any column (default: empty, `NA`, `NaN`, `?`, `null`). */
   readonly missing?: readonly string[];
+  /**
+   * How labels are read: `class-codes` (integers 0, 1, …), `class-names` (any value names a class).
+   * By default labels are codes when the first rows' labels are all integers from 0 to 1023, else names.
+   */
+  readonly labelsAs?: 'class-codes' | 'class-names';
 }
 
 /** One feature of an explicit specification. */
@@ -69,6 +74,7 @@ export interface ResolvedOptions {
   readonly vocabulary: number;
   readonly maxClasses: number;
   readonly missing: readonly string[];
+  readonly labelsAs: 'class-codes' | 'class-names' | null;
 }
 
 function isStringList(value: unknown): value is readonly string[] {
@@ -231,6 +237,13 @@ export function resolveFrameOptions(options: FrameOptions, where = 'frame option
       message: `lists ${classes.length} classes, more than maxClasses`,
     });
   }
+  if (o.labelsAs !== undefined && o.labelsAs !== 'class-codes' && o.labelsAs !== 'class-names') {
+    issues.push({
+      path: 'labelsAs',
+      code: 'not-one-of',
+      message: `must be one of class-codes, class-names, got ${JSON.stringify(o.labelsAs)}`,
+    });
+  }
   const missing = o.missing ?? DEFAULT_MISSING;
   if (!isStringList(missing))
     issues.push({ path: 'missing', code: 'wrong-type', message: 'must be a list of texts' });
@@ -263,5 +276,6 @@ export function resolveFrameOptions(options: FrameOptions, where = 'frame option
     vocabulary: vocabulary as number,
     maxClasses: maxClasses as number,
     missing: missing as readonly string[],
+    labelsAs: (o.labelsAs as ResolvedOptions['labelsAs'] | undefined) ?? null,
   };
 }

@@ -93,6 +93,8 @@ export interface InputsConfig {
   readonly vocabulary: number | null;
   /** Text read as a missing value (default: empty, `NA`, `NaN`, `?`, `null`). */
   readonly missing: readonly string[];
+  /** How labels are read: class codes, class names, or null to tell from the first rows. */
+  readonly labelsAs: 'class-codes' | 'class-names' | null;
   /** Watch each input feature for drift before labels arrive. */
   readonly monitor: boolean;
 }
@@ -310,6 +312,7 @@ function checkInputs(c: Checker, value: unknown): InputsConfig {
     'features',
     'vocabulary',
     'missing',
+    'labelsAs',
     'monitor',
   ]);
   const stringOrNull = (path: string, v: unknown, fallback: string | null): string | null => {
@@ -340,6 +343,13 @@ function checkInputs(c: Checker, value: unknown): InputsConfig {
     raw.features === undefined
       ? null
       : checkFeatureSpecs(c.issues, 'inputs.features', raw.features, vocabulary ?? DEFAULT_VOCABULARY);
+  const labelsAs = raw.labelsAs === undefined ? null : raw.labelsAs;
+  if (labelsAs !== null && labelsAs !== 'class-codes' && labelsAs !== 'class-names')
+    c.fail(
+      'inputs.labelsAs',
+      `must be one of class-codes, class-names, got ${describe(labelsAs)}`,
+      'not-one-of',
+    );
   if (raw.monitor !== undefined && typeof raw.monitor !== 'boolean')
     c.fail('inputs.monitor', `must be true or false, got ${describe(raw.monitor)}`);
   return {
@@ -349,6 +359,7 @@ function checkInputs(c: Checker, value: unknown): InputsConfig {
     features: features === null ? null : (raw.features as unknown[]),
     vocabulary,
     missing: missing ?? DEFAULT_MISSING,
+    labelsAs: labelsAs === 'class-codes' || labelsAs === 'class-names' ? labelsAs : null,
     monitor: typeof raw.monitor === 'boolean' ? raw.monitor : true,
   };
 }
