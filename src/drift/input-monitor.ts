@@ -111,7 +111,7 @@ class FeatureDriftMonitor implements InputMonitor {
     for (let i = 0; i < this.width; i++) {
       const x = row[offset + i]!;
       const moved = watches[i]!.update(x);
-      const gone = missing[i]!.update(x !== x);
+      const gone = missing[i]!.update(Number.isNaN(x));
       if (moved || gone) {
         this.missingFlags[count] = gone ? 1 : 0;
         this.flagged[count++] = i;
@@ -145,7 +145,9 @@ class FeatureDriftMonitor implements InputMonitor {
     });
     const missing = (state as { missing?: unknown }).missing;
     if (Array.isArray(missing) && missing.length === this.width)
-      this.missing.forEach((m, i) => m.load(missing[i]));
+      this.missing.forEach((m, i) => {
+        m.load(missing[i]);
+      });
   }
 }
 
