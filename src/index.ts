@@ -2,16 +2,35 @@
  * Shoal's public API: the package entry. Importing it does nothing but define these names — no
  * registries, timers or sockets.
  */
+export type { CheckpointMeta, RunCheckpoint, RunParts, RunState } from './checkpoint/index.js';
+export {
+  CHECKPOINT_VERSION,
+  configFingerprint,
+  decodeCheckpoint,
+  encodeCheckpoint,
+  runCheckpoint,
+} from './checkpoint/index.js';
 export type {
   ConfigIssue,
+  ConfiguredSnapshot,
   Feature,
   FeatureKind,
   FeatureSchema,
   RngState,
   Seed,
   ShoalErrorCode,
+  Snapshot,
 } from './core/index.js';
-export { ConfigError, deriveSeed, nominal, numeric, numericSchema, Rng, ShoalError } from './core/index.js';
+export {
+  ConfigError,
+  checkSnapshot,
+  deriveSeed,
+  nominal,
+  numeric,
+  numericSchema,
+  Rng,
+  ShoalError,
+} from './core/index.js';
 export type {
   DetectorSnapshot,
   DetectorSpec,
@@ -46,7 +65,7 @@ export {
 } from './ensembles/index.js';
 export type { ClassificationFigures, ClassificationView } from './evaluation/index.js';
 export { ClassificationEvaluator, RegressionEvaluator, SeatScores } from './evaluation/index.js';
-export { createWriter, readFrames } from './files/index.js';
+export { createWriter, FileCheckpointStore, readCheckpointFile, readFrames } from './files/index.js';
 export type { Decoded, FeatureSpec, Frame, FrameOptions, FrameWriter, Rejection } from './frames/index.js';
 export { decodeArrowMessage, decodeJsonRecord, FrameDecoder } from './frames/index.js';
 export type {

@@ -1,4 +1,5 @@
 import { ShoalError } from '../core/index.js';
+import { INSPECT_HELP, inspect } from './inspect.js';
 import { REPLAY_HELP, replay } from './replay.js';
 import { REPORT_HELP, report } from './report.js';
 import { SPAWN_HELP, spawn } from './spawn.js';
@@ -11,6 +12,7 @@ const COMMANDS: Readonly<
   replay: { run: replay, help: REPLAY_HELP },
   spawn: { run: spawn, help: SPAWN_HELP },
   report: { run: report, help: REPORT_HELP },
+  inspect: { run: inspect, help: INSPECT_HELP },
 };
 
 /** The stream-writing command's first name, kept for one release. */
@@ -22,6 +24,8 @@ Commands:
   shoal replay FILE      run a recorded stream through an ensemble, test-then-train, and summarise it
   shoal spawn GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
   shoal report JOURNAL   turn a run's journal into a self-contained HTML report
+  shoal inspect CHECKPOINT
+                         summarise a run checkpoint: seats, states, ages, accuracy, positions
 
 shoal COMMAND --help shows a command's options. Scores are advisory: keep a human in the loop.`;
 

@@ -1,3 +1,4 @@
+import { ShoalError } from '../core/index.js';
 import { readFrames } from '../files/index.js';
 import {
   type Decoded,
@@ -51,7 +52,13 @@ export interface FeedOptions {
   readonly deadLetter: (letter: DeadLetter) => void;
   /** Called once the schema is known, before the first row is scored. */
   readonly beforeScoring?: () => void;
-  /** Called after each batch of events is handled (progress, back-pressure). */
+  /**
+   * Where a resumed run goes on: the rows before this position were consumed before the checkpoint it
+   * resumes from, and are skipped. A checkpoint is taken between batches, and a file is cut into the same
+   * batches on every read, so the position is a batch boundary. Default: from the start.
+   */
+  readonly from?: bigint;
+  /** Called after each batch of events is handled (progress, back-pressure, checkpoints). */
   readonly afterBatch: () => Promise<void>;
 }
 
@@ -75,8 +82,20 @@ export async function feed(o: FeedOptions): Promise<void> {
   let queue: LabelQueue | null = null;
   let labels: LabelReader | null = null;
   let consumed = 0n;
+  const from = o.from ?? 0n;
   try {
     for await (const batch of readFrames(o.file, decoder, { rejects: o.rejects, ...format })) {
+      const size = BigInt(batch.frame.rows + batch.rejected.length);
+      if (consumed + size <= from) {
+        consumed += size;
+        continue;
+      }
+      if (consumed < from) {
+        throw new ShoalError(
+          'invalid-snapshot',
+          `${o.file}: the checkpoint goes on at row ${from}, inside the batch of rows ${consumed}–${consumed + size - 1n}: is this the file the run was started on?`,
+        );
+      }
       refuse(o.file, batch.rejected);
       o.beforeScoring?.();
       const frame = batch.frame;
@@ -111,9 +130,15 @@ export async function feed(o: FeedOptions): Promise<void> {
           queue.release(byTime ? now : rows, session, decoder.classes);
         }
       }
-      consumed += BigInt(frame.rows + batch.rejected.length);
+      consumed += size;
       session.advance(o.file, consumed);
       await o.afterBatch();
+    }
+    if (consumed < from) {
+      throw new ShoalError(
+        'invalid-snapshot',
+        `${o.file}: holds ${consumed} rows, but the checkpoint goes on at row ${from}: is this the file the run was started on?`,
+      );
     }
     if (queue !== null) {
       if (labels !== null) await labels.fill(queue, Number.POSITIVE_INFINITY);

@@ -11,6 +11,7 @@ import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
 import { type NamedPath, openOutputs, refuseCollisions } from './outputs.js';
 import { Progress } from './progress.js';
+import { DEFAULT_CHECKPOINT_EVERY, ReplayCheckpoints } from './replay-checkpoints.js';
 import { feed, type LabelTiming } from './replay-feed.js';
 import { describeSchema, overflowWarnings } from './schema-text.js';
 import { count, figure, type Terminal, table } from './terminal.js';
@@ -51,6 +52,11 @@ Options:
   --report PATH     write a self-contained HTML report of the run
   --rejects PATH    write rows that cannot be decoded to PATH (NDJSON: source, position, reason) and go on;
                     without it the first bad row stops the run with a message naming file and line
+  --checkpoint DIR  write run checkpoints to DIR (the newest 3 are kept), and one when the run ends
+  --checkpoint-every N
+                    rows between checkpoints (default ${count(DEFAULT_CHECKPOINT_EVERY)})
+  --resume DIR      go on from the newest good checkpoint in DIR, skipping the rows it had consumed (give
+                    the options of the first run); checkpoints go on being written to DIR
   --json            print one JSON object instead of the summary table
 Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.
 The schema the run uses is printed to stderr before the first row is scored. No output may name an
@@ -124,6 +130,40 @@ function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): Label
   return delay === undefined ? { kind: 'inline' } : { kind: 'delay', rows: delay };
 }
 
+/** The run's checkpoints, when `--checkpoint` or `--resume` asks for them. */
+function replayCheckpoints(
+  parsed: ReturnType<typeof parse>,
+  config: RunConfig,
+  timing: LabelTiming,
+): ReplayCheckpoints | null {
+  const resume = text(parsed, 'resume');
+  const dir = text(parsed, 'checkpoint') ?? resume;
+  const every = whole(parsed, 'checkpoint-every');
+  if (dir === undefined) {
+    if (every !== undefined) {
+      throw new ShoalError('invalid-parameter', '--checkpoint-every needs --checkpoint DIR or --resume DIR');
+    }
+    return null;
+  }
+  if (
+    resume !== undefined &&
+    text(parsed, 'checkpoint') !== undefined &&
+    text(parsed, 'checkpoint') !== resume
+  ) {
+    throw new ShoalError(
+      'invalid-parameter',
+      '--resume DIR goes on writing checkpoints to DIR; give one directory',
+    );
+  }
+  if (timing.kind !== 'inline') {
+    throw new ShoalError(
+      'invalid-parameter',
+      'checkpoints need inline labels for now (labels held back by --labels or --label-delay are not in a checkpoint)',
+    );
+  }
+  return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion());
+}
+
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
 function frameOptions(config: RunConfig): FrameOptions {
   const { label, id, exclude, features, vocabulary, missing, labelsAs } = config.inputs;
@@ -185,6 +225,9 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     format: { type: 'string' },
     'label-delay-column': { type: 'string' },
     time: { type: 'string' },
+    checkpoint: { type: 'string' },
+    'checkpoint-every': { type: 'string' },
+    resume: { type: 'string' },
   });
   if (parsed.values.help) {
     terminal.out(`${REPLAY_HELP}\n`);
@@ -199,14 +242,15 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   };
   const inputs = [{ flag: 'FILE', path: file! }, ...named('config'), ...named('schema'), ...named('labels')];
   const outputs = [...named('journal'), ...named('rejects'), ...named('report')];
-  await refuseCollisions(inputs, outputs);
+  // The checkpoint store writes files of its own, but must not write over an input or an output either.
+  await refuseCollisions(inputs, [...outputs, ...named('checkpoint')]);
   const raw = configPath === undefined ? {} : await readConfigFile(configPath);
   const schema = schemaPath === undefined ? undefined : await readSchemaFile(schemaPath);
   const source = configPath ?? 'command line';
   const config = resolveWithFlags(withOverrides(raw, parsed, schema), source, parsed, schemaPath);
-  const decoder = new FrameDecoder(frameOptions(config), source);
   const format = text(parsed, 'format') as FrameFormat | undefined;
   const timing = labelTiming(parsed, config);
+  const checkpoints = replayCheckpoints(parsed, config, timing);
   // Opened before the run: a path that cannot be written is refused before any row is read. The
   // journal and rejects writers write to the temporary files, which are moved into place at the end.
   const opened = await openOutputs(inputs, outputs);
@@ -216,13 +260,18 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const rejectsFile = output('--rejects');
   const rejects = rejectsFile === null ? null : deadLetterFile(rejectsFile.partialPath);
   let rejected = 0;
-  const session = new LearningSession({
-    config,
+  const ports = {
     source: file!,
     journal,
     clock: { monotonic: () => terminal.now(), wall: () => Date.now() },
     version: shoalVersion(),
-  });
+  };
+  const resumed =
+    checkpoints !== null && text(parsed, 'resume') !== undefined
+      ? await checkpoints.resume(file!, ports, terminal)
+      : null;
+  const decoder = resumed?.decoder ?? new FrameDecoder(frameOptions(config), source);
+  const session = resumed?.session ?? new LearningSession({ ...ports, config });
   const json = parsed.values.json === true;
   let summary: SummaryRecord;
   try {
@@ -245,6 +294,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
           rejected++;
           rejects?.write(letter);
         },
+        from: resumed?.from ?? 0n,
         beforeScoring: () => {
           if (announced) return;
           announced = true;
@@ -252,10 +302,11 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
         },
         afterBatch: async () => {
           progress.update(session.scored, session.recentAccuracy);
-          await Promise.all([journal.flush(), rejects?.flush()]);
+          await Promise.all([journal.flush(), rejects?.flush(), checkpoints?.afterBatch(session, decoder)]);
         },
       });
       if (session.scored === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
+      await checkpoints?.save(session, decoder);
       summary = session.finish(decoder.classes);
     } finally {
       progress.done();

@@ -146,14 +146,15 @@ export class Bagging extends SeatedEnsemble {
 
   score(row: Float64Array, offset: number, verdict: Verdict): void {
     this.checkRowOnly(row, offset);
-    const { probs, preds, weights, classes } = this.scratch;
+    const { probs, preds, weights, confidence, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     for (let m = 0; m < seats.length; m++) {
       const seat = seats[m]!;
       preds[m] = seat.member.score(row, offset, probs, m * classes);
       weights[m] = this.weight(seat);
+      confidence[m] = seat.recentAccuracy;
     }
-    combineVotes(this.hard, probs, preds, weights, seats.length, classes, verdict);
+    combineVotes(this.hard, probs, preds, weights, confidence, seats.length, classes, verdict);
     verdict.epoch = this.lifecycle.epoch;
   }
 
@@ -163,7 +164,7 @@ export class Bagging extends SeatedEnsemble {
 
   /** Score every member on the row, train it with its Poisson weight, judge it; vote when asked. */
   protected step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void {
-    const { probs, preds, weights, classes } = this.scratch;
+    const { probs, preds, weights, confidence, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     const lifecycle = this.lifecycle;
     for (let m = 0; m < seats.length; m++) {
@@ -171,12 +172,14 @@ export class Bagging extends SeatedEnsemble {
       const k = this.sampler.sample(this.poisson[m]!);
       this.draws[m] = k;
       weights[m] = this.weight(seat);
+      confidence[m] = seat.recentAccuracy;
       const predicted = seat.member.scoreTrain(row, offset, label, k, probs, m * classes);
       preds[m] = predicted;
       if (seat.understudy !== null) seat.understudy.train(row, offset, label, k);
       lifecycle.judge(seat, predicted === label, this.rows);
     }
-    if (verdict !== null) combineVotes(this.hard, probs, preds, weights, seats.length, classes, verdict);
+    if (verdict !== null)
+      combineVotes(this.hard, probs, preds, weights, confidence, seats.length, classes, verdict);
   }
 
   private weight(seat: Seat): number {

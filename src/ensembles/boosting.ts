@@ -175,19 +175,24 @@ export class Boosting extends SeatedEnsemble {
 
   /** Vote weights: log((1 − ε)/ε) for members with ε < 0.5 that are not warming, 0 for the others. */
   private weigh(): void {
-    const { weights } = this.scratch;
+    const { weights, confidence } = this.scratch;
     const seats = this.lifecycle.seats;
     for (let m = 0; m < seats.length; m++) {
       const e = this.errorOf(m);
       weights[m] =
         e < 0.5 && this.lifecycle.votes(seats[m]!) ? Math.log((1 - e) / Math.max(MIN_ERROR, e)) : 0;
+      confidence[m] = seats[m]!.recentAccuracy;
     }
   }
 
-  /** Weighted hard vote of the members' predictions with the weights `weigh` set. */
+  /**
+   * Weighted hard vote of the members' predictions with the weights `weigh` set: the probabilities are
+   * the normalised vote weights, each member's vote shrunk towards uniform by its recent accuracy (see
+   * vote.ts), so that no class gets probability 0 when some member could be wrong.
+   */
   private vote(verdict: Verdict): void {
-    const { probs, preds, weights, classes } = this.scratch;
-    combineVotes(true, probs, preds, weights, this.lifecycle.seats.length, classes, verdict);
+    const { probs, preds, weights, confidence, classes } = this.scratch;
+    combineVotes(true, probs, preds, weights, confidence, this.lifecycle.seats.length, classes, verdict);
     verdict.epoch = this.lifecycle.epoch;
   }
 }

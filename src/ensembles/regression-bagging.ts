@@ -15,13 +15,14 @@ import {
   ShoalError,
 } from '../core/index.js';
 import {
+  checkRow,
+  checkTarget,
   createRegressor,
   type LearnerSnapshot,
   type Regressor,
   type RegressorSpec,
   restoreRegressor,
 } from '../learners/index.js';
-import { checkRow, checkTarget } from '../learners/learner.js';
 
 /**
  * Online bagging for regression (Oza & Russell 2001, with regressors as members): each member trains

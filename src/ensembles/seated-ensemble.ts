@@ -1,5 +1,5 @@
 import type { FeatureSchema } from '../core/index.js';
-import { checkLabel, checkRow } from '../learners/learner.js';
+import { checkLabel, checkRow } from '../learners/index.js';
 import type { Ensemble, EnsembleKind, EnsembleSnapshot } from './ensemble.js';
 import type { Lifecycle, SeatView } from './lifecycle.js';
 import { MemberScratch } from './scratch.js';

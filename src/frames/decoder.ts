@@ -1,4 +1,11 @@
-import { type ConfigIssue, type Feature, type FeatureSchema, ShoalError } from '../core/index.js';
+import {
+  type ConfigIssue,
+  checkSnapshot,
+  type Feature,
+  type FeatureSchema,
+  ShoalError,
+  type Snapshot,
+} from '../core/index.js';
 import { CellReader, showCell } from './cells.js';
 import { type Binding, type BindProblem, bindColumns, type SourceColumn } from './columns.js';
 import type { Frame, PositionUnit } from './frame.js';
@@ -22,7 +29,6 @@ export interface DeclaredSchema {
 
 /** A decoder's state, JSON-safe, for checkpoints: codes must mean the same after a restart. */
 export interface FrameDecoderState {
-  readonly version: number;
   readonly options: FrameOptions;
   readonly features: readonly Feature[] | null;
   /** Category names given so far, per feature (null for numeric features). */
@@ -31,6 +37,10 @@ export interface FrameDecoderState {
   readonly classes: readonly string[];
 }
 
+/** A decoder's snapshot: its state in the shared envelope. */
+export type FrameDecoderSnapshot = Snapshot<FrameDecoderState>;
+
+const KIND = 'frame-decoder';
 const STATE_VERSION = 1;
 
 /**
@@ -53,7 +63,7 @@ export class FrameDecoder {
   readonly buffer = new FrameBuffer();
   /** Reads cells with this stream's missing-value tokens. */
   readonly cells: CellReader;
-  private readonly given: FrameOptions;
+  private given: FrameOptions;
   private labels: LabelDictionary;
   private current: FeatureSchema | null = null;
   private vocabularies: (Vocabulary | null)[] = [];
@@ -265,26 +275,28 @@ export class FrameDecoder {
   }
 
   /** The decoder's state, JSON-safe. */
-  snapshot(): FrameDecoderState {
+  snapshot(): FrameDecoderSnapshot {
     return {
+      kind: KIND,
       version: STATE_VERSION,
-      options: this.given,
-      features: this.current === null ? null : this.current.features,
-      categories: this.vocabularies.map((v) => (v === null ? null : [...v.names()])),
-      labelMode: this.labels.mode,
-      classes: [...this.labels.classes()],
+      state: {
+        options: this.given,
+        features: this.current === null ? null : this.current.features,
+        categories: this.vocabularies.map((v) => (v === null ? null : [...v.names()])),
+        labelMode: this.labels.mode,
+        classes: [...this.labels.classes()],
+      },
     };
   }
 
-  /** A decoder that goes on where the one that took `state` left off. */
-  static restore(state: FrameDecoderState): FrameDecoder {
-    if (!state || state.version !== STATE_VERSION) {
-      throw new ShoalError(
-        'invalid-snapshot',
-        `frame decoder state has version ${String(state?.version)}; this build reads version ${STATE_VERSION}`,
-      );
-    }
+  /** A decoder that goes on where the one that took `snapshot` left off. */
+  static restore(snapshot: FrameDecoderSnapshot): FrameDecoder {
+    checkSnapshot(snapshot, KIND, STATE_VERSION);
+    const { state } = snapshot;
     const decoder = new FrameDecoder({ ...state.options, classes: state.classes }, 'frame decoder state');
+    // The classes seed the label dictionary; the options the decoder reports stay the ones it was given,
+    // so that its snapshot after a restore is the snapshot it was restored from.
+    decoder.given = state.options;
     decoder.labels.mode = state.labelMode;
     if (state.features === null) return decoder;
     const issues: ConfigIssue[] = [];

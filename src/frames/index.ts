@@ -7,7 +7,7 @@ export type { Binding, BindProblem, SourceColumn } from './columns.js';
 export { CsvParser } from './csv-parser.js';
 export { csvFrames } from './csv-read.js';
 export { csvField, csvLayout } from './csv-write.js';
-export type { DeclaredSchema, FrameDecoderState } from './decoder.js';
+export type { DeclaredSchema, FrameDecoderSnapshot, FrameDecoderState } from './decoder.js';
 export { FrameDecoder } from './decoder.js';
 export type { Decoded, Frame, FrameOrigin, MessageDecode, PositionUnit, Rejection } from './frame.js';
 export { cloneFrame, describePosition, describeRow } from './frame.js';

@@ -113,7 +113,7 @@ export const HOEFFDING_TREE_OPTIONS = {
     type: 'number',
     above: 0,
     default: 256 * 1024,
-    doc: 'memory cap for leaf statistics and nodes; the least promising leaves are deactivated above it',
+    doc: 'memory cap in bytes for a two-class tree, scaled by C/2 for C > 2 classes; the least promising leaves are deactivated above it',
   },
   branchShareFloor: {
     type: 'number',
@@ -813,7 +813,7 @@ export class HoeffdingTree implements Classifier {
     this.sinceMemoryCheck += weight;
     if (this.sinceMemoryCheck >= MEMORY_CHECK_GRACE_PERIODS * this.options.checkInterval) {
       this.sinceMemoryCheck = 0;
-      if (this.sizeBytes() > this.options.byteLimit) this.enforceMemoryCap();
+      if (this.sizeBytes() > this.byteCap()) this.enforceMemoryCap();
     }
   }
 
@@ -1249,6 +1249,18 @@ export class HoeffdingTree implements Classifier {
 
   // ---- memory cap ----------------------------------------------------------------------------
 
+  /**
+   * The cap in force: `byteLimit` for up to two classes, scaled by C/2 beyond. A leaf's statistics
+   * grow with the class count, so a fixed cap would hold 13 times fewer leaves on 26 classes than on
+   * two (a 26-class, 16-feature tree stopped at 12 active leaves under 256 KiB, and its member lost a
+   * point of accuracy and was retired as the inactive leaves fell behind); scaled, the number of leaves
+   * the cap allows depends on the features only. Two-class streams, where speed matters most, keep the
+   * cap they had.
+   */
+  private byteCap(): number {
+    return this.options.byteLimit * Math.max(1, this.c / 2);
+  }
+
   /** A leaf's promise: the weight its majority class gets wrong (VFDT §3, "p_l e_l"). */
   private promise(leaf: number): number {
     const head = leaf * this.headSize;
@@ -1269,7 +1281,7 @@ export class HoeffdingTree implements Classifier {
    * one instead of sorting them all.
    */
   private enforceMemoryCap(): void {
-    const cap = this.options.byteLimit;
+    const cap = this.byteCap();
     const promise = Float64Array.from({ length: this.leafCount }, (_, l) => this.promise(l));
     while (this.sizeBytes() > cap) {
       const leaf = this.extremeLeaf(promise, true, -1);

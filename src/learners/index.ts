@@ -5,7 +5,7 @@ export { HOEFFDING_TREE_DEFAULTS, HoeffdingTree } from './hoeffding-tree.js';
 export type { KnnVote, KnnWindowOptions } from './knn-window.js';
 export { KNN_WINDOW_DEFAULTS, KnnWindow } from './knn-window.js';
 export type { Classifier, ForgetsInputs, LearnerSnapshot, Regressor } from './learner.js';
-export { MAX_CLASSES } from './learner.js';
+export { checkLabel, checkRow, checkTarget, MAX_CLASSES } from './learner.js';
 export type { LinearRegressionOptions } from './linear-regression.js';
 export { LINEAR_REGRESSION_DEFAULTS, LinearRegression } from './linear-regression.js';
 export type { LinearSvmOptions } from './linear-svm.js';

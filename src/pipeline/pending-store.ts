@@ -21,8 +21,9 @@ export type Gone = 0 | typeof GONE_JOINED | typeof GONE_EXPIRED | typeof GONE_EV
  *
  * Memory: every buffer is allocated up front (values, probabilities, epochs, times); the ids are the
  * frame's own strings, held only while their entry waits. A second ring of the same size remembers the
- * ids of the last `capacity` predictions that left the store and why (joined, expired, evicted), so a
- * label that comes after can be told apart from one whose id was never scored; older ids are forgotten,
+ * ids of the last `capacity` predictions that left the store and why (joined, expired, evicted; a row
+ * judged with its own label counts as joined), so a label that comes after can be told apart from one
+ * whose id was never scored; older ids are forgotten,
  * and a label for one counts as unknown. Both index maps hold at most `capacity` keys each, so the store
  * never grows without bound whatever arrives. Per row, nothing is allocated beyond the maps' own
  * amortised upkeep.
@@ -162,6 +163,17 @@ export class PendingStore {
 
   timeOf(slot: number): number {
     return this.times[slot]!;
+  }
+
+  /**
+   * A row with id `id` came with its label and was judged at once: a later label for it is a duplicate.
+   * An earlier prediction still waiting under the same id is replaced (returned as `GONE_EVICTED`).
+   */
+  settled(id: string): Gone {
+    const earlier = this.index.get(id);
+    if (earlier !== undefined) this.leave(earlier, GONE_EVICTED);
+    this.remember(id, GONE_JOINED);
+    return earlier === undefined ? 0 : GONE_EVICTED;
   }
 
   /** The prediction in `slot` was joined to its label: it leaves the store. */

@@ -168,9 +168,14 @@ export interface SessionMetrics {
   readonly pendingCapacity: number;
   /**
    * Joined labels by delay from serving to joining: `counts[k]` labels took at most `bounds[k]` seconds
-   * (and more than the bound before); the last count is beyond the last bound.
+   * (and more than the bound before); the last count is beyond the last bound; `sum` is the total delay
+   * in seconds.
    */
-  labelDelays(): { readonly bounds: readonly number[]; readonly counts: readonly number[] };
+  labelDelays(): {
+    readonly bounds: readonly number[];
+    readonly counts: readonly number[];
+    readonly sum: number;
+  };
   /** Accuracy and Cohen's κ over the evaluation window; null before the first judged row. */
   readonly windowAccuracy: number | null;
   readonly windowKappa: number | null;

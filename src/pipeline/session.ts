@@ -86,7 +86,8 @@ const VERSION = 1;
  * @example
  * const session = new LearningSession({ config, source: 'legs.arrow', journal, clock, version });
  * for await (const { frame } of readFrames('legs.arrow', decoder)) session.score(frame, decoder.classes);
- * for await (const { frame } of readFrames('labels.csv', decoder.labelsDecoder())) session.learn(frame, decoder.classes);
+ * const labels = decoder.labelsDecoder({ id: 'leg_id', label: 'rejected' });
+ * for await (const { frame } of readFrames('labels.csv', labels)) session.learn(frame, decoder.classes);
  * const summary = session.finish(decoder.classes);
  */
 export class LearningSession {
@@ -172,6 +173,7 @@ export class LearningSession {
         }
       } else {
         ensemble.scoreTrain(values, offset, label, verdict);
+        if (ids !== null && pending.settled(ids[r]!) === GONE_EVICTED) counts.evictedPredictions++;
         counts.inline++;
         counts.trained++;
         this.judge(verdict.predicted, label, label < verdict.classes ? verdict.probabilities[label]! : 0);
@@ -419,6 +421,7 @@ export class LearningSession {
 
   private delay(ms: number): void {
     const seconds = ms / 1000;
+    this.counts.delaySeconds += seconds;
     let k = 0;
     while (k < LABEL_DELAY_BOUNDS.length && seconds > LABEL_DELAY_BOUNDS[k]!) k++;
     this.delays[k]!++;
@@ -498,6 +501,10 @@ export class LearningSession {
     return Array.from(this.delays);
   }
 
+  delaySum(): number {
+    return this.counts.delaySeconds;
+  }
+
   seats(): readonly SeatView[] {
     return this.ensemble?.seats() ?? [];
   }
@@ -536,6 +543,8 @@ class Counts {
   warnings = 0;
   replacements = 0;
   inputDrifts = 0;
+  /** Sum of the delays of joined labels, in seconds. */
+  delaySeconds = 0;
 }
 
 export type SessionCounts = { readonly [K in keyof Counts]: number };
@@ -590,7 +599,7 @@ function metricsOf(s: LearningSession): SessionMetrics {
     get windowKappa() {
       return s.windowFigures().kappa;
     },
-    labelDelays: () => ({ bounds: LABEL_DELAY_BOUNDS, counts: s.labelDelays() }),
+    labelDelays: () => ({ bounds: LABEL_DELAY_BOUNDS, counts: s.labelDelays(), sum: s.delaySum() }),
     lifecycleCounts: () => s.causeCounts(),
     inputDrifts: () => s.inputDriftsByFeature(),
     recentDriftSignals: () => s.recentDriftSignals(),

@@ -1,4 +1,5 @@
-import { Bagging, BatchVerdicts, ParallelBagging, Verdict } from '../../dist/ensembles/index.js';
+import { Bagging, Verdict } from '../../dist/ensembles/index.js';
+import { BatchVerdicts, ParallelBagging } from '../../dist/parallel/index.js';
 import { numericSchema } from '../../src/core/index.js';
 import { type BenchFn, type BenchRow, machine, median } from './harness.js';
 import { benchStream } from './stream.js';

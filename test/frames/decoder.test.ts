@@ -19,7 +19,7 @@ import {
   decodeArrowMessage,
   decodeJsonRecord,
   FrameDecoder,
-  type FrameDecoderState,
+  type FrameDecoderSnapshot,
 } from '../../src/frames/index.js';
 import { collect, expectShoalError, scratchDir } from './support.js';
 
@@ -181,8 +181,9 @@ describe('checkpoints', () => {
     ];
     const original = new FrameDecoder({ id: 'leg', vocabulary: 5 });
     records(original, stream);
-    const state = JSON.parse(JSON.stringify(original.snapshot())) as FrameDecoderState;
+    const state = JSON.parse(JSON.stringify(original.snapshot())) as FrameDecoderSnapshot;
     const restored = FrameDecoder.restore(state);
+    expect(JSON.stringify(restored.snapshot())).toBe(JSON.stringify(original.snapshot()));
     expect(restored.schema).toEqual(original.schema);
     expect(restored.classes).toEqual(original.classes);
     expect(records(restored, later)).toEqual(records(original, later));
@@ -194,7 +195,13 @@ describe('checkpoints', () => {
     await expectShoalError(() => FrameDecoder.restore(state), 'invalid-snapshot', /version 99/);
     const decoder = new FrameDecoder({ vocabulary: 3 });
     records(decoder, [{ carrier: 'Auk' }]);
-    const crowded = { ...decoder.snapshot(), categories: [['Auk', 'Tern', 'Skua']] };
+    const good = decoder.snapshot();
+    const crowded = { ...good, state: { ...good.state, categories: [['Auk', 'Tern', 'Skua']] } };
+    await expectShoalError(
+      () => FrameDecoder.restore({ ...good, kind: 'learner' }),
+      'invalid-snapshot',
+      /expected a frame-decoder snapshot, got learner/,
+    );
     await expectShoalError(() => FrameDecoder.restore(crowded), 'invalid-snapshot', /do not match/);
   });
 });

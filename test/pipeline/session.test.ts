@@ -169,7 +169,10 @@ describe('the learning session', () => {
         ),
         gen.classes,
       );
+    clock.wallNow += 5000;
     learn('e1', 'e1', 'e0', 'nobody');
+    // One label joined 5 s after its prediction was served: the (1 s, 10 s] bucket.
+    expect(s.metrics.labelDelays()).toMatchObject({ counts: [0, 1, 0, 0, 0, 0, 0, 0, 0], sum: 5 });
     expect(s.labelCounts()).toMatchObject({
       joined: 1,
       duplicate: 1,
@@ -177,13 +180,17 @@ describe('the learning session', () => {
       unknown: 1,
       evictedPredictions: 1,
     });
-    clock.wallNow += 11_000;
-    expect(s.expire()).toBe(2); // e2 and e3
+    clock.wallNow += 6000;
+    expect(s.expire()).toBe(2); // e2 and e3, served 11 s ago
     learn('e2');
     const counts = s.labelCounts();
     expect(counts).toMatchObject({ late: 1, expiredPredictions: 2, pending: 0 });
     expectCountsAddUp(counts, 5, 4);
     expect(s.learn(labelsFrame(['e9'], [Number.NaN]), gen.classes)).toBe(1);
+    // A row that came with its label was judged at once: a later label for its id is a duplicate.
+    s.score(frameOf(gen, 1, { first: 50, ids: true }), gen.classes);
+    learn('e50');
+    expect(s.labelCounts()).toMatchObject({ inline: 1, duplicate: 2 });
   });
 
   it('keeps its bound under a flood of 10× its capacity in unknown labels and in predictions', () => {

@@ -1,7 +1,8 @@
 import { execFileSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { type FeatureSchema, numeric, Rng } from '../../src/core/index.js';
 
 /**
@@ -67,6 +68,41 @@ export function mlbench(name: string, label: string, seed = 11): Dataset {
     };
     cache.set(key, data);
     return data;
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+/** What scikit-learn makes of a dataset in the same row order (see sklearn_reference.py). */
+export interface SklearnReference {
+  readonly version: string;
+  /** GaussianNB, test-then-train in batches of 50 rows. */
+  readonly prequential: number;
+  /** A 100-tree random forest fitted on the first 70% of the rows, scored on the last 30%. */
+  readonly forest: number;
+}
+
+/** Run scikit-learn (installed by `.ci/run`, version pinned there) over `data` in its shuffled order. */
+export function sklearnReference(data: Dataset): SklearnReference {
+  const dir = mkdtempSync(join(tmpdir(), 'shoal-sklearn-'));
+  try {
+    const file = join(dir, `${data.name}.csv`);
+    const lines: string[] = [];
+    for (let i = 0; i < data.length; i++) {
+      const cells = [String(data.labels[i])];
+      for (let j = 0; j < data.width; j++) {
+        const v = data.rows[i * data.width + j]!;
+        cells.push(Number.isNaN(v) ? 'nan' : String(v));
+      }
+      lines.push(cells.join(','));
+    }
+    writeFileSync(file, `${lines.join('\n')}\n`);
+    const script = fileURLToPath(new URL('./sklearn_reference.py', import.meta.url));
+    const out = execFileSync('python3', [script, file], {
+      encoding: 'utf8',
+      stdio: ['ignore', 'pipe', 'pipe'],
+    });
+    return JSON.parse(out) as SklearnReference;
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }

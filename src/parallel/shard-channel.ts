@@ -1,7 +1,6 @@
 import { type MessagePort, receiveMessageOnPort } from 'node:worker_threads';
 import { ShoalError, type ShoalErrorCode } from '../core/index.js';
-import type { Bagging } from './bagging.js';
-import { Verdict } from './verdict.js';
+import { type Bagging, Verdict } from '../ensembles/index.js';
 
 /**
  * How a batch of rows reaches a shard of a bagging ensemble in another thread, and how its members'
@@ -34,7 +33,10 @@ export interface ShardRequest {
   readonly weights: SharedArrayBuffer | ArrayBuffer;
 }
 
-/** Where one shard writes its members' answers, row-major: probabilities, classes and vote weights. */
+/**
+ * Where one shard writes its members' answers, row-major: probabilities, classes, and each member's
+ * vote weight and confidence side by side in `weights`.
+ */
 export interface AnswerArrays {
   readonly probs: Float64Array;
   readonly preds: Int32Array;
@@ -62,7 +64,7 @@ export class ShardAnswers implements AnswerArrays {
     }
     if (this.preds.length < rows * members) {
       this.preds = new Int32Array(this.buffer(4 * rows * members));
-      this.weights = new Float64Array(this.buffer(8 * rows * members));
+      this.weights = new Float64Array(this.buffer(16 * rows * members));
     }
   }
 
@@ -97,7 +99,8 @@ export function runShard(
     const at = r * members;
     for (let i = 0; i < members; i++) {
       preds[at + i] = m.preds[i]!;
-      weights[at + i] = m.weights[i]!;
+      weights[2 * (at + i)] = m.weights[i]!;
+      weights[2 * (at + i) + 1] = m.confidence[i]!;
     }
     const span = members * c;
     for (let i = 0, to = at * c; i < span; i++) probs[to + i] = m.probs[i]!;

@@ -1,9 +1,7 @@
 import { MessageChannel, Worker } from 'node:worker_threads';
 import { type FeatureSchema, integerAtLeast, type Seed, ShoalError } from '../core/index.js';
-import { Bagging, type BaggingSpec } from './bagging.js';
+import { Bagging, type BaggingSpec, combineVotes, Verdict } from '../ensembles/index.js';
 import { channelControl, runShard, ShardAnswers, ShardClient, shardReady } from './shard-channel.js';
-import { Verdict } from './verdict.js';
-import { combineVotes } from './vote.js';
 
 /**
  * Online bagging with its members split over threads. Members of online bagging are independent —
@@ -59,6 +57,7 @@ export class ParallelBagging {
   private probs = new Float64Array(0);
   private readonly preds: Int32Array;
   private readonly weights: Float64Array;
+  private readonly confidence: Float64Array;
   private readonly hard: boolean;
   /** The batch in shared memory, grown as needed. */
   private values = new Float64Array(new SharedArrayBuffer(0));
@@ -71,6 +70,7 @@ export class ParallelBagging {
     this.members = counts.reduce((a, b) => a + b, 0);
     this.preds = new Int32Array(this.members);
     this.weights = new Float64Array(this.members);
+    this.confidence = new Float64Array(this.members);
     this.hard = local.options.vote === 'hard';
   }
 
@@ -239,7 +239,7 @@ export class ParallelBagging {
     const answers = [this.localAnswers, ...this.remote.map((r) => r.answers)];
     out.fit(rows, c);
     if (this.probs.length !== this.members * c) this.probs = new Float64Array(this.members * c);
-    const { probs, preds, weights, verdict } = this;
+    const { probs, preds, weights, confidence, verdict } = this;
     for (let r = 0; r < rows; r++) {
       let seat = 0;
       for (let s = 0; s < answers.length; s++) {
@@ -248,13 +248,14 @@ export class ParallelBagging {
         const from = r * n;
         for (let m = 0; m < n; m++) {
           preds[seat + m] = shard.preds[from + m]!;
-          weights[seat + m] = shard.weights[from + m]!;
+          weights[seat + m] = shard.weights[2 * (from + m)]!;
+          confidence[seat + m] = shard.weights[2 * (from + m) + 1]!;
         }
         const span = n * c;
         for (let i = 0, at = from * c, to = seat * c; i < span; i++) probs[to + i] = shard.probs[at + i]!;
         seat += n;
       }
-      combineVotes(this.hard, probs, preds, weights, this.members, c, verdict);
+      combineVotes(this.hard, probs, preds, weights, confidence, this.members, c, verdict);
       for (let k = 0; k < c; k++) out.probabilities[r * c + k] = verdict.probabilities[k]!;
       out.predicted[r] = verdict.predicted;
       out.agreement[r] = verdict.agreement;

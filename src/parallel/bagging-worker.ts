@@ -1,6 +1,6 @@
 import { type MessagePort, workerData } from 'node:worker_threads';
 import type { FeatureSchema } from '../core/index.js';
-import { Bagging, type BaggingSpec } from './bagging.js';
+import { Bagging, type BaggingSpec } from '../ensembles/index.js';
 import { serveShard } from './shard-channel.js';
 
 /**

@@ -1,0 +1,1 @@
+export { BatchVerdicts, ParallelBagging } from './parallel-bagging.js';
