@@ -28,6 +28,13 @@ export async function* csvFrames(
     const first = await records.next();
     if (first.done) return;
     const [header, ...rest] = first.value;
+    const only = header!.value?.length === 1 ? header!.value[0]! : '';
+    if (only.includes(';') || only.includes('\t')) {
+      throw new ShoalError(
+        'invalid-input',
+        `${path} line ${header!.line}: the header is one column, ${JSON.stringify(only)}: the file is separated by ${only.includes(';') ? 'semicolons' : 'tabs'}, and Shoal reads comma-separated CSV (RFC 4180); convert it first`,
+      );
+    }
     if (header!.problem !== null) {
       throw new ShoalError(
         'invalid-input',
