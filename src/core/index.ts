@@ -23,6 +23,7 @@ export {
   defaultsOf,
   describeRange,
   optionConflict,
+  requireAbove,
   resolveOptions,
 } from './option-table.js';
 export {

@@ -147,3 +147,15 @@ export function resolveOptions<T extends OptionTable>(
 export function optionConflict(owner: string, path: string, message: string): never {
   throw new ConfigError(owner, [{ path, code: 'conflict', message }], 'invalid-parameter');
 }
+
+/** The rule that one option lies above another (a warning level above a drift level, say). */
+export function requireAbove<T extends Readonly<Record<string, unknown>>>(
+  owner: string,
+  options: T,
+  upper: keyof T & string,
+  lower: keyof T & string,
+): void {
+  if (!((options[upper] as number) > (options[lower] as number))) {
+    optionConflict(owner, upper, `must be larger than ${lower} (${options[lower]}), got ${options[upper]}`);
+  }
+}

@@ -7,7 +7,7 @@ import {
   encodeI32,
   type OptionsOf,
   type OptionTable,
-  optionConflict,
+  requireAbove,
   resolveOptions,
   ShoalError,
 } from '../core/index.js';
@@ -137,8 +137,7 @@ export function adwinVarianceCut(n0: number, n1: number, variance: number, delta
 
 function resolve(options: Partial<AdwinOptions>): AdwinOptions {
   const o = resolveOptions(KIND, ADWIN_OPTIONS, options);
-  if (!(o.warningDelta > o.delta))
-    optionConflict(KIND, 'warningDelta', `must be larger than delta (${o.delta}), got ${o.warningDelta}`);
+  requireAbove(KIND, o, 'warningDelta', 'delta');
   return o;
 }
 

@@ -3,7 +3,7 @@ import {
   defaultsOf,
   type OptionsOf,
   type OptionTable,
-  optionConflict,
+  requireAbove,
   resolveOptions,
 } from '../core/index.js';
 import {
@@ -54,13 +54,7 @@ const VERSION = 1;
 
 function resolve(options: Partial<DdmOptions>): DdmOptions {
   const o = resolveOptions(KIND, DDM_OPTIONS, options);
-  if (!(o.driftFactor > o.warningFactor)) {
-    optionConflict(
-      KIND,
-      'driftFactor',
-      `must be larger than warningFactor (${o.warningFactor}), got ${o.driftFactor}`,
-    );
-  }
+  requireAbove(KIND, o, 'driftFactor', 'warningFactor');
   return o;
 }
 

@@ -3,7 +3,7 @@ import {
   defaultsOf,
   type OptionsOf,
   type OptionTable,
-  optionConflict,
+  requireAbove,
   resolveOptions,
   ShoalError,
   WELFORD_SLOTS,
@@ -69,13 +69,7 @@ const VERSION = 1;
 
 function resolve(options: Partial<EddmOptions>): EddmOptions {
   const o = resolveOptions(KIND, EDDM_OPTIONS, options);
-  if (!(o.driftRatio < o.warningRatio)) {
-    optionConflict(
-      KIND,
-      'driftRatio',
-      `must be smaller than warningRatio (${o.warningRatio}), got ${o.driftRatio}`,
-    );
-  }
+  requireAbove(KIND, o, 'warningRatio', 'driftRatio');
   return o;
 }
 

@@ -3,7 +3,7 @@ import {
   defaultsOf,
   type OptionsOf,
   type OptionTable,
-  optionConflict,
+  requireAbove,
   resolveOptions,
 } from '../core/index.js';
 import {
@@ -66,8 +66,7 @@ const VERSION = 1;
 
 function resolve(options: Partial<HddmAOptions>): HddmAOptions {
   const o = resolveOptions(KIND, HDDM_A_OPTIONS, options);
-  if (!(o.alphaW > o.alphaD))
-    optionConflict(KIND, 'alphaW', `must be larger than alphaD (${o.alphaD}), got ${o.alphaW}`);
+  requireAbove(KIND, o, 'alphaW', 'alphaD');
   return o;
 }
 
