@@ -8,7 +8,7 @@ export default defineConfig({
   test: {
     setupFiles: ['test/support/setup.ts'],
     // Short, so that a hung await fails fast; long statistical tests state their own timeout.
-    testTimeout: 10_000,
+    testTimeout: 30_000,
     hookTimeout: 120_000,
     pool: 'forks',
     projects: [

@@ -220,7 +220,8 @@ describe('the bad-input corpus, through the built CLI', () => {
       expect(summary.scored + summary.rejected).toBe(c.rows);
       const written = (await readFile(rejects, 'utf8')).split('\n').filter((l) => l.length > 0);
       expect(written).toHaveLength(c.rejected!);
-    });
+      // Two child processes of the built CLI: seconds each when the machine is busy.
+    }, 60_000);
   }
 
   it('a cut Arrow stream with --rejects: the complete batches are scored, the cut is one rejection', async () => {
@@ -237,5 +238,5 @@ describe('the bad-input corpus, through the built CLI', () => {
     expect(r.code).toBe(0);
     expect(JSON.parse(r.out)).toMatchObject({ scored: 2000, rejected: 1 });
     expect(await readFile(rejects, 'utf8')).toContain('the 2 complete record batches before it were read');
-  });
+  }, 60_000);
 });
