@@ -79,6 +79,15 @@ export class LabelQueue {
     }
   }
 
+  /** Forget every label due by `now` without handing it over (they were joined before a checkpoint). */
+  drop(now: number): void {
+    while (this.size > 0 && this.dues[this.heap[0]!]! <= now) {
+      const slot = this.heap[0]!;
+      this.pop();
+      this.free[this.freeCount++] = slot;
+    }
+  }
+
   private before(a: number, b: number): boolean {
     const da = this.dues[a]!;
     const db = this.dues[b]!;

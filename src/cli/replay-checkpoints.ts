@@ -31,6 +31,8 @@ export class ReplayCheckpoints {
   private readonly fingerprint: string;
   private readonly shoal: string;
   private due: number;
+  /** Told when a checkpoint is on disk (telemetry's checkpoint age). */
+  saved: (() => void) | null = null;
 
   constructor(dir: string, every: number, config: RunConfig, shoal: string, scored = 0) {
     this.store = new FileCheckpointStore(dir);
@@ -92,7 +94,9 @@ export class ReplayCheckpoints {
       { decoder: decoder.snapshot(), session: session.snapshot() },
       { shoal: this.shoal, fingerprint: this.fingerprint, createdAt: new Date().toISOString() },
     );
-    return this.store.save(checkpoint);
+    const where = await this.store.save(checkpoint);
+    this.saved?.();
+    return where;
   }
 
   private after(scored: number): number {

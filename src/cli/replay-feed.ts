@@ -10,6 +10,7 @@ import {
 } from '../frames/index.js';
 import type { DeadLetter, LearningSession } from '../pipeline/index.js';
 import { LabelQueue } from './label-queue.js';
+import { Pacer } from './pacer.js';
 
 /**
  * When the labels of a replay become known. Time is the events' `--time` column when one is named,
@@ -60,6 +61,12 @@ export interface FeedOptions {
   readonly from?: bigint;
   /** Called after each batch of events is handled (progress, back-pressure, checkpoints). */
   readonly afterBatch: () => Promise<void>;
+  /** Holds the replay to a live stream's rate (`--pace`); inline labels are scored in its ranges. */
+  readonly pacer?: Pacer;
+  /** Milliseconds from any fixed origin, to time each scored range (with `scored`). */
+  readonly now?: () => number;
+  /** Told the rows and seconds of each scored range (the batch histograms). */
+  readonly scored?: (rows: number, seconds: number) => void;
 }
 
 /**
@@ -68,6 +75,9 @@ export interface FeedOptions {
  */
 export async function feed(o: FeedOptions): Promise<void> {
   const { session, decoder, timing } = o;
+  const pacer = o.pacer ?? new Pacer(undefined, () => 0);
+  const clock = o.now ?? (() => 0);
+  const scored = o.scored ?? (() => undefined);
   const refuse = (stream: string, rejected: readonly Rejection[]): void => {
     session.reject(rejected.length);
     for (const r of rejected) {
@@ -81,13 +91,66 @@ export async function feed(o: FeedOptions): Promise<void> {
   let now = Number.NEGATIVE_INFINITY;
   let queue: LabelQueue | null = null;
   let labels: LabelReader | null = null;
+
+  /** The queue (and labels file) once the first frame is known, the frame's extra columns and ids. */
+  const prepare = async (frame: Frame, before: number) => {
+    queue ??= new LabelQueue(
+      timing.kind === 'file' ? timing.path : o.file,
+      o.carryFeatures ? frame.schema : undefined,
+    );
+    if (timing.kind === 'file') {
+      labels ??= new LabelReader(timing, decoder, o.carryFeatures, o.rejects, refuse, o.deadLetter);
+    }
+    const values = extra === null ? null : await extra.align(frame);
+    // Rows without an id column are joined by their row number (a string per row, in this mode only).
+    const ids = frame.ids ?? Array.from({ length: frame.rows }, (_, i) => String(before + i + 1));
+    return { queue, values, ids };
+  };
+
+  /**
+   * Row r of a frame was scored as row `rows` of the run: hold its label, or read the labels file on,
+   * and return the moment reached (rows scored, or the events' time). `again`: the row was scored before
+   * the checkpoint this run resumes from.
+   */
+  const hold = async (
+    frame: Frame,
+    r: number,
+    rows: number,
+    prepared: Awaited<ReturnType<typeof prepare>>,
+    again: boolean,
+  ): Promise<number> => {
+    const { queue: held, values, ids } = prepared;
+    const time = o.time === null ? rows : values![r * 2]!;
+    if (time > now) now = time;
+    const moment = byTime ? now : rows;
+    const label = frame.labels === null ? Number.NaN : frame.labels[r]!;
+    if (timing.kind === 'delay' && !Number.isNaN(label)) {
+      held.push(rows + timing.rows, ids[r]!, label, frame.values, r * frame.width);
+    } else if (timing.kind === 'delay-column' && !Number.isNaN(label)) {
+      held.push(values![r * 2 + 1]!, ids[r]!, label, frame.values, r * frame.width);
+    } else if (labels?.behind(moment)) {
+      await labels.fill(held, moment, again);
+    }
+    return moment;
+  };
+
   let consumed = 0n;
   const from = o.from ?? 0n;
+  // Rows counted again on the way to a resume position (they were scored before the checkpoint).
+  let recounted = 0;
   try {
     for await (const batch of readFrames(o.file, decoder, { rejects: o.rejects, ...format })) {
       const size = BigInt(batch.frame.rows + batch.rejected.length);
+      const frame = batch.frame;
       if (consumed + size <= from) {
         consumed += size;
+        if (timing.kind === 'inline') continue;
+        // Labels held back when the checkpoint was taken are held again: the rows before it are read
+        // once more, their labels queued, and those already joined by then (due by that moment) dropped.
+        const prepared = await prepare(frame, recounted);
+        for (let r = 0; r < frame.rows; r++) {
+          prepared.queue.drop(await hold(frame, r, ++recounted, prepared, true));
+        }
         continue;
       }
       if (consumed < from) {
@@ -98,37 +161,24 @@ export async function feed(o: FeedOptions): Promise<void> {
       }
       refuse(o.file, batch.rejected);
       o.beforeScoring?.();
-      const frame = batch.frame;
       if (timing.kind === 'inline') {
-        session.score(frame, decoder.classes);
-      } else {
-        queue ??= new LabelQueue(
-          timing.kind === 'file' ? timing.path : o.file,
-          o.carryFeatures ? frame.schema : undefined,
-        );
-        if (timing.kind === 'file') {
-          labels ??= new LabelReader(timing, decoder, o.carryFeatures, o.rejects, refuse, o.deadLetter);
+        for (const [from, to] of pacer.ranges(frame.rows)) {
+          const started = clock();
+          session.score(frame, decoder.classes, from, to);
+          scored(to - from, (clock() - started) / 1000);
+          await pacer.wait(to - from);
         }
-        const values = extra === null ? null : await extra.align(frame);
-        const before = session.scored;
-        // Rows without an id column are joined by their row number (a string per row, in this mode only).
-        const ids = frame.ids ?? Array.from({ length: frame.rows }, (_, i) => String(before + i + 1));
-        const held: Frame = { ...frame, labels: null, ids };
+      } else {
+        const started = clock();
+        const prepared = await prepare(frame, session.scored);
+        const held: Frame = { ...frame, labels: null, ids: prepared.ids };
         for (let r = 0; r < frame.rows; r++) {
           session.score(held, decoder.classes, r, r + 1);
-          const rows = session.scored;
-          const time = o.time === null ? rows : values![r * 2]!;
-          if (time > now) now = time;
-          const label = frame.labels === null ? Number.NaN : frame.labels[r]!;
-          if (timing.kind === 'delay' && !Number.isNaN(label)) {
-            queue.push(rows + timing.rows, ids[r]!, label, frame.values, r * frame.width);
-          } else if (timing.kind === 'delay-column' && !Number.isNaN(label)) {
-            queue.push(values![r * 2 + 1]!, ids[r]!, label, frame.values, r * frame.width);
-          } else if (labels?.behind(byTime ? now : rows)) {
-            await labels.fill(queue, byTime ? now : rows);
-          }
-          queue.release(byTime ? now : rows, session, decoder.classes);
+          const moment = await hold(frame, r, session.scored, prepared, false);
+          prepared.queue.release(moment, session, decoder.classes);
         }
+        scored(frame.rows, (clock() - started) / 1000);
+        await pacer.wait(frame.rows);
       }
       consumed += size;
       session.advance(o.file, consumed);
@@ -140,12 +190,13 @@ export async function feed(o: FeedOptions): Promise<void> {
         `${o.file}: holds ${consumed} rows, but the checkpoint goes on at row ${from}: is this the file the run was started on?`,
       );
     }
-    if (queue !== null) {
-      if (labels !== null) await labels.fill(queue, Number.POSITIVE_INFINITY);
-      queue.release(Number.POSITIVE_INFINITY, session, decoder.classes);
+    const last = queue as LabelQueue | null;
+    if (last !== null) {
+      if (labels !== null) await (labels as LabelReader).fill(last, Number.POSITIVE_INFINITY);
+      last.release(Number.POSITIVE_INFINITY, session, decoder.classes);
     }
   } finally {
-    await Promise.all([extra?.close(), labels?.close()]);
+    await Promise.all([extra?.close(), (labels as LabelReader | null)?.close()]);
   }
 }
 
@@ -274,8 +325,11 @@ class LabelReader {
     return !this.done && this.last <= now;
   }
 
-  /** Queue labels until one is due after `now` (or the file ends). */
-  async fill(queue: LabelQueue, now: number): Promise<void> {
+  /**
+   * Queue labels until one is due after `now` (or the file ends). `again`: these lines were read before
+   * a checkpoint this run resumes from, so a line without a label is not dead-lettered a second time.
+   */
+  async fill(queue: LabelQueue, now: number, again = false): Promise<void> {
     while (this.behind(now)) {
       const frame = this.frame;
       if (frame === null || this.at >= frame.rows) {
@@ -284,7 +338,7 @@ class LabelReader {
           this.done = true;
           return;
         }
-        this.refuse(this.path, next.value.rejected);
+        if (!again) this.refuse(this.path, next.value.rejected);
         this.frame = next.value.frame;
         this.at = 0;
         continue;
@@ -293,6 +347,7 @@ class LabelReader {
       const label = frame.labels![r]!;
       const due = this.timed ? frame.values[r * frame.width + frame.width - 1]! : this.read + 1;
       if (Number.isNaN(label) || Number.isNaN(due)) {
+        if (again) continue;
         this.deadLetter({
           stream: this.path,
           position: BigInt(frame.origin.positions[r]!),

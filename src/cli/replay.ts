@@ -7,9 +7,11 @@ import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index
 import { CLASSIFIER_KINDS } from '../learners/index.js';
 import { LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
+import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
 import { type NamedPath, openOutputs, refuseCollisions } from './outputs.js';
+import { Pacer } from './pacer.js';
 import { Progress } from './progress.js';
 import { DEFAULT_CHECKPOINT_EVERY, ReplayCheckpoints } from './replay-checkpoints.js';
 import { feed, type LabelTiming } from './replay-feed.js';
@@ -57,6 +59,10 @@ Options:
                     rows between checkpoints (default ${count(DEFAULT_CHECKPOINT_EVERY)})
   --resume DIR      go on from the newest good checkpoint in DIR, skipping the rows it had consumed (give
                     the options of the first run); checkpoints go on being written to DIR
+  --metrics HOST:PORT
+                    serve /metrics, /healthz, /readyz and /status on HOST:PORT while the run lasts
+                    (Prometheus; see deploy/prometheus). Off by default
+  --pace N          replay at most N rows per second, as a live stream would arrive (default: as fast as possible)
   --json            print one JSON object instead of the summary table
 Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.
 The schema the run uses is printed to stderr before the first row is scored. No output may name an
@@ -95,7 +101,10 @@ function withOverrides(
   if (schema !== undefined) Object.assign(inputs, schema);
   // Time columns are read beside the features, never as features.
   const times = [text(parsed, 'time'), text(parsed, 'label-delay-column')].filter((c) => c !== undefined);
-  if (times.length > 0) inputs.exclude = [...((inputs.exclude as string[] | undefined) ?? []), ...times];
+  if (times.length > 0) {
+    const excluded = (inputs.exclude as string[] | undefined) ?? [];
+    inputs.exclude = [...excluded, ...times.filter((c) => !excluded.includes(c!))];
+  }
   const seed = text(parsed, 'seed');
   return { ...base, ...(seed === undefined ? {} : { seed }), ensemble, inputs };
 }
@@ -131,11 +140,7 @@ function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): Label
 }
 
 /** The run's checkpoints, when `--checkpoint` or `--resume` asks for them. */
-function replayCheckpoints(
-  parsed: ReturnType<typeof parse>,
-  config: RunConfig,
-  timing: LabelTiming,
-): ReplayCheckpoints | null {
+function replayCheckpoints(parsed: ReturnType<typeof parse>, config: RunConfig): ReplayCheckpoints | null {
   const resume = text(parsed, 'resume');
   const dir = text(parsed, 'checkpoint') ?? resume;
   const every = whole(parsed, 'checkpoint-every');
@@ -155,17 +160,11 @@ function replayCheckpoints(
       '--resume DIR goes on writing checkpoints to DIR; give one directory',
     );
   }
-  if (timing.kind !== 'inline') {
-    throw new ShoalError(
-      'invalid-parameter',
-      'checkpoints need inline labels for now (labels held back by --labels or --label-delay are not in a checkpoint)',
-    );
-  }
   return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion());
 }
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
-function frameOptions(config: RunConfig): FrameOptions {
+export function frameOptions(config: RunConfig): FrameOptions {
   const { label, id, exclude, features, vocabulary, missing, labelsAs } = config.inputs;
   return {
     label,
@@ -228,6 +227,8 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     checkpoint: { type: 'string' },
     'checkpoint-every': { type: 'string' },
     resume: { type: 'string' },
+    metrics: { type: 'string' },
+    pace: { type: 'string' },
   });
   if (parsed.values.help) {
     terminal.out(`${REPLAY_HELP}\n`);
@@ -250,7 +251,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const config = resolveWithFlags(withOverrides(raw, parsed, schema), source, parsed, schemaPath);
   const format = text(parsed, 'format') as FrameFormat | undefined;
   const timing = labelTiming(parsed, config);
-  const checkpoints = replayCheckpoints(parsed, config, timing);
+  const checkpoints = replayCheckpoints(parsed, config);
   // Opened before the run: a path that cannot be written is refused before any row is read. The
   // journal and rejects writers write to the temporary files, which are moved into place at the end.
   const opened = await openOutputs(inputs, outputs);
@@ -260,9 +261,18 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const rejectsFile = output('--rejects');
   const rejects = rejectsFile === null ? null : deadLetterFile(rejectsFile.partialPath);
   let rejected = 0;
+  const listen = text(parsed, 'metrics');
+  const pacer = new Pacer(whole(parsed, 'pace'), () => terminal.now());
+  let telemetry: SessionTelemetry | null = null;
   const ports = {
     source: file!,
-    journal,
+    journal: {
+      write: (r: JournalRecord) => {
+        telemetry?.record(r);
+        journal.write(r);
+      },
+      flush: () => journal.flush(),
+    },
     clock: { monotonic: () => terminal.now(), wall: () => Date.now() },
     version: shoalVersion(),
   };
@@ -272,6 +282,21 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       : null;
   const decoder = resumed?.decoder ?? new FrameDecoder(frameOptions(config), source);
   const session = resumed?.session ?? new LearningSession({ ...ports, config });
+  let endpoint: TelemetryServer | null = null;
+  if (listen !== undefined) {
+    const source = SessionTelemetry.of(session, {
+      checkpoints: checkpoints !== null,
+      wall: () => Date.now(),
+    });
+    if (checkpoints !== null) checkpoints.saved = () => source.checkpointed();
+    telemetry = source;
+    endpoint = new TelemetryServer(source, {
+      ...parseListen(listen, 'replay --metrics'),
+      version: shoalVersion(),
+      readiness: ['model'],
+    });
+    await endpoint.start();
+  }
   const json = parsed.values.json === true;
   let summary: SummaryRecord;
   try {
@@ -292,7 +317,14 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
         rejects: rejects === null ? 'throw' : 'keep',
         deadLetter: (letter) => {
           rejected++;
+          telemetry?.deadLettered(letter.code);
           rejects?.write(letter);
+        },
+        pacer,
+        now: () => terminal.now(),
+        scored: (rows, seconds) => {
+          endpoint?.batch(rows, seconds);
+          endpoint?.setReady('model', true);
         },
         from: resumed?.from ?? 0n,
         beforeScoring: () => {
@@ -310,7 +342,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       summary = session.finish(decoder.classes);
     } finally {
       progress.done();
-      await Promise.all([journal.close(), rejects?.close()]);
+      await Promise.all([journal.close(), rejects?.close(), endpoint?.close()]);
     }
   } catch (e) {
     await Promise.all(opened.map((o) => o.discard()));

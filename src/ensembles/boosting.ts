@@ -156,6 +156,8 @@ export class Boosting extends SeatedEnsemble {
       const k = Math.min(cap, samplePoisson(this.rng, lambda));
       const before = seat.member.scoreTrain(row, offset, label, k, probs, m * classes);
       preds[m] = before;
+      // Boosting votes one-hot, so the member's answer gives the true class 1 or 0.
+      seat.calibrate(before === label ? 1 : 0, classes);
       if (seat.understudy !== null) seat.understudy.train(row, offset, label, k);
       if (this.lifecycle.judge(seat, before === label, this.rows)) {
         this.right[m] = 0;
@@ -181,7 +183,7 @@ export class Boosting extends SeatedEnsemble {
       const e = this.errorOf(m);
       weights[m] =
         e < 0.5 && this.lifecycle.votes(seats[m]!) ? Math.log((1 - e) / Math.max(MIN_ERROR, e)) : 0;
-      confidence[m] = seats[m]!.recentAccuracy;
+      confidence[m] = seats[m]!.trust;
     }
   }
 

@@ -89,6 +89,14 @@ export type LifecycleSink = (change: LifecycleChange) => void;
 /** Builds the member for a seat; `memberId` seeds it, so replacements are deterministic. */
 export type MemberFactory = (seat: number, memberId: number) => Classifier;
 
+/**
+ * The trust of a member with no record: half its answer, half uniform, worth `TRUST_PRIOR_ROWS` rows, so
+ * that a new member's first few answers cannot move it to either end. The EM fit moves it from there.
+ */
+const INITIAL_TRUST = 0.5;
+const TRUST_PRIOR_ROWS = 10;
+const MIN_TRUST = 0.01;
+
 /** One seat of an ensemble: its member, monitor, understudy and recent record. */
 export class Seat {
   readonly index: number;
@@ -115,6 +123,8 @@ export class Seat {
   private ringAt = 0;
   private ringFill = 0;
   private ringCorrect = 0;
+  private trustMean = INITIAL_TRUST;
+  private trustRows = 0;
 
   constructor(
     index: number,
@@ -150,6 +160,27 @@ export class Seat {
     if (!correct) this.errors++;
   }
 
+  /**
+   * How far the member's probabilities are trusted: the weight α of the mixture α·p + (1 − α)/C of its
+   * answer with the uniform one that best explains the labels seen, fitted online by EM (the posterior
+   * share of the member's component, averaged over the rows — over the last `accuracyWindow` rows once
+   * that many were seen; Dempster, Laird & Rubin 1977, mixture weights; online form after Cappé &
+   * Moulines 2009, from memory). Votes shrink each member's answer by it (see vote.ts).
+   */
+  get trust(): number {
+    return this.trustMean;
+  }
+
+  /** Fit the trust to one more row: `p` is the probability the member gave the row's true class. */
+  calibrate(p: number, classes: number): void {
+    const a = this.trustMean;
+    const mix = a * p + (1 - a) / classes;
+    const share = mix > 0 ? (a * p) / mix : 0;
+    if (this.trustRows < this.ring.length) this.trustRows++;
+    // α = 0 is a fixed point of EM (the member's component would never be credited again): keep a floor.
+    this.trustMean = Math.max(MIN_TRUST, a + (share - a) / (TRUST_PRIOR_ROWS + this.trustRows));
+  }
+
   /** Forget the record (a new member took the seat). */
   clearRecord(): void {
     this.ring.fill(0);
@@ -157,6 +188,8 @@ export class Seat {
     this.ringFill = 0;
     this.ringCorrect = 0;
     this.errors = 0;
+    this.trustMean = INITIAL_TRUST;
+    this.trustRows = 0;
   }
 
   snapshot(): SeatSnapshot {
@@ -177,6 +210,8 @@ export class Seat {
       ring: Array.from(this.ring).join(''),
       ringAt: this.ringAt,
       ringFill: this.ringFill,
+      trust: this.trustMean,
+      trustRows: this.trustRows,
     };
   }
 
@@ -207,6 +242,8 @@ export class Seat {
     for (let i = 0; i < window; i++) seat.ring[i] = s.ring.charCodeAt(i) === 49 ? 1 : 0;
     seat.ringAt = s.ringAt;
     seat.ringFill = s.ringFill;
+    seat.trustMean = s.trust ?? INITIAL_TRUST;
+    seat.trustRows = s.trustRows ?? 0;
     seat.ringCorrect = seat.ring.reduce((a, b) => a + b, 0);
     return seat;
   }
@@ -229,6 +266,8 @@ export interface SeatSnapshot {
   readonly ring: string;
   readonly ringAt: number;
   readonly ringFill: number;
+  readonly trust?: number;
+  readonly trustRows?: number;
 }
 
 export interface LifecycleSnapshot {

@@ -9,13 +9,11 @@ import type { Verdict } from './verdict.js';
  * Members with weight 0 do not vote. With no voter at all, every member votes with weight 1.
  *
  * Calibration: a voter's answer (its probabilities, or its one-hot vote) is first shrunk towards the
- * uniform distribution by its confidence c, its accuracy over the recent window: c·p + (1 − c)/C. A
- * member right a share c of the time should not put more than about c on its prediction; trees with
- * naive-Bayes leaves do (their posteriors count correlated features as independent evidence), and a
- * plain average of them gave log-losses above the no-information level ln C on real data (2.06 against
- * ln 6 = 1.79 on Satellite), a hard vote infinite ones. The shrinkage keeps every class's probability
- * at least (1 − c̄)/C, so one confident mistake costs at most ln(C/(1 − c̄)). A member with no record yet
- * (confidence 0) answers uniformly.
+ * uniform distribution by its confidence c: c·p + (1 − c)/C, where c is the mixture weight fitted to the
+ * member's own record (`Seat.trust`). Trees with naive-Bayes leaves are overconfident (their posteriors
+ * count correlated features as independent evidence): a plain average of them gave log-losses above
+ * the no-information level ln C on real data (2.06 against ln 6 = 1.79 on Satellite), and a hard vote
+ * infinite ones. The shrinkage keeps every class's probability at least (1 − c̄)/C.
  */
 export type VoteKind = 'hard' | 'soft' | 'weighted';
 export const VOTE_KINDS: readonly VoteKind[] = ['hard', 'soft', 'weighted'];

@@ -24,7 +24,7 @@ export function metricChart(t: Timeline, frame: TimeFrame): string {
   const accuracy = thinSeries(t.windows.map((w) => ({ row: w.row, value: w.window.accuracy })));
   const kappa = thinSeries(t.windows.map((w) => ({ row: w.row, value: w.window.kappa })));
   const bottom = TOP + PLOT_HEIGHT;
-  const y = linearScale([lowest([...accuracy, ...kappa]), 1], [bottom, TOP]);
+  const y = linearScale(zoomed([...accuracy, ...kappa]), [bottom, TOP]);
   const replacementMarks = byColumn(frame, t.replacements);
 
   let svg = yAxis(y, frame);
@@ -39,6 +39,8 @@ export function metricChart(t: Timeline, frame: TimeFrame): string {
   svg += svgElement('line', { x1: frame.left, x2: frame.right, y1: bottom, y2: bottom, class: 'axis' });
 
   let rug = bottom + RUG_GAP;
+  svg += rugRow(frame, rug, 'warnings', 'warning', byColumn(frame, t.warnings), driftSignalText);
+  rug += RUG_ROW;
   svg += rugRow(frame, rug, 'drift signals', 'drift', byColumn(frame, t.driftSignals), driftSignalText);
   rug += RUG_ROW;
   svg += rugRow(frame, rug, 'replacements', 'replacement', replacementMarks, (r) => replacementText(r));
@@ -77,16 +79,32 @@ export function metricChart(t: Timeline, frame: TimeFrame): string {
   );
 }
 
-/** The bottom of the y axis: 0, or lower in steps of 0.2 when κ went negative (never below −1). */
-function lowest(points: readonly SeriesPoint[]): number {
-  let low = 0;
-  for (const p of points) if (p.value !== null && p.value < low) low = p.value;
-  return Math.max(-1, Math.floor(low * 5) / 5);
+/**
+ * The y axis zooms to the data: from the lowest to the highest figure drawn, widened by a tenth of the
+ * span on each side and rounded out to steps of 0.05, within [−1, 1] (accuracy and κ both live there).
+ * A run whose accuracy moves between 0.86 and 0.90 is drawn over 0.85–0.95, not 0–1.
+ */
+function zoomed(points: readonly SeriesPoint[]): [number, number] {
+  let low = Number.POSITIVE_INFINITY;
+  let high = Number.NEGATIVE_INFINITY;
+  for (const p of points) {
+    if (p.value === null) continue;
+    if (p.value < low) low = p.value;
+    if (p.value > high) high = p.value;
+  }
+  if (!(high >= low)) return [0, 1];
+  const pad = Math.max(0.01, (high - low) / 10);
+  const lo = Math.max(-1, Math.floor((low - pad) * 20) / 20);
+  const hi = Math.min(1, Math.ceil((high + pad) * 20) / 20);
+  return [lo, hi];
 }
 
 function yAxis(y: LinearScale, frame: TimeFrame): string {
   let out = '';
-  for (const tick of niceTicks(y.domain[0], y.domain[1], 6)) {
+  const ticks = niceTicks(y.domain[0], y.domain[1], 6);
+  const step = ticks.length > 1 ? ticks[1]! - ticks[0]! : 0.1;
+  const decimals = step < 0.1 - 1e-9 ? 2 : 1;
+  for (const tick of ticks) {
     const at = y(tick);
     out += svgElement('line', {
       x1: frame.left,
@@ -95,7 +113,7 @@ function yAxis(y: LinearScale, frame: TimeFrame): string {
       y2: at,
       class: tick === 0 ? 'zero' : 'grid',
     });
-    out += svgText(frame.left - 8, at + 4, tick.toFixed(1), 'tick', 'end');
+    out += svgText(frame.left - 8, at + 4, tick.toFixed(decimals), 'tick', 'end');
   }
   return out;
 }
@@ -117,6 +135,7 @@ function series(points: readonly SeriesPoint[], name: string, frame: TimeFrame, 
 
 const GLYPHS: Readonly<Record<string, (x: number, y: number) => string>> = {
   drift: (x, y) => `M${px(x - 1)} ${px(y - 6)}h2v12h-2Z`,
+  warning: (x, y) => `M${px(x - 4)} ${px(y - 4)}h8v8h-8Z`,
   replacement: (x, y) => `M${px(x - 4.5)} ${px(y - 5)}h9l-4.5 9Z`,
   input: (x, y) => `M${px(x)} ${px(y - 5)}l4.5 5l-4.5 5l-4.5 -5Z`,
 };
@@ -125,7 +144,7 @@ function rugRow<T extends { readonly row: number }>(
   frame: TimeFrame,
   y: number,
   label: string,
-  kind: 'drift' | 'replacement' | 'input',
+  kind: 'warning' | 'drift' | 'replacement' | 'input',
   groups: readonly ColumnGroup<T>[],
   describe: (item: T) => string,
 ): string {

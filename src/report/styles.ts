@@ -6,7 +6,12 @@ import type { MemberState } from '../journal/index.js';
  * memory); member states run from calm (active) to alert (watched).
  */
 export const SERIES_COLOURS = { accuracy: '#0072b2', kappa: '#d55e00' } as const;
-export const EVENT_COLOURS = { drift: '#7b3fa0', replacement: '#c0392b', input: '#00897b' } as const;
+export const EVENT_COLOURS = {
+  warning: '#d08c00',
+  drift: '#7b3fa0',
+  replacement: '#c0392b',
+  input: '#00897b',
+} as const;
 /** The tick where a seat's member was replaced, dark on every state colour. */
 export const LANE_MARK_COLOUR = '#3a1512';
 export const STATE_COLOURS: Readonly<Record<MemberState, string>> = {
@@ -54,6 +59,7 @@ svg .series{fill:none;stroke-width:1.6;stroke-linejoin:round}
 svg .s-accuracy{stroke:${SERIES_COLOURS.accuracy}}
 svg .s-kappa{stroke:${SERIES_COLOURS.kappa}}
 svg .rug{stroke:#eef0f3;stroke-width:1}
+svg .m-warning{fill:${EVENT_COLOURS.warning}}
 svg .m-drift{fill:${EVENT_COLOURS.drift}}
 svg .m-replacement{fill:${EVENT_COLOURS.replacement}}
 svg .m-input{fill:${EVENT_COLOURS.input}}
@@ -70,6 +76,8 @@ td.num,th.num{text-align:right}
 table.matrix td.cell{text-align:right;min-width:58px;border:1px solid #fff}
 table.matrix td.diag{font-weight:700}
 table.matrix th.corner{color:#5b6372;font-weight:400;font-size:12px}
+table.matrix.compact td.cell{min-width:0;padding:2px 4px;font-size:11px}
+table.matrix.compact th{padding:2px 4px;font-size:11px}
 table.kv{width:100%}
 table.kv table.kv{width:auto;min-width:50%}
 table.kv th{color:#3b4352;font-weight:600;width:1%;white-space:nowrap;padding-right:14px}

@@ -54,6 +54,8 @@ export interface Timeline {
   readonly windows: readonly Placed<WindowRecord>[];
   /** Lifecycle records whose cause is a drift signal of a member monitor. */
   readonly driftSignals: readonly Placed<LifecycleRecord>[];
+  /** Lifecycle records of a warning that put a member under watch (an understudy started). */
+  readonly warnings: readonly Placed<LifecycleRecord>[];
   readonly replacements: readonly Replacement[];
   readonly inputDrifts: readonly Placed<InputDriftRecord>[];
 }
@@ -90,6 +92,7 @@ export function timeline(records: readonly JournalRecord[]): Timeline {
     lanes: bySeat.map((list) => segments(list, rows)),
     windows,
     driftSignals: lifecycle.filter((r) => isDriftSignal(r.cause)),
+    warnings: lifecycle.filter((r) => r.cause === 'watched'),
     replacements: bySeat.flatMap(replacements).sort((a, b) => a.row - b.row || a.seat - b.seat),
     inputDrifts: [...inputDrifts].sort((a, b) => a.row - b.row),
   };

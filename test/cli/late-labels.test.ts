@@ -1,8 +1,9 @@
-import { readFile, writeFile } from 'node:fs/promises';
+import { readdir, readFile, rm, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { feed, type LabelTiming } from '../../src/cli/replay-feed.js';
 import { Rng } from '../../src/core/index.js';
+import { FileCheckpointStore } from '../../src/files/index.js';
 import { FrameDecoder } from '../../src/frames/index.js';
 import { type LabelCounts, parseJournal, type SummaryRecord } from '../../src/journal/index.js';
 import { type JournalSink, LearningSession, resolveConfig } from '../../src/pipeline/index.js';
@@ -19,6 +20,8 @@ const MOST_LATE = 5000;
  * labels in a file of their own, in the order they became known, with that time, plus 30 repeated
  * labels and 50 for ids never scored. A configuration keeps `known` out of the features.
  */
+type Recorded = Awaited<ReturnType<typeof recorded>>;
+
 async function recorded(dir: string) {
   const gen = buildStream({ generator: 'sea', concepts: '8,9', every: ROWS / 2, seed: 4 });
   const block = take(gen, ROWS);
@@ -192,4 +195,59 @@ describe('replay with late labels', () => {
     const time = await shoal('replay', file, '--label-time', 't');
     expect(time.err).toContain('--label-time names a column of the --labels file');
   });
+
+  it.each([
+    [
+      '--labels with --label-time',
+      (d: Recorded) => ['--time', 't', '--labels', d.labels, '--label-time', 'known'],
+    ],
+    ['--label-delay', () => ['--label-delay', '2500']],
+    ['--label-delay-column', () => ['--time', 't', '--label-delay-column', 'known']],
+  ] as const)(
+    'resumed from a checkpoint while labels are held back (%s), ends as an uninterrupted run',
+    async (_, timing) => {
+      const dir = await scratch();
+      const data = await recorded(dir);
+      const options = [data.events, '--config', data.config, '--id', 'id', ...timing(data)];
+      const run = [
+        ...options,
+        '--ensemble',
+        'bagging',
+        '--members',
+        '3',
+        '--checkpoint-every',
+        '3000',
+        '--json',
+      ];
+      const whole = join(dir, 'whole');
+      const uninterrupted = await shoal('replay', ...run, '--checkpoint', whole);
+      expect(uninterrupted.err).toBe('');
+      const cut = join(dir, 'cut');
+      expect((await shoal('replay', ...run, '--checkpoint', cut)).code).toBe(0);
+      // Keep only the oldest of the newest three (taken at 15,000 rows, labels of up to 5,000 rows
+      // before it still held back) and go on from it.
+      const names = (await readdir(cut)).sort();
+      for (const n of names.slice(1)) await rm(join(cut, n));
+      const held = await new FileCheckpointStore(cut).latest();
+      const session = held!.checkpoint.state.session as { counts: { scored: number; trained: number } };
+      expect(session.counts.scored - session.counts.trained).toBeGreaterThan(0);
+      const resumed = await shoal('replay', ...run, '--resume', cut);
+      expect(resumed.err).toBe('');
+      // The session as it ends, but for what the wall clock decides (when each prediction was served,
+      // how long each label took): the model, the evaluation, the counts and the pending store compared.
+      const final = async (d: string) => {
+        const session = (await new FileCheckpointStore(d).latest())!.checkpoint.state.session as {
+          pending: Record<string, unknown>;
+          counts: Record<string, unknown>;
+        };
+        const { times: _t, ...pending } = session.pending;
+        const { delaySeconds: _d, ...counts } = session.counts;
+        return JSON.stringify({ ...session, pending, counts, labelDelays: null });
+      };
+      expect(await final(cut)).toBe(await final(whole));
+      const labels = (r: string) => (JSON.parse(r) as { labels: LabelCounts }).labels;
+      expect(labels(resumed.out)).toEqual(labels(uninterrupted.out));
+      expect(labels(resumed.out).joined).toBe(ROWS);
+    },
+  );
 });

@@ -77,12 +77,29 @@ describe('renderReport on a real journal (bagging over STAGGER a → c → b)', 
     }
   });
 
+  it('zooms the y axis to the figures drawn, not to 0 … 1', () => {
+    const values = windows.flatMap((w) => [w.window.accuracy, w.window.kappa]).filter((v) => v !== null);
+    const chart = section(html, 'Accuracy');
+    const ticks = [...chart.matchAll(/<text[^>]*class="tick"[^>]*text-anchor="end"[^>]*>(-?[\d.]+)</g)].map(
+      (m) => Number(m[1]),
+    );
+    expect(ticks.length).toBeGreaterThan(2);
+    // The lowest tick sits within a step of 0.05 plus a tenth of the span below the lowest figure.
+    const low = Math.min(...(values as number[]));
+    const high = Math.max(...(values as number[]));
+    expect(Math.min(...ticks)).toBeGreaterThanOrEqual(low - (high - low) / 10 - 0.1);
+    expect(Math.min(...ticks)).toBeLessThanOrEqual(low);
+  });
+
   it('marks every replacement at its row, under the chart and in its seat’s lane', () => {
     const retired = run.lifecycle.filter((r) => r.to === 'retired');
     expect(retired.length).toBeGreaterThan(0);
     expect(markedRows(html, 'g', 'replacement')).toEqual(retired.map((r) => r.trained).sort((a, b) => a - b));
     const signals = run.lifecycle.filter((r) => isDriftSignal(r.cause)).map((r) => r.trained);
     expect(markedRows(html, 'g', 'drift')).toEqual(signals.sort((a, b) => a - b));
+    // Warnings (a member put under watch) have a rug row of their own.
+    const warnings = run.lifecycle.filter((r) => r.cause === 'watched').map((r) => r.trained);
+    expect(markedRows(html, 'g', 'warning')).toEqual(warnings.sort((a, b) => a - b));
     const lanes = html.split('<g class="lane" ').slice(1);
     lanes.forEach((lane, seat) => {
       const own = retired.filter((r) => r.seat === seat).map((r) => r.trained);

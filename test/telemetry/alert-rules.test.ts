@@ -70,7 +70,7 @@ describe('deploy/prometheus', () => {
         const fired = new Set(
           c.alert_rule_test
             .filter((a) => a.alertname === name)
-            .flatMap((a) => a.exp_alerts.map((e) => e.exp_labels.instance)),
+            .flatMap((a) => a.exp_alerts.map((e) => e.exp_labels.instance ?? '')),
         );
         const fed = new Set(c.input_series.map((s) => /instance="([^"]+)"/.exec(s.series)?.[1]));
         const quiet = [...fed].filter((i) => i !== undefined && !fired.has(i));
