@@ -10,7 +10,7 @@ export type Gone = 0 | typeof GONE_JOINED | typeof GONE_EXPIRED | typeof GONE_EV
 /**
  * Predictions waiting for their labels, joined by event id. Each entry keeps what a late label needs
  * to judge the prediction that was served and to train on the row: the row's values, the served class
- * probabilities and predicted class, the model epoch and the wall-clock time it was served.
+ * probabilities and predicted class, the model epoch and the session's time it was served (`Clock.event`).
  *
  * Bounds (both settings):
  * - count: entries sit in a ring of `capacity` slots in the order they were scored; a prediction is
@@ -30,7 +30,7 @@ export type Gone = 0 | typeof GONE_JOINED | typeof GONE_EXPIRED | typeof GONE_EV
  *
  * @example
  * const store = new PendingStore(100_000, schema.features.length, 2);
- * store.put('leg-17', rows, 0, verdict, clock.wall(), scored);
+ * store.put('leg-17', rows, 0, verdict, clock.event(), scored);
  * const slot = store.find('leg-17'); // −1 when it is not waiting
  */
 export class PendingStore {
@@ -218,81 +218,142 @@ export class PendingStore {
     this.goneAt = at + 1 === this.capacity ? 0 : at + 1;
   }
 
-  /** The store's state, JSON-safe and exact (doubles as base64 of their bytes). */
+  /**
+   * The store's state, JSON-safe and exact (doubles as base64 of their bytes). Only the live entries are
+   * kept — the waiting predictions and the remembered ids still in force, each with its slot — so a
+   * nearly empty store of a large capacity makes a small snapshot; `restore` puts them back into a store
+   * of the full capacity, slot for slot.
+   */
   snapshot(): PendingSnapshot {
+    const { width, classes } = this;
+    const slots = new Int32Array(this.live);
+    const ids: string[] = [];
+    for (let k = 0, slot = this.head; k < this.used; k++, slot = slot + 1 === this.capacity ? 0 : slot + 1) {
+      const id = this.ids[slot];
+      if (id === null || id === undefined) continue;
+      slots[ids.length] = slot;
+      ids.push(id);
+    }
+    const values = new Float64Array(ids.length * width);
+    const probabilities = new Float64Array(ids.length * classes);
+    const predicted = new Int32Array(ids.length);
+    const epochs = new Int32Array(ids.length);
+    const times = new Float64Array(ids.length);
+    for (let e = 0; e < ids.length; e++) {
+      const slot = slots[e]!;
+      values.set(this.values.subarray(slot * width, (slot + 1) * width), e * width);
+      probabilities.set(this.probabilities.subarray(slot * classes, (slot + 1) * classes), e * classes);
+      predicted[e] = this.predicted[slot]!;
+      epochs[e] = this.epochs[slot]!;
+      times[e] = this.times[slot]!;
+    }
+    // A remembered id is in force where the index points at it; older copies of it are shadowed.
+    const goneSlots: number[] = [];
+    const goneIds: string[] = [];
+    const goneWhy: number[] = [];
+    for (const [id, at] of this.gone) {
+      goneSlots.push(at);
+      goneIds.push(id);
+      goneWhy.push(this.goneWhy[at]!);
+    }
     return {
       capacity: this.capacity,
-      width: this.width,
-      classes: this.classes,
+      width,
+      classes,
       head: this.head,
       used: this.used,
-      ids: [...this.ids],
-      values: encodeF64(this.values),
-      probabilities: encodeF64(this.probabilities),
-      predicted: encodeI32(this.predicted),
-      epochs: encodeI32(this.epochs),
-      times: encodeF64(this.times),
-      goneIds: [...this.goneIds],
-      goneWhy: Array.from(this.goneWhy),
+      slots: encodeI32(slots),
+      ids,
+      values: encodeF64(values),
+      probabilities: encodeF64(probabilities),
+      predicted: encodeI32(predicted),
+      epochs: encodeI32(epochs),
+      times: encodeF64(times),
+      goneSlots: encodeI32(Int32Array.from(goneSlots)),
+      goneIds,
+      goneWhy,
       goneAt: this.goneAt,
     };
   }
 
   static restore(s: PendingSnapshot): PendingStore {
-    const store = new PendingStore(s.capacity, s.width, s.classes);
     const what = 'pending store snapshot';
-    const fits =
-      Array.isArray(s.ids) &&
-      s.ids.length === s.capacity &&
-      Array.isArray(s.goneIds) &&
-      s.goneIds.length === s.capacity &&
-      Array.isArray(s.goneWhy) &&
-      s.goneWhy.length === s.capacity &&
-      Number.isInteger(s.head) &&
-      s.head >= 0 &&
-      s.head < s.capacity &&
-      Number.isInteger(s.used) &&
-      s.used >= 0 &&
-      s.used <= s.capacity &&
-      Number.isInteger(s.goneAt) &&
-      s.goneAt >= 0 &&
-      s.goneAt < s.capacity;
-    if (!fits) throw new ShoalError('invalid-snapshot', `${what}: rings do not match the capacity`);
-    const sized = (a: Float64Array | Int32Array, n: number, name: string): void => {
-      if (a.length !== n)
-        throw new ShoalError('invalid-snapshot', `${what}: ${name} holds ${a.length} values, expected ${n}`);
+    const bad = (why: string): never => {
+      throw new ShoalError('invalid-snapshot', `${what}: ${why}`);
     };
+    const whole = (n: unknown, below: number): boolean =>
+      Number.isInteger(n) && (n as number) >= 0 && (n as number) < below;
+    if (
+      !(whole(s.capacity, 2 ** 31) && s.capacity >= 1 && whole(s.width, 2 ** 31) && whole(s.classes, 2 ** 31))
+    ) {
+      bad('capacity, width and classes must be whole numbers');
+    }
+    const store = new PendingStore(s.capacity, s.width, s.classes);
+    if (!(whole(s.head, s.capacity) && whole(s.used, s.capacity + 1) && whole(s.goneAt, s.capacity))) {
+      bad('head, used and goneAt must lie within the capacity');
+    }
+    if (!(Array.isArray(s.ids) && Array.isArray(s.goneIds) && Array.isArray(s.goneWhy))) {
+      bad('ids, goneIds and goneWhy must be lists');
+    }
+    const n = s.ids.length;
+    const sized = (a: Float64Array | Int32Array, length: number, name: string): void => {
+      if (a.length !== length) bad(`${name} holds ${a.length} values, expected ${length}`);
+    };
+    const slots = decodeI32(s.slots, `${what} slots`);
+    sized(slots, n, 'slots');
     const values = decodeF64(s.values, `${what} values`);
-    sized(values, s.capacity * s.width, 'values');
+    sized(values, n * s.width, 'values');
     const probabilities = decodeF64(s.probabilities, `${what} probabilities`);
-    sized(probabilities, s.capacity * store.classes, 'probabilities');
+    sized(probabilities, n * store.classes, 'probabilities');
     const predicted = decodeI32(s.predicted, `${what} predicted`);
-    sized(predicted, s.capacity, 'predicted');
+    sized(predicted, n, 'predicted');
     const epochs = decodeI32(s.epochs, `${what} epochs`);
-    sized(epochs, s.capacity, 'epochs');
+    sized(epochs, n, 'epochs');
     const times = decodeF64(s.times, `${what} times`);
-    sized(times, s.capacity, 'times');
-    store.values.set(values);
-    store.probabilities.set(probabilities);
-    store.predicted.set(predicted);
-    store.epochs.set(epochs);
-    store.times.set(times);
+    sized(times, n, 'times');
+    const { width, classes } = store;
+    for (let e = 0; e < n; e++) {
+      const slot = slots[e]!;
+      const id = s.ids[e];
+      // A waiting entry lies in the used part of the ring, from head on.
+      const within = (slot - s.head + s.capacity) % s.capacity < s.used;
+      if (
+        !(
+          whole(slot, s.capacity) &&
+          within &&
+          typeof id === 'string' &&
+          store.ids[slot] === null &&
+          !store.index.has(id)
+        )
+      ) {
+        bad(`entry ${e} (slot ${slot}) is not a free slot of the ring with an id`);
+      }
+      store.ids[slot] = id as string;
+      store.index.set(id as string, slot);
+      store.values.set(values.subarray(e * width, (e + 1) * width), slot * width);
+      store.probabilities.set(probabilities.subarray(e * classes, (e + 1) * classes), slot * classes);
+      store.predicted[slot] = predicted[e]!;
+      store.epochs[slot] = epochs[e]!;
+      store.times[slot] = times[e]!;
+    }
+    store.live = n;
     store.head = s.head;
     store.used = s.used;
-    s.ids.forEach((id, slot) => {
-      if (id === null) return;
-      store.ids[slot] = id;
-      store.index.set(id, slot);
-      store.live++;
-    });
-    // Oldest first, so that an id remembered twice maps to its latest fate.
-    for (let k = 0; k < s.capacity; k++) {
-      const at = (s.goneAt + k) % s.capacity;
-      const id = s.goneIds[at];
-      if (id === null || id === undefined) continue;
-      store.goneIds[at] = id;
-      store.goneWhy[at] = s.goneWhy[at]!;
-      store.gone.set(id, at);
+    const goneSlots = decodeI32(s.goneSlots, `${what} goneSlots`);
+    sized(goneSlots, s.goneIds.length, 'goneSlots');
+    if (s.goneWhy.length !== s.goneIds.length)
+      bad(`goneWhy holds ${s.goneWhy.length} values, expected ${s.goneIds.length}`);
+    for (let e = 0; e < s.goneIds.length; e++) {
+      const at = goneSlots[e]!;
+      const id = s.goneIds[e];
+      const why = s.goneWhy[e];
+      const fate = why === GONE_JOINED || why === GONE_EXPIRED || why === GONE_EVICTED;
+      if (!(whole(at, s.capacity) && typeof id === 'string' && fate && store.goneIds[at] === null)) {
+        bad(`remembered id ${e} (slot ${at}) is not a free slot of the ring with an id and a fate`);
+      }
+      store.goneIds[at] = id as string;
+      store.goneWhy[at] = why as number;
+      store.gone.set(id as string, at);
     }
     store.goneAt = s.goneAt;
     return store;
@@ -303,15 +364,20 @@ export interface PendingSnapshot {
   readonly capacity: number;
   readonly width: number;
   readonly classes: number;
+  /** Ring position of the oldest slot, and slots used since (waiting or freed by a join). */
   readonly head: number;
   readonly used: number;
-  readonly ids: readonly (string | null)[];
+  /** The waiting predictions, oldest first: each one's slot (Int32, base64), id and stored parts. */
+  readonly slots: string;
+  readonly ids: readonly string[];
   readonly values: string;
   readonly probabilities: string;
   readonly predicted: string;
   readonly epochs: string;
   readonly times: string;
-  readonly goneIds: readonly (string | null)[];
+  /** The remembered ids in force: each one's slot of the ring (Int32, base64), id and fate. */
+  readonly goneSlots: string;
+  readonly goneIds: readonly string[];
   readonly goneWhy: readonly number[];
   readonly goneAt: number;
 }

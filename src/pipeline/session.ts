@@ -58,7 +58,7 @@ const RECENT_SIGNALS = 64;
 export const LABEL_DELAY_BOUNDS: readonly number[] = [1, 10, 60, 600, 3600, 21_600, 86_400, 604_800];
 
 const KIND = 'learning-session';
-const VERSION = 1;
+const VERSION = 2;
 
 /**
  * The learning session: everything the model side does with a stream, for every source alike
