@@ -6,7 +6,7 @@ import { countRows, deadLetterFile, journalFile } from '../files/index.js';
 import { FrameDecoder, type FrameOptions } from '../frames/index.js';
 import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
-import { LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
+import { EventClock, LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text, whole } from './args.js';
@@ -229,6 +229,8 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const listen = text(parsed, 'metrics');
   const pacer = new Pacer(whole('replay', parsed, 'pace'), () => terminal.now());
   let telemetry: SessionTelemetry | null = null;
+  // The session's time is the stream's own (see `feed`): the wall clock only dates the run.
+  const clock = new EventClock({ monotonic: () => terminal.now(), wall: () => Date.now() });
   const ports = {
     source: file!,
     journal: {
@@ -238,7 +240,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       },
       flush: () => journal.flush(),
     },
-    clock: { monotonic: () => terminal.now(), wall: () => Date.now() },
+    clock,
     version: shoalVersion(),
   };
   const resumed =
@@ -273,6 +275,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       file: file!,
       decoder,
       session,
+      clock,
       timing,
       time: text(parsed, 'time') ?? null,
       carryFeatures: config.labels.unmatched === 'train',
