@@ -2,6 +2,7 @@ import { ShoalError } from '../core/index.js';
 import { INSPECT_HELP, inspect } from './inspect.js';
 import { REPLAY_HELP, replay } from './replay.js';
 import { REPORT_HELP, report } from './report.js';
+import { SERVE_HELP, serve } from './serve.js';
 import { SYNTH_HELP, synth } from './synth.js';
 import { processTerminal, type Terminal } from './terminal.js';
 import { shoalVersion } from './version.js';
@@ -12,6 +13,7 @@ const COMMANDS: Readonly<
   replay: { run: replay, help: REPLAY_HELP },
   synth: { run: synth, help: SYNTH_HELP },
   report: { run: report, help: REPORT_HELP },
+  serve: { run: serve, help: SERVE_HELP },
   inspect: { run: inspect, help: INSPECT_HELP },
 };
 
@@ -21,6 +23,7 @@ Commands:
   shoal replay FILE      run a recorded stream through an ensemble, test-then-train, and summarise it
   shoal synth GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
   shoal report JOURNAL   turn a run's journal into a self-contained HTML report
+  shoal serve --config F score a Kafka events topic live: scores, dead letters, inline labels
   shoal inspect CHECKPOINT
                          summarise a run checkpoint: seats, states, ages, accuracy, positions
 

@@ -150,7 +150,7 @@ function replayCheckpoints(parsed: ReturnType<typeof parse>, config: RunConfig):
 }
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
-function frameOptions(config: RunConfig): FrameOptions {
+export function frameOptions(config: RunConfig): FrameOptions {
   const { label, id, exclude, features, vocabulary } = config.inputs;
   return {
     label,

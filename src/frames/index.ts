@@ -17,6 +17,8 @@ export type { FeatureSpec, FrameOptions } from './options.js';
 export { DEFAULT_LABEL, DEFAULT_MAX_CLASSES, DEFAULT_VOCABULARY } from './options.js';
 export type { ReadOptions } from './read-options.js';
 export { DEFAULT_BATCH_ROWS } from './read-options.js';
+export type { ScoreRows } from './score-ipc.js';
+export { encodeScores, SCORES_CONTENT_TYPE } from './score-ipc.js';
 export type { LineChunk } from './text-frames.js';
 export type { FrameFormat, FrameWriter, RowBlock, TextLayout, WriterOptions } from './writer.js';
 export { DEFAULT_WRITE_BATCH_ROWS, WriterPlan } from './writer.js';

@@ -48,6 +48,8 @@ function className(classes: readonly string[], code: number): string {
 
 /** Share of a row at which a cell's text turns white on its shade. */
 const DARK = 0.55;
+/** Above this many classes the matrix is set tighter, so that 26 classes fit a laptop's width. */
+const COMPACT_FROM = 12;
 
 /**
  * The confusion matrix (rows: actual class, columns: predicted class; each cell shaded in proportion
@@ -58,33 +60,41 @@ export function confusionTables(summary: SummaryRecord): string {
   if (confusion.length === 0) return '<p class="note">The summary holds no confusion matrix.</p>';
   const scores = classScores(confusion, classes);
   const names = scores.map((s) => escapeHtml(s.name));
+  // Classes in the order of their names (numbers by value), not in the order the stream met them.
+  const order = scores
+    .map((_, k) => k)
+    .sort((i, j) => scores[i]!.name.localeCompare(scores[j]!.name, 'en', { numeric: true }));
+  const compact = order.length > COMPACT_FROM ? ' compact' : '';
   let matrix =
-    '<table class="matrix"><thead><tr><th class="corner">actual ↓ predicted →</th>' +
-    names.map((n) => `<th class="num">${n}</th>`).join('') +
+    `<table class="matrix${compact}"><thead><tr><th class="corner">actual ↓ predicted →</th>` +
+    order.map((k) => `<th class="num">${names[k]}</th>`).join('') +
     '<th class="num">total</th></tr></thead><tbody>';
-  confusion.forEach((row, a) => {
+  for (const a of order) {
+    const row = confusion[a]!;
     const total = scores[a]!.support;
     matrix += `<tr><th>${names[a]}</th>`;
-    row.forEach((count, p) => {
+    for (const p of order) {
+      const count = row[p]!;
       const share = total > 0 ? count / total : 0;
       const ink = share > DARK ? ';color:#fff' : '';
       const hover = `actual ${scores[a]!.name}, predicted ${scores[p]!.name}: ${grouped(count)} (${percent(share, 1)} of the row)`;
       matrix +=
         `<td class="cell${a === p ? ' diag' : ''}" data-actual="${a}" data-predicted="${p}" ` +
         `style="background:rgba(0,114,178,${share.toFixed(3)})${ink}" title="${escapeHtml(hover)}">${grouped(count)}</td>`;
-    });
+    }
     matrix += `<td class="num">${grouped(total)}</td></tr>`;
-  });
+  }
   matrix += '</tbody></table>';
 
   let perClass =
     '<table class="per-class"><thead><tr><th>class</th><th class="num">actual</th><th class="num">predicted</th>' +
     '<th class="num">precision</th><th class="num">recall</th><th class="num">F1</th></tr></thead><tbody>';
-  scores.forEach((s, k) => {
+  for (const k of order) {
+    const s = scores[k]!;
     perClass +=
       `<tr><th>${names[k]}</th><td class="num">${grouped(s.support)}</td><td class="num">${grouped(s.predicted)}</td>` +
       `<td class="num">${fixed(s.precision, 3)}</td><td class="num">${fixed(s.recall, 3)}</td><td class="num">${fixed(s.f1, 3)}</td></tr>`;
-  });
+  }
   perClass += '</tbody></table>';
   return `<div class="tables"><div class="scroll">${matrix}</div><div class="scroll">${perClass}</div></div>`;
 }

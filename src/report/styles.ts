@@ -76,6 +76,8 @@ td.num,th.num{text-align:right}
 table.matrix td.cell{text-align:right;min-width:58px;border:1px solid #fff}
 table.matrix td.diag{font-weight:700}
 table.matrix th.corner{color:#5b6372;font-weight:400;font-size:12px}
+table.matrix.compact td.cell{min-width:0;padding:2px 4px;font-size:11px}
+table.matrix.compact th{padding:2px 4px;font-size:11px}
 table.kv{width:100%}
 table.kv table.kv{width:auto;min-width:50%}
 table.kv th{color:#3b4352;font-weight:600;width:1%;white-space:nowrap;padding-right:14px}

@@ -44,9 +44,18 @@ export async function kafkaLib(): Promise<string> {
   return KAFKA_LIB;
 }
 
+/**
+ * The user every harness broker knows on its SASL_PLAINTEXT listener, for PLAIN, SCRAM-SHA-256 and
+ * SCRAM-SHA-512 alike. The password is distinctive so that a test can search logs for it.
+ */
+export const SASL_USER = 'shoal-test';
+export const SASL_PASSWORD = 'harness-secret-5b9e1c';
+
 export class KafkaBroker {
   /** `host:port` for clients. */
   readonly bootstrap: string;
+  /** `host:port` of the SASL_PLAINTEXT listener (user `SASL_USER`). */
+  readonly saslBootstrap: string;
   /** How long the last start took, from spawning the JVM to the "started" line. */
   startMillis = 0;
   private child: ChildProcess | null = null;
@@ -56,17 +65,19 @@ export class KafkaBroker {
     private readonly dir: string,
     private readonly lib: string,
     port: number,
+    sasl: number,
   ) {
     this.bootstrap = `127.0.0.1:${port}`;
+    this.saslBootstrap = `127.0.0.1:${sasl}`;
   }
 
   /** Format a fresh data folder and start a broker on free loopback ports. */
   static async start(): Promise<KafkaBroker> {
     const lib = await kafkaLib();
     const dir = await mkdtemp(join(tmpdir(), 'shoal-kafka-'));
-    const [port, controller] = await freePorts(2);
-    const broker = new KafkaBroker(dir, lib, port!);
-    await writeFile(join(dir, 'server.properties'), properties(dir, port!, controller!));
+    const [port, controller, sasl] = await freePorts(3);
+    const broker = new KafkaBroker(dir, lib, port!, sasl!);
+    await writeFile(join(dir, 'server.properties'), properties(dir, port!, controller!, sasl!));
     await writeFile(join(dir, 'log4j2.properties'), LOG4J);
     const clusterId = (await java(lib, ['kafka.tools.StorageTool', 'random-uuid'])).trim().split('\n').pop()!;
     await java(lib, [
@@ -77,6 +88,10 @@ export class KafkaBroker {
       '-c',
       join(dir, 'server.properties'),
       '--standalone',
+      '--add-scram',
+      `SCRAM-SHA-256=[name=${SASL_USER},password=${SASL_PASSWORD}]`,
+      '--add-scram',
+      `SCRAM-SHA-512=[name=${SASL_USER},password=${SASL_PASSWORD}]`,
     ]);
     await broker.restart();
     return broker;
@@ -169,15 +184,21 @@ export class KafkaBroker {
   }
 }
 
-function properties(dir: string, port: number, controller: number): string {
+function properties(dir: string, port: number, controller: number, sasl: number): string {
+  const jaas = (module: string, users = ''): string =>
+    `org.apache.kafka.common.security.${module} required${users};`;
   return `${[
     'process.roles=broker,controller',
     'node.id=1',
-    `listeners=PLAINTEXT://127.0.0.1:${port},CONTROLLER://127.0.0.1:${controller}`,
-    `advertised.listeners=PLAINTEXT://127.0.0.1:${port}`,
+    `listeners=PLAINTEXT://127.0.0.1:${port},CONTROLLER://127.0.0.1:${controller},SASL_PLAINTEXT://127.0.0.1:${sasl}`,
+    `advertised.listeners=PLAINTEXT://127.0.0.1:${port},SASL_PLAINTEXT://127.0.0.1:${sasl}`,
     'controller.listener.names=CONTROLLER',
     'inter.broker.listener.name=PLAINTEXT',
-    'listener.security.protocol.map=PLAINTEXT:PLAINTEXT,CONTROLLER:PLAINTEXT',
+    'listener.security.protocol.map=PLAINTEXT:PLAINTEXT,CONTROLLER:PLAINTEXT,SASL_PLAINTEXT:SASL_PLAINTEXT',
+    'sasl.enabled.mechanisms=PLAIN,SCRAM-SHA-256,SCRAM-SHA-512',
+    `listener.name.sasl_plaintext.plain.sasl.jaas.config=${jaas('plain.PlainLoginModule', ` user_${SASL_USER}="${SASL_PASSWORD}"`)}`,
+    `listener.name.sasl_plaintext.scram-sha-256.sasl.jaas.config=${jaas('scram.ScramLoginModule')}`,
+    `listener.name.sasl_plaintext.scram-sha-512.sasl.jaas.config=${jaas('scram.ScramLoginModule')}`,
     `controller.quorum.bootstrap.servers=127.0.0.1:${controller}`,
     `log.dirs=${join(dir, 'data')}`,
     'num.partitions=1',

@@ -29,8 +29,8 @@ export async function createTopics(brokers: string, topics: Record<string, numbe
 export async function produce(brokers: string, topic: string, messages: Message[]): Promise<void> {
   const producer = client(brokers).producer();
   await producer.connect();
-  for (let i = 0; i < messages.length; i += 200) {
-    await producer.send({ topic, messages: messages.slice(i, i + 200), acks: -1 });
+  for (let i = 0; i < messages.length; i += 10) {
+    await producer.send({ topic, messages: messages.slice(i, i + 10), acks: -1 });
   }
   await producer.disconnect();
 }
@@ -46,22 +46,25 @@ export async function readTopic(
   await consumer.connect();
   await consumer.subscribe({ topic, fromBeginning: true });
   const seen: KafkaMessage[] = [];
-  await new Promise<void>((finish, fail) => {
-    const timer = setTimeout(
-      () => fail(new Error(`${topic}: only ${seen.length} messages after ${timeoutMs} ms`)),
-      timeoutMs,
-    );
-    void consumer.run({
-      eachMessage: async ({ message }) => {
-        seen.push(message);
-        if (done(seen)) {
-          clearTimeout(timer);
-          finish();
-        }
-      },
+  try {
+    await new Promise<void>((finish, fail) => {
+      const timer = setTimeout(
+        () => fail(new Error(`${topic}: only ${seen.length} messages after ${timeoutMs} ms`)),
+        timeoutMs,
+      );
+      void consumer.run({
+        eachMessage: async ({ message }) => {
+          seen.push(message);
+          if (done(seen)) {
+            clearTimeout(timer);
+            finish();
+          }
+        },
+      });
     });
-  });
-  await consumer.disconnect();
+  } finally {
+    await consumer.disconnect();
+  }
   return seen;
 }
 
@@ -80,6 +83,14 @@ export function countScoreRows(messages: readonly KafkaMessage[]): number {
   return n;
 }
 
+const running = new Set<ChildProcess>();
+
+/** SIGKILL every `serve` child a test left running (after a failure), so none outlives the test. */
+export function killServes(): void {
+  for (const child of running) child.kill('SIGKILL');
+  running.clear();
+}
+
 /** `shoal serve` as a child process; its stdout (the JSON log) and stderr are kept. */
 export class ServeProcess {
   stdout = '';
@@ -91,10 +102,7 @@ export class ServeProcess {
     this.child = spawn(
       process.execPath,
       [join(repo, 'bin', 'shoal.js'), 'serve', '--config', config, ...args],
-      {
-        env: { ...process.env, ...env },
-        stdio: ['ignore', 'pipe', 'pipe'],
-      },
+      { env: { ...process.env, ...env }, stdio: ['ignore', 'pipe', 'pipe'] },
     );
     this.child.stdout!.on('data', (c: Buffer) => {
       this.stdout += c.toString('utf8');
@@ -102,7 +110,13 @@ export class ServeProcess {
     this.child.stderr!.on('data', (c: Buffer) => {
       this.stderr += c.toString('utf8');
     });
-    this.exited = new Promise((done) => this.child.once('exit', (code) => done(code)));
+    running.add(this.child);
+    this.exited = new Promise((done) =>
+      this.child.once('exit', (code) => {
+        running.delete(this.child);
+        done(code);
+      }),
+    );
   }
 
   /** Log records (JSON lines of stdout). */
@@ -113,17 +127,52 @@ export class ServeProcess {
       .map((l) => JSON.parse(l) as Record<string, unknown>);
   }
 
-  /** Resolves once a log line says `msg`. */
+  /** Resolves once a log record's message is `msg`. */
   async waitFor(msg: string, timeoutMs = 60_000): Promise<void> {
-    const began = Date.now();
+    const began = performance.now();
     while (!this.logs().some((l) => l.msg === msg)) {
-      if (Date.now() - began > timeoutMs)
+      if (performance.now() - began > timeoutMs) {
         throw new Error(`serve never logged ${JSON.stringify(msg)}:\n${this.stdout}\n${this.stderr}`);
+      }
       await new Promise((d) => setTimeout(d, 100));
     }
   }
 
   signal(name: NodeJS.Signals): void {
     this.child.kill(name);
+  }
+}
+
+/** A reader that stays subscribed and counts score rows, for tests that wait round after round. */
+export class ScoreCounter {
+  rows = 0;
+  private readonly consumer;
+
+  private constructor(brokers: string) {
+    this.consumer = client(brokers).consumer({ groupId: uniqueName('counter'), maxWaitTimeInMs: 200 });
+  }
+
+  static async start(brokers: string, topic: string): Promise<ScoreCounter> {
+    const counter = new ScoreCounter(brokers);
+    await counter.consumer.connect();
+    await counter.consumer.subscribe({ topic, fromBeginning: true });
+    void counter.consumer.run({
+      eachMessage: async ({ message }) => {
+        counter.rows += tableFromIPC(message.value!).numRows;
+      },
+    });
+    return counter;
+  }
+
+  async reach(rows: number, timeoutMs = 60_000): Promise<void> {
+    const began = performance.now();
+    while (this.rows < rows) {
+      if (performance.now() - began > timeoutMs) throw new Error(`only ${this.rows} of ${rows} score rows`);
+      await new Promise((d) => setTimeout(d, 50));
+    }
+  }
+
+  stop(): Promise<void> {
+    return this.consumer.disconnect();
   }
 }

@@ -1,0 +1,210 @@
+import { once } from 'node:events';
+import { createWriteStream, type WriteStream } from 'node:fs';
+import { stringify } from 'yaml';
+import { ConfigError, type ConfigIssue } from '../core/index.js';
+import { DEFAULT_LABEL, type FrameOptions } from '../frames/index.js';
+import {
+  createKafka,
+  createLogger,
+  EventConsumer,
+  type KafkaSettings,
+  OutputProducer,
+  readSecrets,
+  resolveKafkaSettings,
+} from '../kafka/index.js';
+import { type RunConfig, resolveConfig } from '../pipeline/index.js';
+import { parse, positionals, text } from './args.js';
+import { readConfigFile } from './config-file.js';
+import { frameOptions } from './replay.js';
+import { ServeModels } from './serve-run.js';
+import type { Terminal } from './terminal.js';
+import { shoalVersion } from './version.js';
+
+export const SERVE_HELP = `shoal serve --config shoal.yaml [--check]
+
+Score a Kafka events topic live: a consumer group reads Arrow IPC or NDJSON events, every event is
+scored (scores go to the scores topic as Arrow IPC), inline labels judge and train the ensemble, and
+messages that cannot be used go to the dead-letter topic with their reason. Offsets are committed only
+after a batch's outputs are acknowledged. SIGTERM or SIGINT: finish the batch in flight, flush, commit,
+exit 0.
+
+Options:
+  --config FILE   shoal.yaml: the ensemble, evaluation and inputs settings, and a kafka: section
+  --check         print the effective configuration, or every problem with its path, and exit`;
+
+export async function serve(args: readonly string[], terminal: Terminal): Promise<number> {
+  const parsed = parse('serve', args, { config: { type: 'string' }, check: { type: 'boolean' } });
+  if (parsed.values.help) {
+    terminal.out(`${SERVE_HELP}\n`);
+    return 0;
+  }
+  positionals('serve', parsed, []);
+  const path = text(parsed, 'config');
+  if (path === undefined) {
+    terminal.err('shoal serve: --config FILE is required (see shoal serve --help)\n');
+    return 2;
+  }
+  const raw = await readConfigFile(path);
+  const checked = checkServeConfig(raw, path);
+  if ('issues' in checked) {
+    terminal.err(
+      `shoal serve: ${path} has ${checked.issues.length} problem${checked.issues.length === 1 ? '' : 's'}:\n${checked.issues
+        .map((i) => `  ${i.path}: ${i.message}\n`)
+        .join('')}`,
+    );
+    return 2;
+  }
+  if (parsed.values.check === true) {
+    terminal.out(stringify({ ...checked.run, kafka: checked.kafka }));
+    return 0;
+  }
+  return run(checked.run, checked.kafka, terminal);
+}
+
+interface ServeConfig {
+  readonly run: RunConfig;
+  readonly kafka: KafkaSettings;
+}
+
+/** Check the run settings, the kafka section and the secrets it names, collecting every problem. */
+function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues: ConfigIssue[] } {
+  const issues: ConfigIssue[] = [];
+  const collect = <T>(f: () => T): T | null => {
+    try {
+      return f();
+    } catch (e) {
+      if (!(e instanceof ConfigError)) throw e;
+      issues.push(...e.issues);
+      return null;
+    }
+  };
+  const { kafka: section, ...rest } = (raw ?? {}) as Record<string, unknown>;
+  const run = collect(() => resolveConfig(rest, source));
+  const kafka = collect(() => resolveKafkaSettings(section, source));
+  if (kafka !== null) collect(() => readSecrets(kafka, process.env, source));
+  if (run !== null && kafka !== null && kafka.labels !== null) {
+    if (run.inputs.id === null) {
+      issues.push({
+        path: 'inputs.id',
+        message: 'late labels (kafka.labels) are joined by id: name the id column',
+      });
+    }
+    if (kafka.scope === 'partition') {
+      issues.push({
+        path: 'kafka.labels',
+        message:
+          'late labels need scope global: with scope partition a label could reach an instance that does not hold its prediction',
+      });
+    }
+  }
+  if (run === null || kafka === null || issues.length > 0) return { issues };
+  return { run, kafka };
+}
+
+async function run(config: RunConfig, settings: KafkaSettings, terminal: Terminal): Promise<number> {
+  const log = createLogger({ level: settings.log.level, pretty: process.stdout.isTTY === true });
+  const secrets = readSecrets(settings, process.env, 'environment');
+  const kafka = createKafka(settings, secrets, log);
+  const journalFile: WriteStream | null =
+    settings.journal.file === null ? null : createWriteStream(settings.journal.file, { flags: 'a' });
+  const models = new ServeModels(config, settings, eventOptions(config), shoalVersion(), journalFile);
+  const producer = new OutputProducer(kafka, log);
+  let refusal: string | null = null;
+  const consumer = new EventConsumer(kafka, settings, log, async (assignment) => {
+    for (const stream of models.keepOnly(assignment.streams)) {
+      log.info({ stream }, 'partition revoked; its session is dropped (its outputs were committed)');
+    }
+    if (settings.scope === 'global' && !assignment.isLeader && (await consumer.members()) > 1) {
+      refusal = refuseSecond(settings);
+      void consumer.stop();
+    }
+  });
+  await producer.connect();
+  await consumer.connect();
+  if (settings.scope === 'global' && (await consumer.members()) > 0) {
+    terminal.err(`shoal serve: ${refuseSecond(settings)}\n`);
+    await Promise.all([consumer.stop(), producer.stop()]);
+    return 2;
+  }
+  let scored = 0;
+  let dead = 0;
+  await consumer.start(async (batch, control) => {
+    const handled = models.handle(batch);
+    for (const d of handled.dead) {
+      log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
+    }
+    // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
+    const delivered = await producer.deliver(handled.outputs, async () => {
+      control.pause();
+      await control.heartbeat().catch(() => undefined);
+    });
+    control.resume();
+    if (delivered) {
+      scored += handled.scored;
+      dead += handled.dead.length;
+    }
+    return delivered;
+  });
+  log.info({ group: settings.group, topics: settings.events.topics, scope: settings.scope }, 'serving');
+
+  const signalled = new Promise<string>((done) => {
+    process.once('SIGTERM', () => done('SIGTERM'));
+    process.once('SIGINT', () => done('SIGINT'));
+  });
+  const ended = await Promise.race([signalled.then((s) => ({ signal: s })), consumer.finished]);
+  if ('crashed' in ended && ended.crashed) {
+    log.error({ reason: ended.message }, 'the consumer crashed; exiting');
+    terminal.err(`shoal serve: ${ended.message}\n`);
+    await Promise.all([consumer.stop(), producer.stop()]).catch(() => undefined);
+    exitSoon(1);
+    return 1;
+  }
+  if (refusal !== null) {
+    terminal.err(`shoal serve: ${refusal}\n`);
+    await Promise.all([consumer.stop(), producer.stop()]).catch(() => undefined);
+    return 2;
+  }
+  log.info(
+    { reason: 'signal' in ended ? ended.signal : ended.message },
+    'stopping: finishing the batch in flight',
+  );
+  const deadline = setTimeout(() => {
+    log.error({ shutdownMs: settings.shutdownMs }, 'shutdown took longer than shutdownMs; exiting');
+    process.exit(1);
+  }, settings.shutdownMs);
+  deadline.unref();
+  await consumer.stop();
+  await producer.deliver(models.finish(), async () => undefined);
+  if (journalFile !== null) {
+    journalFile.end();
+    await once(journalFile, 'finish');
+  }
+  await producer.stop();
+  clearTimeout(deadline);
+  log.info({ scored, deadLetters: dead }, 'stopped');
+  exitSoon(0);
+  return 0;
+}
+
+/**
+ * Everything is flushed, committed and disconnected, but after a broker outage kafkajs can keep a
+ * reconnect timer or socket alive (measured: the process stayed up after a broker stop and start), and a
+ * service told to stop must stop. The timer is unref'd, so it only fires if something else holds the
+ * process open.
+ */
+function exitSoon(code: number): void {
+  setTimeout(() => process.exit(code), 2_000).unref();
+}
+
+/**
+ * The events decoder's options: replay's, except that the default label column may be absent (events
+ * whose labels come later on the labels topic carry none); a label column named otherwise must exist.
+ */
+function eventOptions(config: RunConfig): FrameOptions {
+  const { label, ...rest } = frameOptions(config);
+  return label === DEFAULT_LABEL || label === undefined ? rest : { label, ...rest };
+}
+
+function refuseSecond(settings: KafkaSettings): string {
+  return `consumer group ${JSON.stringify(settings.group)} already has a member, and scope is global: a second instance would split the events between two models. Stop the other instance, use another group, or set kafka.scope: partition to scale out by partition.`;
+}

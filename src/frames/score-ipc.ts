@@ -1,0 +1,98 @@
+import {
+  type Data,
+  Field,
+  Float64,
+  Int32,
+  makeData,
+  RecordBatch,
+  Schema,
+  Struct,
+  Table,
+  TimestampMillisecond,
+  tableToIPC,
+  Utf8,
+  vectorFromArray,
+} from 'apache-arrow';
+
+/**
+ * Scores as one Arrow IPC stream (schema + one record batch), the value of a message on the scores
+ * topic. Columns: `id` (utf8, null without an id column), one `p_<class>` float64 per known class (class
+ * probabilities), `predicted` (utf8 class name, null before any class is known), `agreement` (float64, share of voting members that
+ * agree), `voters` (int32, active members that voted), `epoch` (int32, seat replacements that served the
+ * row), `event_time` (timestamp ms, the event message's time) and `latency_ms` (float64, from the event's
+ * time to its score). Readable by any Arrow implementation (the tests read it back with pyarrow).
+ *
+ * @example
+ * producer.send({ topic: 'legs-scores', messages: [{ value: Buffer.from(encodeScores(scores, eventTimes)) }] });
+ */
+export interface ScoreRows {
+  /** Row r of these scores is row `first + r` of the frame scored (of `ids` and `eventTimes`). */
+  readonly first: number;
+  readonly rows: number;
+  /** Class names, index = class code (the probabilities' stride is their count, at least 1). */
+  readonly classes: readonly string[];
+  readonly ids: readonly string[] | null;
+  /** rows × stride, row-major. */
+  readonly probabilities: Float64Array;
+  readonly predicted: Int32Array;
+  readonly agreement: Float64Array;
+  readonly voters: Int32Array;
+  readonly epoch: Int32Array;
+  /** When the rows were scored (ms since 1970). */
+  readonly scoredAt: number;
+}
+
+export const SCORES_CONTENT_TYPE = 'application/vnd.apache.arrow.stream';
+
+/**
+ * Rows [from, to) of the scores (so that a large batch can go out in several messages); `eventTimes`
+ * holds each frame row's event time (ms since 1970), indexed like the frame.
+ */
+export function encodeScores(s: ScoreRows, eventTimes: Float64Array, from = 0, to = s.rows): Uint8Array {
+  const n = to - from;
+  const k = s.classes.length;
+  const stride = Math.max(1, k);
+  const at = s.first + from;
+  const fields: Field[] = [new Field('id', new Utf8(), true)];
+  const columns: Data[] = [
+    vectorFromArray(s.ids === null ? new Array<null>(n).fill(null) : s.ids.slice(at, at + n), new Utf8())
+      .data[0]!,
+  ];
+  for (let c = 0; c < k; c++) {
+    const p = new Float64Array(n);
+    for (let r = 0; r < n; r++) p[r] = s.probabilities[(from + r) * stride + c]!;
+    fields.push(new Field(`p_${s.classes[c]}`, new Float64(), false));
+    columns.push(makeData({ type: new Float64(), length: n, data: p }));
+  }
+  const names = new Array<string | null>(n);
+  for (let r = 0; r < n; r++) names[r] = s.classes[s.predicted[from + r]!] ?? null;
+  const latency = new Float64Array(n);
+  const times = new Float64Array(n);
+  for (let r = 0; r < n; r++) {
+    times[r] = eventTimes[at + r]!;
+    latency[r] = s.scoredAt - times[r]!;
+  }
+  fields.push(
+    new Field('predicted', new Utf8(), true),
+    new Field('agreement', new Float64(), false),
+    new Field('voters', new Int32(), false),
+    new Field('epoch', new Int32(), false),
+    new Field('event_time', new TimestampMillisecond(), false),
+    new Field('latency_ms', new Float64(), false),
+  );
+  columns.push(
+    vectorFromArray(names, new Utf8()).data[0]!,
+    makeData({ type: new Float64(), length: n, data: s.agreement.slice(from, to) }),
+    makeData({ type: new Int32(), length: n, data: s.voters.slice(from, to) }),
+    makeData({ type: new Int32(), length: n, data: s.epoch.slice(from, to) }),
+    makeData({
+      type: new TimestampMillisecond(),
+      length: n,
+      data: BigInt64Array.from(times, (t) => BigInt(Math.round(t))),
+    }),
+    makeData({ type: new Float64(), length: n, data: latency }),
+  );
+  const schema = new Schema(fields);
+  const struct = makeData({ type: new Struct(fields), length: n, children: columns });
+  return tableToIPC(new Table(schema, [new RecordBatch(schema, struct)]), 'stream');
+}

@@ -1,0 +1,105 @@
+import { writeFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { parse } from 'yaml';
+import { scratch, shoal } from '../support/cli.js';
+
+async function configFile(text: string): Promise<string> {
+  const path = join(await scratch(), 'shoal.yaml');
+  await writeFile(path, text);
+  return path;
+}
+
+describe('shoal serve --check', () => {
+  it('prints every problem of a bad configuration with its path and exits 2', async () => {
+    const path = await configFile(`
+seed: 3
+ensemble: { kind: forest }
+kafka:
+  brokers: [localhost]
+  scope: everywhere
+  events: { topics: [legs], format: csv }
+  scores: {}
+  shutdownMs: -5
+  sasl: { mechanism: kerberos, username: shoal, password: hunter2, passwordEnv: SHOAL_UNSET_VARIABLE_FOR_TEST }
+`);
+    const run = await shoal('serve', '--config', path, '--check');
+    expect(run.code).toBe(2);
+    for (const where of [
+      'ensemble.kind',
+      'kafka.brokers[0]',
+      'kafka.group: is required',
+      'kafka.scope',
+      'kafka.events.format',
+      'kafka.scores.topic',
+      'kafka.deadLetters: is required',
+      'kafka.shutdownMs',
+      'kafka.sasl.mechanism',
+      'kafka.sasl.password: secrets are not read from the file',
+    ]) {
+      expect(run.err).toContain(where);
+    }
+    expect(run.err).not.toContain('hunter2');
+  });
+
+  it('names an environment variable that is not set', async () => {
+    const path = await configFile(`
+inputs: { id: leg_id }
+kafka:
+  brokers: [127.0.0.1:9092]
+  group: legs
+  events: { topics: [legs] }
+  labels: { topic: legs-labels }
+  scores: { topic: legs-scores }
+  deadLetters: { topic: legs-dead }
+  sasl: { mechanism: scram-sha-512, username: shoal, passwordEnv: SHOAL_UNSET_VARIABLE_FOR_TEST }
+`);
+    const run = await shoal('serve', '--config', path, '--check');
+    expect(run.code).toBe(2);
+    expect(run.err).toContain(
+      'kafka.sasl.passwordEnv: the environment variable SHOAL_UNSET_VARIABLE_FOR_TEST is not set',
+    );
+  });
+
+  it('refuses late labels with scope partition, and without an id column', async () => {
+    const path = await configFile(`
+inputs: { id: null }
+kafka:
+  brokers: [127.0.0.1:9092]
+  group: legs
+  scope: partition
+  events: { topics: [legs] }
+  labels: { topic: legs-labels }
+  scores: { topic: legs-scores }
+  deadLetters: { topic: legs-dead }
+`);
+    const run = await shoal('serve', '--config', path, '--check');
+    expect(run.code).toBe(2);
+    expect(run.err).toContain('inputs.id: late labels (kafka.labels) are joined by id');
+    expect(run.err).toContain('kafka.labels: late labels need scope global');
+  });
+
+  it('prints the effective configuration with its defaults', async () => {
+    const path = await configFile(`
+kafka:
+  brokers: [127.0.0.1:9092]
+  group: legs
+  events: { topics: [legs] }
+  scores: { topic: legs-scores }
+  deadLetters: { topic: legs-dead }
+`);
+    const run = await shoal('serve', '--config', path, '--check');
+    expect(run.code, run.err).toBe(0);
+    const effective = parse(run.out) as { seed: string; kafka: Record<string, unknown> };
+    expect(effective.kafka).toMatchObject({
+      scope: 'global',
+      clientId: 'shoal',
+      events: { topics: ['legs'], format: 'arrow', fromBeginning: true, maxMessageBytes: 1048576 },
+      journal: { topic: null, file: null },
+      shutdownMs: 30000,
+      sasl: null,
+      tls: null,
+    });
+    expect(effective.seed).toBe('1');
+  });
+});

@@ -1,0 +1,52 @@
+import { writeFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import { afterEach, describe, expect, inject, it } from 'vitest';
+import { stringify } from 'yaml';
+import { scratch } from '../support/cli.js';
+import { SASL_PASSWORD, SASL_USER } from '../support/kafka-broker.js';
+import { kafkaSection, serveTopics } from '../support/kafka-config.js';
+import { arrowMessage, seaEvents } from '../support/kafka-events.js';
+import {
+  countScoreRows,
+  createTopics,
+  killServes,
+  produce,
+  readTopic,
+  ServeProcess,
+} from '../support/kafka-serve.js';
+
+describe('SASL and secrets', () => {
+  afterEach(killServes);
+
+  for (const mechanism of ['plain', 'scram-sha-256', 'scram-sha-512']) {
+    it(`serves over SASL ${mechanism} with the password from the environment, and no log line holds it`, async () => {
+      const sasl = inject('kafkaSaslBrokers');
+      if (sasl === '') return; // KAFKA_BROKERS names an outside cluster: the harness's SASL user is not there.
+      const brokers = inject('kafkaBrokers');
+      const t = serveTopics();
+      await createTopics(brokers, { [t.events]: 1, [t.scores]: 1, [t.dead]: 1, [t.journal]: 1 });
+      const events = seaEvents(500, 31);
+      await produce(brokers, t.events, [{ value: arrowMessage(events, 0, 500) }]);
+      const config = join(await scratch(), 'shoal.yaml');
+      await writeFile(
+        config,
+        stringify({
+          seed: 1,
+          ensemble: { kind: 'bagging', members: 2 },
+          inputs: { id: 'id' },
+          kafka: kafkaSection(sasl, t, {
+            sasl: { mechanism, username: SASL_USER, passwordEnv: 'SHOAL_TEST_KAFKA_PASSWORD' },
+          }),
+        }),
+      );
+      const serve = new ServeProcess(config, { SHOAL_TEST_KAFKA_PASSWORD: SASL_PASSWORD });
+      await readTopic(brokers, t.scores, (seen) => countScoreRows(seen) >= 500);
+      serve.signal('SIGTERM');
+      expect(await serve.exited, serve.stderr).toBe(0);
+      // Debug level: every kafkajs line, including the SASL handshake, went through the logger.
+      expect(serve.logs().some((l) => String(l.msg).includes('SASL'))).toBe(true);
+      expect(serve.stdout).not.toContain(SASL_PASSWORD);
+      expect(serve.stderr).not.toContain(SASL_PASSWORD);
+    });
+  }
+});

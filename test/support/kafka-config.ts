@@ -1,0 +1,41 @@
+import { uniqueName } from './kafka-names.js';
+
+/** Topic and group names for one `serve` test. */
+export interface ServeTopics {
+  readonly events: string;
+  readonly scores: string;
+  readonly dead: string;
+  readonly journal: string;
+  readonly group: string;
+}
+
+export function serveTopics(): ServeTopics {
+  const base = uniqueName('serve');
+  return {
+    events: `${base}-events`,
+    scores: `${base}-scores`,
+    dead: `${base}-dead`,
+    journal: `${base}-journal`,
+    group: `${base}-group`,
+  };
+}
+
+/** The `kafka:` section of a test's shoal.yaml: quick fetches and rebalances, debug logs. */
+export function kafkaSection(
+  brokers: string,
+  t: ServeTopics,
+  extra: Record<string, unknown> = {},
+): Record<string, unknown> {
+  return {
+    brokers: brokers.split(','),
+    group: t.group,
+    events: { topics: [t.events] },
+    scores: { topic: t.scores },
+    deadLetters: { topic: t.dead },
+    journal: { topic: t.journal },
+    maxWaitMs: 200,
+    sessionTimeoutMs: 6000,
+    log: { level: 'debug' },
+    ...extra,
+  };
+}
