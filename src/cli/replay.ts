@@ -123,7 +123,11 @@ function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): Label
 }
 
 /** The run's checkpoints, when `--checkpoint` or `--resume` asks for them. */
-function replayCheckpoints(parsed: ReturnType<typeof parse>, config: RunConfig): ReplayCheckpoints | null {
+function replayCheckpoints(
+  parsed: ReturnType<typeof parse>,
+  config: RunConfig,
+  timing: LabelTiming,
+): ReplayCheckpoints | null {
   const resume = text(parsed, 'resume');
   const dir = text(parsed, 'checkpoint') ?? resume;
   const every = whole('replay', parsed, 'checkpoint-every');
@@ -146,7 +150,10 @@ function replayCheckpoints(parsed: ReturnType<typeof parse>, config: RunConfig):
       'replay: --resume DIR goes on writing checkpoints to DIR; give one directory',
     );
   }
-  return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion());
+  return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion(), {
+    labels: timing,
+    time: text(parsed, 'time') ?? null,
+  });
 }
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
@@ -220,7 +227,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const raw = configPath === undefined ? {} : await readConfigFile(configPath);
   const config = resolveConfig(withOverrides(raw, parsed, 'replay'), configPath ?? 'command line');
   const timing = labelTiming(parsed, config);
-  const checkpoints = replayCheckpoints(parsed, config);
+  const checkpoints = replayCheckpoints(parsed, config, timing);
   const reportPath = text(parsed, 'report');
   const journal = new JournalOut(text(parsed, 'journal'), reportPath !== undefined);
   const rejectsPath = text(parsed, 'rejects');
