@@ -44,7 +44,7 @@ export interface ScoreRows {
   readonly voters: Int32Array;
   /** Model epoch (seat replacements so far) that served each row. */
   readonly epoch: Int32Array;
-  /** When the rows were scored (ms since 1970). */
+  /** The session's time (`Clock.event`, ms) at which the rows were scored. */
   readonly scoredAt: number;
 }
 
