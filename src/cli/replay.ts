@@ -5,7 +5,7 @@ import { countRows, deadLetterFile, journalFile } from '../files/index.js';
 import { FrameDecoder, type FrameFormat, type FrameOptions } from '../frames/index.js';
 import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
-import { LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
+import { EventClock, LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text, whole } from './args.js';
@@ -140,7 +140,11 @@ function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): Label
 }
 
 /** The run's checkpoints, when `--checkpoint` or `--resume` asks for them. */
-function replayCheckpoints(parsed: ReturnType<typeof parse>, config: RunConfig): ReplayCheckpoints | null {
+function replayCheckpoints(
+  parsed: ReturnType<typeof parse>,
+  config: RunConfig,
+  timing: LabelTiming,
+): ReplayCheckpoints | null {
   const resume = text(parsed, 'resume');
   const dir = text(parsed, 'checkpoint') ?? resume;
   const every = whole(parsed, 'checkpoint-every');
@@ -160,7 +164,10 @@ function replayCheckpoints(parsed: ReturnType<typeof parse>, config: RunConfig):
       '--resume DIR goes on writing checkpoints to DIR; give one directory',
     );
   }
-  return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion());
+  return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion(), {
+    labels: timing,
+    time: text(parsed, 'time') ?? null,
+  });
 }
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
@@ -251,7 +258,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const config = resolveWithFlags(withOverrides(raw, parsed, schema), source, parsed, schemaPath);
   const format = text(parsed, 'format') as FrameFormat | undefined;
   const timing = labelTiming(parsed, config);
-  const checkpoints = replayCheckpoints(parsed, config);
+  const checkpoints = replayCheckpoints(parsed, config, timing);
   // Opened before the run: a path that cannot be written is refused before any row is read. The
   // journal and rejects writers write to the temporary files, which are moved into place at the end.
   const opened = await openOutputs(inputs, outputs);
@@ -264,6 +271,8 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const listen = text(parsed, 'metrics');
   const pacer = new Pacer(whole(parsed, 'pace'), () => terminal.now());
   let telemetry: SessionTelemetry | null = null;
+  // The session's time is the stream's own (see `feed`): the wall clock only dates the run.
+  const clock = new EventClock({ monotonic: () => terminal.now(), wall: () => Date.now() });
   const ports = {
     source: file!,
     journal: {
@@ -273,7 +282,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       },
       flush: () => journal.flush(),
     },
-    clock: { monotonic: () => terminal.now(), wall: () => Date.now() },
+    clock,
     version: shoalVersion(),
   };
   const resumed =
@@ -311,6 +320,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
         ...(format === undefined ? {} : { format }),
         decoder,
         session,
+        clock,
         timing,
         time: text(parsed, 'time') ?? null,
         carryFeatures: config.labels.unmatched === 'train',
