@@ -71,12 +71,12 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
     return 0;
   }
   const forever = parsed.values.forever === true;
-  const given = whole('demo', parsed, 'rows', 100);
+  const given = whole(parsed, 'rows', 100);
   if (forever && given !== undefined) {
     terminal.err('shoal demo: --forever runs until interrupted; --rows is ignored\n');
   }
   const total = forever ? null : (given ?? DEFAULT_ROWS);
-  const rate = decimal('demo', parsed, 'rate');
+  const rate = decimal(parsed, 'rate');
   if (rate !== undefined && !(rate > 0)) {
     terminal.err(`shoal demo: --rate must be > 0, got ${rate}\n`);
     return 2;
@@ -110,7 +110,7 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
     source: `freight scenario, seed ${seed}`,
     journal,
     // Pending predictions age in scenario time: an inspection 6 hours later is 6 hours later.
-    clock: { monotonic: () => terminal.now(), wall: () => scenarioNow },
+    clock: { monotonic: () => terminal.now(), wall: () => Date.now(), event: () => scenarioNow },
     version: shoalVersion(),
   });
   const decoder = new FrameDecoder(
@@ -130,7 +130,7 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
   const checkpoint = async (): Promise<string> => {
     const where = await store.save(
       runCheckpoint(
-        { decoder: decoder.snapshot(), session: session.snapshot() },
+        { decoder: decoder.snapshot(), session: session.snapshot(), labelTiming: 'scenario' },
         { shoal: shoalVersion(), fingerprint, createdAt: new Date().toISOString() },
       ),
     );

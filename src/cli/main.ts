@@ -4,7 +4,7 @@ import { INSPECT_HELP, inspect } from './inspect.js';
 import { REPLAY_HELP, replay } from './replay.js';
 import { REPORT_HELP, report } from './report.js';
 import { SERVE_HELP, serve } from './serve.js';
-import { SYNTH_HELP, synth } from './synth.js';
+import { SPAWN_HELP, spawn } from './spawn.js';
 import { processTerminal, type Terminal } from './terminal.js';
 import { shoalVersion } from './version.js';
 
@@ -13,11 +13,14 @@ const COMMANDS: Readonly<
 > = {
   demo: { run: demo, help: DEMO_HELP },
   replay: { run: replay, help: REPLAY_HELP },
-  synth: { run: synth, help: SYNTH_HELP },
+  spawn: { run: spawn, help: SPAWN_HELP },
   report: { run: report, help: REPORT_HELP },
   serve: { run: serve, help: SERVE_HELP },
   inspect: { run: inspect, help: INSPECT_HELP },
 };
+
+/** The stream-writing command's first name, kept for one release. */
+const FORMER_SPAWN = 'synth';
 
 const USAGE = `shoal — online ensembles that keep scoring while the world changes
 
@@ -25,7 +28,7 @@ Commands:
   shoal demo             the embedded demo: an invented cold-chain stream scored, joined with late
                          labels, drifting and healed, in-process (no broker); journal, checkpoint, report
   shoal replay FILE      run a recorded stream through an ensemble, test-then-train, and summarise it
-  shoal synth GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
+  shoal spawn GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
   shoal report JOURNAL   turn a run's journal into a self-contained HTML report
   shoal serve --config F score a Kafka events topic live: scores, dead letters, inline labels
   shoal inspect CHECKPOINT
@@ -44,6 +47,10 @@ export async function main(args: readonly string[], terminal: Terminal = process
   if (name === '--version') {
     terminal.out(`${shoalVersion()}\n`);
     return 0;
+  }
+  if (name === FORMER_SPAWN) {
+    terminal.err('shoal synth is now shoal spawn; the old name works in this release only (same options)\n');
+    return main(['spawn', ...rest], terminal);
   }
   const command = COMMANDS[name];
   if (command === undefined) {

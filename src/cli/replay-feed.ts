@@ -1,7 +1,13 @@
-import { ShoalError } from '../core/index.js';
-import { readFrames } from '../files/index.js';
-import { type Decoded, describeRow, type Frame, FrameDecoder, type Rejection } from '../frames/index.js';
-import type { DeadLetter, LearningSession } from '../pipeline/index.js';
+import { FileSource, readFrames } from '../files/index.js';
+import {
+  type Decoded,
+  describeRow,
+  type Frame,
+  FrameDecoder,
+  type FrameFormat,
+  type Rejection,
+} from '../frames/index.js';
+import type { DeadLetter, EventClock, LearningSession, SourceBatch } from '../pipeline/index.js';
 import { LabelQueue } from './label-queue.js';
 import { Pacer } from './pacer.js';
 
@@ -17,6 +23,10 @@ import { Pacer } from './pacer.js';
  * Held-back labels are joined by id to the prediction served for their row (in the delay modes, rows
  * without an id column are joined by their row number). A label whose row has not been scored yet when
  * it becomes known finds no prediction and counts as unknown.
+ *
+ * The session's clock is the same time (an `EventClock`, read as seconds): moved to each row's time
+ * before the row is scored when labels are held back, and to the time of a batch's last row before the
+ * batch is scored when they come inline. A replay never reads the wall clock for the model's state.
  */
 export type LabelTiming =
   | { readonly kind: 'inline' }
@@ -32,8 +42,12 @@ export type LabelTiming =
 
 export interface FeedOptions {
   readonly file: string;
+  /** The file's format when its extension does not say. */
+  readonly format?: FrameFormat;
   readonly decoder: FrameDecoder;
   readonly session: LearningSession;
+  /** The session's clock, moved on to the stream's time as rows are scored. */
+  readonly clock: EventClock;
   readonly timing: LabelTiming;
   /** The events' time column (excluded from the features), or null: time is the row number. */
   readonly time: string | null;
@@ -42,6 +56,8 @@ export interface FeedOptions {
   /** `keep`: undecodable rows go to `deadLetter`; `throw`: the first stops the run. */
   readonly rejects: 'throw' | 'keep';
   readonly deadLetter: (letter: DeadLetter) => void;
+  /** Called once the schema is known, before the first row is scored. */
+  readonly beforeScoring?: () => void;
   /**
    * Where a resumed run goes on: the rows before this position were consumed before the checkpoint it
    * resumes from, and are skipped. A checkpoint is taken between batches, and a file is cut into the same
@@ -74,7 +90,8 @@ export async function feed(o: FeedOptions): Promise<void> {
     }
   };
   const columns = [o.time, timing.kind === 'delay-column' ? timing.column : null];
-  const extra = columns.some((c) => c !== null) ? new ColumnReader(o.file, columns) : null;
+  const format = o.format === undefined ? {} : { format: o.format };
+  const extra = columns.some((c) => c !== null) ? new ColumnReader(o.file, columns, format) : null;
   const byTime = timing.kind === 'delay-column' || (timing.kind === 'file' && timing.time !== null);
   let now = Number.NEGATIVE_INFINITY;
   let queue: LabelQueue | null = null;
@@ -95,6 +112,19 @@ export async function feed(o: FeedOptions): Promise<void> {
     return { queue, values, ids };
   };
 
+  /** The time of row r of a frame, scored as row `rows` of the run. */
+  const rowTime = (values: Float64Array | null, r: number, rows: number): number =>
+    o.time === null ? rows : values![r * 2]!;
+
+  /** The time of a batch's last row (the latest time in it), for rows scored inline. */
+  const batchTime = async (frame: Frame, before: number): Promise<number> => {
+    if (o.time === null) return before + frame.rows;
+    const values = await extra!.align(frame);
+    let latest = Number.NEGATIVE_INFINITY;
+    for (let r = 0; r < frame.rows; r++) if (values[r * 2]! > latest) latest = values[r * 2]!;
+    return latest;
+  };
+
   /**
    * Row r of a frame was scored as row `rows` of the run: hold its label, or read the labels file on,
    * and return the moment reached (rows scored, or the events' time). `again`: the row was scored before
@@ -108,7 +138,7 @@ export async function feed(o: FeedOptions): Promise<void> {
     again: boolean,
   ): Promise<number> => {
     const { queue: held, values, ids } = prepared;
-    const time = o.time === null ? rows : values![r * 2]!;
+    const time = rowTime(values, r, rows);
     if (time > now) now = time;
     const moment = byTime ? now : rows;
     const label = frame.labels === null ? Number.NaN : frame.labels[r]!;
@@ -122,33 +152,35 @@ export async function feed(o: FeedOptions): Promise<void> {
     return moment;
   };
 
-  let consumed = 0n;
   const from = o.from ?? 0n;
   // Rows counted again on the way to a resume position (they were scored before the checkpoint).
   let recounted = 0;
+  const events = new FileSource(o.file, decoder, o.rejects, o.format);
   try {
-    for await (const batch of readFrames(o.file, decoder, { rejects: o.rejects })) {
-      const size = BigInt(batch.frame.rows + batch.rejected.length);
-      const frame = batch.frame;
-      if (consumed + size <= from) {
-        consumed += size;
-        if (timing.kind === 'inline') continue;
-        // Labels held back when the checkpoint was taken are held again: the rows before it are read
-        // once more, their labels queued, and those already joined by then (due by that moment) dropped.
+    // A resumed run reads the rows before its checkpoint once more, when they hold what it needs:
+    // labels held back then are held again (those already joined by then, due by that moment, dropped),
+    // and the stream's time goes on from the latest reached.
+    if (from > 0n && (timing.kind !== 'inline' || o.time !== null)) {
+      for await (const batch of events.open(new Map())) {
+        if (batch.next > from) break;
+        const frame = batch.frame;
+        if (timing.kind === 'inline') {
+          o.clock.reach(await batchTime(frame, 0));
+          continue;
+        }
         const prepared = await prepare(frame, recounted);
         for (let r = 0; r < frame.rows; r++) {
-          prepared.queue.drop(await hold(frame, r, ++recounted, prepared, true));
+          o.clock.reach(rowTime(prepared.values, r, ++recounted));
+          prepared.queue.drop(await hold(frame, r, recounted, prepared, true));
         }
-        continue;
       }
-      if (consumed < from) {
-        throw new ShoalError(
-          'invalid-snapshot',
-          `${o.file}: the checkpoint goes on at row ${from}, inside the batch of rows ${consumed}–${consumed + size - 1n}: is this the file the run was started on?`,
-        );
-      }
-      refuse(o.file, batch.rejected);
+    }
+    for await (const batch of events.open(new Map([[o.file, from]]))) {
+      const frame = batch.frame;
+      refuse(batch.stream, batch.rejected);
+      o.beforeScoring?.();
       if (timing.kind === 'inline') {
+        o.clock.reach(await batchTime(frame, session.scored));
         for (const [from, to] of pacer.ranges(frame.rows)) {
           const started = clock();
           session.score(frame, decoder.classes, from, to);
@@ -160,6 +192,7 @@ export async function feed(o: FeedOptions): Promise<void> {
         const prepared = await prepare(frame, session.scored);
         const held: Frame = { ...frame, labels: null, ids: prepared.ids };
         for (let r = 0; r < frame.rows; r++) {
+          o.clock.reach(rowTime(prepared.values, r, session.scored + 1));
           session.score(held, decoder.classes, r, r + 1);
           const moment = await hold(frame, r, session.scored, prepared, false);
           prepared.queue.release(moment, session, decoder.classes);
@@ -167,15 +200,8 @@ export async function feed(o: FeedOptions): Promise<void> {
         scored(frame.rows, (clock() - started) / 1000);
         await pacer.wait(frame.rows);
       }
-      consumed += size;
-      session.advance(o.file, consumed);
+      session.advance(batch.stream, batch.next);
       await o.afterBatch();
-    }
-    if (consumed < from) {
-      throw new ShoalError(
-        'invalid-snapshot',
-        `${o.file}: holds ${consumed} rows, but the checkpoint goes on at row ${from}: is this the file the run was started on?`,
-      );
     }
     const last = queue as LabelQueue | null;
     if (last !== null) {
@@ -201,14 +227,14 @@ class ColumnReader {
   private readonly slots: readonly number[];
 
   /** `columns[k]` null leaves slot k of each row NaN. */
-  constructor(path: string, columns: readonly (string | null)[]) {
+  constructor(path: string, columns: readonly (string | null)[], format: { readonly format?: FrameFormat }) {
     this.width = columns.length;
     const named = columns.filter((c): c is string => c !== null);
     const decoder = new FrameDecoder(
       { label: null, features: named.map((name) => ({ name, kind: 'numeric' as const })) },
       path,
     );
-    this.frames = readFrames(path, decoder, { rejects: 'keep' })[Symbol.asyncIterator]();
+    this.frames = readFrames(path, decoder, { rejects: 'keep', ...format })[Symbol.asyncIterator]();
     this.slots = columns.map((c) => (c === null ? -1 : named.indexOf(c)));
   }
 
@@ -263,7 +289,7 @@ class ColumnReader {
  */
 class LabelReader {
   private readonly path: string;
-  private readonly frames: AsyncIterator<Decoded>;
+  private readonly frames: AsyncIterator<SourceBatch>;
   private readonly refuse: (stream: string, rejected: readonly Rejection[]) => void;
   private readonly deadLetter: (letter: DeadLetter) => void;
   private readonly timed: boolean;
@@ -297,7 +323,7 @@ class LabelReader {
       },
       timing.path,
     );
-    this.frames = readFrames(timing.path, decoder, { rejects })[Symbol.asyncIterator]();
+    this.frames = new FileSource(timing.path, decoder, rejects).open(new Map())[Symbol.asyncIterator]();
     this.refuse = refuse;
     this.deadLetter = deadLetter;
   }

@@ -12,7 +12,7 @@ import {
   scoresMessage,
   type TopicOutputs,
 } from '../kafka/index.js';
-import { LearningSession, type RunConfig } from '../pipeline/index.js';
+import { LearningSession, liveClock, type RunConfig } from '../pipeline/index.js';
 
 /** Rows per scores message: about 60 bytes a row (two classes), far below the broker's 1 MiB limit. */
 const SCORE_ROWS_PER_MESSAGE = 4096;
@@ -133,7 +133,7 @@ export class ServeModels {
             write: (r) => journal.push(r),
             flush: async () => undefined,
           },
-          clock: { monotonic: () => performance.now(), wall: () => Date.now() },
+          clock: liveClock({ monotonic: () => performance.now(), wall: () => Date.now() }),
           version: this.version,
         }),
         journal,

@@ -1,5 +1,5 @@
 import type { SeatView } from '../ensembles/index.js';
-import type { Frame, Rejection } from '../frames/index.js';
+import type { Frame, Rejection, ScoreRows } from '../frames/index.js';
 import type { JournalRecord, LabelCounts, LifecycleCause } from '../journal/index.js';
 
 /**
@@ -56,27 +56,10 @@ export interface LabelSource {
 
 /**
  * The scores of one batch, in buffers the session reuses: valid until its next `score` call. Row r's
- * class probabilities are `probabilities[r × classes … (r + 1) × classes)`.
+ * class probabilities are `probabilities[r × classes … (r + 1) × classes)`. The fields are those of
+ * `ScoreRows` (defined beside the Arrow encoder of scores, which frames/ owns).
  */
-export interface ScoreBatch {
-  /** Row r of the batch is row `first + r` of the frame scored (and of `ids`). */
-  readonly first: number;
-  readonly rows: number;
-  /** Class names, index = class code. */
-  readonly classes: readonly string[];
-  /** The frame's event ids (row r of the batch has id `ids[first + r]`), or null when it has none. */
-  readonly ids: readonly string[] | null;
-  readonly probabilities: Float64Array;
-  readonly predicted: Int32Array;
-  /** Share of voting members that agree with the prediction, per row. */
-  readonly agreement: Float64Array;
-  /** Members that voted, per row. */
-  readonly voters: Int32Array;
-  /** Model epoch (seat replacements so far) that served each row. */
-  readonly epoch: Int32Array;
-  /** Wall-clock time (ms since 1970) at which the batch was scored. */
-  readonly scoredAt: number;
-}
+export type ScoreBatch = ScoreRows;
 
 /** Where scores go (a scores topic, a file). `flush` resolves when everything written is durable. */
 export interface ScoreSink {
@@ -126,17 +109,27 @@ export interface StoredCheckpoint {
   readonly refused: readonly string[];
 }
 
-/**
- * Time, injected: the session never reads the system clock itself, so tests and replays can be exact.
- *
- * @example
- * const clock: Clock = { monotonic: () => performance.now(), wall: () => Date.now() };
- */
-export interface Clock {
+/** The system's clocks, as a driver reads them: for durations and wall-clock metadata only. */
+export interface Timer {
   /** Milliseconds from any fixed origin, never going back (for durations and rates). */
   monotonic(): number;
-  /** Milliseconds since 1970-01-01 UTC (for ages of pending predictions and journal times). */
+  /** Milliseconds since 1970-01-01 UTC (when a run started). */
   wall(): number;
+}
+
+/**
+ * Time, injected: the session never reads the system clock itself. Its own time, `event()`, dates each
+ * pending prediction, bounds their age and measures label delays: in a replay it is the stream's own
+ * time (`EventClock`, moved on by the driver), so two replays of one file are bit for bit alike; in
+ * live serving it is the wall clock (`liveClock`). `monotonic` and `wall` give only wall-clock metadata
+ * (the run's start, its seconds and rows per second), which is never part of the model's state.
+ *
+ * @example
+ * const clock: Clock = liveClock({ monotonic: () => performance.now(), wall: () => Date.now() });
+ */
+export interface Clock extends Timer {
+  /** The session's time, in milliseconds: the stream's time in a replay, the wall clock when live. */
+  event(): number;
 }
 
 /** One drift signal of a member monitor, as the metrics surface keeps the recent ones. */

@@ -48,7 +48,7 @@ beforeAll(async () => {
   );
   expect(made.code).toBe(0);
   const ran = await shoal('replay', data, ...options, '--checkpoint', join(dir, 'whole'), '--json');
-  expect(ran.err).toBe('');
+  expect(ran.err).toMatch(/^schema of [^\n]*\n( {2}[^\n]*\n)*$/);
   expected = await final(join(dir, 'whole'));
   summary = JSON.parse(ran.out) as Record<string, unknown>;
 });
@@ -88,7 +88,10 @@ describe('replay --resume', () => {
       for (const f of spoilt) await spoil(f);
       const resumed = await shoal('replay', data, ...options, '--resume', ck, '--json');
       expect(resumed.code, resumed.err).toBe(0);
-      const told = resumed.err.split('\n').filter((l) => l !== '');
+      // The schema lines the run prints before its first row are not part of what it tells here.
+      const told = resumed.err
+        .split('\n')
+        .filter((l) => l !== '' && !l.startsWith('schema of ') && !l.startsWith('  '));
       expect(told).toHaveLength(3);
       for (const [i, f] of [...spoilt].reverse().entries()) {
         expect(told[i]).toContain(`refused checkpoint ${f}: `);
@@ -106,6 +109,21 @@ describe('replay --resume', () => {
     const other = await shoal('replay', data, ...options, '--seed', '4', '--resume', ck);
     expect(other.code).toBe(2);
     expect(other.err).toMatch(/checkpoint-\d+\.shoal was written by a run with another configuration/);
+  });
+
+  it('refuses a resume given other label timing options, naming them as given first and now', async () => {
+    const ck = join(await scratch(), 'ck');
+    const first = ['--ensemble', 'bagging', '--members', '2', '--checkpoint-every', '5000'];
+    expect((await shoal('replay', data, ...first, '--label-delay', '100', '--checkpoint', ck)).code).toBe(0);
+    const other = await shoal('replay', data, ...first, '--label-delay', '200', '--resume', ck);
+    expect(other.code).toBe(2);
+    expect(other.err).toMatch(
+      /checkpoint-\d+\.shoal was written by a run with other label timing options \(--label-delay 100; this run: --label-delay 200\)/,
+    );
+    const inline = await shoal('replay', data, ...first, '--resume', ck);
+    expect(inline.err).toMatch(/\(--label-delay 100; this run: inline labels, no --time\)/);
+    const same = await shoal('replay', data, ...first, '--label-delay', '100', '--resume', ck);
+    expect(same.err).toBe('');
   });
 
   it('refuses what cannot be checkpointed or resumed, saying why', async () => {
