@@ -1,6 +1,7 @@
 import {
   DEAD_LETTER_REASONS,
   type DeadLetterReason,
+  deadLetterReason,
   LABEL_OUTCOMES,
   type LabelOutcome,
   REPLACEMENT_CAUSES,
@@ -120,10 +121,7 @@ export class ServeTelemetry implements TelemetrySource {
 
   /** Count dead-lettered inputs by their code (codes outside the closed set count as `other`). */
   deadLettered(code: string): void {
-    const reason = (DEAD_LETTER_REASONS as readonly string[]).includes(code)
-      ? (code as DeadLetterReason)
-      : 'other';
-    this.deadLetters[reason]++;
+    this.deadLetters[deadLetterReason(code)]++;
   }
 
   /** The lag of one partition after a batch: its high watermark minus the next offset to read. */

@@ -6,6 +6,7 @@ import { parseListen, SessionTelemetry, TelemetryServer } from '../../src/teleme
 import { frameOf, labelsFrame, manualClock } from '../pipeline/session-support.js';
 import { note } from '../support/note.js';
 import { promtoolCheckMetrics } from '../support/prometheus.js';
+import { withTelemetry } from './session-telemetry.js';
 
 /**
  * Shoal's telemetry endpoint on a real loopback socket, fed by a real learning loop: readiness, status,
@@ -23,20 +24,6 @@ const open: TelemetryServer[] = [];
 afterEach(async () => {
   await Promise.all(open.splice(0).map((s) => s.close()));
 });
-
-/** A session with its telemetry (as `replay --metrics` wires them) on a loopback port. */
-function withTelemetry(raw: unknown = {}): { session: LearningSession; telemetry: SessionTelemetry } {
-  let telemetry: SessionTelemetry | null = null;
-  const session = new LearningSession({
-    config: resolveConfig(raw, 'test'),
-    source: 'test stream',
-    journal: { write: (r) => telemetry?.record(r), flush: async () => {} },
-    clock: manualClock(),
-    version: '0.0.0-test',
-  });
-  telemetry = SessionTelemetry.of(session, { checkpoints: false, wall: () => 0 });
-  return { session, telemetry };
-}
 
 async function running(gen: StreamGenerator, raw: unknown = {}): Promise<Running> {
   const { session, telemetry } = withTelemetry(raw);

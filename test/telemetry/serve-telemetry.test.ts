@@ -1,32 +1,14 @@
 import { describe, expect, it } from 'vitest';
-import { LearningSession, resolveConfig } from '../../src/pipeline/index.js';
 import { buildStream } from '../../src/streams/index.js';
-import {
-  ServeTelemetry,
-  SessionTelemetry,
-  ShoalMetrics,
-  type TelemetryReading,
-} from '../../src/telemetry/index.js';
-import { frameOf, manualClock } from '../pipeline/session-support.js';
+import { ServeTelemetry, ShoalMetrics, type TelemetryReading } from '../../src/telemetry/index.js';
+import { frameOf } from '../pipeline/session-support.js';
+import { withTelemetry } from './session-telemetry.js';
 
 /**
  * `ServeTelemetry`: the metrics of a service's sessions (one per partition with scope `partition`) as
  * one source. Counters are sums over real learning sessions, a revoked partition's totals stay in them,
  * and the series are those of one session.
  */
-
-function partitionSession(): { session: LearningSession; telemetry: SessionTelemetry } {
-  let telemetry: SessionTelemetry | null = null;
-  const session = new LearningSession({
-    config: resolveConfig({ seed: 3 }, 'test'),
-    source: 'test stream',
-    journal: { write: (r) => telemetry?.record(r), flush: async () => {} },
-    clock: manualClock(),
-    version: '0.0.0-test',
-  });
-  telemetry = SessionTelemetry.of(session, { checkpoints: false, wall: () => 0 });
-  return { session, telemetry };
-}
 
 /** SEA (Street & Kim 2001, PUBLISHED.md) with an abrupt change, so members drift and get replaced. */
 const sea = (seed: number) => buildStream({ generator: 'sea', concepts: '9.5,7', every: 5_000, seed });
@@ -42,8 +24,8 @@ function seriesOf(body: string): string[] {
 
 describe('ServeTelemetry', () => {
   it('sums the sessions, keeps a dropped session in its counters, and has the series of one session', async () => {
-    const a = partitionSession();
-    const b = partitionSession();
+    const a = withTelemetry({ seed: 3 });
+    const b = withTelemetry({ seed: 3 });
     const ga = sea(1);
     const gb = sea(2);
     for (let i = 0; i < 15; i++) a.session.score(frameOf(ga, 1_000), ga.classes);
