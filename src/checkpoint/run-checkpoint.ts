@@ -26,10 +26,15 @@ export interface CheckpointMeta {
   readonly createdAt: string;
 }
 
-/** What a run is made of: the decoder's state and the session's snapshot, each JSON-safe. */
+/**
+ * What a run is made of: the decoder's state and the session's snapshot, each JSON-safe, and the
+ * driver's label timing (how labels became known: inline, held back, from a file), which a resumed run
+ * must repeat.
+ */
 export interface RunParts<Decoder = unknown, Session = unknown> {
   readonly decoder: Decoder;
   readonly session: Session;
+  readonly labelTiming: unknown;
 }
 
 export interface RunState<Decoder = unknown, Session = unknown>
@@ -52,6 +57,7 @@ export function runCheckpoint<D, S>(parts: RunParts<D, S>, meta: CheckpointMeta)
       createdAt: meta.createdAt,
       decoder: parts.decoder,
       session: parts.session,
+      labelTiming: parts.labelTiming,
     },
   };
 }

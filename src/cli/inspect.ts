@@ -130,7 +130,9 @@ export function summarizeCheckpoint(
     epoch: ensemble?.epoch ?? 0,
     positions: session.positions,
     pending:
-      session.pending === null ? null : { waiting: session.pending.used, capacity: session.pending.capacity },
+      session.pending === null
+        ? null
+        : { waiting: session.pending.ids.length, capacity: session.pending.capacity },
     window: {
       accuracy: judged > 0 ? orNull(evaluator.windowed.accuracy()) : null,
       kappa: judged > 0 ? orNull(evaluator.windowed.kappa()) : null,

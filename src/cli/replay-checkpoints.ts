@@ -8,10 +8,32 @@ import {
   type SessionOptions,
   type SessionSnapshot,
 } from '../pipeline/index.js';
+import type { LabelTiming } from './replay-feed.js';
 import type { Terminal } from './terminal.js';
 
 /** Rows between checkpoints when `--checkpoint` is given without `--checkpoint-every`. */
 export const DEFAULT_CHECKPOINT_EVERY = 10_000;
+
+/** When a replay's labels become known, and its time column: a resumed run must give the same. */
+export interface ReplayTiming {
+  readonly labels: LabelTiming;
+  readonly time: string | null;
+}
+
+/** The options that set a replay's timing, as they are given on the command line. */
+function timingOptions(t: ReplayTiming): string {
+  const l = t.labels;
+  const labels =
+    l.kind === 'inline'
+      ? []
+      : l.kind === 'delay'
+        ? [`--label-delay ${l.rows}`]
+        : l.kind === 'delay-column'
+          ? [`--label-delay-column ${l.column}`]
+          : [`--labels ${l.path}`, ...(l.time === null ? [] : [`--label-time ${l.time}`])];
+  const all = [...labels, ...(t.time === null ? [] : [`--time ${t.time}`])];
+  return all.length === 0 ? 'inline labels, no --time' : all.join(' ');
+}
 
 /** A run taken up from a checkpoint: its decoder and session, and the row of the file it goes on at. */
 export interface ResumedRun {
@@ -30,12 +52,21 @@ export class ReplayCheckpoints {
   private readonly every: number;
   private readonly fingerprint: string;
   private readonly shoal: string;
+  private readonly timing: ReplayTiming;
   private due: number;
   /** Told when a checkpoint is on disk (telemetry's checkpoint age). */
   saved: (() => void) | null = null;
 
-  constructor(dir: string, every: number, config: RunConfig, shoal: string, scored = 0) {
+  constructor(
+    dir: string,
+    every: number,
+    config: RunConfig,
+    shoal: string,
+    timing: ReplayTiming,
+    scored = 0,
+  ) {
     this.store = new FileCheckpointStore(dir);
+    this.timing = timing;
     this.every = every;
     this.fingerprint = configFingerprint(config);
     this.shoal = shoal;
@@ -44,8 +75,9 @@ export class ReplayCheckpoints {
 
   /**
    * Take up the run whose newest good checkpoint is in the store. Checkpoints refused on the way are told
-   * on `terminal` (file and reason); a checkpoint written with another configuration is refused, and so
-   * is a store that holds none.
+   * on `terminal` (file and reason); a checkpoint written with another configuration or other label
+   * timing options (`--labels`, `--label-time`, `--label-delay`, `--label-delay-column`, `--time`) is
+   * refused, and so is a store that holds none.
    */
   async resume(
     file: string,
@@ -66,6 +98,14 @@ export class ReplayCheckpoints {
       throw new ShoalError(
         'invalid-config',
         `replay --resume: ${stored.where} was written by a run with another configuration (fingerprint ${state.fingerprint.slice(0, 12)}…, this run's ${this.fingerprint.slice(0, 12)}…); resume with the options and configuration file of the first run`,
+      );
+    }
+    const timing = state.labelTiming as ReplayTiming | undefined;
+    if (timing === undefined || JSON.stringify(timing) !== JSON.stringify(this.timing)) {
+      const first = timing === undefined ? 'no label timing (an older checkpoint)' : timingOptions(timing);
+      throw new ShoalError(
+        'invalid-config',
+        `replay --resume: ${stored.where} was written by a run with other label timing options (${first}; this run: ${timingOptions(this.timing)}); resume with the first run's --labels, --label-time, --label-delay, --label-delay-column and --time`,
       );
     }
     const positions = state.session.positions;
@@ -91,7 +131,7 @@ export class ReplayCheckpoints {
   /** Save a checkpoint of the run as it is now; resolves once it is on disk. */
   async save(session: LearningSession, decoder: FrameDecoder): Promise<string> {
     const checkpoint = runCheckpoint(
-      { decoder: decoder.snapshot(), session: session.snapshot() },
+      { decoder: decoder.snapshot(), session: session.snapshot(), labelTiming: this.timing },
       { shoal: this.shoal, fingerprint: this.fingerprint, createdAt: new Date().toISOString() },
     );
     const where = await this.store.save(checkpoint);

@@ -1,7 +1,7 @@
 import { ShoalError } from '../core/index.js';
 import { readFrames } from '../files/index.js';
 import { type Decoded, describeRow, type Frame, FrameDecoder, type Rejection } from '../frames/index.js';
-import type { DeadLetter, LearningSession } from '../pipeline/index.js';
+import type { DeadLetter, EventClock, LearningSession } from '../pipeline/index.js';
 import { LabelQueue } from './label-queue.js';
 import { Pacer } from './pacer.js';
 
@@ -17,6 +17,10 @@ import { Pacer } from './pacer.js';
  * Held-back labels are joined by id to the prediction served for their row (in the delay modes, rows
  * without an id column are joined by their row number). A label whose row has not been scored yet when
  * it becomes known finds no prediction and counts as unknown.
+ *
+ * The session's clock is the same time (an `EventClock`, read as seconds): moved to each row's time
+ * before the row is scored when labels are held back, and to the time of a batch's last row before the
+ * batch is scored when they come inline. A replay never reads the wall clock for the model's state.
  */
 export type LabelTiming =
   | { readonly kind: 'inline' }
@@ -34,6 +38,8 @@ export interface FeedOptions {
   readonly file: string;
   readonly decoder: FrameDecoder;
   readonly session: LearningSession;
+  /** The session's clock, moved on to the stream's time as rows are scored. */
+  readonly clock: EventClock;
   readonly timing: LabelTiming;
   /** The events' time column (excluded from the features), or null: time is the row number. */
   readonly time: string | null;
@@ -95,6 +101,19 @@ export async function feed(o: FeedOptions): Promise<void> {
     return { queue, values, ids };
   };
 
+  /** The time of row r of a frame, scored as row `rows` of the run. */
+  const rowTime = (values: Float64Array | null, r: number, rows: number): number =>
+    o.time === null ? rows : values![r * 2]!;
+
+  /** The time of a batch's last row (the latest time in it), for rows scored inline. */
+  const batchTime = async (frame: Frame, before: number): Promise<number> => {
+    if (o.time === null) return before + frame.rows;
+    const values = await extra!.align(frame);
+    let latest = Number.NEGATIVE_INFINITY;
+    for (let r = 0; r < frame.rows; r++) if (values[r * 2]! > latest) latest = values[r * 2]!;
+    return latest;
+  };
+
   /**
    * Row r of a frame was scored as row `rows` of the run: hold its label, or read the labels file on,
    * and return the moment reached (rows scored, or the events' time). `again`: the row was scored before
@@ -108,7 +127,7 @@ export async function feed(o: FeedOptions): Promise<void> {
     again: boolean,
   ): Promise<number> => {
     const { queue: held, values, ids } = prepared;
-    const time = o.time === null ? rows : values![r * 2]!;
+    const time = rowTime(values, r, rows);
     if (time > now) now = time;
     const moment = byTime ? now : rows;
     const label = frame.labels === null ? Number.NaN : frame.labels[r]!;
@@ -132,12 +151,16 @@ export async function feed(o: FeedOptions): Promise<void> {
       const frame = batch.frame;
       if (consumed + size <= from) {
         consumed += size;
-        if (timing.kind === 'inline') continue;
+        if (timing.kind === 'inline') {
+          if (o.time !== null) o.clock.reach(await batchTime(frame, 0));
+          continue;
+        }
         // Labels held back when the checkpoint was taken are held again: the rows before it are read
         // once more, their labels queued, and those already joined by then (due by that moment) dropped.
         const prepared = await prepare(frame, recounted);
         for (let r = 0; r < frame.rows; r++) {
-          prepared.queue.drop(await hold(frame, r, ++recounted, prepared, true));
+          o.clock.reach(rowTime(prepared.values, r, ++recounted));
+          prepared.queue.drop(await hold(frame, r, recounted, prepared, true));
         }
         continue;
       }
@@ -149,6 +172,7 @@ export async function feed(o: FeedOptions): Promise<void> {
       }
       refuse(o.file, batch.rejected);
       if (timing.kind === 'inline') {
+        o.clock.reach(await batchTime(frame, session.scored));
         for (const [from, to] of pacer.ranges(frame.rows)) {
           const started = clock();
           session.score(frame, decoder.classes, from, to);
@@ -160,6 +184,7 @@ export async function feed(o: FeedOptions): Promise<void> {
         const prepared = await prepare(frame, session.scored);
         const held: Frame = { ...frame, labels: null, ids: prepared.ids };
         for (let r = 0; r < frame.rows; r++) {
+          o.clock.reach(rowTime(prepared.values, r, session.scored + 1));
           session.score(held, decoder.classes, r, r + 1);
           const moment = await hold(frame, r, session.scored, prepared, false);
           prepared.queue.release(moment, session, decoder.classes);

@@ -6,7 +6,7 @@ import { countRows, deadLetterFile, journalFile } from '../files/index.js';
 import { FrameDecoder, type FrameOptions } from '../frames/index.js';
 import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
-import { LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
+import { EventClock, LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text, whole } from './args.js';
@@ -123,7 +123,11 @@ function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): Label
 }
 
 /** The run's checkpoints, when `--checkpoint` or `--resume` asks for them. */
-function replayCheckpoints(parsed: ReturnType<typeof parse>, config: RunConfig): ReplayCheckpoints | null {
+function replayCheckpoints(
+  parsed: ReturnType<typeof parse>,
+  config: RunConfig,
+  timing: LabelTiming,
+): ReplayCheckpoints | null {
   const resume = text(parsed, 'resume');
   const dir = text(parsed, 'checkpoint') ?? resume;
   const every = whole('replay', parsed, 'checkpoint-every');
@@ -146,7 +150,10 @@ function replayCheckpoints(parsed: ReturnType<typeof parse>, config: RunConfig):
       'replay: --resume DIR goes on writing checkpoints to DIR; give one directory',
     );
   }
-  return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion());
+  return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion(), {
+    labels: timing,
+    time: text(parsed, 'time') ?? null,
+  });
 }
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
@@ -220,7 +227,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const raw = configPath === undefined ? {} : await readConfigFile(configPath);
   const config = resolveConfig(withOverrides(raw, parsed, 'replay'), configPath ?? 'command line');
   const timing = labelTiming(parsed, config);
-  const checkpoints = replayCheckpoints(parsed, config);
+  const checkpoints = replayCheckpoints(parsed, config, timing);
   const reportPath = text(parsed, 'report');
   const journal = new JournalOut(text(parsed, 'journal'), reportPath !== undefined);
   const rejectsPath = text(parsed, 'rejects');
@@ -229,6 +236,8 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   const listen = text(parsed, 'metrics');
   const pacer = new Pacer(whole('replay', parsed, 'pace'), () => terminal.now());
   let telemetry: SessionTelemetry | null = null;
+  // The session's time is the stream's own (see `feed`): the wall clock only dates the run.
+  const clock = new EventClock({ monotonic: () => terminal.now(), wall: () => Date.now() });
   const ports = {
     source: file!,
     journal: {
@@ -238,7 +247,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       },
       flush: () => journal.flush(),
     },
-    clock: { monotonic: () => terminal.now(), wall: () => Date.now() },
+    clock,
     version: shoalVersion(),
   };
   const resumed =
@@ -273,6 +282,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       file: file!,
       decoder,
       session,
+      clock,
       timing,
       time: text(parsed, 'time') ?? null,
       carryFeatures: config.labels.unmatched === 'train',

@@ -12,7 +12,7 @@ import {
   scoresMessage,
   type TopicOutputs,
 } from '../kafka/index.js';
-import { LearningSession, type RunConfig } from '../pipeline/index.js';
+import { LearningSession, liveClock, type RunConfig } from '../pipeline/index.js';
 import { ServeTelemetry, SessionTelemetry } from '../telemetry/index.js';
 
 /** Rows per scores message: about 60 bytes a row (two classes), far below the broker's 1 MiB limit. */
@@ -144,7 +144,7 @@ export class ServeModels {
             },
             flush: async () => undefined,
           },
-          clock: { monotonic: () => performance.now(), wall: () => Date.now() },
+          clock: liveClock({ monotonic: () => performance.now(), wall: () => Date.now() }),
           version: this.version,
         }),
         journal,

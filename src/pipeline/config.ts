@@ -59,7 +59,7 @@ export interface RunConfig {
  * How late labels are joined to the predictions served for them (see `LearningSession`).
  * - `pending`: predictions kept waiting for a label at most (a prediction is evicted once this many
  *   newer ones were made);
- * - `maxAgeSeconds`: a prediction waits at most this long (wall-clock time), or null for no age bound;
+ * - `maxAgeSeconds`: a prediction waits at most this long (in the session's time: the stream's own time in a replay, the wall clock when live), or null for no age bound;
  * - `unmatched`: what a label that finds no prediction does: `ignore` (counted only), or `train` on the
  *   label's own row when the label carries the row's features.
  */

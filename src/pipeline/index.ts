@@ -1,3 +1,4 @@
+export { EventClock, liveClock } from './clocks.js';
 export type { EvaluationConfig, InputsConfig, LabelsConfig, RunConfig } from './config.js';
 export { DEFAULT_SEED, LABELS_DEFAULTS, resolveConfig } from './config.js';
 export type {
@@ -15,6 +16,7 @@ export type {
   Source,
   SourceBatch,
   StoredCheckpoint,
+  Timer,
 } from './ports.js';
 export type { SessionCounts, SessionOptions, SessionSnapshot } from './session.js';
 export { LABEL_DELAY_BOUNDS, LearningSession } from './session.js';

@@ -74,7 +74,7 @@ export interface ScoreBatch {
   readonly voters: Int32Array;
   /** Model epoch (seat replacements so far) that served each row. */
   readonly epoch: Int32Array;
-  /** Wall-clock time (ms since 1970) at which the batch was scored. */
+  /** The session's time (`Clock.event`, ms) at which the batch was scored. */
   readonly scoredAt: number;
 }
 
@@ -126,17 +126,27 @@ export interface StoredCheckpoint {
   readonly refused: readonly string[];
 }
 
-/**
- * Time, injected: the session never reads the system clock itself, so tests and replays can be exact.
- *
- * @example
- * const clock: Clock = { monotonic: () => performance.now(), wall: () => Date.now() };
- */
-export interface Clock {
+/** The system's clocks, as a driver reads them: for durations and wall-clock metadata only. */
+export interface Timer {
   /** Milliseconds from any fixed origin, never going back (for durations and rates). */
   monotonic(): number;
-  /** Milliseconds since 1970-01-01 UTC (for ages of pending predictions and journal times). */
+  /** Milliseconds since 1970-01-01 UTC (when a run started). */
   wall(): number;
+}
+
+/**
+ * Time, injected: the session never reads the system clock itself. Its own time, `event()`, dates each
+ * pending prediction, bounds their age and measures label delays: in a replay it is the stream's own
+ * time (`EventClock`, moved on by the driver), so two replays of one file are bit for bit alike; in
+ * live serving it is the wall clock (`liveClock`). `monotonic` and `wall` give only wall-clock metadata
+ * (the run's start, its seconds and rows per second), which is never part of the model's state.
+ *
+ * @example
+ * const clock: Clock = liveClock({ monotonic: () => performance.now(), wall: () => Date.now() });
+ */
+export interface Clock extends Timer {
+  /** The session's time, in milliseconds: the stream's time in a replay, the wall clock when live. */
+  event(): number;
 }
 
 /** One drift signal of a member monitor, as the metrics surface keeps the recent ones. */

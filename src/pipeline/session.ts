@@ -150,7 +150,7 @@ export class LearningSession {
    */
   score(frame: Frame, classes: readonly string[], from = 0, to = frame.rows): ScoreBatch {
     const ensemble = this.ensure(frame.schema, classes);
-    const now = this.options.clock.wall();
+    const now = this.options.clock.event();
     this.expireAt(now);
     const { values, labels, ids, width } = frame;
     const verdict = this.verdict;
@@ -198,7 +198,7 @@ export class LearningSession {
         `${frame.origin.source}: labels need an id column and a label column to be joined`,
       );
     }
-    const now = this.options.clock.wall();
+    const now = this.options.clock.event();
     this.expireAt(now);
     const ensemble = this.ensemble;
     if (ensemble !== null) this.announce(classes);
@@ -241,7 +241,7 @@ export class LearningSession {
 
   /** Expire pending predictions older than the age bound now; returns how many expired. */
   expire(): number {
-    return this.expireAt(this.options.clock.wall());
+    return this.expireAt(this.options.clock.event());
   }
 
   /** Count rows the driver could not decode (dead-lettered), for the metrics surface. */

@@ -21,7 +21,7 @@ function sample() {
   for (let i = 0; i < 500; i++) ensemble.scoreTrain(row, 0, gen.next(row, 0), v);
   const session = { kind: 'test-session', version: 1, state: { ensemble: ensemble.snapshot(), rows: 500 } };
   return runCheckpoint(
-    { decoder: { classes: ['0', '1'] }, session },
+    { decoder: { classes: ['0', '1'] }, session, labelTiming: null },
     {
       shoal: '0.1.0',
       fingerprint: configFingerprint({ seed: 5 }),

@@ -6,7 +6,7 @@ import { Rng } from '../../src/core/index.js';
 import { FileCheckpointStore } from '../../src/files/index.js';
 import { FrameDecoder } from '../../src/frames/index.js';
 import { type LabelCounts, parseJournal, type SummaryRecord } from '../../src/journal/index.js';
-import { type JournalSink, LearningSession, resolveConfig } from '../../src/pipeline/index.js';
+import { EventClock, type JournalSink, LearningSession, resolveConfig } from '../../src/pipeline/index.js';
 import { buildStream, take } from '../../src/streams/index.js';
 import { scratch, shoal } from '../support/cli.js';
 import { note } from '../support/note.js';
@@ -58,17 +58,13 @@ async function replayed(events: string, timing: LabelTiming, raw: object = {}): 
   const config = resolveConfig({ ...raw, inputs: { id: 'id', exclude: ['t', 'known'] } }, 'test');
   const decoder = new FrameDecoder({ label: 'label', id: 'id', exclude: ['t', 'known'] });
   const journal: JournalSink = { write: () => {}, flush: async () => {} };
-  const session = new LearningSession({
-    config,
-    source: events,
-    journal,
-    clock: { monotonic: () => 0, wall: () => 0 },
-    version: 'test',
-  });
+  const clock = new EventClock({ monotonic: () => 0, wall: () => 0 });
+  const session = new LearningSession({ config, source: events, journal, clock, version: 'test' });
   await feed({
     file: events,
     decoder,
     session,
+    clock,
     timing,
     time: null,
     carryFeatures: false,
@@ -233,21 +229,94 @@ describe('replay with late labels', () => {
       expect(session.counts.scored - session.counts.trained).toBeGreaterThan(0);
       const resumed = await shoal('replay', ...run, '--resume', cut);
       expect(resumed.err).toBe('');
-      // The session as it ends, but for what the wall clock decides (when each prediction was served,
-      // how long each label took): the model, the evaluation, the counts and the pending store compared.
-      const final = async (d: string) => {
-        const session = (await new FileCheckpointStore(d).latest())!.checkpoint.state.session as {
-          pending: Record<string, unknown>;
-          counts: Record<string, unknown>;
-        };
-        const { times: _t, ...pending } = session.pending;
-        const { delaySeconds: _d, ...counts } = session.counts;
-        return JSON.stringify({ ...session, pending, counts, labelDelays: null });
-      };
+      // The session as it ends, whole: the model, the evaluation, the counts, the pending store with the
+      // time each prediction was served and the label delays (the stream's time, not the wall clock's).
+      const final = async (d: string) =>
+        JSON.stringify((await new FileCheckpointStore(d).latest())!.checkpoint.state.session);
       expect(await final(cut)).toBe(await final(whole));
       const labels = (r: string) => (JSON.parse(r) as { labels: LabelCounts }).labels;
       expect(labels(resumed.out)).toEqual(labels(uninterrupted.out));
       expect(labels(resumed.out).joined).toBe(ROWS);
+    },
+  );
+
+  /**
+   * Fields that are wall-clock metadata, and only those, may differ between two replays of one file:
+   * when a checkpoint was written (`createdAt`, and so the header's byte count and checksum), when the
+   * run started (the run record's `startedAt`) and how fast it went (the summary's `seconds` and
+   * `rowsPerSecond`).
+   */
+  const WALL_CLOCK_FIELDS = ['createdAt', 'startedAt', 'seconds', 'rowsPerSecond'] as const;
+  const withoutWallClock = (value: Record<string, unknown>): string =>
+    JSON.stringify(value, (key, v) =>
+      (WALL_CLOCK_FIELDS as readonly string[]).includes(key) ? undefined : v,
+    );
+
+  it.each([
+    // Without --time the stream's time is the row number, one row a second: 8,000 rows > 7,000 s.
+    ['--label-delay', () => ['--label-delay', '8000']],
+    [
+      '--labels with --label-time',
+      (d: Recorded) => ['--time', 't', '--labels', d.labels, '--label-time', 'known'],
+    ],
+  ] as const)(
+    'two replays with late labels (%s) write byte-identical checkpoints and journals, but for wall-clock metadata',
+    async (_, timing) => {
+      const dir = await scratch();
+      const data = await recorded(dir);
+      // An age bound the late labels exceed: predictions expire on the stream's time, the same each run.
+      const config = join(dir, 'aged.yaml');
+      await writeFile(config, 'inputs:\n  exclude: [known]\nlabels:\n  maxAgeSeconds: 7000\n');
+      const run = async (name: string) => {
+        const out = join(dir, name);
+        const r = await shoal(
+          'replay',
+          data.events,
+          '--config',
+          config,
+          '--id',
+          'id',
+          ...timing(data),
+          '--members',
+          '3',
+          '--checkpoint',
+          out,
+          '--checkpoint-every',
+          '3000',
+          '--journal',
+          `${out}.ndjson`,
+          '--json',
+        );
+        expect(r.err).toBe('');
+        const files = (await readdir(out)).sort();
+        const checkpoints = await Promise.all(
+          files.map(async (f) => {
+            const [header, body] = (await readFile(join(out, f), 'utf8')).split('\n', 2);
+            expect(header).toMatch(/^shoal-checkpoint /);
+            return withoutWallClock(JSON.parse(body!) as Record<string, unknown>);
+          }),
+        );
+        const journal = (await readFile(`${out}.ndjson`, 'utf8'))
+          .trim()
+          .split('\n')
+          .map((line) => withoutWallClock(JSON.parse(line) as Record<string, unknown>));
+        return { files, checkpoints, journal, summary: JSON.parse(r.out) as { labels: LabelCounts } };
+      };
+      const first = await run('first');
+      const second = await run('second');
+      expect(second.files).toEqual(first.files);
+      expect(first.checkpoints).toHaveLength(3);
+      for (let k = 0; k < first.checkpoints.length; k++)
+        expect(second.checkpoints[k]).toBe(first.checkpoints[k]);
+      expect(second.journal).toEqual(first.journal);
+      // Predictions did wait and expire by the stream's time, and labels were delayed by it.
+      const labels = first.summary.labels;
+      expect(labels.expiredPredictions).toBeGreaterThan(0);
+      expect(labels.late).toBeGreaterThan(0);
+      const state = JSON.parse(first.checkpoints.at(-1)!) as {
+        state: { session: { counts: { delaySeconds: number } } };
+      };
+      expect(state.state.session.counts.delaySeconds).toBeGreaterThan(1000);
     },
   );
 });

@@ -108,6 +108,21 @@ describe('replay --resume', () => {
     expect(other.err).toMatch(/checkpoint-\d+\.shoal was written by a run with another configuration/);
   });
 
+  it('refuses a resume given other label timing options, naming them as given first and now', async () => {
+    const ck = join(await scratch(), 'ck');
+    const first = ['--ensemble', 'bagging', '--members', '2', '--checkpoint-every', '5000'];
+    expect((await shoal('replay', data, ...first, '--label-delay', '100', '--checkpoint', ck)).code).toBe(0);
+    const other = await shoal('replay', data, ...first, '--label-delay', '200', '--resume', ck);
+    expect(other.code).toBe(2);
+    expect(other.err).toMatch(
+      /checkpoint-\d+\.shoal was written by a run with other label timing options \(--label-delay 100; this run: --label-delay 200\)/,
+    );
+    const inline = await shoal('replay', data, ...first, '--resume', ck);
+    expect(inline.err).toMatch(/\(--label-delay 100; this run: inline labels, no --time\)/);
+    const same = await shoal('replay', data, ...first, '--label-delay', '100', '--resume', ck);
+    expect(same.err).toBe('');
+  });
+
   it('refuses what cannot be checkpointed or resumed, saying why', async () => {
     const empty = join(await scratch(), 'none');
     expect((await shoal('replay', data, '--resume', empty)).err).toMatch(/holds no checkpoint to go on from/);

@@ -7,7 +7,7 @@ import { FileCheckpointStore, readCheckpointFile } from '../../src/files/index.j
 
 const checkpoint = (rows: number): RunCheckpoint =>
   runCheckpoint(
-    { decoder: {}, session: { kind: 'test-session', version: 1, state: { rows } } },
+    { decoder: {}, session: { kind: 'test-session', version: 1, state: { rows } }, labelTiming: null },
     {
       shoal: '0.1.0',
       fingerprint: 'f'.repeat(64),

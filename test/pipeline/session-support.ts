@@ -16,6 +16,8 @@ export function manualClock(start = Date.UTC(2026, 11, 1)): Clock & { wallNow: n
     wallNow: start,
     monotonic: () => (t += 1),
     wall: () => clock.wallNow,
+    // Live serving: the session's time is the wall clock.
+    event: () => clock.wallNow,
   };
   return clock;
 }
