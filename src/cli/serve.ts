@@ -163,6 +163,14 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     log,
     async (assignment) => {
       models.telemetry.keepLag(assignment.streams);
+      if (endpoint !== null) {
+        try {
+          for (const l of await consumer.lag(assignment.streams))
+            models.telemetry.setLag(l.topic, l.partition, l.lag);
+        } catch (e) {
+          log.debug({ error: (e as Error).message }, 'could not read the lag of the assigned partitions');
+        }
+      }
       for (const stream of models.keepOnly(assignment.streams)) {
         log.info({ stream }, 'partition revoked; its session is dropped (its outputs were committed)');
       }

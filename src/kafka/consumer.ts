@@ -102,6 +102,34 @@ export class EventConsumer {
     return groups[0]?.members.length ?? 0;
   }
 
+  /**
+   * The lag of `topic/partition` streams as the brokers see it: the high watermark minus the group's
+   * committed offset (or, with none committed, where the group would start). Used on assignment, before
+   * any batch of a partition arrives; after that each batch carries its own.
+   */
+  async lag(streams: readonly string[]): Promise<{ topic: string; partition: number; lag: number }[]> {
+    const out: { topic: string; partition: number; lag: number }[] = [];
+    const topics = new Map<string, number[]>();
+    for (const stream of streams) {
+      const at = stream.lastIndexOf('/');
+      const topic = stream.slice(0, at);
+      topics.set(topic, [...(topics.get(topic) ?? []), Number(stream.slice(at + 1))]);
+    }
+    for (const [topic, partitions] of topics) {
+      const ends = await this.admin.fetchTopicOffsets(topic);
+      const [committed] = await this.admin.fetchOffsets({ groupId: this.settings.group, topics: [topic] });
+      for (const partition of partitions) {
+        const end = ends.find((e) => e.partition === partition);
+        if (end === undefined) continue;
+        const done = committed?.partitions.find((c) => c.partition === partition)?.offset ?? '-1';
+        const start = this.settings.events.fromBeginning ? end.low : end.high;
+        const next = BigInt(done === '-1' ? start : done);
+        out.push({ topic, partition, lag: Math.max(0, Number(BigInt(end.high) - next)) });
+      }
+    }
+    return out;
+  }
+
   /** Connect (before `members()` or `start()`). */
   async connect(): Promise<void> {
     await this.admin.connect();
