@@ -28,17 +28,23 @@ import {
 export interface ScoreRows {
   /** Row r of these scores is row `first + r` of the frame scored (of `ids` and `eventTimes`). */
   readonly first: number;
+  /** Rows scored. */
   readonly rows: number;
   /** Class names, index = class code (the probabilities' stride is their count, at least 1). */
   readonly classes: readonly string[];
+  /** The frame's event ids, or null when it has none. */
   readonly ids: readonly string[] | null;
   /** rows × stride, row-major. */
   readonly probabilities: Float64Array;
+  /** Predicted class code per row. */
   readonly predicted: Int32Array;
+  /** Share of voting members that agree with the prediction, per row. */
   readonly agreement: Float64Array;
+  /** Members that voted, per row. */
   readonly voters: Int32Array;
+  /** Model epoch (seat replacements so far) that served each row. */
   readonly epoch: Int32Array;
-  /** When the rows were scored (ms since 1970). */
+  /** The session's time (`Clock.event`, ms) at which the rows were scored. */
   readonly scoredAt: number;
 }
 

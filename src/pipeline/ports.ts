@@ -1,5 +1,5 @@
 import type { SeatView } from '../ensembles/index.js';
-import type { Frame, Rejection } from '../frames/index.js';
+import type { Frame, Rejection, ScoreRows } from '../frames/index.js';
 import type { JournalRecord, LabelCounts, LifecycleCause } from '../journal/index.js';
 
 /**
@@ -56,27 +56,10 @@ export interface LabelSource {
 
 /**
  * The scores of one batch, in buffers the session reuses: valid until its next `score` call. Row r's
- * class probabilities are `probabilities[r × classes … (r + 1) × classes)`.
+ * class probabilities are `probabilities[r × classes … (r + 1) × classes)`. The fields are those of
+ * `ScoreRows` (defined beside the Arrow encoder of scores, which frames/ owns).
  */
-export interface ScoreBatch {
-  /** Row r of the batch is row `first + r` of the frame scored (and of `ids`). */
-  readonly first: number;
-  readonly rows: number;
-  /** Class names, index = class code. */
-  readonly classes: readonly string[];
-  /** The frame's event ids (row r of the batch has id `ids[first + r]`), or null when it has none. */
-  readonly ids: readonly string[] | null;
-  readonly probabilities: Float64Array;
-  readonly predicted: Int32Array;
-  /** Share of voting members that agree with the prediction, per row. */
-  readonly agreement: Float64Array;
-  /** Members that voted, per row. */
-  readonly voters: Int32Array;
-  /** Model epoch (seat replacements so far) that served each row. */
-  readonly epoch: Int32Array;
-  /** The session's time (`Clock.event`, ms) at which the batch was scored. */
-  readonly scoredAt: number;
-}
+export type ScoreBatch = ScoreRows;
 
 /** Where scores go (a scores topic, a file). `flush` resolves when everything written is durable. */
 export interface ScoreSink {

@@ -5,12 +5,11 @@ import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import { Rng } from '../../src/core/index.js';
 import { scratch, shoal } from '../support/cli.js';
-import { kafkaSection, serveTopics } from '../support/kafka-config.js';
+import { createServeTopics, kafkaSection, serveTopics } from '../support/kafka-config.js';
 import { arrowMessage, eventTable, seaEvents } from '../support/kafka-events.js';
 import {
   client,
   countScoreRows,
-  createTopics,
   killServes,
   produce,
   readTopic,
@@ -28,7 +27,7 @@ describe('shoal serve on a real broker', () => {
   it('scores 50,000 Arrow events with inline labels exactly as replay does, and exits 0 on SIGTERM having committed', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();
-    await createTopics(brokers, { [t.events]: 1, [t.scores]: 1, [t.dead]: 1, [t.journal]: 1 });
+    await createServeTopics(brokers, t);
     const rows = 50_000;
     const per = 500;
     const events = seaEvents(rows, 5);
@@ -92,13 +91,7 @@ describe('shoal serve on a real broker', () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();
     const labelsTopic = `${t.events}-labels`;
-    await createTopics(brokers, {
-      [t.events]: 1,
-      [labelsTopic]: 1,
-      [t.scores]: 1,
-      [t.dead]: 1,
-      [t.journal]: 1,
-    });
+    await createServeTopics(brokers, t, 1, [labelsTopic]);
     const rows = 50_000;
     const round = 2_000;
     const events = seaEvents(rows, 9);

@@ -5,11 +5,10 @@ import type { Message } from 'kafkajs';
 import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import { scratch } from '../support/cli.js';
-import { kafkaSection, serveTopics } from '../support/kafka-config.js';
+import { createServeTopics, kafkaSection, serveTopics } from '../support/kafka-config.js';
 import { arrowMessage, seaEvents } from '../support/kafka-events.js';
 import {
   countScoreRows,
-  createTopics,
   killServes,
   produce,
   readTopic,
@@ -79,7 +78,7 @@ describe('dead letters', () => {
   it('routes 50 malformed messages of 8 kinds to the dead-letter topic with their reasons and scores the 950 good events', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();
-    await createTopics(brokers, { [t.events]: 1, [t.scores]: 1, [t.dead]: 1, [t.journal]: 1 });
+    await createServeTopics(brokers, t);
     const events = seaEvents(950, 21);
     const bad = badMessages();
     expect(bad.length).toBe(50);

@@ -7,8 +7,8 @@ import { promisify } from 'node:util';
 import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import { scratch } from '../support/cli.js';
-import { kafkaSection, serveTopics } from '../support/kafka-config.js';
-import { createTopics, killServes, readTopic, ServeProcess } from '../support/kafka-serve.js';
+import { createServeTopics, kafkaSection, serveTopics } from '../support/kafka-config.js';
+import { killServes, readTopic, ServeProcess } from '../support/kafka-serve.js';
 
 const run = promisify(execFile);
 const repo = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
@@ -23,7 +23,7 @@ describe('an outside client', () => {
   it('has its zstd-compressed Arrow events (librdkafka, pyarrow) scored, and reads the scores back with pyarrow', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();
-    await createTopics(brokers, { [t.events]: 1, [t.scores]: 1, [t.dead]: 1, [t.journal]: 1 });
+    await createServeTopics(brokers, t);
     await run(python, [script, 'produce', brokers, t.events, '1000', '4']);
 
     const dir = await scratch();
@@ -73,7 +73,7 @@ describe('an outside client', () => {
   it('exits 1 with a message naming the codec when a batch is compressed with one it cannot decode (snappy)', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();
-    await createTopics(brokers, { [t.events]: 1, [t.scores]: 1, [t.dead]: 1, [t.journal]: 1 });
+    await createServeTopics(brokers, t);
     await run(python, [script, 'produce', brokers, t.events, '100', '4', 'snappy']);
     const config = join(await scratch(), 'shoal.yaml');
     await writeFile(

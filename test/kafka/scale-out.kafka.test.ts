@@ -4,11 +4,10 @@ import type { Message } from 'kafkajs';
 import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import { scratch } from '../support/cli.js';
-import { kafkaSection, type ServeTopics, serveTopics } from '../support/kafka-config.js';
+import { createServeTopics, kafkaSection, type ServeTopics, serveTopics } from '../support/kafka-config.js';
 import { arrowMessage, type Events, seaEvents } from '../support/kafka-events.js';
 import {
   countScoreRows,
-  createTopics,
   killServes,
   produce,
   readTopic,
@@ -52,7 +51,7 @@ describe('scale-out by partition', () => {
   it('splits a 4-partition topic between two instances, and the survivor of a SIGTERM scores everything', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();
-    await createTopics(brokers, { [t.events]: 4, [t.scores]: 1, [t.dead]: 1, [t.journal]: 1 });
+    await createServeTopics(brokers, t, 4);
     const events = seaEvents(8000, 13);
     const path = await config(brokers, t, 'partition');
     const a = new ServeProcess(path);
@@ -84,7 +83,7 @@ describe('scale-out by partition', () => {
   it('refuses a second instance in the same group when the scope is global', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();
-    await createTopics(brokers, { [t.events]: 2, [t.scores]: 1, [t.dead]: 1, [t.journal]: 1 });
+    await createServeTopics(brokers, t, 2);
     const path = await config(brokers, t, 'global');
     const first = new ServeProcess(path);
     await first.waitFor('serving');

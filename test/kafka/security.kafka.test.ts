@@ -4,16 +4,9 @@ import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import { scratch } from '../support/cli.js';
 import { SASL_PASSWORD, SASL_USER } from '../support/kafka-broker.js';
-import { kafkaSection, serveTopics } from '../support/kafka-config.js';
+import { createServeTopics, kafkaSection, serveTopics } from '../support/kafka-config.js';
 import { arrowMessage, seaEvents } from '../support/kafka-events.js';
-import {
-  countScoreRows,
-  createTopics,
-  killServes,
-  produce,
-  readTopic,
-  ServeProcess,
-} from '../support/kafka-serve.js';
+import { countScoreRows, killServes, produce, readTopic, ServeProcess } from '../support/kafka-serve.js';
 import { freePort } from '../support/prometheus.js';
 
 describe('SASL and secrets', () => {
@@ -25,7 +18,7 @@ describe('SASL and secrets', () => {
       if (sasl === '') return; // KAFKA_BROKERS names an outside cluster: the harness's SASL user is not there.
       const brokers = inject('kafkaBrokers');
       const t = serveTopics();
-      await createTopics(brokers, { [t.events]: 1, [t.scores]: 1, [t.dead]: 1, [t.journal]: 1 });
+      await createServeTopics(brokers, t);
       const events = seaEvents(500, 31);
       await produce(brokers, t.events, [{ value: arrowMessage(events, 0, 500) }]);
       const config = join(await scratch(), 'shoal.yaml');

@@ -4,9 +4,9 @@ import type { Message } from 'kafkajs';
 import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import { scratch } from '../support/cli.js';
-import { kafkaSection, serveTopics } from '../support/kafka-config.js';
+import { createServeTopics, kafkaSection, serveTopics } from '../support/kafka-config.js';
 import { arrowMessage, seaEvents } from '../support/kafka-events.js';
-import { client, createTopics, killServes, produce, ServeProcess } from '../support/kafka-serve.js';
+import { client, killServes, produce, ServeProcess } from '../support/kafka-serve.js';
 import { eventually, freePort, promtoolCheckMetrics } from '../support/prometheus.js';
 
 /**
@@ -39,7 +39,7 @@ describe('serve telemetry', () => {
   it('is not ready until the consumer joins, then scrapes pass promtool with events scored and lag per partition', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();
-    await createTopics(brokers, { [t.events]: 2, [t.scores]: 1, [t.dead]: 1, [t.journal]: 1 });
+    await createServeTopics(brokers, t, 2);
 
     // A member of the same group that stays inside its batch handler (no heartbeat, no rejoin) and
     // commits nothing: the group cannot finish a rebalance while it holds out, so the service cannot

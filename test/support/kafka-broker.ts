@@ -122,6 +122,12 @@ export class KafkaBroker {
       { stdio: ['ignore', 'pipe', 'pipe'] },
     );
     this.child = child;
+    // A test process that ends (a timeout, a crash) must not leave a JVM behind.
+    const orphan = (): void => {
+      child.kill('SIGKILL');
+    };
+    process.once('exit', orphan);
+    child.once('exit', () => process.off('exit', orphan));
     child.stderr!.pipe(this.log, { end: false });
     await new Promise<void>((done, fail) => {
       let tail = '';

@@ -1,4 +1,5 @@
 import { uniqueName } from './kafka-names.js';
+import { createTopics } from './kafka-serve.js';
 
 /** Topic and group names for one `serve` test. */
 export interface ServeTopics {
@@ -38,4 +39,21 @@ export function kafkaSection(
     log: { level: 'debug' },
     ...extra,
   };
+}
+
+/** Create one serve test's topics: events (with `partitions`), scores, dead letters, journal, and `more`. */
+export async function createServeTopics(
+  brokers: string,
+  t: ServeTopics,
+  partitions = 1,
+  more: readonly string[] = [],
+): Promise<void> {
+  const topics: Record<string, number> = {
+    [t.events]: partitions,
+    [t.scores]: 1,
+    [t.dead]: 1,
+    [t.journal]: 1,
+  };
+  for (const topic of more) topics[topic] = 1;
+  await createTopics(brokers, topics);
 }
