@@ -1,7 +1,13 @@
-import { ShoalError } from '../core/index.js';
-import { readFrames } from '../files/index.js';
-import { type Decoded, describeRow, type Frame, FrameDecoder, type Rejection } from '../frames/index.js';
-import type { DeadLetter, EventClock, LearningSession } from '../pipeline/index.js';
+import { FileSource, readFrames } from '../files/index.js';
+import {
+  type Decoded,
+  describeRow,
+  type Frame,
+  FrameDecoder,
+  type FrameFormat,
+  type Rejection,
+} from '../frames/index.js';
+import type { DeadLetter, EventClock, LearningSession, SourceBatch } from '../pipeline/index.js';
 import { LabelQueue } from './label-queue.js';
 import { Pacer } from './pacer.js';
 
@@ -36,6 +42,8 @@ export type LabelTiming =
 
 export interface FeedOptions {
   readonly file: string;
+  /** The file's format when its extension does not say. */
+  readonly format?: FrameFormat;
   readonly decoder: FrameDecoder;
   readonly session: LearningSession;
   /** The session's clock, moved on to the stream's time as rows are scored. */
@@ -48,6 +56,8 @@ export interface FeedOptions {
   /** `keep`: undecodable rows go to `deadLetter`; `throw`: the first stops the run. */
   readonly rejects: 'throw' | 'keep';
   readonly deadLetter: (letter: DeadLetter) => void;
+  /** Called once the schema is known, before the first row is scored. */
+  readonly beforeScoring?: () => void;
   /**
    * Where a resumed run goes on: the rows before this position were consumed before the checkpoint it
    * resumes from, and are skipped. A checkpoint is taken between batches, and a file is cut into the same
@@ -80,7 +90,8 @@ export async function feed(o: FeedOptions): Promise<void> {
     }
   };
   const columns = [o.time, timing.kind === 'delay-column' ? timing.column : null];
-  const extra = columns.some((c) => c !== null) ? new ColumnReader(o.file, columns) : null;
+  const format = o.format === undefined ? {} : { format: o.format };
+  const extra = columns.some((c) => c !== null) ? new ColumnReader(o.file, columns, format) : null;
   const byTime = timing.kind === 'delay-column' || (timing.kind === 'file' && timing.time !== null);
   let now = Number.NEGATIVE_INFINITY;
   let queue: LabelQueue | null = null;
@@ -141,36 +152,33 @@ export async function feed(o: FeedOptions): Promise<void> {
     return moment;
   };
 
-  let consumed = 0n;
   const from = o.from ?? 0n;
   // Rows counted again on the way to a resume position (they were scored before the checkpoint).
   let recounted = 0;
+  const events = new FileSource(o.file, decoder, o.rejects, o.format);
   try {
-    for await (const batch of readFrames(o.file, decoder, { rejects: o.rejects })) {
-      const size = BigInt(batch.frame.rows + batch.rejected.length);
-      const frame = batch.frame;
-      if (consumed + size <= from) {
-        consumed += size;
+    // A resumed run reads the rows before its checkpoint once more, when they hold what it needs:
+    // labels held back then are held again (those already joined by then, due by that moment, dropped),
+    // and the stream's time goes on from the latest reached.
+    if (from > 0n && (timing.kind !== 'inline' || o.time !== null)) {
+      for await (const batch of events.open(new Map())) {
+        if (batch.next > from) break;
+        const frame = batch.frame;
         if (timing.kind === 'inline') {
-          if (o.time !== null) o.clock.reach(await batchTime(frame, 0));
+          o.clock.reach(await batchTime(frame, 0));
           continue;
         }
-        // Labels held back when the checkpoint was taken are held again: the rows before it are read
-        // once more, their labels queued, and those already joined by then (due by that moment) dropped.
         const prepared = await prepare(frame, recounted);
         for (let r = 0; r < frame.rows; r++) {
           o.clock.reach(rowTime(prepared.values, r, ++recounted));
           prepared.queue.drop(await hold(frame, r, recounted, prepared, true));
         }
-        continue;
       }
-      if (consumed < from) {
-        throw new ShoalError(
-          'invalid-snapshot',
-          `${o.file}: the checkpoint goes on at row ${from}, inside the batch of rows ${consumed}–${consumed + size - 1n}: is this the file the run was started on?`,
-        );
-      }
-      refuse(o.file, batch.rejected);
+    }
+    for await (const batch of events.open(new Map([[o.file, from]]))) {
+      const frame = batch.frame;
+      refuse(batch.stream, batch.rejected);
+      o.beforeScoring?.();
       if (timing.kind === 'inline') {
         o.clock.reach(await batchTime(frame, session.scored));
         for (const [from, to] of pacer.ranges(frame.rows)) {
@@ -192,15 +200,8 @@ export async function feed(o: FeedOptions): Promise<void> {
         scored(frame.rows, (clock() - started) / 1000);
         await pacer.wait(frame.rows);
       }
-      consumed += size;
-      session.advance(o.file, consumed);
+      session.advance(batch.stream, batch.next);
       await o.afterBatch();
-    }
-    if (consumed < from) {
-      throw new ShoalError(
-        'invalid-snapshot',
-        `${o.file}: holds ${consumed} rows, but the checkpoint goes on at row ${from}: is this the file the run was started on?`,
-      );
     }
     const last = queue as LabelQueue | null;
     if (last !== null) {
@@ -226,14 +227,14 @@ class ColumnReader {
   private readonly slots: readonly number[];
 
   /** `columns[k]` null leaves slot k of each row NaN. */
-  constructor(path: string, columns: readonly (string | null)[]) {
+  constructor(path: string, columns: readonly (string | null)[], format: { readonly format?: FrameFormat }) {
     this.width = columns.length;
     const named = columns.filter((c): c is string => c !== null);
     const decoder = new FrameDecoder(
       { label: null, features: named.map((name) => ({ name, kind: 'numeric' as const })) },
       path,
     );
-    this.frames = readFrames(path, decoder, { rejects: 'keep' })[Symbol.asyncIterator]();
+    this.frames = readFrames(path, decoder, { rejects: 'keep', ...format })[Symbol.asyncIterator]();
     this.slots = columns.map((c) => (c === null ? -1 : named.indexOf(c)));
   }
 
@@ -288,7 +289,7 @@ class ColumnReader {
  */
 class LabelReader {
   private readonly path: string;
-  private readonly frames: AsyncIterator<Decoded>;
+  private readonly frames: AsyncIterator<SourceBatch>;
   private readonly refuse: (stream: string, rejected: readonly Rejection[]) => void;
   private readonly deadLetter: (letter: DeadLetter) => void;
   private readonly timed: boolean;
@@ -322,7 +323,7 @@ class LabelReader {
       },
       timing.path,
     );
-    this.frames = readFrames(timing.path, decoder, { rejects })[Symbol.asyncIterator]();
+    this.frames = new FileSource(timing.path, decoder, rejects).open(new Map())[Symbol.asyncIterator]();
     this.refuse = refuse;
     this.deadLetter = deadLetter;
   }

@@ -76,11 +76,19 @@ function telemetrySettings(raw: unknown): ServeConfig['telemetry'] {
   const section = raw as Record<string, unknown>;
   const issues: ConfigIssue[] = [];
   if (typeof raw !== 'object' || Array.isArray(raw)) {
-    issues.push({ path: 'telemetry', message: 'expected a mapping with listen: HOST:PORT' });
+    issues.push({
+      path: 'telemetry',
+      code: 'wrong-type',
+      message: 'expected a mapping with listen: HOST:PORT',
+    });
   } else {
     for (const key of Object.keys(section)) {
       if (key !== 'listen')
-        issues.push({ path: `telemetry.${key}`, message: 'unknown setting (known: listen)' });
+        issues.push({
+          path: `telemetry.${key}`,
+          code: 'unknown-setting',
+          message: 'unknown setting (known: listen)',
+        });
     }
   }
   let listen: { host: string; port: number } | null = null;
@@ -89,7 +97,11 @@ function telemetrySettings(raw: unknown): ServeConfig['telemetry'] {
       listen = parseListen(String(section.listen), 'telemetry.listen');
     } catch (e) {
       if (!(e instanceof ShoalError)) throw e;
-      issues.push({ path: 'telemetry.listen', message: e.message.replace(/^telemetry\.listen: /, '') });
+      issues.push({
+        path: 'telemetry.listen',
+        code: 'wrong-type',
+        message: e.message.replace(/^telemetry\.listen: /, ''),
+      });
     }
   }
   if (issues.length > 0) throw new ConfigError('telemetry', issues);
@@ -117,12 +129,14 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
     if (run.inputs.id === null) {
       issues.push({
         path: 'inputs.id',
+        code: 'required',
         message: 'late labels (kafka.labels) are joined by id: name the id column',
       });
     }
     if (kafka.scope === 'partition') {
       issues.push({
         path: 'kafka.labels',
+        code: 'conflict',
         message:
           'late labels need scope global: with scope partition a label could reach an instance that does not hold its prediction',
       });
