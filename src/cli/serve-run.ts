@@ -13,6 +13,7 @@ import {
   type TopicOutputs,
 } from '../kafka/index.js';
 import { LearningSession, liveClock, type RunConfig } from '../pipeline/index.js';
+import { ServeTelemetry, SessionTelemetry } from '../telemetry/index.js';
 
 /** Rows per scores message: about 60 bytes a row (two classes), far below the broker's 1 MiB limit. */
 const SCORE_ROWS_PER_MESSAGE = 4096;
@@ -25,6 +26,8 @@ const SCORE_ROWS_PER_MESSAGE = 4096;
  * output messages of that batch. One session per scope key: `global`, or one per `topic/partition`.
  */
 export class ServeModels {
+  /** What the telemetry endpoint reads: every session's metrics, dead letters and lag. */
+  readonly telemetry = new ServeTelemetry();
   private readonly states = new Map<string, ScopeState>();
 
   constructor(
@@ -63,6 +66,7 @@ export class ServeModels {
       }
     }
     if (dead.length > 0) state.session.reject(dead.length);
+    for (const d of dead) this.telemetry.deadLettered(d.code);
     return { outputs: this.outputs(key, state, scores, dead), scored, dead };
   }
 
@@ -70,7 +74,10 @@ export class ServeModels {
   keepOnly(streams: readonly string[]): string[] {
     if (this.settings.scope === 'global') return [];
     const dropped = [...this.states.keys()].filter((key) => !streams.includes(key));
-    for (const key of dropped) this.states.delete(key);
+    for (const key of dropped) {
+      this.states.delete(key);
+      this.telemetry.drop(key);
+    }
     return dropped;
   }
 
@@ -122,6 +129,7 @@ export class ServeModels {
     if (state === undefined) {
       const decoder = new FrameDecoder(this.frameOptions, 'inputs');
       const journal: JournalRecord[] = [];
+      let telemetry: SessionTelemetry | null = null;
       state = {
         decoder,
         events: new BatchDecoder(decoder, this.settings.events.format, this.settings.events.maxMessageBytes),
@@ -130,7 +138,10 @@ export class ServeModels {
           config: this.config,
           source: `kafka:${this.settings.events.topics.join(',')}${key === 'global' ? '' : ` ${key}`}`,
           journal: {
-            write: (r) => journal.push(r),
+            write: (r) => {
+              telemetry?.record(r);
+              journal.push(r);
+            },
             flush: async () => undefined,
           },
           clock: liveClock({ monotonic: () => performance.now(), wall: () => Date.now() }),
@@ -138,6 +149,8 @@ export class ServeModels {
         }),
         journal,
       };
+      telemetry = SessionTelemetry.of(state.session, { checkpoints: false, wall: () => Date.now() });
+      this.telemetry.add(key, telemetry);
       this.states.set(key, state);
     }
     return state;

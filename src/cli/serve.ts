@@ -1,7 +1,7 @@
 import { once } from 'node:events';
 import { createWriteStream, type WriteStream } from 'node:fs';
 import { stringify } from 'yaml';
-import { ConfigError, type ConfigIssue } from '../core/index.js';
+import { ConfigError, type ConfigIssue, ShoalError } from '../core/index.js';
 import { DEFAULT_LABEL, type FrameOptions } from '../frames/index.js';
 import {
   createKafka,
@@ -13,6 +13,7 @@ import {
   resolveKafkaSettings,
 } from '../kafka/index.js';
 import { type RunConfig, resolveConfig } from '../pipeline/index.js';
+import { parseListen, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text } from './args.js';
 import { readConfigFile } from './config-file.js';
 import { frameOptions } from './replay.js';
@@ -29,7 +30,8 @@ after a batch's outputs are acknowledged. SIGTERM or SIGINT: finish the batch in
 exit 0.
 
 Options:
-  --config FILE   shoal.yaml: the ensemble, evaluation and inputs settings, and a kafka: section
+  --config FILE   shoal.yaml: the ensemble, evaluation and inputs settings, a kafka: section, and
+                  optionally telemetry: { listen: HOST:PORT } for /metrics, /healthz, /readyz, /status
   --check         print the effective configuration, or every problem with its path, and exit`;
 
 export async function serve(args: readonly string[], terminal: Terminal): Promise<number> {
@@ -55,15 +57,55 @@ export async function serve(args: readonly string[], terminal: Terminal): Promis
     return 2;
   }
   if (parsed.values.check === true) {
-    terminal.out(stringify({ ...checked.run, kafka: checked.kafka }));
+    terminal.out(stringify({ ...checked.run, kafka: checked.kafka, telemetry: checked.telemetry }));
     return 0;
   }
-  return run(checked.run, checked.kafka, terminal);
+  return run(checked, terminal);
 }
 
 interface ServeConfig {
   readonly run: RunConfig;
   readonly kafka: KafkaSettings;
+  /** Where the telemetry endpoint listens; null: no endpoint. */
+  readonly telemetry: { readonly listen: { readonly host: string; readonly port: number } | null };
+}
+
+/** The `telemetry:` section: `listen: HOST:PORT` (or `:PORT`, loopback); absent, no endpoint. */
+function telemetrySettings(raw: unknown): ServeConfig['telemetry'] {
+  if (raw === undefined || raw === null) return { listen: null };
+  const section = raw as Record<string, unknown>;
+  const issues: ConfigIssue[] = [];
+  if (typeof raw !== 'object' || Array.isArray(raw)) {
+    issues.push({
+      path: 'telemetry',
+      code: 'wrong-type',
+      message: 'expected a mapping with listen: HOST:PORT',
+    });
+  } else {
+    for (const key of Object.keys(section)) {
+      if (key !== 'listen')
+        issues.push({
+          path: `telemetry.${key}`,
+          code: 'unknown-setting',
+          message: 'unknown setting (known: listen)',
+        });
+    }
+  }
+  let listen: { host: string; port: number } | null = null;
+  if (issues.length === 0 && section.listen !== undefined) {
+    try {
+      listen = parseListen(String(section.listen), 'telemetry.listen');
+    } catch (e) {
+      if (!(e instanceof ShoalError)) throw e;
+      issues.push({
+        path: 'telemetry.listen',
+        code: 'wrong-type',
+        message: e.message.replace(/^telemetry\.listen: /, ''),
+      });
+    }
+  }
+  if (issues.length > 0) throw new ConfigError('telemetry', issues);
+  return { listen };
 }
 
 /** Check the run settings, the kafka section and the secrets it names, collecting every problem. */
@@ -78,9 +120,10 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
       return null;
     }
   };
-  const { kafka: section, ...rest } = (raw ?? {}) as Record<string, unknown>;
+  const { kafka: section, telemetry: telemetrySection, ...rest } = (raw ?? {}) as Record<string, unknown>;
   const run = collect(() => resolveConfig(rest, source));
   const kafka = collect(() => resolveKafkaSettings(section, source));
+  const telemetry = collect(() => telemetrySettings(telemetrySection));
   if (kafka !== null) collect(() => readSecrets(kafka, process.env, source));
   if (run !== null && kafka !== null && kafka.labels !== null) {
     if (run.inputs.id === null) {
@@ -99,39 +142,72 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
       });
     }
   }
-  if (run === null || kafka === null || issues.length > 0) return { issues };
-  return { run, kafka };
+  if (run === null || kafka === null || telemetry === null || issues.length > 0) return { issues };
+  return { run, kafka, telemetry };
 }
 
-async function run(config: RunConfig, settings: KafkaSettings, terminal: Terminal): Promise<number> {
+async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
+  const { run: config, kafka: settings } = checked;
   const log = createLogger({ level: settings.log.level, pretty: process.stdout.isTTY === true });
   const secrets = readSecrets(settings, process.env, 'environment');
   const kafka = createKafka(settings, secrets, log);
   const journalFile: WriteStream | null =
     settings.journal.file === null ? null : createWriteStream(settings.journal.file, { flags: 'a' });
   const models = new ServeModels(config, settings, eventOptions(config), shoalVersion(), journalFile);
+  const listen = checked.telemetry.listen;
+  const endpoint =
+    listen === null
+      ? null
+      : new TelemetryServer(models.telemetry, {
+          ...listen,
+          version: shoalVersion(),
+          readiness: ['model', 'consumer'],
+        });
+  if (endpoint !== null) {
+    await endpoint.start();
+    // Serve has no model to load: each session builds its model from its first events' schema.
+    endpoint.setReady('model', true);
+    log.info({ host: endpoint.host, port: endpoint.port }, 'telemetry listening');
+  }
   const producer = new OutputProducer(kafka, log);
   let refusal: string | null = null;
-  const consumer = new EventConsumer(kafka, settings, log, async (assignment) => {
-    for (const stream of models.keepOnly(assignment.streams)) {
-      log.info({ stream }, 'partition revoked; its session is dropped (its outputs were committed)');
-    }
-    if (settings.scope === 'global' && !assignment.isLeader && (await consumer.members()) > 1) {
-      refusal = refuseSecond(settings);
-      void consumer.stop();
-    }
-  });
+  const consumer = new EventConsumer(
+    kafka,
+    settings,
+    log,
+    async (assignment) => {
+      models.telemetry.keepLag(assignment.streams);
+      if (endpoint !== null) {
+        try {
+          for (const l of await consumer.lag(assignment.streams))
+            models.telemetry.setLag(l.topic, l.partition, l.lag);
+        } catch (e) {
+          log.debug({ error: (e as Error).message }, 'could not read the lag of the assigned partitions');
+        }
+      }
+      for (const stream of models.keepOnly(assignment.streams)) {
+        log.info({ stream }, 'partition revoked; its session is dropped (its outputs were committed)');
+      }
+      if (settings.scope === 'global' && !assignment.isLeader && (await consumer.members()) > 1) {
+        refusal = refuseSecond(settings);
+        void consumer.stop();
+      }
+    },
+    (joined) => endpoint?.setReady('consumer', joined),
+  );
   await producer.connect();
   await consumer.connect();
   if (settings.scope === 'global' && (await consumer.members()) > 0) {
     terminal.err(`shoal serve: ${refuseSecond(settings)}\n`);
-    await Promise.all([consumer.stop(), producer.stop()]);
+    await Promise.all([consumer.stop(), producer.stop(), endpoint?.close()]);
     return 2;
   }
   let scored = 0;
   let dead = 0;
   await consumer.start(async (batch, control) => {
+    const began = performance.now();
     const handled = models.handle(batch);
+    if (handled.scored > 0) endpoint?.batch(handled.scored, (performance.now() - began) / 1000);
     for (const d of handled.dead) {
       log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
     }
@@ -142,6 +218,7 @@ async function run(config: RunConfig, settings: KafkaSettings, terminal: Termina
     });
     control.resume();
     if (delivered) {
+      models.telemetry.setLag(batch.topic, batch.partition, batch.lag);
       scored += handled.scored;
       dead += handled.dead.length;
     }
@@ -157,13 +234,13 @@ async function run(config: RunConfig, settings: KafkaSettings, terminal: Termina
   if ('crashed' in ended && ended.crashed) {
     log.error({ reason: ended.message }, 'the consumer crashed; exiting');
     terminal.err(`shoal serve: ${ended.message}\n`);
-    await Promise.all([consumer.stop(), producer.stop()]).catch(() => undefined);
+    await Promise.all([consumer.stop(), producer.stop(), endpoint?.close()]).catch(() => undefined);
     exitSoon(1);
     return 1;
   }
   if (refusal !== null) {
     terminal.err(`shoal serve: ${refusal}\n`);
-    await Promise.all([consumer.stop(), producer.stop()]).catch(() => undefined);
+    await Promise.all([consumer.stop(), producer.stop(), endpoint?.close()]).catch(() => undefined);
     return 2;
   }
   log.info(
@@ -182,6 +259,7 @@ async function run(config: RunConfig, settings: KafkaSettings, terminal: Termina
     await once(journalFile, 'finish');
   }
   await producer.stop();
+  await endpoint?.close();
   clearTimeout(deadline);
   log.info({ scored, deadLetters: dead }, 'stopped');
   exitSoon(0);

@@ -27,6 +27,8 @@ export interface FetchedBatch {
   readonly topic: string;
   readonly partition: number;
   readonly messages: readonly RawMessage[];
+  /** Messages left on the partition after this batch: its high watermark minus the next offset to read. */
+  readonly lag: number;
 }
 
 /** Handle one batch; resolve true once its outputs are acknowledged (then its offsets are committed). */
@@ -52,6 +54,8 @@ export class EventConsumer {
     private readonly settings: KafkaSettings,
     private readonly log: Logger,
     private readonly onAssign: (assignment: Assignment) => Promise<void>,
+    /** Told true when the consumer has joined its group, false on a rebalance, a crash or a stop. */
+    private readonly onMembership: (joined: boolean) => void = () => {},
   ) {
     this.consumer = kafka.consumer({
       groupId: settings.group,
@@ -69,8 +73,11 @@ export class EventConsumer {
     this.finished = new Promise((done) => {
       this.finish = done;
     });
-    const { CRASH, GROUP_JOIN } = this.consumer.events;
+    const { CRASH, GROUP_JOIN, REBALANCING, STOP } = this.consumer.events;
+    this.consumer.on(REBALANCING, () => this.onMembership(false));
+    this.consumer.on(STOP, () => this.onMembership(false));
     this.consumer.on(CRASH, ({ payload }) => {
+      this.onMembership(false);
       if (payload.restart) {
         this.log.debug({ error: payload.error.message }, 'consumer restarting after a retriable error');
         return;
@@ -82,6 +89,7 @@ export class EventConsumer {
         parts.map((p) => `${topic}/${p}`),
       );
       this.log.info({ streams, leader: payload.isLeader }, 'joined the group');
+      this.onMembership(true);
       this.onAssign({ streams, isLeader: payload.isLeader, memberId: payload.memberId }).catch((e: Error) =>
         this.finish({ crashed: true, message: e.message }),
       );
@@ -92,6 +100,34 @@ export class EventConsumer {
   async members(): Promise<number> {
     const { groups } = await this.admin.describeGroups([this.settings.group]);
     return groups[0]?.members.length ?? 0;
+  }
+
+  /**
+   * The lag of `topic/partition` streams as the brokers see it: the high watermark minus the group's
+   * committed offset (or, with none committed, where the group would start). Used on assignment, before
+   * any batch of a partition arrives; after that each batch carries its own.
+   */
+  async lag(streams: readonly string[]): Promise<{ topic: string; partition: number; lag: number }[]> {
+    const out: { topic: string; partition: number; lag: number }[] = [];
+    const topics = new Map<string, number[]>();
+    for (const stream of streams) {
+      const at = stream.lastIndexOf('/');
+      const topic = stream.slice(0, at);
+      topics.set(topic, [...(topics.get(topic) ?? []), Number(stream.slice(at + 1))]);
+    }
+    for (const [topic, partitions] of topics) {
+      const ends = await this.admin.fetchTopicOffsets(topic);
+      const [committed] = await this.admin.fetchOffsets({ groupId: this.settings.group, topics: [topic] });
+      for (const partition of partitions) {
+        const end = ends.find((e) => e.partition === partition);
+        if (end === undefined) continue;
+        const done = committed?.partitions.find((c) => c.partition === partition)?.offset ?? '-1';
+        const start = this.settings.events.fromBeginning ? end.low : end.high;
+        const next = BigInt(done === '-1' ? start : done);
+        out.push({ topic, partition, lag: Math.max(0, Number(BigInt(end.high) - next)) });
+      }
+    }
+    return out;
   }
 
   /** Connect (before `members()` or `start()`). */
@@ -121,8 +157,10 @@ export class EventConsumer {
     const topic = batch.topic;
     const partition = batch.partition;
     let resume: (() => void) | null = null;
+    const last = batch.lastOffset();
+    const lag = Number(BigInt(batch.highWatermark) - BigInt(last) - 1n);
     const delivered = await handle(
-      { topic, partition, messages: batch.messages as RawMessage[] },
+      { topic, partition, messages: batch.messages as RawMessage[], lag: Math.max(0, lag) },
       {
         heartbeat: () => payload.heartbeat(),
         pause: () => {
@@ -135,7 +173,6 @@ export class EventConsumer {
       },
     );
     if (!delivered) return;
-    const last = batch.lastOffset();
     payload.resolveOffset(last);
     await this.consumer.commitOffsets([{ topic, partition, offset: (BigInt(last) + 1n).toString() }]);
   }

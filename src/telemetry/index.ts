@@ -1,4 +1,5 @@
 export { Buckets } from './buckets.js';
+export { ServeTelemetry } from './combined.js';
 export type { MetricsOptions } from './metrics.js';
 export { ShoalMetrics } from './metrics.js';
 export type { TelemetryOptions } from './server.js';

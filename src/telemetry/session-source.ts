@@ -4,6 +4,7 @@ import type { LearningSession, SessionMetrics } from '../pipeline/index.js';
 import {
   DEAD_LETTER_REASONS,
   type DeadLetterReason,
+  deadLetterReason,
   type HistogramView,
   SIGNAL_CAUSES,
   type SignalCause,
@@ -105,10 +106,7 @@ export class SessionTelemetry implements TelemetrySource {
 
   /** Count dead-lettered inputs by their code (codes outside the closed set count as `other`). */
   deadLettered(code: string, count = 1): void {
-    const reason = (DEAD_LETTER_REASONS as readonly string[]).includes(code)
-      ? (code as DeadLetterReason)
-      : 'other';
-    this.deadLetters[reason] += count;
+    this.deadLetters[deadLetterReason(code)] += count;
   }
 
   /** The consumer's lag per assigned partition, as last measured. */

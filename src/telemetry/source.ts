@@ -26,6 +26,11 @@ export const DEAD_LETTER_REASONS = [
 ] as const;
 export type DeadLetterReason = (typeof DEAD_LETTER_REASONS)[number];
 
+/** The reason a dead-letter code is counted under: itself when in the closed set, else `other`. */
+export function deadLetterReason(code: string): DeadLetterReason {
+  return (DEAD_LETTER_REASONS as readonly string[]).includes(code) ? (code as DeadLetterReason) : 'other';
+}
+
 /**
  * What became of labels: `joined` to their prediction (by id, or inline with their row); `late`, after
  * their prediction expired; `orphaned`, matching no prediction kept (unknown id, or evicted by the count

@@ -1,4 +1,4 @@
-import { type ChildProcess, spawn } from 'node:child_process';
+import { type ChildProcess, execFile, spawn } from 'node:child_process';
 import { once } from 'node:events';
 import { mkdtemp, rm, writeFile } from 'node:fs/promises';
 import { createServer } from 'node:net';
@@ -181,6 +181,16 @@ export async function eventually(
 
 export function sleep(ms: number): Promise<void> {
   return new Promise((resolve) => setTimeout(resolve, ms));
+}
+
+/** Prometheus's own linter of the exposition format (`promtool check metrics`) on `body`. */
+export function promtoolCheckMetrics(body: string): Promise<{ code: number; out: string }> {
+  return new Promise((resolve) => {
+    const child = execFile('promtool', ['check', 'metrics'], (error, stdout, stderr) => {
+      resolve({ code: error === null ? 0 : ((error as { code?: number }).code ?? 1), out: stdout + stderr });
+    });
+    child.stdin!.end(body);
+  });
 }
 
 /** A port that was free a moment ago on 127.0.0.1. */

@@ -1,4 +1,3 @@
-import { execFile } from 'node:child_process';
 import { register as globalRegistry } from 'prom-client';
 import { afterEach, describe, expect, it } from 'vitest';
 import { LearningSession, resolveConfig } from '../../src/pipeline/index.js';
@@ -6,6 +5,8 @@ import { buildStream, type StreamGenerator } from '../../src/streams/index.js';
 import { parseListen, SessionTelemetry, TelemetryServer } from '../../src/telemetry/index.js';
 import { frameOf, labelsFrame, manualClock } from '../pipeline/session-support.js';
 import { note } from '../support/note.js';
+import { promtoolCheckMetrics } from '../support/prometheus.js';
+import { withTelemetry } from './session-telemetry.js';
 
 /**
  * Shoal's telemetry endpoint on a real loopback socket, fed by a real learning loop: readiness, status,
@@ -23,20 +24,6 @@ const open: TelemetryServer[] = [];
 afterEach(async () => {
   await Promise.all(open.splice(0).map((s) => s.close()));
 });
-
-/** A session with its telemetry (as `replay --metrics` wires them) on a loopback port. */
-function withTelemetry(raw: unknown = {}): { session: LearningSession; telemetry: SessionTelemetry } {
-  let telemetry: SessionTelemetry | null = null;
-  const session = new LearningSession({
-    config: resolveConfig(raw, 'test'),
-    source: 'test stream',
-    journal: { write: (r) => telemetry?.record(r), flush: async () => {} },
-    clock: manualClock(),
-    version: '0.0.0-test',
-  });
-  telemetry = SessionTelemetry.of(session, { checkpoints: false, wall: () => 0 });
-  return { session, telemetry };
-}
 
 async function running(gen: StreamGenerator, raw: unknown = {}): Promise<Running> {
   const { session, telemetry } = withTelemetry(raw);
@@ -66,15 +53,6 @@ async function get(url: string, accept?: string): Promise<{ status: number; type
 /** The sample lines of an exposition (series), without comments. */
 function series(body: string): string[] {
   return body.split('\n').filter((l) => l !== '' && !l.startsWith('#'));
-}
-
-function promtoolCheckMetrics(body: string): Promise<{ code: number; out: string }> {
-  return new Promise((resolve) => {
-    const child = execFile('promtool', ['check', 'metrics'], (error, stdout, stderr) => {
-      resolve({ code: error === null ? 0 : ((error as { code?: number }).code ?? 1), out: stdout + stderr });
-    });
-    child.stdin!.end(body);
-  });
 }
 
 const sea = (concepts = '9.5,7', every = 25_000) =>
