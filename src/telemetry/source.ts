@@ -11,17 +11,21 @@ export const SEAT_STATES = ['warming', 'active', 'watched', 'retired'] as const;
 export type SeatState = (typeof SEAT_STATES)[number];
 
 /**
- * Why an event could not be scored (dead letters in `serve`, the rejects file in `replay`); a code
- * outside this set is counted as `other`.
+ * Why an event could not be scored: the codes `serve` writes in its dead letters' `shoal-reason` header
+ * (`DeadLetterCode` in src/kafka) and those of `replay`'s rejects file; a code outside this set is
+ * counted as `other`.
  */
 export const DEAD_LETTER_REASONS = [
+  'empty',
+  'oversize',
+  'unsupported-content-type',
   'undecodable',
   'schema-mismatch',
   'missing-id',
   'bad-label',
-  'oversize',
-  'unsupported-compression',
+  'bad-value',
   'no-label',
+  'no-time',
   'other',
 ] as const;
 export type DeadLetterReason = (typeof DEAD_LETTER_REASONS)[number];

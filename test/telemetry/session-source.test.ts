@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { LIFECYCLE_CAUSES, type LifecycleCause, type LifecycleRecord } from '../../src/journal/index.js';
+import type { DeadLetterCode } from '../../src/kafka/index.js';
 import type { SessionMetrics } from '../../src/pipeline/index.js';
 import { SessionTelemetry, type TelemetryShape } from '../../src/telemetry/index.js';
 
@@ -129,5 +130,25 @@ describe('SessionTelemetry', () => {
     ]);
     expect(r.deadLetters['schema-mismatch']).toBe(1);
     expect(r.deadLetters.other).toBe(2);
+  });
+
+  it('counts every dead-letter code serve writes under a reason of its own, not as other', () => {
+    // A record keyed by the kafka adapters' code type: the typecheck fails when serve gains a code this
+    // list lacks.
+    const serveCodes: Record<DeadLetterCode, true> = {
+      empty: true,
+      oversize: true,
+      'unsupported-content-type': true,
+      undecodable: true,
+      'schema-mismatch': true,
+      'missing-id': true,
+      'bad-label': true,
+      'bad-value': true,
+    };
+    const source = new SessionTelemetry({ metrics: surface, shape: () => shape, wall: () => 0 });
+    for (const code of Object.keys(serveCodes)) source.deadLettered(code);
+    const r = source.read();
+    for (const code of Object.keys(serveCodes)) expect(r.deadLetters[code as DeadLetterCode], code).toBe(1);
+    expect(r.deadLetters.other).toBe(0);
   });
 });
