@@ -255,8 +255,23 @@ function checkEnsemble(c: Checker, value: unknown): EnsembleSpec {
   }
   spec.lifecycle = { ...LIFECYCLE_DEFAULTS, ...lifecycle, ...(detector === undefined ? {} : { detector }) };
   if (c.issues.length === 0) c.attempt(path, () => createEnsemble(spec as EnsembleSpec, PROBE_SCHEMA, 0));
-  // Every default filled in, so that the journal records exactly what ran.
-  return { ...defaults, ...spec } as EnsembleSpec;
+  // Every default filled in, down to each learner's and the detector's options, so that the journal
+  // records exactly what ran.
+  const full: Record<string, unknown> = { ...defaults, ...spec };
+  const learners = full.learners as readonly { kind?: string }[] | undefined;
+  if (Array.isArray(learners)) full.learners = learners.map((l) => filled(l, LEARNER_DEFAULTS));
+  if (full.meta !== undefined) full.meta = filled(full.meta as { kind?: string }, LEARNER_DEFAULTS);
+  const resolved = full.lifecycle as Record<string, unknown>;
+  full.lifecycle = {
+    ...resolved,
+    detector: filled(resolved.detector as { kind?: string }, DETECTOR_DEFAULTS),
+  };
+  return full as unknown as EnsembleSpec;
+}
+
+/** A learner or detector spec with the defaults of its kind under the options it names. */
+function filled<T extends { kind?: string }>(spec: T, table: Readonly<Record<string, object>>): T {
+  return { ...(table[spec?.kind ?? ''] ?? {}), ...spec };
 }
 
 function checkEvaluation(c: Checker, value: unknown): EvaluationConfig {
