@@ -269,9 +269,9 @@ function checkEnsemble(c: Checker, value: unknown): EnsembleSpec {
   return full as unknown as EnsembleSpec;
 }
 
-/** A learner or detector spec with the defaults of its kind under the options it names. */
+/** A learner or detector spec with the defaults of its kind under the options it names; `kind` first. */
 function filled<T extends { kind?: string }>(spec: T, table: Readonly<Record<string, object>>): T {
-  return { ...(table[spec?.kind ?? ''] ?? {}), ...spec };
+  return { kind: spec?.kind, ...(table[spec?.kind ?? ''] ?? {}), ...spec };
 }
 
 function checkEvaluation(c: Checker, value: unknown): EvaluationConfig {
