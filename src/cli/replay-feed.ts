@@ -1,7 +1,6 @@
-import { ShoalError } from '../core/index.js';
-import { readFrames } from '../files/index.js';
+import { FileSource, readFrames } from '../files/index.js';
 import { type Decoded, describeRow, type Frame, FrameDecoder, type Rejection } from '../frames/index.js';
-import type { DeadLetter, EventClock, LearningSession } from '../pipeline/index.js';
+import type { DeadLetter, EventClock, LearningSession, SourceBatch } from '../pipeline/index.js';
 import { LabelQueue } from './label-queue.js';
 import { Pacer } from './pacer.js';
 
@@ -141,36 +140,32 @@ export async function feed(o: FeedOptions): Promise<void> {
     return moment;
   };
 
-  let consumed = 0n;
   const from = o.from ?? 0n;
   // Rows counted again on the way to a resume position (they were scored before the checkpoint).
   let recounted = 0;
+  const events = new FileSource(o.file, decoder, o.rejects);
   try {
-    for await (const batch of readFrames(o.file, decoder, { rejects: o.rejects })) {
-      const size = BigInt(batch.frame.rows + batch.rejected.length);
-      const frame = batch.frame;
-      if (consumed + size <= from) {
-        consumed += size;
+    // A resumed run reads the rows before its checkpoint once more, when they hold what it needs:
+    // labels held back then are held again (those already joined by then, due by that moment, dropped),
+    // and the stream's time goes on from the latest reached.
+    if (from > 0n && (timing.kind !== 'inline' || o.time !== null)) {
+      for await (const batch of events.open(new Map())) {
+        if (batch.next > from) break;
+        const frame = batch.frame;
         if (timing.kind === 'inline') {
-          if (o.time !== null) o.clock.reach(await batchTime(frame, 0));
+          o.clock.reach(await batchTime(frame, 0));
           continue;
         }
-        // Labels held back when the checkpoint was taken are held again: the rows before it are read
-        // once more, their labels queued, and those already joined by then (due by that moment) dropped.
         const prepared = await prepare(frame, recounted);
         for (let r = 0; r < frame.rows; r++) {
           o.clock.reach(rowTime(prepared.values, r, ++recounted));
           prepared.queue.drop(await hold(frame, r, recounted, prepared, true));
         }
-        continue;
       }
-      if (consumed < from) {
-        throw new ShoalError(
-          'invalid-snapshot',
-          `${o.file}: the checkpoint goes on at row ${from}, inside the batch of rows ${consumed}–${consumed + size - 1n}: is this the file the run was started on?`,
-        );
-      }
-      refuse(o.file, batch.rejected);
+    }
+    for await (const batch of events.open(new Map([[o.file, from]]))) {
+      const frame = batch.frame;
+      refuse(batch.stream, batch.rejected);
       if (timing.kind === 'inline') {
         o.clock.reach(await batchTime(frame, session.scored));
         for (const [from, to] of pacer.ranges(frame.rows)) {
@@ -192,15 +187,8 @@ export async function feed(o: FeedOptions): Promise<void> {
         scored(frame.rows, (clock() - started) / 1000);
         await pacer.wait(frame.rows);
       }
-      consumed += size;
-      session.advance(o.file, consumed);
+      session.advance(batch.stream, batch.next);
       await o.afterBatch();
-    }
-    if (consumed < from) {
-      throw new ShoalError(
-        'invalid-snapshot',
-        `${o.file}: holds ${consumed} rows, but the checkpoint goes on at row ${from}: is this the file the run was started on?`,
-      );
     }
     const last = queue as LabelQueue | null;
     if (last !== null) {
@@ -288,7 +276,7 @@ class ColumnReader {
  */
 class LabelReader {
   private readonly path: string;
-  private readonly frames: AsyncIterator<Decoded>;
+  private readonly frames: AsyncIterator<SourceBatch>;
   private readonly refuse: (stream: string, rejected: readonly Rejection[]) => void;
   private readonly deadLetter: (letter: DeadLetter) => void;
   private readonly timed: boolean;
@@ -322,7 +310,7 @@ class LabelReader {
       },
       timing.path,
     );
-    this.frames = readFrames(timing.path, decoder, { rejects })[Symbol.asyncIterator]();
+    this.frames = new FileSource(timing.path, decoder, rejects).open(new Map())[Symbol.asyncIterator]();
     this.refuse = refuse;
     this.deadLetter = deadLetter;
   }

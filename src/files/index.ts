@@ -1,6 +1,7 @@
 export { createArrowWriter } from './arrow-write.js';
 export type { FileStoreOptions } from './checkpoint-store.js';
 export { FileCheckpointStore, readCheckpointFile } from './checkpoint-store.js';
+export { FileSource } from './file-source.js';
 export { createWriter, formatOf, readArrow, readFrames } from './formats.js';
 export { fileLines, openInput } from './input-file.js';
 export { deadLetterFile, journalFile, LineFile } from './ndjson-file.js';
