@@ -97,4 +97,33 @@ describe('seat lanes', () => {
       expect(lane).toMatch(new RegExp(`<title>member \\d+ \\(${kind}\\) `));
     });
   });
+
+  it('every drift signal is visible: signals sharing a pixel column carry their count', () => {
+    const signal = (row: number, seat: number): JournalRecord => ({
+      type: 'lifecycle',
+      scored: row,
+      trained: row,
+      seat,
+      member: seat,
+      learner: 'hoeffding-tree',
+      from: 'active',
+      to: 'active',
+      cause: 'drift-ignored-improving',
+      detector: 'adwin',
+      estimate: 0.1,
+      reason: 'r',
+    });
+    // 900,000 rows over a few hundred pixels: rows 500,000 … 500,002 share a column, 900,000 is alone.
+    const html = renderReport([
+      signal(500_000, 0),
+      signal(500_001, 1),
+      signal(500_002, 2),
+      signal(900_000, 0),
+    ]);
+    const marks = html.split('<g class="mark drift"').slice(1);
+    expect(marks).toHaveLength(2);
+    expect(marks[0]).toContain('data-rows="500000 500001 500002"');
+    expect(marks[0]).toMatch(/<text[^>]*class="mark-count"[^>]*>3<\/text>/);
+    expect(marks[1]).not.toContain('mark-count');
+  });
 });
