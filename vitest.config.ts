@@ -7,7 +7,8 @@ import { defineConfig } from 'vitest/config';
 export default defineConfig({
   test: {
     setupFiles: ['test/support/setup.ts'],
-    testTimeout: 120_000,
+    // Short, so that a hung await fails fast; long statistical tests state their own timeout.
+    testTimeout: 30_000,
     hookTimeout: 120_000,
     pool: 'forks',
     projects: [
@@ -21,6 +22,7 @@ export default defineConfig({
           name: 'kafka',
           include: ['test/**/*.kafka.test.ts'],
           globalSetup: ['test/support/kafka-setup.ts'],
+          testTimeout: 120_000,
         },
       },
     ],

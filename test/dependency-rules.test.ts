@@ -130,6 +130,7 @@ async function violations(dir: string): Promise<Violation[]> {
 }
 
 describe('the dependency rules', () => {
+  // Several whole runs of dependency-cruiser over a copy of the project: slow on a shared machine.
   it('pass on the project as it is, and fail on a probe that breaks each rule', async () => {
     const dir = await projectCopy();
     expect(await violations(dir)).toEqual([]);
@@ -145,5 +146,5 @@ describe('the dependency rules', () => {
     }
     for (const probe of PROBES) await rm(join(dir, probe.file));
     await rm(join(dir, 'src', 'newfolder'), { recursive: true });
-  });
+  }, 120_000);
 });

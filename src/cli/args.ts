@@ -27,10 +27,7 @@ export function parse(command: string, args: readonly string[], options: OptionS
     });
     return { values: values as Parsed['values'], positionals };
   } catch (e) {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${command}: ${(e as Error).message} (see shoal ${command} --help)`,
-    );
+    throw new ShoalError('invalid-parameter', `${(e as Error).message} (see shoal ${command} --help)`);
   }
 }
 
@@ -41,29 +38,26 @@ export function text(parsed: Parsed, name: string): string | undefined {
 }
 
 /** A whole-number option ≥ `min`, or undefined; anything else is refused naming the option. */
-export function whole(command: string, parsed: Parsed, name: string, min = 1): number | undefined {
+export function whole(parsed: Parsed, name: string, min = 1): number | undefined {
   const v = text(parsed, name);
   if (v === undefined) return undefined;
   const n = Number(v.replaceAll('_', ''));
   if (!(Number.isInteger(n) && n >= min)) {
     throw new ShoalError(
       'invalid-parameter',
-      `${command}: --${name} must be a whole number ≥ ${min}, got ${JSON.stringify(v)}`,
+      `--${name} must be a whole number ≥ ${min}, got ${JSON.stringify(v)}`,
     );
   }
   return n;
 }
 
 /** A number option, or undefined; anything else is refused naming the option. */
-export function decimal(command: string, parsed: Parsed, name: string): number | undefined {
+export function decimal(parsed: Parsed, name: string): number | undefined {
   const v = text(parsed, name);
   if (v === undefined) return undefined;
   const n = Number(v);
   if (v.trim() === '' || !Number.isFinite(n)) {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${command}: --${name} must be a number, got ${JSON.stringify(v)}`,
-    );
+    throw new ShoalError('invalid-parameter', `--${name} must be a number, got ${JSON.stringify(v)}`);
   }
   return n;
 }
@@ -74,7 +68,7 @@ export function positionals(command: string, parsed: Parsed, names: readonly str
     const want = names.map((n) => `<${n}>`).join(' ');
     throw new ShoalError(
       'invalid-parameter',
-      `${command}: expected ${want}, got ${parsed.positionals.length === 0 ? 'nothing' : parsed.positionals.map((p) => JSON.stringify(p)).join(' ')} (see shoal ${command} --help)`,
+      `expected ${want}, got ${parsed.positionals.length === 0 ? 'nothing' : parsed.positionals.map((p) => JSON.stringify(p)).join(' ')} (see shoal ${command} --help)`,
     );
   }
   return [...parsed.positionals];

@@ -3,7 +3,7 @@ import { INSPECT_HELP, inspect } from './inspect.js';
 import { REPLAY_HELP, replay } from './replay.js';
 import { REPORT_HELP, report } from './report.js';
 import { SERVE_HELP, serve } from './serve.js';
-import { SYNTH_HELP, synth } from './synth.js';
+import { SPAWN_HELP, spawn } from './spawn.js';
 import { processTerminal, type Terminal } from './terminal.js';
 import { shoalVersion } from './version.js';
 
@@ -11,17 +11,20 @@ const COMMANDS: Readonly<
   Record<string, { run: (args: readonly string[], t: Terminal) => Promise<number>; help: string }>
 > = {
   replay: { run: replay, help: REPLAY_HELP },
-  synth: { run: synth, help: SYNTH_HELP },
+  spawn: { run: spawn, help: SPAWN_HELP },
   report: { run: report, help: REPORT_HELP },
   serve: { run: serve, help: SERVE_HELP },
   inspect: { run: inspect, help: INSPECT_HELP },
 };
 
+/** The stream-writing command's first name, kept for one release. */
+const FORMER_SPAWN = 'synth';
+
 const USAGE = `shoal — online ensembles that keep scoring while the world changes
 
 Commands:
   shoal replay FILE      run a recorded stream through an ensemble, test-then-train, and summarise it
-  shoal synth GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
+  shoal spawn GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
   shoal report JOURNAL   turn a run's journal into a self-contained HTML report
   shoal serve --config F score a Kafka events topic live: scores, dead letters, inline labels
   shoal inspect CHECKPOINT
@@ -40,6 +43,10 @@ export async function main(args: readonly string[], terminal: Terminal = process
   if (name === '--version') {
     terminal.out(`${shoalVersion()}\n`);
     return 0;
+  }
+  if (name === FORMER_SPAWN) {
+    terminal.err('shoal synth is now shoal spawn; the old name works in this release only (same options)\n');
+    return main(['spawn', ...rest], terminal);
   }
   const command = COMMANDS[name];
   if (command === undefined) {

@@ -1,5 +1,12 @@
 import { FileSource, readFrames } from '../files/index.js';
-import { type Decoded, describeRow, type Frame, FrameDecoder, type Rejection } from '../frames/index.js';
+import {
+  type Decoded,
+  describeRow,
+  type Frame,
+  FrameDecoder,
+  type FrameFormat,
+  type Rejection,
+} from '../frames/index.js';
 import type { DeadLetter, EventClock, LearningSession, SourceBatch } from '../pipeline/index.js';
 import { LabelQueue } from './label-queue.js';
 import { Pacer } from './pacer.js';
@@ -35,6 +42,8 @@ export type LabelTiming =
 
 export interface FeedOptions {
   readonly file: string;
+  /** The file's format when its extension does not say. */
+  readonly format?: FrameFormat;
   readonly decoder: FrameDecoder;
   readonly session: LearningSession;
   /** The session's clock, moved on to the stream's time as rows are scored. */
@@ -47,6 +56,8 @@ export interface FeedOptions {
   /** `keep`: undecodable rows go to `deadLetter`; `throw`: the first stops the run. */
   readonly rejects: 'throw' | 'keep';
   readonly deadLetter: (letter: DeadLetter) => void;
+  /** Called once the schema is known, before the first row is scored. */
+  readonly beforeScoring?: () => void;
   /**
    * Where a resumed run goes on: the rows before this position were consumed before the checkpoint it
    * resumes from, and are skipped. A checkpoint is taken between batches, and a file is cut into the same
@@ -79,7 +90,8 @@ export async function feed(o: FeedOptions): Promise<void> {
     }
   };
   const columns = [o.time, timing.kind === 'delay-column' ? timing.column : null];
-  const extra = columns.some((c) => c !== null) ? new ColumnReader(o.file, columns) : null;
+  const format = o.format === undefined ? {} : { format: o.format };
+  const extra = columns.some((c) => c !== null) ? new ColumnReader(o.file, columns, format) : null;
   const byTime = timing.kind === 'delay-column' || (timing.kind === 'file' && timing.time !== null);
   let now = Number.NEGATIVE_INFINITY;
   let queue: LabelQueue | null = null;
@@ -143,7 +155,7 @@ export async function feed(o: FeedOptions): Promise<void> {
   const from = o.from ?? 0n;
   // Rows counted again on the way to a resume position (they were scored before the checkpoint).
   let recounted = 0;
-  const events = new FileSource(o.file, decoder, o.rejects);
+  const events = new FileSource(o.file, decoder, o.rejects, o.format);
   try {
     // A resumed run reads the rows before its checkpoint once more, when they hold what it needs:
     // labels held back then are held again (those already joined by then, due by that moment, dropped),
@@ -166,6 +178,7 @@ export async function feed(o: FeedOptions): Promise<void> {
     for await (const batch of events.open(new Map([[o.file, from]]))) {
       const frame = batch.frame;
       refuse(batch.stream, batch.rejected);
+      o.beforeScoring?.();
       if (timing.kind === 'inline') {
         o.clock.reach(await batchTime(frame, session.scored));
         for (const [from, to] of pacer.ranges(frame.rows)) {
@@ -214,14 +227,14 @@ class ColumnReader {
   private readonly slots: readonly number[];
 
   /** `columns[k]` null leaves slot k of each row NaN. */
-  constructor(path: string, columns: readonly (string | null)[]) {
+  constructor(path: string, columns: readonly (string | null)[], format: { readonly format?: FrameFormat }) {
     this.width = columns.length;
     const named = columns.filter((c): c is string => c !== null);
     const decoder = new FrameDecoder(
       { label: null, features: named.map((name) => ({ name, kind: 'numeric' as const })) },
       path,
     );
-    this.frames = readFrames(path, decoder, { rejects: 'keep' })[Symbol.asyncIterator]();
+    this.frames = readFrames(path, decoder, { rejects: 'keep', ...format })[Symbol.asyncIterator]();
     this.slots = columns.map((c) => (c === null ? -1 : named.indexOf(c)));
   }
 

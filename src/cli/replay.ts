@@ -1,9 +1,8 @@
-import { writeFile } from 'node:fs/promises';
-import { ShoalError } from '../core/index.js';
+import { ConfigError, ShoalError } from '../core/index.js';
 import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
 import { countRows, deadLetterFile, journalFile } from '../files/index.js';
-import { FrameDecoder, type FrameOptions } from '../frames/index.js';
+import { FrameDecoder, type FrameFormat, type FrameOptions } from '../frames/index.js';
 import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS } from '../learners/index.js';
 import { EventClock, LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
@@ -11,10 +10,12 @@ import { renderReport } from '../report/index.js';
 import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text, whole } from './args.js';
 import { readConfigFile } from './config-file.js';
+import { type NamedPath, openOutputs, refuseCollisions } from './outputs.js';
 import { Pacer } from './pacer.js';
 import { Progress } from './progress.js';
 import { DEFAULT_CHECKPOINT_EVERY, ReplayCheckpoints } from './replay-checkpoints.js';
 import { feed, type LabelTiming } from './replay-feed.js';
+import { describeSchema, overflowWarnings } from './schema-text.js';
 import { count, figure, type Terminal, table } from './terminal.js';
 import { shoalVersion } from './version.js';
 
@@ -33,6 +34,11 @@ Options:
   --seed S          seed of every random choice
   --label COL       the label column (default "label")
   --id COL          an event-id column
+  --schema FILE     the features, declared (YAML or JSON: a list of {name, kind, categories, values},
+                    or a mapping with "features"); without it the kinds are inferred from the first rows
+  --format F        arrow, csv or ndjson, for a file whose extension does not say
+  --labels-as HOW   class-codes (integers 0, 1, …) or class-names (any value names a class); by default
+                    codes when the first rows' labels are all integers from 0 to 1023, else names
   --labels FILE     labels in a file of their own (the --id and --label columns), joined by id to the
                     prediction served for each event; the k-th label becomes known once k events were
                     scored (labels left at the end are joined after the last event)
@@ -58,16 +64,24 @@ Options:
                     (Prometheus; see deploy/prometheus). Off by default
   --pace N          replay at most N rows per second, as a live stream would arrive (default: as fast as possible)
   --json            print one JSON object instead of the summary table
-Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.`;
+Without a configuration: 10-member bagging of Hoeffding trees, each watched by ADWIN.
+The schema the run uses is printed to stderr before the first row is scored. No output may name an
+input or another output; outputs are written beside their path and moved into place when the run ends.`;
 
 /** Fold command-line overrides into the raw configuration, so that they are checked like the file. */
-function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: string): unknown {
+function withOverrides(
+  raw: unknown,
+  parsed: ReturnType<typeof parse>,
+  schema: Record<string, unknown> | undefined,
+): unknown {
+  // Not a mapping: nothing to fold into; the check reports the top level as it is.
+  if (Array.isArray(raw) || (raw !== null && typeof raw !== 'object')) return raw;
   const base = (raw ?? {}) as Record<string, unknown>;
   const ensemble = { ...((base.ensemble ?? {}) as Record<string, unknown>) };
   const inputs = { ...((base.inputs ?? {}) as Record<string, unknown>) };
   const kind = text(parsed, 'ensemble');
   if (kind !== undefined) ensemble.kind = kind;
-  const members = whole(command, parsed, 'members');
+  const members = whole(parsed, 'members');
   if (members !== undefined) ensemble.members = members;
   const learner = text(parsed, 'learner');
   if (learner !== undefined) ensemble.learners = [{ kind: learner }];
@@ -82,6 +96,9 @@ function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: 
   if (label !== undefined) inputs.label = label;
   const id = text(parsed, 'id');
   if (id !== undefined) inputs.id = id;
+  const labelsAs = text(parsed, 'labels-as');
+  if (labelsAs !== undefined) inputs.labelsAs = labelsAs;
+  if (schema !== undefined) Object.assign(inputs, schema);
   // Time columns are read beside the features, never as features.
   const times = [text(parsed, 'time'), text(parsed, 'label-delay-column')].filter((c) => c !== undefined);
   if (times.length > 0) {
@@ -95,25 +112,25 @@ function withOverrides(raw: unknown, parsed: ReturnType<typeof parse>, command: 
 /** When labels become known: inline (the default), held back N rows, or from a labels file. */
 function labelTiming(parsed: ReturnType<typeof parse>, config: RunConfig): LabelTiming {
   const path = text(parsed, 'labels');
-  const delay = whole('replay', parsed, 'label-delay', 0);
+  const delay = whole(parsed, 'label-delay', 0);
   const column = text(parsed, 'label-delay-column');
   const given = [path, delay, column].filter((x) => x !== undefined).length;
   if (given > 1) {
     throw new ShoalError(
       'invalid-parameter',
-      'replay: give one of --labels, --label-delay and --label-delay-column, not both',
+      'give one of --labels, --label-delay and --label-delay-column, not both',
     );
   }
   const time = text(parsed, 'label-time');
   if (time !== undefined && path === undefined) {
-    throw new ShoalError('invalid-parameter', 'replay: --label-time names a column of the --labels file');
+    throw new ShoalError('invalid-parameter', '--label-time names a column of the --labels file');
   }
   const { id, label } = config.inputs;
   if (path !== undefined) {
     if (id === null || label === null) {
       throw new ShoalError(
         'invalid-parameter',
-        'replay: --labels needs --id (the column that joins a label to its event) and a label column',
+        '--labels needs --id (the column that joins a label to its event) and a label column',
       );
     }
     return { kind: 'file', path, id, label, time: time ?? null };
@@ -130,13 +147,10 @@ function replayCheckpoints(
 ): ReplayCheckpoints | null {
   const resume = text(parsed, 'resume');
   const dir = text(parsed, 'checkpoint') ?? resume;
-  const every = whole('replay', parsed, 'checkpoint-every');
+  const every = whole(parsed, 'checkpoint-every');
   if (dir === undefined) {
     if (every !== undefined) {
-      throw new ShoalError(
-        'invalid-parameter',
-        'replay: --checkpoint-every needs --checkpoint DIR or --resume DIR',
-      );
+      throw new ShoalError('invalid-parameter', '--checkpoint-every needs --checkpoint DIR or --resume DIR');
     }
     return null;
   }
@@ -147,7 +161,7 @@ function replayCheckpoints(
   ) {
     throw new ShoalError(
       'invalid-parameter',
-      'replay: --resume DIR goes on writing checkpoints to DIR; give one directory',
+      '--resume DIR goes on writing checkpoints to DIR; give one directory',
     );
   }
   return new ReplayCheckpoints(dir, every ?? DEFAULT_CHECKPOINT_EVERY, config, shoalVersion(), {
@@ -158,9 +172,11 @@ function replayCheckpoints(
 
 /** Replay judges every row, so the label column is named explicitly: a file without it is refused. */
 export function frameOptions(config: RunConfig): FrameOptions {
-  const { label, id, exclude, features, vocabulary } = config.inputs;
+  const { label, id, exclude, features, vocabulary, missing, labelsAs } = config.inputs;
   return {
     label,
+    missing,
+    ...(labelsAs === null ? {} : { labelsAs }),
     ...(id === null ? {} : { id }),
     exclude,
     ...(features === null ? {} : { features: features as FrameOptions['features'] & object }),
@@ -210,6 +226,9 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     labels: { type: 'string' },
     'label-time': { type: 'string' },
     'label-delay': { type: 'string' },
+    schema: { type: 'string' },
+    'labels-as': { type: 'string' },
+    format: { type: 'string' },
     'label-delay-column': { type: 'string' },
     time: { type: 'string' },
     checkpoint: { type: 'string' },
@@ -224,17 +243,33 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
   }
   const [file] = positionals('replay', parsed, ['FILE']);
   const configPath = text(parsed, 'config');
+  const schemaPath = text(parsed, 'schema');
+  const named = (flag: string): NamedPath[] => {
+    const path = text(parsed, flag);
+    return path === undefined ? [] : [{ flag: `--${flag}`, path }];
+  };
+  const inputs = [{ flag: 'FILE', path: file! }, ...named('config'), ...named('schema'), ...named('labels')];
+  const outputs = [...named('journal'), ...named('rejects'), ...named('report')];
+  // The checkpoint store writes files of its own, but must not write over an input or an output either.
+  await refuseCollisions(inputs, [...outputs, ...named('checkpoint')]);
   const raw = configPath === undefined ? {} : await readConfigFile(configPath);
-  const config = resolveConfig(withOverrides(raw, parsed, 'replay'), configPath ?? 'command line');
+  const schema = schemaPath === undefined ? undefined : await readSchemaFile(schemaPath);
+  const source = configPath ?? 'command line';
+  const config = resolveWithFlags(withOverrides(raw, parsed, schema), source, parsed, schemaPath);
+  const format = text(parsed, 'format') as FrameFormat | undefined;
   const timing = labelTiming(parsed, config);
   const checkpoints = replayCheckpoints(parsed, config, timing);
-  const reportPath = text(parsed, 'report');
-  const journal = new JournalOut(text(parsed, 'journal'), reportPath !== undefined);
-  const rejectsPath = text(parsed, 'rejects');
-  const rejects = rejectsPath === undefined ? null : deadLetterFile(rejectsPath);
+  // Opened before the run: a path that cannot be written is refused before any row is read. The
+  // journal and rejects writers write to the temporary files, which are moved into place at the end.
+  const opened = await openOutputs(inputs, outputs);
+  const output = (flag: string) => opened.find((o) => o.flag === flag) ?? null;
+  const reportFile = output('--report');
+  const journal = new JournalOut(output('--journal')?.partialPath, reportFile !== null);
+  const rejectsFile = output('--rejects');
+  const rejects = rejectsFile === null ? null : deadLetterFile(rejectsFile.partialPath);
   let rejected = 0;
   const listen = text(parsed, 'metrics');
-  const pacer = new Pacer(whole('replay', parsed, 'pace'), () => terminal.now());
+  const pacer = new Pacer(whole(parsed, 'pace'), () => terminal.now());
   let telemetry: SessionTelemetry | null = null;
   // The session's time is the stream's own (see `feed`): the wall clock only dates the run.
   const clock = new EventClock({ monotonic: () => terminal.now(), wall: () => Date.now() });
@@ -254,7 +289,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     checkpoints !== null && text(parsed, 'resume') !== undefined
       ? await checkpoints.resume(file!, ports, terminal)
       : null;
-  const decoder = resumed?.decoder ?? new FrameDecoder(frameOptions(config), configPath ?? 'command line');
+  const decoder = resumed?.decoder ?? new FrameDecoder(frameOptions(config), source);
   const session = resumed?.session ?? new LearningSession({ ...ports, config });
   let endpoint: TelemetryServer | null = null;
   if (listen !== undefined) {
@@ -272,53 +307,125 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     await endpoint.start();
   }
   const json = parsed.values.json === true;
-  const progress = new Progress(
-    json ? { ...terminal, interactive: false } : terminal,
-    terminal.interactive && !json ? await countRows(file!) : null,
-  );
   let summary: SummaryRecord;
   try {
-    await feed({
-      file: file!,
-      decoder,
-      session,
-      clock,
-      timing,
-      time: text(parsed, 'time') ?? null,
-      carryFeatures: config.labels.unmatched === 'train',
-      rejects: rejectsPath === undefined ? 'throw' : 'keep',
-      deadLetter: (letter) => {
-        rejected++;
-        telemetry?.deadLettered(letter.code);
-        rejects?.write(letter);
-      },
-      pacer,
-      now: () => terminal.now(),
-      scored: (rows, seconds) => {
-        endpoint?.batch(rows, seconds);
-        endpoint?.setReady('model', true);
-      },
-      from: resumed?.from ?? 0n,
-      afterBatch: async () => {
-        progress.update(session.scored, session.recentAccuracy);
-        await Promise.all([journal.flush(), rejects?.flush(), checkpoints?.afterBatch(session, decoder)]);
-      },
-    });
-    if (session.scored === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
-    await checkpoints?.save(session, decoder);
-    summary = session.finish(decoder.classes);
-  } finally {
-    progress.done();
-    await Promise.all([journal.close(), rejects?.close(), endpoint?.close()]);
+    const progress = new Progress(
+      json ? { ...terminal, interactive: false } : terminal,
+      terminal.interactive && !json ? await countRows(file!, format) : null,
+    );
+    let announced = false;
+    try {
+      await feed({
+        file: file!,
+        ...(format === undefined ? {} : { format }),
+        decoder,
+        session,
+        clock,
+        timing,
+        time: text(parsed, 'time') ?? null,
+        carryFeatures: config.labels.unmatched === 'train',
+        rejects: rejects === null ? 'throw' : 'keep',
+        deadLetter: (letter) => {
+          rejected++;
+          telemetry?.deadLettered(letter.code);
+          rejects?.write(letter);
+        },
+        pacer,
+        now: () => terminal.now(),
+        scored: (rows, seconds) => {
+          endpoint?.batch(rows, seconds);
+          endpoint?.setReady('model', true);
+        },
+        from: resumed?.from ?? 0n,
+        beforeScoring: () => {
+          if (announced) return;
+          announced = true;
+          terminal.err(describeSchema(file!, decoder, config.inputs.features !== null));
+        },
+        afterBatch: async () => {
+          progress.update(session.scored, session.recentAccuracy);
+          await Promise.all([journal.flush(), rejects?.flush(), checkpoints?.afterBatch(session, decoder)]);
+        },
+      });
+      if (session.scored === 0) throw new ShoalError('invalid-input', `${file}: holds no rows`);
+      await checkpoints?.save(session, decoder);
+      summary = session.finish(decoder.classes);
+    } finally {
+      progress.done();
+      await Promise.all([journal.close(), rejects?.close(), endpoint?.close()]);
+    }
+  } catch (e) {
+    await Promise.all(opened.map((o) => o.discard()));
+    throw e;
   }
-  if (reportPath !== undefined)
-    await writeFile(reportPath, renderReport(journal.kept, { title: `Replay of ${file}` }));
+  terminal.err(overflowWarnings(decoder));
   terminal.out(
     json
       ? `${JSON.stringify({ ...jsonSummary(file!, config, summary), rejected })}\n`
       : summaryTable(file!, config, summary, rejected),
   );
+  // The summary is out; a failure to finish an output now loses no figures.
+  reportFile?.write(renderReport(journal.kept, { title: `Replay of ${file}` }));
+  const failures: string[] = [];
+  for (const o of opened) {
+    try {
+      await o.commit();
+    } catch (e) {
+      failures.push((e as Error).message);
+    }
+  }
+  if (failures.length > 0) throw new ShoalError('io-failure', failures.join('; '));
   return 0;
+}
+
+/** The configuration paths each command-line flag sets. */
+const FLAG_PATHS: readonly (readonly [string, string])[] = [
+  ['ensemble', 'ensemble.kind'],
+  ['members', 'ensemble.members'],
+  ['learner', 'ensemble.learners'],
+  ['detector', 'ensemble.lifecycle.detector'],
+  ['label', 'inputs.label'],
+  ['id', 'inputs.id'],
+  ['labels-as', 'inputs.labelsAs'],
+  ['seed', 'seed'],
+];
+
+/**
+ * Check the configuration with the flags folded in; an issue about a value a flag set is reported
+ * against the flag (`--learner: must be one of …`), one from a `--schema` file against that file.
+ */
+function resolveWithFlags(
+  raw: unknown,
+  source: string,
+  parsed: ReturnType<typeof parse>,
+  schemaPath: string | undefined,
+): RunConfig {
+  try {
+    return resolveConfig(raw, source);
+  } catch (e) {
+    if (!(e instanceof ConfigError)) throw e;
+    const issues = e.issues.map((issue) => {
+      for (const [flag, path] of FLAG_PATHS) {
+        if (
+          parsed.values[flag] !== undefined &&
+          (issue.path === path || issue.path.startsWith(`${path}.`) || issue.path.startsWith(`${path}[`))
+        )
+          return { ...issue, path: `--${flag}` };
+      }
+      if (schemaPath !== undefined && issue.path.startsWith('inputs.'))
+        return { ...issue, path: `--schema ${schemaPath}: ${issue.path.slice('inputs.'.length)}` };
+      return issue;
+    });
+    throw new ConfigError(source, issues);
+  }
+}
+
+/** A `--schema` file: a list of features, or a mapping of input settings with `features`. */
+async function readSchemaFile(path: string): Promise<Record<string, unknown>> {
+  const data = await readConfigFile(path);
+  if (Array.isArray(data)) return { features: data };
+  if (typeof data === 'object' && data !== null) return data as Record<string, unknown>;
+  throw new ShoalError('invalid-config', `--schema ${path}: expected a list of features or a mapping`);
 }
 
 function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<string, unknown> {
@@ -332,7 +439,7 @@ function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<
     accuracy: s.accuracy,
     kappa: s.kappa,
     kappaM: s.kappaM,
-    kappaTemporal: s.kappaTemporal,
+    kappaNoChange: s.kappaNoChange,
     logLoss: s.logLoss,
     macroF1: s.macroF1,
     driftSignals: s.driftSignals,
@@ -361,7 +468,7 @@ function summaryTable(file: string, config: RunConfig, s: SummaryRecord, rejecte
       ['accuracy', figure(s.accuracy)],
       ['kappa', figure(s.kappa)],
       ['kappa-M', figure(s.kappaM)],
-      ['kappa-temporal', figure(s.kappaTemporal)],
+      ['kappa vs no-change', figure(s.kappaNoChange)],
       ['log-loss', figure(s.logLoss)],
       ['macro F1', figure(s.macroF1)],
       ['drift signals', count(s.driftSignals)],

@@ -86,12 +86,14 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
     if (run.inputs.id === null) {
       issues.push({
         path: 'inputs.id',
+        code: 'required',
         message: 'late labels (kafka.labels) are joined by id: name the id column',
       });
     }
     if (kafka.scope === 'partition') {
       issues.push({
         path: 'kafka.labels',
+        code: 'conflict',
         message:
           'late labels need scope global: with scope partition a label could reach an instance that does not hold its prediction',
       });

@@ -1,6 +1,6 @@
 export { decodeF64, decodeI32, encodeF64, encodeI32 } from './encoding.js';
-export type { ConfigIssue, ShoalErrorCode, ShoalErrorOptions } from './errors.js';
-export { ConfigError, ShoalError } from './errors.js';
+export type { ConfigIssue, ConfigIssueCode, ShoalErrorCode, ShoalErrorOptions } from './errors.js';
+export { ConfigError, issueLine, ShoalError } from './errors.js';
 export type { Feature, FeatureKind, FeatureSchema } from './features.js';
 export { checkSchema, nominal, numeric, numericSchema } from './features.js';
 export {
@@ -16,6 +16,16 @@ export {
   sigmoid,
   softmaxInPlace,
 } from './numeric.js';
+export type { OptionSpec, OptionsOf, OptionTable } from './option-table.js';
+export {
+  checkOptions,
+  checkValue,
+  defaultsOf,
+  describeRange,
+  optionConflict,
+  requireAbove,
+  resolveOptions,
+} from './option-table.js';
 export {
   closedUnit,
   integerAtLeast,

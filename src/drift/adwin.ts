@@ -2,11 +2,13 @@ import {
   checkSnapshot,
   decodeF64,
   decodeI32,
+  defaultsOf,
   encodeF64,
   encodeI32,
-  integerAtLeast,
-  oneOf,
-  openUnit,
+  type OptionsOf,
+  type OptionTable,
+  requireAbove,
+  resolveOptions,
   ShoalError,
 } from '../core/index.js';
 import {
@@ -57,31 +59,33 @@ import {
  */
 export type AdwinBound = 'variance' | 'hoeffding';
 
-export type AdwinOptions = {
-  /** Confidence δ of a drift cut, in (0, 1). */
-  readonly delta: number;
-  /** Confidence of a warning cut, in (delta, 1). */
-  readonly warningDelta: number;
-  /** Check for a cut every this many values. */
-  readonly checkEvery: number;
-  /** M, the most buckets of one size. */
-  readonly bucketsPerSize: number;
-  /** Which form of ε_cut to use. */
-  readonly bound: AdwinBound;
-};
+/** ADWIN's options (see `OptionTable`). */
+export const ADWIN_OPTIONS = {
+  delta: { type: 'number', above: 0, below: 1, default: 0.002, doc: 'δ, the confidence of a drift cut' },
+  warningDelta: {
+    type: 'number',
+    above: 0,
+    below: 1,
+    default: 0.01,
+    doc: 'the confidence of a warning cut, larger than delta',
+  },
+  checkEvery: { type: 'integer', atLeast: 1, default: 32, doc: 'values between two checks for a cut' },
+  bucketsPerSize: { type: 'integer', atLeast: 1, default: 5, doc: 'M, the most buckets of one size' },
+  bound: {
+    type: 'choice',
+    choices: ['variance', 'hoeffding'],
+    default: 'variance',
+    doc: 'which form of ε_cut to use',
+  },
+} as const satisfies OptionTable;
 
-export const ADWIN_DEFAULTS: AdwinOptions = {
-  delta: 0.002,
-  warningDelta: 0.01,
-  checkEvery: 32,
-  bucketsPerSize: 5,
-  bound: 'variance',
-};
+export type AdwinOptions = OptionsOf<typeof ADWIN_OPTIONS>;
+
+export const ADWIN_DEFAULTS: AdwinOptions = defaultsOf(ADWIN_OPTIONS);
 
 const KIND = 'adwin';
 const VERSION = 1;
 const INITIAL_LEVELS = 8;
-const BOUNDS = ['variance', 'hoeffding'] as const;
 
 /**
  * Both forms of the cut, multiplied through by n₀n₁ so that the scan needs no division: with
@@ -132,25 +136,9 @@ export function adwinVarianceCut(n0: number, n1: number, variance: number, delta
 }
 
 function resolve(options: Partial<AdwinOptions>): AdwinOptions {
-  const o = { ...ADWIN_DEFAULTS, ...options };
-  openUnit(KIND, 'delta', o.delta);
-  openUnit(KIND, 'warningDelta', o.warningDelta);
-  if (!(o.warningDelta > o.delta)) {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${KIND}: warningDelta must be larger than delta (${o.delta}), got ${o.warningDelta}`,
-    );
-  }
-  integerAtLeast(KIND, 'checkEvery', o.checkEvery);
-  integerAtLeast(KIND, 'bucketsPerSize', o.bucketsPerSize);
-  oneOf(KIND, 'bound', o.bound, BOUNDS);
-  return {
-    delta: o.delta,
-    warningDelta: o.warningDelta,
-    checkEvery: o.checkEvery,
-    bucketsPerSize: o.bucketsPerSize,
-    bound: o.bound,
-  };
+  const o = resolveOptions(KIND, ADWIN_OPTIONS, options);
+  requireAbove(KIND, o, 'warningDelta', 'delta');
+  return o;
 }
 
 export class Adwin implements DriftDetector {

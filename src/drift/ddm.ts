@@ -1,4 +1,11 @@
-import { checkSnapshot, integerAtLeast, positive, ShoalError } from '../core/index.js';
+import {
+  checkSnapshot,
+  defaultsOf,
+  type OptionsOf,
+  type OptionTable,
+  requireAbove,
+  resolveOptions,
+} from '../core/index.js';
 import {
   checkErrorValue,
   type DetectorSnapshot,
@@ -26,32 +33,29 @@ import {
  * const ddm = new Ddm();
  * if (ddm.update(error) === 'warning') startUnderstudy();
  */
-export type DdmOptions = {
-  /** Values seen before the levels are judged. */
-  readonly minCount: number;
-  /** Warning at p_min + warningFactor · s_min. */
-  readonly warningFactor: number;
-  /** Drift at p_min + driftFactor · s_min; larger than warningFactor. */
-  readonly driftFactor: number;
-};
+/** DDM's options (see `OptionTable`). */
+export const DDM_OPTIONS = {
+  minCount: { type: 'integer', atLeast: 1, default: 30, doc: 'values seen before the levels are judged' },
+  warningFactor: { type: 'number', above: 0, default: 2, doc: 'warning at p_min + warningFactor · s_min' },
+  driftFactor: {
+    type: 'number',
+    above: 0,
+    default: 3,
+    doc: 'drift at p_min + driftFactor · s_min; larger than warningFactor',
+  },
+} as const satisfies OptionTable;
 
-export const DDM_DEFAULTS: DdmOptions = { minCount: 30, warningFactor: 2, driftFactor: 3 };
+export type DdmOptions = OptionsOf<typeof DDM_OPTIONS>;
+
+export const DDM_DEFAULTS: DdmOptions = defaultsOf(DDM_OPTIONS);
 
 const KIND = 'ddm';
 const VERSION = 1;
 
 function resolve(options: Partial<DdmOptions>): DdmOptions {
-  const o = { ...DDM_DEFAULTS, ...options };
-  integerAtLeast(KIND, 'minCount', o.minCount);
-  positive(KIND, 'warningFactor', o.warningFactor);
-  positive(KIND, 'driftFactor', o.driftFactor);
-  if (!(o.driftFactor > o.warningFactor)) {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${KIND}: driftFactor must be larger than warningFactor (${o.warningFactor}), got ${o.driftFactor}`,
-    );
-  }
-  return { minCount: o.minCount, warningFactor: o.warningFactor, driftFactor: o.driftFactor };
+  const o = resolveOptions(KIND, DDM_OPTIONS, options);
+  requireAbove(KIND, o, 'driftFactor', 'warningFactor');
+  return o;
 }
 
 export class Ddm implements DriftDetector {

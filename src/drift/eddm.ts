@@ -1,7 +1,10 @@
 import {
   checkSnapshot,
-  integerAtLeast,
-  openUnit,
+  defaultsOf,
+  type OptionsOf,
+  type OptionTable,
+  requireAbove,
+  resolveOptions,
   ShoalError,
   WELFORD_SLOTS,
   welfordAdd,
@@ -38,32 +41,36 @@ import {
  * const eddm = new Eddm();
  * const level = eddm.update(prediction === label ? 0 : 1);
  */
-export type EddmOptions = {
-  /** α: warning when the ratio falls below it. */
-  readonly warningRatio: number;
-  /** β: drift when the ratio falls below it; smaller than warningRatio. */
-  readonly driftRatio: number;
-  /** Errors seen before the levels are judged. */
-  readonly minErrors: number;
-};
+/** EDDM's options (see `OptionTable`). */
+export const EDDM_OPTIONS = {
+  warningRatio: {
+    type: 'number',
+    above: 0,
+    below: 1,
+    default: 0.95,
+    doc: 'α: warning when the ratio falls below it',
+  },
+  driftRatio: {
+    type: 'number',
+    above: 0,
+    below: 1,
+    default: 0.9,
+    doc: 'β: drift when the ratio falls below it; smaller than warningRatio',
+  },
+  minErrors: { type: 'integer', atLeast: 1, default: 30, doc: 'errors seen before the levels are judged' },
+} as const satisfies OptionTable;
 
-export const EDDM_DEFAULTS: EddmOptions = { warningRatio: 0.95, driftRatio: 0.9, minErrors: 30 };
+export type EddmOptions = OptionsOf<typeof EDDM_OPTIONS>;
+
+export const EDDM_DEFAULTS: EddmOptions = defaultsOf(EDDM_OPTIONS);
 
 const KIND = 'eddm';
 const VERSION = 1;
 
 function resolve(options: Partial<EddmOptions>): EddmOptions {
-  const o = { ...EDDM_DEFAULTS, ...options };
-  openUnit(KIND, 'warningRatio', o.warningRatio);
-  openUnit(KIND, 'driftRatio', o.driftRatio);
-  if (!(o.driftRatio < o.warningRatio)) {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${KIND}: driftRatio must be smaller than warningRatio (${o.warningRatio}), got ${o.driftRatio}`,
-    );
-  }
-  integerAtLeast(KIND, 'minErrors', o.minErrors);
-  return { warningRatio: o.warningRatio, driftRatio: o.driftRatio, minErrors: o.minErrors };
+  const o = resolveOptions(KIND, EDDM_OPTIONS, options);
+  requireAbove(KIND, o, 'warningRatio', 'driftRatio');
+  return o;
 }
 
 export class Eddm implements DriftDetector {

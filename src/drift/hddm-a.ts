@@ -1,4 +1,11 @@
-import { checkSnapshot, openUnit, ShoalError } from '../core/index.js';
+import {
+  checkSnapshot,
+  defaultsOf,
+  type OptionsOf,
+  type OptionTable,
+  requireAbove,
+  resolveOptions,
+} from '../core/index.js';
 import {
   checkUnitValue,
   type DetectorSnapshot,
@@ -25,35 +32,42 @@ import {
  * so with ε_α = √((n − n_cut)/(2·n·n_cut) · ln(1/α)) the detector answers `drift` when
  * Z̄ − X̄_cut ≥ ε_{α_D} and `warning` when Z̄ − X̄_cut ≥ ε_{α_W}. After `drift` it restarts from nothing.
  *
- * Defaults (the paper, from memory): drift confidence α_D = 0.001, warning confidence α_W = 0.005.
+ * Defaults (the paper, from memory): drift significance α_D = 0.001, warning significance α_W = 0.005;
+ * the options are named after these symbols (`alphaD`, `alphaW`).
  *
  * @example
  * const hddm = new HddmA();
  * const level = hddm.update(error);
  */
-export type HddmAOptions = {
-  /** α_D, the drift confidence, in (0, 1). */
-  readonly driftConfidence: number;
-  /** α_W, the warning confidence, in (driftConfidence, 1). */
-  readonly warningConfidence: number;
-};
+/** HDDM_A's options (see `OptionTable`), named after the paper's symbols. */
+export const HDDM_A_OPTIONS = {
+  alphaD: {
+    type: 'number',
+    above: 0,
+    below: 1,
+    default: 0.001,
+    doc: 'α_D, the significance level of the drift test',
+  },
+  alphaW: {
+    type: 'number',
+    above: 0,
+    below: 1,
+    default: 0.005,
+    doc: 'α_W, the significance level of the warning test, larger than alphaD',
+  },
+} as const satisfies OptionTable;
 
-export const HDDM_A_DEFAULTS: HddmAOptions = { driftConfidence: 0.001, warningConfidence: 0.005 };
+export type HddmAOptions = OptionsOf<typeof HDDM_A_OPTIONS>;
+
+export const HDDM_A_DEFAULTS: HddmAOptions = defaultsOf(HDDM_A_OPTIONS);
 
 const KIND = 'hddm-a';
 const VERSION = 1;
 
 function resolve(options: Partial<HddmAOptions>): HddmAOptions {
-  const o = { ...HDDM_A_DEFAULTS, ...options };
-  openUnit(KIND, 'driftConfidence', o.driftConfidence);
-  openUnit(KIND, 'warningConfidence', o.warningConfidence);
-  if (!(o.warningConfidence > o.driftConfidence)) {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${KIND}: warningConfidence must be larger than driftConfidence (${o.driftConfidence}), got ${o.warningConfidence}`,
-    );
-  }
-  return { driftConfidence: o.driftConfidence, warningConfidence: o.warningConfidence };
+  const o = resolveOptions(KIND, HDDM_A_OPTIONS, options);
+  requireAbove(KIND, o, 'alphaW', 'alphaD');
+  return o;
 }
 
 export class HddmA implements DriftDetector {
@@ -72,8 +86,8 @@ export class HddmA implements DriftDetector {
 
   constructor(options: Partial<HddmAOptions> = {}) {
     this.options = resolve(options);
-    this.logDrift = Math.log(1 / this.options.driftConfidence);
-    this.logWarning = Math.log(1 / this.options.warningConfidence);
+    this.logDrift = Math.log(1 / this.options.alphaD);
+    this.logWarning = Math.log(1 / this.options.alphaW);
   }
 
   get count(): number {

@@ -21,4 +21,4 @@ export { NUMERIC_SHIFT_DEFAULTS } from './numeric-shift.js';
 export type { PageHinkleyDirection, PageHinkleyOptions } from './page-hinkley.js';
 export { PAGE_HINKLEY_DEFAULTS, PageHinkley } from './page-hinkley.js';
 export type { DetectorKind, DetectorSpec } from './spec.js';
-export { createDetector, DETECTOR_KINDS, restoreDetector } from './spec.js';
+export { createDetector, DETECTOR_KINDS, DETECTOR_OPTIONS, restoreDetector } from './spec.js';

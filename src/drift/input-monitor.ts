@@ -7,6 +7,7 @@ import {
 } from '../core/index.js';
 import { CategoryShift, type CategoryShiftOptions, resolveCategoryShift } from './category-shift.js';
 
+import { MissingShift } from './missing-shift.js';
 import { NumericShift, type NumericShiftOptions, resolveNumericShift } from './numeric-shift.js';
 
 /**
@@ -24,6 +25,8 @@ export interface InputMonitor {
   readonly schema: FeatureSchema;
   /** Indices of the features flagged by the last `update`, in feature order; valid up to its count. */
   readonly flagged: Int32Array;
+  /** For each flag: 1 when the feature's missing share jumped, 0 when its values' distribution moved. */
+  readonly missingFlags: Uint8Array;
   /** Feed one row read in place at row[offset …]; returns the number of features flagged. */
   update(row: Float64Array, offset: number): number;
   /** Forget everything seen. */
@@ -57,6 +60,12 @@ interface FeatureWatch {
 }
 
 const KIND = 'input-monitor';
+/**
+ * The missing-share watch of every feature: rows in its recent window, and δ, its false-alarm
+ * probability per test (small, because it is tested on every row of every feature; our choice).
+ */
+const MISSING_WINDOW = 500;
+const MISSING_DELTA = 1e-9;
 const VERSION = 1;
 
 /**
@@ -67,7 +76,9 @@ class FeatureDriftMonitor implements InputMonitor {
   readonly schema: FeatureSchema;
   readonly options: InputMonitorOptions;
   readonly flagged: Int32Array;
+  readonly missingFlags: Uint8Array;
   private readonly watches: readonly FeatureWatch[];
+  private readonly missing: readonly MissingShift[];
   private readonly width: number;
 
   constructor(schema: FeatureSchema, spec: InputMonitorSpec) {
@@ -78,6 +89,8 @@ class FeatureDriftMonitor implements InputMonitor {
     };
     this.width = schema.features.length;
     this.flagged = new Int32Array(this.width);
+    this.missingFlags = new Uint8Array(this.width);
+    this.missing = schema.features.map(() => new MissingShift(MISSING_WINDOW, MISSING_DELTA));
     this.watches = schema.features.map((f) =>
       f.kind === 'nominal'
         ? new CategoryShift(`${KIND}: feature ${f.name}`, f.values, this.options.nominal)
@@ -94,14 +107,22 @@ class FeatureDriftMonitor implements InputMonitor {
     }
     const watches = this.watches;
     let count = 0;
+    const missing = this.missing;
     for (let i = 0; i < this.width; i++) {
-      if (watches[i]!.update(row[offset + i]!)) this.flagged[count++] = i;
+      const x = row[offset + i]!;
+      const moved = watches[i]!.update(x);
+      const gone = missing[i]!.update(Number.isNaN(x));
+      if (moved || gone) {
+        this.missingFlags[count] = gone ? 1 : 0;
+        this.flagged[count++] = i;
+      }
     }
     return count;
   }
 
   reset(): void {
     for (const w of this.watches) w.reset();
+    for (const m of this.missing) m.reset();
   }
 
   snapshot(): InputMonitorSnapshot {
@@ -110,7 +131,7 @@ class FeatureDriftMonitor implements InputMonitor {
       version: VERSION,
       schema: this.schema,
       options: { ...this.options },
-      state: { features: this.watches.map((w) => w.state()) },
+      state: { features: this.watches.map((w) => w.state()), missing: this.missing.map((m) => m.state()) },
     };
   }
 
@@ -122,6 +143,11 @@ class FeatureDriftMonitor implements InputMonitor {
     this.watches.forEach((w, i) => {
       w.load(features[i]);
     });
+    const missing = (state as { missing?: unknown }).missing;
+    if (Array.isArray(missing) && missing.length === this.width)
+      this.missing.forEach((m, i) => {
+        m.load(missing[i]);
+      });
   }
 }
 

@@ -1,4 +1,10 @@
-import { checkSnapshot, integerAtLeast, nonNegative, oneOf, positive, ShoalError } from '../core/index.js';
+import {
+  checkSnapshot,
+  defaultsOf,
+  type OptionsOf,
+  type OptionTable,
+  resolveOptions,
+} from '../core/index.js';
 import {
   checkFiniteValue,
   type DetectorSnapshot,
@@ -33,46 +39,29 @@ import {
  */
 export type PageHinkleyDirection = 'increase' | 'decrease' | 'both';
 
-export type PageHinkleyOptions = {
-  /** δ, the change tolerated, ≥ 0. */
-  readonly delta: number;
-  /** λ, the alarm threshold, > 0. */
-  readonly lambda: number;
-  readonly direction: PageHinkleyDirection;
-  /** Fading factor α in (0, 1]; 1 keeps the plain cumulative sum. */
-  readonly fading: number;
-  /** Values seen before an alarm can be raised. */
-  readonly minCount: number;
-};
+/** Page-Hinkley's options (see `OptionTable`). */
+export const PAGE_HINKLEY_OPTIONS = {
+  delta: { type: 'number', atLeast: 0, default: 0.005, doc: 'δ, the change tolerated' },
+  lambda: { type: 'number', above: 0, default: 50, doc: 'λ, the alarm threshold' },
+  direction: {
+    type: 'choice',
+    choices: ['increase', 'decrease', 'both'],
+    default: 'increase',
+    doc: 'which changes of the mean raise an alarm',
+  },
+  fading: { type: 'number', above: 0, atMost: 1, default: 1, doc: 'fading factor α; 1 keeps the plain sum' },
+  minCount: { type: 'integer', atLeast: 1, default: 30, doc: 'values seen before an alarm can be raised' },
+} as const satisfies OptionTable;
 
-export const PAGE_HINKLEY_DEFAULTS: PageHinkleyOptions = {
-  delta: 0.005,
-  lambda: 50,
-  direction: 'increase',
-  fading: 1,
-  minCount: 30,
-};
+export type PageHinkleyOptions = OptionsOf<typeof PAGE_HINKLEY_OPTIONS>;
+
+export const PAGE_HINKLEY_DEFAULTS: PageHinkleyOptions = defaultsOf(PAGE_HINKLEY_OPTIONS);
 
 const KIND = 'page-hinkley';
 const VERSION = 1;
-const DIRECTIONS = ['increase', 'decrease', 'both'] as const;
 
 function resolve(options: Partial<PageHinkleyOptions>): PageHinkleyOptions {
-  const o = { ...PAGE_HINKLEY_DEFAULTS, ...options };
-  nonNegative(KIND, 'delta', o.delta);
-  positive(KIND, 'lambda', o.lambda);
-  oneOf(KIND, 'direction', o.direction, DIRECTIONS);
-  if (!(o.fading > 0 && o.fading <= 1)) {
-    throw new ShoalError('invalid-parameter', `${KIND}: fading must be in (0, 1], got ${o.fading}`);
-  }
-  integerAtLeast(KIND, 'minCount', o.minCount);
-  return {
-    delta: o.delta,
-    lambda: o.lambda,
-    direction: o.direction,
-    fading: o.fading,
-    minCount: o.minCount,
-  };
+  return resolveOptions(KIND, PAGE_HINKLEY_OPTIONS, options);
 }
 
 export class PageHinkley implements DriftDetector {

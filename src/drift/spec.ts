@@ -1,15 +1,24 @@
-import { optionsOf, ShoalError } from '../core/index.js';
-import { Adwin, type AdwinOptions } from './adwin.js';
-import { Ddm, type DdmOptions } from './ddm.js';
+import { type OptionTable, optionsOf, ShoalError } from '../core/index.js';
+import { ADWIN_OPTIONS, Adwin, type AdwinOptions } from './adwin.js';
+import { DDM_OPTIONS, Ddm, type DdmOptions } from './ddm.js';
 import type { DetectorSnapshot, DriftDetector } from './detector.js';
-import { Eddm, type EddmOptions } from './eddm.js';
-import { HddmA, type HddmAOptions } from './hddm-a.js';
-import { PageHinkley, type PageHinkleyOptions } from './page-hinkley.js';
+import { EDDM_OPTIONS, Eddm, type EddmOptions } from './eddm.js';
+import { HDDM_A_OPTIONS, HddmA, type HddmAOptions } from './hddm-a.js';
+import { PAGE_HINKLEY_OPTIONS, PageHinkley, type PageHinkleyOptions } from './page-hinkley.js';
 
 /** Every detector kind, as written in configuration. */
 export const DETECTOR_KINDS = ['adwin', 'ddm', 'eddm', 'page-hinkley', 'hddm-a'] as const;
 
 export type DetectorKind = (typeof DETECTOR_KINDS)[number];
+
+/** Each detector's option table, by kind (what the configuration check reads). */
+export const DETECTOR_OPTIONS: Readonly<Record<DetectorKind, OptionTable>> = {
+  adwin: ADWIN_OPTIONS,
+  ddm: DDM_OPTIONS,
+  eddm: EDDM_OPTIONS,
+  'page-hinkley': PAGE_HINKLEY_OPTIONS,
+  'hddm-a': HDDM_A_OPTIONS,
+};
 
 /**
  * A detector as configuration describes it: its kind and any options (missing ones take the defaults

@@ -1,13 +1,16 @@
 import {
   checkSnapshot,
   decodeF64,
+  defaultsOf,
   deriveSeed,
   encodeF64,
   type FeatureSchema,
-  integerAtLeast,
   nonEmptyList,
+  type OptionsOf,
+  type OptionTable,
   Rng,
   type RngState,
+  resolveOptions,
   type Seed,
   samplePoisson,
 } from '../core/index.js';
@@ -29,18 +32,25 @@ import { combineVotes } from './vote.js';
  * are PUBLISHED.md's λ·N/(2λˢᶜ) and λ·N/(2λˢʷ).) Members vote with weight log((1 − εₘ)/εₘ); a member
  * with εₘ ≥ 0.5 does not vote. When the lifecycle replaces a member, its seat's λˢᶜ and λˢʷ restart.
  */
-export interface BoostingOptions {
-  readonly members: number;
+/** Boosting's scalar options (see `OptionTable`). */
+export const BOOSTING_OPTIONS = {
+  members: { type: 'integer', atLeast: 1, default: 10, doc: 'seats of the ensemble, in boosting order' },
+  maxRepeats: {
+    type: 'integer',
+    atLeast: 1,
+    default: 16,
+    doc: 'cap on the Poisson repeat count of one member on one row',
+  },
+} as const satisfies OptionTable;
+
+export type BoostingOptions = OptionsOf<typeof BOOSTING_OPTIONS> & {
   readonly learners: readonly ClassifierSpec[];
-  /** Cap on the Poisson repeat count k of one member on one row. */
-  readonly maxRepeats: number;
   readonly lifecycle: LifecycleOptions;
-}
+};
 
 export const BOOSTING_DEFAULTS: BoostingOptions = {
-  members: 10,
+  ...defaultsOf(BOOSTING_OPTIONS),
   learners: [{ kind: 'hoeffding-tree' }],
-  maxRepeats: 16,
   lifecycle: LIFECYCLE_DEFAULTS,
 };
 
@@ -59,8 +69,7 @@ function resolve(spec: BoostingSpec): BoostingOptions {
     ...spec,
     lifecycle: { ...LIFECYCLE_DEFAULTS, ...spec.lifecycle },
   };
-  integerAtLeast(KIND, 'members', o.members, 1);
-  integerAtLeast(KIND, 'maxRepeats', o.maxRepeats, 1);
+  resolveOptions(KIND, BOOSTING_OPTIONS, spec, ['kind', 'learners', 'lifecycle', 'meta']);
   nonEmptyList(KIND, 'learners', o.learners);
   return o;
 }

@@ -1,4 +1,4 @@
-import { integerAtLeast, ShoalError } from '../core/index.js';
+import { defaultsOf, type OptionsOf, type OptionTable, resolveOptions, ShoalError } from '../core/index.js';
 import {
   createDetector,
   type DetectorSnapshot,
@@ -28,46 +28,58 @@ import { restoreClassifier } from '../learners/index.js';
  * the ensemble's `LifecycleSink` (the session journals it).
  */
 
-export interface LifecycleOptions {
-  /** Monitor members and replace degraded ones. Off: every member stays `active` for good. */
-  readonly enabled: boolean;
+/** The lifecycle's scalar options (see `OptionTable`); the detector is a spec of its own. */
+export const LIFECYCLE_OPTIONS = {
+  enabled: {
+    type: 'boolean',
+    default: true,
+    doc: 'monitor members and replace degraded ones; off, every member stays active for good',
+  },
+  warmup: {
+    type: 'integer',
+    atLeast: 0,
+    default: 100,
+    doc: 'rows a new member spends warming, out of the vote',
+  },
+  minAge: {
+    type: 'integer',
+    atLeast: 0,
+    default: 200,
+    doc: 'rows a member must have seen before a warning or drift can act on it',
+  },
+  maxReplacements: {
+    type: 'integer',
+    atLeast: 0,
+    default: 5,
+    doc: 'replacements allowed within any replacementWindow rows',
+  },
+  replacementWindow: {
+    type: 'integer',
+    atLeast: 1,
+    default: 1000,
+    doc: 'the window of the replacement cap, in rows',
+  },
+  accuracyWindow: {
+    type: 'integer',
+    atLeast: 1,
+    default: 500,
+    doc: "rows over which each member's recent accuracy is kept (weighted votes, reports)",
+  },
+} as const satisfies OptionTable;
+
+export type LifecycleOptions = OptionsOf<typeof LIFECYCLE_OPTIONS> & {
   /** The detector each member's monitor runs. */
   readonly detector: DetectorSpec;
-  /** Rows a new member spends `warming`, out of the vote. */
-  readonly warmup: number;
-  /** Rows a member must have seen before a warning or drift can act on it. */
-  readonly minAge: number;
-  /** Replacements allowed within any `replacementWindow` rows. */
-  readonly maxReplacements: number;
-  readonly replacementWindow: number;
-  /** Rows over which each member's recent accuracy is kept (for weighted votes and reports). */
-  readonly accuracyWindow: number;
-}
+};
 
 export const LIFECYCLE_DEFAULTS: LifecycleOptions = {
-  enabled: true,
+  ...defaultsOf(LIFECYCLE_OPTIONS),
   detector: { kind: 'adwin' },
-  warmup: 100,
-  minAge: 200,
-  maxReplacements: 5,
-  replacementWindow: 1000,
-  accuracyWindow: 500,
 };
 
 export function checkLifecycleOptions(o: LifecycleOptions): LifecycleOptions {
-  const owner = 'lifecycle';
-  if (typeof o.enabled !== 'boolean') {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${owner}: enabled must be true or false, got ${String(o.enabled)}`,
-    );
-  }
+  resolveOptions('lifecycle', LIFECYCLE_OPTIONS, o, ['detector']);
   createDetector(o.detector);
-  integerAtLeast(owner, 'warmup', o.warmup, 0);
-  integerAtLeast(owner, 'minAge', o.minAge, 0);
-  integerAtLeast(owner, 'maxReplacements', o.maxReplacements, 0);
-  integerAtLeast(owner, 'replacementWindow', o.replacementWindow, 1);
-  integerAtLeast(owner, 'accuracyWindow', o.accuracyWindow, 1);
   return o;
 }
 

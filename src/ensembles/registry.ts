@@ -1,9 +1,16 @@
-import { type FeatureSchema, type Seed, ShoalError } from '../core/index.js';
-import { Bagging, type BaggingSpec } from './bagging.js';
-import { Boosting, type BoostingSpec } from './boosting.js';
-import { ENSEMBLE_KINDS, type Ensemble, type EnsembleSnapshot } from './ensemble.js';
+import { type FeatureSchema, type OptionTable, type Seed, ShoalError } from '../core/index.js';
+import { BAGGING_OPTIONS, Bagging, type BaggingSpec } from './bagging.js';
+import { BOOSTING_OPTIONS, Boosting, type BoostingSpec } from './boosting.js';
+import { ENSEMBLE_KINDS, type Ensemble, type EnsembleKind, type EnsembleSnapshot } from './ensemble.js';
 import type { LifecycleSink } from './lifecycle.js';
-import { Stacking, type StackingSpec } from './stacking.js';
+import { STACKING_OPTIONS, Stacking, type StackingSpec } from './stacking.js';
+
+/** Each ensemble's scalar option table, by kind (learners, meta and lifecycle are specs of their own). */
+export const ENSEMBLE_OPTIONS: Readonly<Record<EnsembleKind, OptionTable>> = {
+  bagging: BAGGING_OPTIONS,
+  boosting: BOOSTING_OPTIONS,
+  stacking: STACKING_OPTIONS,
+};
 
 /** An ensemble as configuration describes it. */
 export type EnsembleSpec =

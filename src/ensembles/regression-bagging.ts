@@ -1,14 +1,16 @@
 import {
   type ConfiguredSnapshot,
   checkSnapshot,
+  defaultsOf,
   deriveSeed,
   type FeatureSchema,
-  integerAtLeast,
   nonEmptyList,
-  nonNegative,
+  type OptionsOf,
+  type OptionTable,
   PoissonSampler,
   Rng,
   type RngState,
+  resolveOptions,
   type Seed,
   ShoalError,
 } from '../core/index.js';
@@ -31,16 +33,19 @@ import {
  * const bag = new RegressionBagging(schema, { members: 10 }, 7);
  * const y = bag.predictTrain(rows, i * width, target);
  */
-export interface RegressionBaggingOptions {
-  readonly members: number;
+/** Regression bagging's scalar options (see `OptionTable`). */
+export const REGRESSION_BAGGING_OPTIONS = {
+  members: { type: 'integer', atLeast: 1, default: 10, doc: 'members whose mean is the prediction' },
+  lambda: { type: 'number', atLeast: 0, default: 1, doc: 'λ, the Poisson rate of the training weights' },
+} as const satisfies OptionTable;
+
+export type RegressionBaggingOptions = OptionsOf<typeof REGRESSION_BAGGING_OPTIONS> & {
   readonly learners: readonly RegressorSpec[];
-  readonly lambda: number;
-}
+};
 
 export const REGRESSION_BAGGING_DEFAULTS: RegressionBaggingOptions = {
-  members: 10,
+  ...defaultsOf(REGRESSION_BAGGING_OPTIONS),
   learners: [{ kind: 'hoeffding-regression-tree' }],
-  lambda: 1,
 };
 
 const KIND = 'regression-bagging';
@@ -69,8 +74,7 @@ export class RegressionBagging {
     this.schema = schema;
     this.options = { ...REGRESSION_BAGGING_DEFAULTS, ...options };
     const { members, learners, lambda } = this.options;
-    integerAtLeast(KIND, 'members', members, 1);
-    nonNegative(KIND, 'lambda', lambda);
+    resolveOptions(KIND, REGRESSION_BAGGING_OPTIONS, options, ['kind', 'learners']);
     nonEmptyList(KIND, 'learners', learners);
     this.width = schema.features.length;
     this.members = Array.from({ length: members }, (_, i) =>

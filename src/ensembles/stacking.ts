@@ -1,15 +1,17 @@
 import {
   checkSnapshot,
-  closedUnit,
+  defaultsOf,
   deriveSeed,
   type FeatureSchema,
   nonEmptyList,
   numericSchema,
+  type OptionsOf,
+  type OptionTable,
   oneOf,
   Rng,
   type RngState,
+  resolveOptions,
   type Seed,
-  ShoalError,
 } from '../core/index.js';
 import {
   type ClassifierSpec,
@@ -41,13 +43,22 @@ export type MetaSpec =
   | ({ readonly kind: 'logistic' } & Partial<LogisticOptions>)
   | ({ readonly kind: 'mlp' } & Partial<MlpOptions>);
 
-export interface StackingOptions {
+/** Stacking's scalar options (see `OptionTable`); members and the meta-learner are specs of their own. */
+export const STACKING_OPTIONS = {
+  holdout: {
+    type: 'number',
+    atLeast: 0,
+    below: 1,
+    default: 0,
+    doc: 'share of rows that train the meta-learner only',
+  },
+} as const satisfies OptionTable;
+
+export type StackingOptions = OptionsOf<typeof STACKING_OPTIONS> & {
   readonly learners: readonly ClassifierSpec[];
   readonly meta: MetaSpec;
-  /** Share of rows that train the meta-learner only, in [0, 1). */
-  readonly holdout: number;
   readonly lifecycle: LifecycleOptions;
-}
+};
 
 export const STACKING_DEFAULTS: StackingOptions = {
   learners: [
@@ -57,7 +68,7 @@ export const STACKING_DEFAULTS: StackingOptions = {
     { kind: 'naive-bayes' },
   ],
   meta: { kind: 'logistic' },
-  holdout: 0,
+  ...defaultsOf(STACKING_OPTIONS),
   lifecycle: LIFECYCLE_DEFAULTS,
 };
 
@@ -76,9 +87,7 @@ function resolve(spec: StackingSpec): StackingOptions {
   };
   nonEmptyList(KIND, 'learners', o.learners);
   oneOf(KIND, 'meta.kind', o.meta?.kind, ['logistic', 'mlp'] as const);
-  closedUnit(KIND, 'holdout', o.holdout);
-  if (o.holdout >= 1)
-    throw new ShoalError('invalid-parameter', `${KIND}: holdout must be below 1, got ${o.holdout}`);
+  resolveOptions(KIND, STACKING_OPTIONS, spec, ['kind', 'learners', 'lifecycle', 'meta']);
   return o;
 }
 

@@ -55,11 +55,11 @@ interface ClassificationEvaluatorState {
  *
  * It keeps three views over the same records (see `PrequentialViews`): everything since the start,
  * the last `window` records, and a fading-factor view with factor `fading` (Gama, Sebastião &
- * Rodrigues, Machine Learning 90, 2013). Each view reports accuracy, Cohen's κ, κ-M, κ-temporal,
+ * Rodrigues, Machine Learning 90, 2013). Each view reports accuracy, Cohen's κ, κ-M, κ vs no-change,
  * log-loss, macro F1, per-class precision and recall and the confusion matrix. Classes may appear at
  * any time; the matrices grow.
  *
- * The no-change classifier behind κ-temporal predicts the label of the previous record given to this
+ * The no-change classifier behind κ vs no-change predicts the label of the previous record given to this
  * evaluator (label arrival order); the first record has no previous label and counts as its miss.
  *
  * Per record: O(1) work and no allocation for the cumulative and fading views, O(1) amortised for the

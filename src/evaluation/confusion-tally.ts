@@ -39,7 +39,7 @@ export interface ClassificationFigures {
   readonly accuracy: number | null;
   readonly kappa: number | null;
   readonly kappaM: number | null;
-  readonly kappaTemporal: number | null;
+  readonly kappaNoChange: number | null;
   readonly logLoss: number | null;
   readonly macroF1: number | null;
   /** Per class code: true positives / records predicted as the class. */
@@ -61,7 +61,7 @@ export interface ClassificationView {
   accuracy(): number;
   kappa(): number;
   kappaM(): number;
-  kappaTemporal(): number;
+  kappaNoChange(): number;
   /** Mean −ln p(true class), each p clipped from below at the evaluator's probability floor. */
   logLoss(): number;
   macroF1(): number;
@@ -90,7 +90,7 @@ export interface ConfusionTallyState {
  *
  * Definitions (n = total weight, cₖₖ = diagonal cell, rₖ = row total, qₖ = column total):
  * accuracy p₀ = Σ cₖₖ / n; Cohen's κ with p_c = Σ rₖ qₖ / n²; κ-M with p_c = maxₖ rₖ / n, the
- * accuracy of the classifier that always predicts the view's majority class; κ-temporal with p_c =
+ * accuracy of the classifier that always predicts the view's majority class; κ vs no-change with p_c =
  * (no-change hits) / n (see `kappaStatistic` for the sources). Precision cₖₖ / qₖ, recall cₖₖ / rₖ,
  * F1ₖ = 2cₖₖ / (rₖ + qₖ); macro F1 averages F1ₖ over the classes that occur in the view as a label
  * or a prediction (van Rijsbergen, Information Retrieval, 2nd ed., 1979, the F measure with β = 1, from memory).
@@ -198,7 +198,7 @@ export class ConfusionTally implements Tally<ConfusionTallyState>, Classificatio
     return kappaStatistic(this.accuracy(), majority / this.total);
   }
 
-  kappaTemporal(): number {
+  kappaNoChange(): number {
     return kappaStatistic(this.accuracy(), this.noChangeHits / this.total);
   }
 
@@ -236,7 +236,7 @@ export class ConfusionTally implements Tally<ConfusionTallyState>, Classificatio
       accuracy: orNull(this.accuracy()),
       kappa: orNull(this.kappa()),
       kappaM: orNull(this.kappaM()),
-      kappaTemporal: orNull(this.kappaTemporal()),
+      kappaNoChange: orNull(this.kappaNoChange()),
       logLoss: orNull(this.logLoss()),
       macroF1: orNull(this.macroF1()),
       precision: codes.map((k) => orNull(this.precision(k))),

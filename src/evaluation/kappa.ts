@@ -8,7 +8,7 @@
  *   by chance between labels and predictions with the same marginals;
  * - κ-M (Bifet et al., "Efficient online evaluation of big data stream classifiers", KDD 2015, from
  *   memory): p_c = the accuracy of the majority-class classifier;
- * - κ-temporal (Žliobaitė, Bifet, Read, Pfahringer & Holmes, "Evaluation methods and decision theory
+ * - κ vs no-change (Žliobaitė, Bifet, Read, Pfahringer & Holmes, "Evaluation methods and decision theory
  *   for classification of streaming data with temporal dependence", Machine Learning 98, 2015, from
  *   memory): p_c = the accuracy of the no-change classifier, which predicts the previous label.
  *

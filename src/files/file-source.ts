@@ -1,5 +1,5 @@
 import { ShoalError } from '../core/index.js';
-import type { FrameDecoder } from '../frames/index.js';
+import type { FrameDecoder, FrameFormat } from '../frames/index.js';
 import type { LabelSource, Positions, Source, SourceBatch } from '../pipeline/index.js';
 import { readFrames } from './formats.js';
 
@@ -22,19 +22,25 @@ export class FileSource implements Source, LabelSource {
   readonly name: string;
   private readonly decoder: FrameDecoder;
   private readonly rejects: 'throw' | 'keep';
+  private readonly format: { readonly format?: FrameFormat };
   private positions = new BigInt64Array(0);
 
-  constructor(path: string, decoder: FrameDecoder, rejects: 'throw' | 'keep') {
+  /** `format` names the file's format when its extension does not say. */
+  constructor(path: string, decoder: FrameDecoder, rejects: 'throw' | 'keep', format?: FrameFormat) {
     this.name = path;
     this.decoder = decoder;
     this.rejects = rejects;
+    this.format = format === undefined ? {} : { format };
   }
 
   async *open(from: Positions): AsyncGenerator<SourceBatch> {
     const path = this.name;
     const start = from.get(path) ?? 0n;
     let consumed = 0n;
-    for await (const { frame, rejected } of readFrames(path, this.decoder, { rejects: this.rejects })) {
+    for await (const { frame, rejected } of readFrames(path, this.decoder, {
+      rejects: this.rejects,
+      ...this.format,
+    })) {
       const size = BigInt(frame.rows + rejected.length);
       const first = consumed;
       consumed += size;

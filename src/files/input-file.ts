@@ -1,4 +1,5 @@
 import { type FileHandle, open } from 'node:fs/promises';
+import { createGunzip } from 'node:zlib';
 import { ShoalError } from '../core/index.js';
 import type { LineChunk } from '../frames/index.js';
 
@@ -20,11 +21,14 @@ const CHUNK_BYTES = 1 << 16;
 /**
  * The lines of a text file, streamed in chunks of about 64 KiB (the file is never read whole, and the
  * per-line cost is a string split, not an await). LF and CRLF both end a line; a byte-order mark at the
- * start is dropped; a last line without a line break still counts.
+ * start is dropped; a last line without a line break still counts. With `gzip` the bytes are inflated
+ * on the way (a damaged or truncated gzip stream is an error naming the line reached).
  */
-export async function* fileLines(path: string): AsyncGenerator<LineChunk> {
+export async function* fileLines(path: string, gzip = false): AsyncGenerator<LineChunk> {
   const handle = await openInput(path);
-  const stream = handle.createReadStream({ encoding: 'utf8', highWaterMark: CHUNK_BYTES, autoClose: false });
+  const raw = handle.createReadStream({ highWaterMark: CHUNK_BYTES, autoClose: false });
+  const stream = gzip ? raw.pipe(createGunzip()) : raw;
+  stream.setEncoding('utf8');
   let carry = '';
   let next = 1;
   try {
@@ -48,13 +52,14 @@ export async function* fileLines(path: string): AsyncGenerator<LineChunk> {
     if (e instanceof ShoalError) throw e;
     throw new ShoalError(
       'io-failure',
-      `${path}: read failed after line ${next - 1}: ${(e as Error).message}`,
+      `${path}: read failed after line ${next - 1}: ${gzip && (e as NodeJS.ErrnoException).code?.startsWith('Z_') !== false ? `the gzip stream is damaged or cut short (${(e as Error).message})` : (e as Error).message}`,
       {
         cause: e,
       },
     );
   } finally {
     stream.destroy();
+    raw.destroy();
     await handle.close();
   }
 }

@@ -2,6 +2,7 @@ import { open } from 'node:fs/promises';
 import { MessageHeader } from 'apache-arrow';
 import { Footer } from 'apache-arrow/ipc/metadata/file';
 import { Message, type RecordBatch } from 'apache-arrow/ipc/metadata/message';
+import type { FrameFormat } from '../frames/index.js';
 import { formatOf } from './formats.js';
 
 /** The Arrow IPC file format ends with the footer's length (int32) and the magic `ARROW1`. */
@@ -17,11 +18,10 @@ const CHUNK = 1 << 20;
  * CSV or NDJSON file's lines are counted. Null when it cannot be told without decoding (an Arrow IPC
  * stream). Never throws for a readable file; a damaged one is reported by the reader proper.
  */
-export async function countRows(path: string): Promise<number | null> {
+export async function countRows(path: string, format?: FrameFormat): Promise<number | null> {
   try {
-    return formatOf(path) === 'arrow'
-      ? await arrowFileRows(path)
-      : await textRows(path, formatOf(path) === 'csv');
+    const chosen = formatOf(path, format);
+    return chosen === 'arrow' ? await arrowFileRows(path) : await textRows(path, chosen === 'csv');
   } catch {
     return null;
   }

@@ -1,5 +1,5 @@
 import { type Data, DataType, makeVector, Precision, type Schema, type Vector } from 'apache-arrow';
-import { type ColumnType, categoryCell, numericCell, showCell } from './cells.js';
+import { type ColumnType, showCell } from './cells.js';
 import type { Binding, SourceColumn } from './columns.js';
 import type { DeclaredSchema, FrameDecoder } from './decoder.js';
 import { describePosition, type Rejection } from './frame.js';
@@ -179,7 +179,7 @@ export class ArrowBatchFiller {
       const vector = makeVector(data);
       for (let r = 0, o = start; r < n; r++, o += width) {
         const value = vector.get(r);
-        const x = numericCell(value);
+        const x = this.decoder.cells.numeric(value);
         if (x === undefined)
           this.refuse(at + r, `${this.decoder.column(j)}: expected a number, got ${showCell(value)}`);
         else out[o] = x;
@@ -193,12 +193,13 @@ export class ArrowBatchFiller {
     const out = this.decoder.buffer.values;
     const vocabulary = this.decoder.vocabulary(j)!;
     const start = at * width + j;
+    const cells = this.decoder.cells;
     const lookup = (value: unknown): number => {
-      const name = categoryCell(value);
+      const name = cells.category(value);
       return name === undefined ? -1 : name === null ? Number.NaN : vocabulary.code(name);
     };
     const refuse = (row: number, value: unknown) => {
-      const name = categoryCell(value);
+      const name = cells.category(value);
       this.refuse(
         row,
         name === undefined || name === null

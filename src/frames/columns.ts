@@ -6,6 +6,8 @@ import type { ResolvedOptions } from './options.js';
 export interface SourceColumn {
   readonly name: string;
   readonly type: ColumnType;
+  /** For a numeric column: whether every value seen could be a class code (absent: assume so). */
+  readonly codeLike?: boolean;
   /** The source's own name for the type (an Arrow type, `JSON object`), for messages. */
   readonly detail: string;
 }
@@ -30,6 +32,8 @@ export interface BoundColumns {
   readonly features: readonly Feature[];
   /** Type of the label column, which settles whether labels are codes or names. */
   readonly labelType: ColumnType;
+  /** Whether the label column's numbers could all be class codes. */
+  readonly labelCodes: boolean;
 }
 
 function listColumns(names: readonly string[]): string {
@@ -104,5 +108,10 @@ export function bindColumns(
     label,
     id,
   };
-  return { binding, features: bound, labelType: label < 0 ? 'empty' : columns[label]!.type };
+  return {
+    binding,
+    features: bound,
+    labelType: label < 0 ? 'empty' : columns[label]!.type,
+    labelCodes: label < 0 || columns[label]!.codeLike !== false,
+  };
 }

@@ -1,5 +1,5 @@
 import { ShoalError } from '../core/index.js';
-import { mergeTypes, textCellType } from './cells.js';
+import { TypeTally } from './cells.js';
 import type { SourceColumn } from './columns.js';
 import { CsvParser } from './csv-parser.js';
 import type { FrameDecoder } from './decoder.js';
@@ -10,8 +10,8 @@ import { type LineChunk, type TextFormat, type TextRecord, textFrames } from './
 /**
  * Frames from CSV text with a header row (RFC 4180 quoting; an empty field is a missing value), given
  * as chunks of lines (`src/files/` reads them from disk). Column types are inferred from the first
- * batch: a column whose cells all read as numbers is numeric, `true`/`false` is boolean, anything else
- * is a category. `path` names the source in messages.
+ * batch by majority (see `TypeTally`): a column is a category only when most of its present cells are
+ * not numbers. `path` names the source in messages.
  *
  * @example
  * const decoder = new FrameDecoder({ label: 'rejected' });
@@ -28,6 +28,13 @@ export async function* csvFrames(
     const first = await records.next();
     if (first.done) return;
     const [header, ...rest] = first.value;
+    const only = header!.value?.length === 1 ? header!.value[0]! : '';
+    if (only.includes(';') || only.includes('\t')) {
+      throw new ShoalError(
+        'invalid-input',
+        `${path} line ${header!.line}: the header is one column, ${JSON.stringify(only)}: the file is separated by ${only.includes(';') ? 'semicolons' : 'tabs'}, and Shoal reads comma-separated CSV (RFC 4180); convert it first`,
+      );
+    }
     if (header!.problem !== null) {
       throw new ShoalError(
         'invalid-input',
@@ -91,13 +98,13 @@ async function* csvRecords(
 
 function csvFormat(header: readonly string[]): TextFormat<string[]> {
   return {
-    columns(first): SourceColumn[] {
+    columns(first, cells): SourceColumn[] {
       return header.map((name, i) => {
-        let type = textCellType('');
+        const tally = new TypeTally();
         for (const record of first) {
-          if (record.length === header.length) type = mergeTypes(type, textCellType(record[i]!));
+          if (record.length === header.length) tally.add(cells.textType(record[i]!), record[i]);
         }
-        return { name, type, detail: 'CSV text' };
+        return { name, type: tally.decide(), codeLike: tally.codeLike(), detail: 'CSV text' };
       });
     },
     cells(record) {

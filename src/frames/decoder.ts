@@ -6,7 +6,7 @@ import {
   ShoalError,
   type Snapshot,
 } from '../core/index.js';
-import { categoryCell, numericCell, showCell } from './cells.js';
+import { CellReader, showCell } from './cells.js';
 import { type Binding, type BindProblem, bindColumns, type SourceColumn } from './columns.js';
 import type { Frame, PositionUnit } from './frame.js';
 import { FrameBuffer } from './frame-buffer.js';
@@ -61,6 +61,8 @@ const STATE_VERSION = 1;
 export class FrameDecoder {
   readonly options: ResolvedOptions;
   readonly buffer = new FrameBuffer();
+  /** Reads cells with this stream's missing-value tokens. */
+  readonly cells: CellReader;
   private given: FrameOptions;
   private labels: LabelDictionary;
   private current: FeatureSchema | null = null;
@@ -70,7 +72,17 @@ export class FrameDecoder {
   constructor(options: FrameOptions = {}, where = 'frame options') {
     this.options = resolveFrameOptions(options, where);
     this.given = options;
-    this.labels = new LabelDictionary(this.options.classes, this.options.maxClasses);
+    this.cells = new CellReader(this.options.missing);
+    this.labels = new LabelDictionary(
+      this.options.classes,
+      this.options.maxClasses,
+      (v) => this.cells.isMissing(v),
+      this.options.labelsAs === 'class-codes'
+        ? 'code'
+        : this.options.labelsAs === 'class-names'
+          ? 'name'
+          : null,
+    );
     if (this.options.features !== null) this.settle(this.options.features);
   }
 
@@ -105,6 +117,20 @@ export class FrameDecoder {
       throw new ShoalError('invalid-parameter', `categories: ${String(feature)} is not a nominal feature`);
     }
     return vocabulary.names();
+  }
+
+  /**
+   * Nominal features whose vocabulary is full, with how many values have shared its overflow code
+   * since the start (values beyond the first `values − 1` categories).
+   */
+  overflows(): { readonly feature: string; readonly codes: number; readonly values: number }[] {
+    const found = [];
+    for (let j = 0; j < this.vocabularies.length; j++) {
+      const v = this.vocabularies[j];
+      if (v !== null && v !== undefined && v.overflowed > 0)
+        found.push({ feature: this.current!.features[j]!.name, codes: v.capacity, values: v.overflowed });
+    }
+    return found;
   }
 
   /** The vocabulary of feature j (null for a numeric feature). */
@@ -181,7 +207,7 @@ export class FrameDecoder {
     const bound = bindColumns(columns, this.options, known);
     if ('reason' in bound) return bound;
     if (this.current === null) this.settle(bound.features);
-    this.labels.decide(bound.labelType === 'other' ? 'string' : bound.labelType);
+    this.labels.decide(bound.labelType === 'other' ? 'string' : bound.labelType, bound.labelCodes);
     this.last = bound.binding;
     return bound.binding;
   }
@@ -199,12 +225,12 @@ export class FrameDecoder {
       const value = cells[binding.features[j]!];
       const vocabulary = this.vocabularies[j];
       if (vocabulary === null) {
-        const n = numericCell(value);
+        const n = this.cells.numeric(value);
         if (n === undefined) return `${this.column(j)}: expected a number, got ${showCell(value)}`;
         out[base + j] = n;
         continue;
       }
-      const name = categoryCell(value);
+      const name = this.cells.category(value);
       if (name === undefined) return `${this.column(j)}: expected a category, got ${showCell(value)}`;
       const code = name === null ? Number.NaN : vocabulary!.code(name);
       if (code < 0) return this.unknownCategory(j, name!);

@@ -6,6 +6,9 @@
  */
 export type LabelMode = 'code' | 'name';
 
+/** Whether a label cell is missing (the decoder's missing-value tokens). */
+export type IsMissing = (value: unknown) => boolean;
+
 export class LabelDictionary {
   /** Undecided (null) until a label column's type or its first label says which. */
   mode: LabelMode | null;
@@ -13,8 +16,16 @@ export class LabelDictionary {
   private readonly list: string[];
   private readonly codes = new Map<string, number>();
 
-  constructor(known: readonly string[], maxClasses: number, mode: LabelMode | null = null) {
+  private readonly isMissing: IsMissing;
+
+  constructor(
+    known: readonly string[],
+    maxClasses: number,
+    isMissing: IsMissing,
+    mode: LabelMode | null = null,
+  ) {
     this.maxClasses = maxClasses;
+    this.isMissing = isMissing;
     this.mode = mode;
     this.list = [];
     for (const name of known) this.add(name);
@@ -29,9 +40,9 @@ export class LabelDictionary {
    * Settle the mode from a column's type. A boolean column is a code column whose classes are named
    * `false` and `true` unless names were given.
    */
-  decide(kind: 'number' | 'bool' | 'string' | 'empty'): void {
+  decide(kind: 'number' | 'bool' | 'string' | 'empty', codeLike = true): void {
     if (this.mode !== null || kind === 'empty') return;
-    this.mode = kind === 'string' ? 'name' : 'code';
+    this.mode = kind === 'string' || (kind === 'number' && !codeLike) ? 'name' : 'code';
     if (kind === 'bool' && this.list.length === 0) {
       this.add('false');
       this.add('true');
@@ -54,11 +65,11 @@ export class LabelDictionary {
   }
 
   /**
-   * The code of a label cell of any source: NaN for a missing label (null, undefined, NaN, empty text), −1
+   * The code of a label cell of any source: NaN for a missing label (null, undefined, NaN, a missing-value token), −1
    * for a value that is not a label (see `explain`).
    */
   code(value: unknown): number {
-    if (value === null || value === undefined || value === '' || Number.isNaN(value)) return Number.NaN;
+    if (this.isMissing(value)) return Number.NaN;
     if (this.mode === null) this.mode = typeof value === 'string' && !isCodeText(value) ? 'name' : 'code';
     if (this.mode === 'name') {
       return typeof value === 'object' ? -1 : this.codeOfName(String(value));
@@ -68,7 +79,8 @@ export class LabelDictionary {
     if (typeof value === 'bigint') return this.codeOfNumber(Number(value));
     if (typeof value === 'string') {
       if (value === 'true' || value === 'false') return this.codeOfNumber(value === 'true' ? 1 : 0);
-      if (isCodeText(value)) return this.codeOfNumber(Number(value));
+      const n = Number(value);
+      if (value.trim() !== '' && Number.isInteger(n)) return this.codeOfNumber(n);
     }
     return -1;
   }
@@ -79,7 +91,7 @@ export class LabelDictionary {
     if (this.mode === 'name' && typeof value !== 'object') {
       return `label ${shown} would be class ${this.list.length + 1}, more than maxClasses (${this.maxClasses})`;
     }
-    return `label ${shown} is not a class code (an integer from 0 to ${this.maxClasses - 1})`;
+    return `label ${shown} is not a class code (an integer from 0 to ${this.maxClasses - 1}); set inputs.labelsAs: class-names (--labels-as class-names) to read labels as names`;
   }
 
   private add(name: string): number {

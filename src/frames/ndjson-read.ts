@@ -1,4 +1,4 @@
-import { type ColumnType, jsonCellType, mergeTypes } from './cells.js';
+import { TypeTally } from './cells.js';
 import type { SourceColumn } from './columns.js';
 import type { FrameDecoder } from './decoder.js';
 import type { Decoded, MessageDecode } from './frame.js';
@@ -7,9 +7,10 @@ import { type LineChunk, type TextFormat, type TextRecord, textFrames } from './
 
 /**
  * Frames from newline-delimited JSON given as chunks of lines (`src/files/` reads them from disk):
- * one JSON object per line, keys are columns. Column types are
- * inferred from the JSON types of the first batch (a JSON string is a category even when it looks like
- * a number). A key that a later record leaves out is a missing value; keys first seen after the first
+ * one JSON object per line, keys are columns. Column types are inferred from the JSON types of the
+ * first batch, by majority (a JSON string is a category even when it looks like a number, but a few
+ * quoted numbers do not make a numeric column a category). A key that a later record leaves out is a
+ * missing value; keys first seen after the first
  * batch are ignored.
  *
  * @example
@@ -63,18 +64,24 @@ async function* jsonLines(chunks: AsyncIterable<LineChunk>): AsyncGenerator<Text
 function jsonFormat(): TextFormat<JsonObject> {
   const scratch: unknown[] = [];
   return {
-    columns(first): SourceColumn[] {
-      const types = new Map<string, ColumnType>();
+    columns(first, cells): SourceColumn[] {
+      const types = new Map<string, TypeTally>();
       for (const record of first) {
         for (const key of Object.keys(record)) {
-          types.set(key, mergeTypes(types.get(key) ?? 'empty', jsonCellType(record[key])));
+          const tally = types.get(key) ?? new TypeTally();
+          types.set(key, tally);
+          tally.add(cells.jsonType(record[key]), record[key]);
         }
       }
-      return [...types].map(([name, type]) => ({
-        name,
-        type,
-        detail: type === 'other' ? 'JSON object or array' : `JSON ${type}`,
-      }));
+      return [...types].map(([name, tally]) => {
+        const type = tally.decide();
+        return {
+          name,
+          type,
+          codeLike: tally.codeLike(),
+          detail: type === 'other' ? 'JSON object or array' : `JSON ${type}`,
+        };
+      });
     },
     cells(record, names) {
       scratch.length = names.length;
@@ -109,7 +116,7 @@ export function decodeJsonRecord(
         : asRecord(record);
   if (typeof value === 'string') return { ok: false, reason: `${source} record ${index}: ${value}` };
   const format = jsonFormat();
-  const binding = decoder.binding ?? decoder.bind(format.columns([value]));
+  const binding = decoder.binding ?? decoder.bind(format.columns([value], decoder.cells));
   if ('reason' in binding) return { ok: false, reason: `${source}: ${binding.reason}` };
   decoder.buffer.reserve(1, decoder.schema!.features.length);
   const ids = binding.id >= 0 ? [] : null;

@@ -1,4 +1,5 @@
 import { ConfigError, type ConfigIssue, type Feature } from '../core/index.js';
+import { DEFAULT_MISSING } from './cells.js';
 
 /**
  * What a stream's columns mean. Everything is optional: by default the column `label` is the label,
@@ -33,6 +34,13 @@ export interface FrameOptions {
   readonly vocabulary?: number;
   /** The most classes a label column may name (default 1024). */
   readonly maxClasses?: number;
+  /** Text read as a missing value in any column (default: empty, `NA`, `NaN`, `?`, `null`). */
+  readonly missing?: readonly string[];
+  /**
+   * How labels are read: `class-codes` (integers 0, 1, …), `class-names` (any value names a class).
+   * By default labels are codes when the first rows' labels are all integers from 0 to 1023, else names.
+   */
+  readonly labelsAs?: 'class-codes' | 'class-names';
 }
 
 /** One feature of an explicit specification. */
@@ -65,6 +73,8 @@ export interface ResolvedOptions {
   readonly classes: readonly string[];
   readonly vocabulary: number;
   readonly maxClasses: number;
+  readonly missing: readonly string[];
+  readonly labelsAs: 'class-codes' | 'class-names' | null;
 }
 
 function isStringList(value: unknown): value is readonly string[] {
@@ -78,14 +88,15 @@ function checkNames(
   what: string,
 ): value is readonly string[] {
   if (!isStringList(value)) {
-    issues.push({ path, message: `must be a list of ${what}` });
+    issues.push({ path, code: 'wrong-type', message: `must be a list of ${what}` });
     return false;
   }
   const seen = new Set<string>();
   value.forEach((name, i) => {
-    if (name.length === 0) issues.push({ path: `${path}[${i}]`, message: 'must not be empty' });
+    if (name.length === 0)
+      issues.push({ path: `${path}[${i}]`, code: 'wrong-type', message: 'must not be empty' });
     else if (seen.has(name))
-      issues.push({ path: `${path}[${i}]`, message: `repeats ${JSON.stringify(name)}` });
+      issues.push({ path: `${path}[${i}]`, code: 'duplicate', message: `repeats ${JSON.stringify(name)}` });
     seen.add(name);
   });
   return true;
@@ -93,7 +104,9 @@ function checkNames(
 
 function wholeAtLeast(issues: ConfigIssue[], path: string, value: unknown, min: number): value is number {
   if (typeof value === 'number' && Number.isInteger(value) && value >= min) return true;
-  issues.push({ path, message: `must be an integer ≥ ${min}, got ${JSON.stringify(value)}` });
+  const code =
+    typeof value !== 'number' ? 'wrong-type' : Number.isInteger(value) ? 'out-of-range' : 'not-an-integer';
+  issues.push({ path, code, message: `must be an integer ≥ ${min}, got ${JSON.stringify(value)}` });
   return false;
 }
 
@@ -105,23 +118,35 @@ function checkFeature(
   vocabulary: number,
 ): Feature | null {
   if (typeof spec !== 'object' || spec === null) {
-    issues.push({ path, message: 'must be an object with name and kind' });
+    issues.push({ path, code: 'wrong-type', message: 'must be an object with name and kind' });
     return null;
   }
   const { name, kind, categories, values } = spec as Record<string, unknown>;
   const before = issues.length;
   if (typeof name !== 'string' || name.length === 0) {
-    issues.push({ path: `${path}.name`, message: 'must be a non-empty string' });
+    issues.push({ path: `${path}.name`, code: 'wrong-type', message: 'must be a non-empty string' });
   }
   if (kind === 'numeric') {
     if (categories !== undefined)
-      issues.push({ path: `${path}.categories`, message: 'only a nominal feature has categories' });
+      issues.push({
+        path: `${path}.categories`,
+        code: 'unknown-setting',
+        message: 'only a nominal feature has categories',
+      });
     if (values !== undefined)
-      issues.push({ path: `${path}.values`, message: 'only a nominal feature has values' });
+      issues.push({
+        path: `${path}.values`,
+        code: 'unknown-setting',
+        message: 'only a nominal feature has values',
+      });
     return issues.length === before ? { name: name as string, kind: 'numeric', values: 0 } : null;
   }
   if (kind !== 'nominal') {
-    issues.push({ path: `${path}.kind`, message: `must be numeric or nominal, got ${JSON.stringify(kind)}` });
+    issues.push({
+      path: `${path}.kind`,
+      code: 'not-one-of',
+      message: `must be numeric or nominal, got ${JSON.stringify(kind)}`,
+    });
     return null;
   }
   const known = categories === undefined ? [] : categories;
@@ -131,6 +156,7 @@ function checkFeature(
   if (wholeAtLeast(issues, `${path}.values`, codes, 2) && codes < count) {
     issues.push({
       path: `${path}.values`,
+      code: 'out-of-range',
       message: `is ${codes}, fewer than the ${count} categories listed`,
     });
   }
@@ -151,7 +177,7 @@ export function checkFeatureSpecs(
   vocabulary: number,
 ): Feature[] | null {
   if (!Array.isArray(specs)) {
-    issues.push({ path, message: 'must be a list of features' });
+    issues.push({ path, code: 'wrong-type', message: 'must be a list of features' });
     return null;
   }
   const before = issues.length;
@@ -161,7 +187,11 @@ export function checkFeatureSpecs(
     const feature = checkFeature(issues, `${path}[${i}]`, spec, vocabulary);
     const name = (spec as { name?: unknown } | null)?.name;
     if (typeof name === 'string' && seen.has(name)) {
-      issues.push({ path: `${path}[${i}].name`, message: `repeats ${JSON.stringify(name)}` });
+      issues.push({
+        path: `${path}[${i}].name`,
+        code: 'duplicate',
+        message: `repeats ${JSON.stringify(name)}`,
+      });
     }
     if (typeof name === 'string') seen.add(name);
     if (feature !== null) features.push(feature);
@@ -175,13 +205,13 @@ export function resolveFrameOptions(options: FrameOptions, where = 'frame option
   const o = (options ?? {}) as Record<string, unknown>;
   const label = o.label === undefined ? DEFAULT_LABEL : o.label;
   if (label !== null && (typeof label !== 'string' || label.length === 0)) {
-    issues.push({ path: 'label', message: 'must be a column name or null' });
+    issues.push({ path: 'label', code: 'wrong-type', message: 'must be a column name or null' });
   }
   if (o.id !== undefined && (typeof o.id !== 'string' || o.id.length === 0)) {
-    issues.push({ path: 'id', message: 'must be a column name' });
+    issues.push({ path: 'id', code: 'wrong-type', message: 'must be a column name' });
   }
   if (o.id !== undefined && o.id === label) {
-    issues.push({ path: 'id', message: `names the label column ${JSON.stringify(label)}` });
+    issues.push({ path: 'id', code: 'conflict', message: `names the label column ${JSON.stringify(label)}` });
   }
   const exclude = o.exclude ?? [];
   if (checkNames(issues, 'exclude', exclude, 'column names')) {
@@ -189,6 +219,7 @@ export function resolveFrameOptions(options: FrameOptions, where = 'frame option
       if (name === label || name === o.id) {
         issues.push({
           path: `exclude[${i}]`,
+          code: 'conflict',
           message: `excludes the label or id column ${JSON.stringify(name)}`,
         });
       }
@@ -200,20 +231,36 @@ export function resolveFrameOptions(options: FrameOptions, where = 'frame option
   wholeAtLeast(issues, 'maxClasses', maxClasses, 2);
   const classes = o.classes ?? [];
   if (checkNames(issues, 'classes', classes, 'class names') && classes.length > (maxClasses as number)) {
-    issues.push({ path: 'classes', message: `lists ${classes.length} classes, more than maxClasses` });
+    issues.push({
+      path: 'classes',
+      code: 'out-of-range',
+      message: `lists ${classes.length} classes, more than maxClasses`,
+    });
   }
+  if (o.labelsAs !== undefined && o.labelsAs !== 'class-codes' && o.labelsAs !== 'class-names') {
+    issues.push({
+      path: 'labelsAs',
+      code: 'not-one-of',
+      message: `must be one of class-codes, class-names, got ${JSON.stringify(o.labelsAs)}`,
+    });
+  }
+  const missing = o.missing ?? DEFAULT_MISSING;
+  if (!isStringList(missing))
+    issues.push({ path: 'missing', code: 'wrong-type', message: 'must be a list of texts' });
   const features =
     o.features === undefined ? null : checkFeatureSpecs(issues, 'features', o.features, vocabulary as number);
   features?.forEach((f, i) => {
     if (f.name === label || f.name === o.id) {
       issues.push({
         path: `features[${i}].name`,
+        code: 'conflict',
         message: `names the label or id column ${JSON.stringify(f.name)}`,
       });
     }
     if (Array.isArray(exclude) && exclude.includes(f.name)) {
       issues.push({
         path: `features[${i}].name`,
+        code: 'conflict',
         message: `names the excluded column ${JSON.stringify(f.name)}`,
       });
     }
@@ -228,5 +275,7 @@ export function resolveFrameOptions(options: FrameOptions, where = 'frame option
     classes: classes as readonly string[],
     vocabulary: vocabulary as number,
     maxClasses: maxClasses as number,
+    missing: missing as readonly string[],
+    labelsAs: (o.labelsAs as ResolvedOptions['labelsAs'] | undefined) ?? null,
   };
 }

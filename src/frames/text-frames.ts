@@ -1,4 +1,5 @@
 import { ShoalError } from '../core/index.js';
+import type { CellReader } from './cells.js';
 import type { SourceColumn } from './columns.js';
 import type { FrameDecoder } from './decoder.js';
 import type { Decoded, Rejection } from './frame.js';
@@ -21,7 +22,7 @@ export interface TextRecord<T> {
 /** What a text format (CSV, NDJSON) tells the shared batching about its records. */
 export interface TextFormat<T> {
   /** The source's columns and the types their cells suggest, from the first batch of good records. */
-  columns(first: readonly T[]): SourceColumn[];
+  columns(first: readonly T[], cells: CellReader): SourceColumn[];
   /** The record's cells aligned with `names` (the bound columns), or why the record does not fit. */
   cells(value: T, names: readonly string[]): readonly unknown[] | string;
 }
@@ -49,7 +50,7 @@ export async function* textFrames<T>(
   }
   if (first.length === 0) return;
   const sample = first.slice(0, batchRows).flatMap((r) => (r.value === null ? [] : [r.value]));
-  const bound = decoder.bind(format.columns(sample));
+  const bound = decoder.bind(format.columns(sample, decoder.cells));
   if ('reason' in bound) throw new ShoalError(bound.code, `${source}: ${bound.reason}`);
   const width = decoder.schema!.features.length;
   const buffer = decoder.buffer;

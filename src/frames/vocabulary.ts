@@ -14,6 +14,8 @@ export class Vocabulary {
   readonly open: boolean;
   private readonly codes = new Map<string, number>();
   private readonly list: string[] = [];
+  /** Values given the overflow code because the vocabulary was full. */
+  overflowed = 0;
 
   constructor(feature: Feature, known: readonly string[] = feature.categories ?? []) {
     this.capacity = feature.values;
@@ -30,7 +32,10 @@ export class Vocabulary {
     const found = this.codes.get(name);
     if (found !== undefined) return found;
     if (!this.open) return -1;
-    if (this.list.length >= this.capacity - 1) return this.capacity - 1;
+    if (this.list.length >= this.capacity - 1) {
+      this.overflowed++;
+      return this.capacity - 1;
+    }
     const code = this.list.length;
     this.list.push(name);
     this.codes.set(name, code);

@@ -1,5 +1,6 @@
 export { parseJournal } from './parser.js';
 export type {
+  InputDriftCause,
   InputDriftRecord,
   JournalRecord,
   LabelCounts,
@@ -12,5 +13,11 @@ export type {
   ViewFigures,
   WindowRecord,
 } from './records.js';
-export { isDriftSignal, JOURNAL_VERSION, LIFECYCLE_CAUSES, MEMBER_STATES } from './records.js';
+export {
+  INPUT_DRIFT_CAUSES,
+  isDriftSignal,
+  JOURNAL_VERSION,
+  LIFECYCLE_CAUSES,
+  MEMBER_STATES,
+} from './records.js';
 export { journalLine } from './writer.js';

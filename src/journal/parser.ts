@@ -1,6 +1,7 @@
 import { type Feature, type FeatureSchema, ShoalError } from '../core/index.js';
 import { Fields, isObject, show } from './fields.js';
 import {
+  INPUT_DRIFT_CAUSES,
   type InputDriftRecord,
   JOURNAL_VERSION,
   type JournalRecord,
@@ -122,7 +123,7 @@ function readView(f: Fields): ViewFigures {
     accuracy: f.numberOrNull('accuracy'),
     kappa: f.numberOrNull('kappa'),
     kappaM: f.numberOrNull('kappaM'),
-    kappaTemporal: f.numberOrNull('kappaTemporal'),
+    kappaNoChange: f.numberOrNull('kappaNoChange'),
     logLoss: f.numberOrNull('logLoss'),
   };
 }
@@ -161,6 +162,7 @@ function readInputDrift(f: Fields): InputDriftRecord {
     trained: f.integer('trained', 0),
     feature: f.string('feature'),
     kind: f.oneOf('kind', KINDS),
+    cause: f.oneOf('cause', INPUT_DRIFT_CAUSES),
   };
 }
 
@@ -175,7 +177,7 @@ function readSummary(f: Fields): SummaryRecord {
     accuracy: f.numberOrNull('accuracy'),
     kappa: f.numberOrNull('kappa'),
     kappaM: f.numberOrNull('kappaM'),
-    kappaTemporal: f.numberOrNull('kappaTemporal'),
+    kappaNoChange: f.numberOrNull('kappaNoChange'),
     logLoss: f.numberOrNull('logLoss'),
     macroF1: f.numberOrNull('macroF1'),
     classes,

@@ -110,7 +110,7 @@ export interface ViewFigures {
   readonly accuracy: number | null;
   readonly kappa: number | null;
   readonly kappaM: number | null;
-  readonly kappaTemporal: number | null;
+  readonly kappaNoChange: number | null;
   readonly logLoss: number | null;
 }
 
@@ -161,7 +161,14 @@ export interface InputDriftRecord {
   readonly trained: number;
   readonly feature: string;
   readonly kind: 'numeric' | 'nominal';
+  /** `distribution`: the feature's values moved; `missing-share`: how often it is missing jumped. */
+  readonly cause: InputDriftCause;
 }
+
+/** Why an input drift was raised. */
+export type InputDriftCause = 'distribution' | 'missing-share';
+
+export const INPUT_DRIFT_CAUSES: readonly InputDriftCause[] = ['distribution', 'missing-share'];
 
 export interface SummaryRecord {
   readonly type: 'summary';
@@ -172,7 +179,7 @@ export interface SummaryRecord {
   readonly accuracy: number | null;
   readonly kappa: number | null;
   readonly kappaM: number | null;
-  readonly kappaTemporal: number | null;
+  readonly kappaNoChange: number | null;
   readonly logLoss: number | null;
   readonly macroF1: number | null;
   /** Class names, index = class code. */

@@ -177,7 +177,7 @@ export function readSecrets(
     if (name === null) return null;
     const value = env[name];
     if (value === undefined || value === '') {
-      issues.push({ path, message: `the environment variable ${name} is not set` });
+      issues.push({ path, code: 'required', message: `the environment variable ${name} is not set` });
       return null;
     }
     return value;
@@ -203,8 +203,8 @@ export interface Secrets {
 class Issues {
   readonly issues: ConfigIssue[] = [];
 
-  fail(path: string, message: string): void {
-    this.issues.push({ path, message });
+  fail(path: string, message: string, code: ConfigIssue['code'] = 'wrong-type'): void {
+    this.issues.push({ path, code, message });
   }
 
   mapping(path: string, raw: unknown, keys: readonly string[], required: boolean): Record<string, unknown> {

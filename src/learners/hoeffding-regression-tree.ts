@@ -1,17 +1,16 @@
 import {
   checkSchema,
   checkSnapshot,
-  closedUnit,
   decodeF64,
   decodeI32,
+  defaultsOf,
   encodeF64,
   encodeI32,
   type FeatureSchema,
   hoeffdingBound,
-  integerAtLeast,
-  oneOf,
-  openUnit,
-  positive,
+  type OptionsOf,
+  type OptionTable,
+  resolveOptions,
   type Seed,
   ShoalError,
   welfordAdd,
@@ -21,12 +20,10 @@ import { checkForwardLinks, ValueTree, type ValueTreeState } from './hoeffding-r
 import { checkRow, checkTarget, checkWeight, type LearnerSnapshot, type Regressor } from './learner.js';
 import {
   CLOCK,
-  checkLinearSgdOptions,
   HEAD,
   type LeafModel,
-  LINEAR_SGD_DEFAULTS,
+  LINEAR_SGD_OPTIONS,
   LinearSgd,
-  type LinearSgdOptions,
   TARGET,
 } from './linear-regression-sgd.js';
 import { isPresent, nominalCode } from './missing.js';
@@ -69,46 +66,72 @@ import { isPresent, nominalCode } from './missing.js';
  * const y = tree.predict(rows, j * width);
  */
 
-export type RegressionLeafKind = 'mean' | 'linear';
-
-export interface HoeffdingRegressionTreeOptions extends LinearSgdOptions {
-  /** What a leaf predicts: the mean target, or a linear model of the row. */
-  readonly leaf: RegressionLeafKind;
-  /** Weight a leaf must see between two split tests (an integer ≥ 1). */
-  readonly checkInterval: number;
-  /** δ of the Hoeffding bound: the chance of splitting on a feature that is not the best, in (0, 1). */
-  readonly hoeffdingDelta: number;
-  /** τ: split on the leading feature anyway once ε < τ, in [0, 1]. */
-  readonly tieBreak: number;
-  /** Depth below which leaves may still split (an integer ≥ 0; 0 keeps a single leaf). */
-  readonly depthLimit: number;
-  /** Size above which leaves stop collecting split statistics, in bytes (> 0). */
-  readonly byteLimit: number;
-  /** Distinct values each numeric feature's store keeps per leaf (an integer ≥ 2). */
-  readonly splitPointLimit: number;
-}
-
 /**
- * Defaults. checkInterval 200, δ = 1e-7 and τ = 0.05 are the Hoeffding-tree settings of Domingos &
- * Hulten (KDD 2000; PUBLISHED.md, from memory), which the regression tree reuses; linear leaves as in
- * the model trees of Ikonomovska et al. 2011. depthLimit 20 and byteLimit 32 MiB are common practice;
- * 64 split points per feature and leaf is our choice: on Friedman #1 anything from 16 to 1,024 gave
- * the same prequential error within noise, and fewer points cost less memory and time.
+ * The regression tree's options (see `OptionTable`), with those of its linear leaves. checkInterval 200,
+ * δ = 1e-7 and τ = 0.05 are the Hoeffding-tree settings of Domingos & Hulten (KDD 2000; PUBLISHED.md,
+ * from memory), which the regression tree reuses; linear leaves as in the model trees of Ikonomovska et
+ * al. 2011. depthLimit 20 and byteLimit 32 MiB are common practice; 64 split points per feature and
+ * leaf is our choice: on Friedman #1 anything from 16 to 1,024 gave the same prequential error within
+ * noise, and fewer points cost less memory and time.
  */
-export const HOEFFDING_REGRESSION_TREE_DEFAULTS: HoeffdingRegressionTreeOptions = {
-  ...LINEAR_SGD_DEFAULTS,
-  leaf: 'linear',
-  checkInterval: 200,
-  hoeffdingDelta: 1e-7,
-  tieBreak: 0.05,
-  depthLimit: 20,
-  byteLimit: 32 * 1024 * 1024,
-  splitPointLimit: 64,
-};
+export const HOEFFDING_REGRESSION_TREE_OPTIONS = {
+  ...LINEAR_SGD_OPTIONS,
+  leaf: {
+    type: 'choice',
+    choices: ['mean', 'linear'],
+    default: 'linear',
+    doc: 'what a leaf predicts: the mean target, or a linear model of the row',
+  },
+  checkInterval: {
+    type: 'integer',
+    atLeast: 1,
+    default: 200,
+    doc: 'weight a leaf sees between two split tests',
+  },
+  hoeffdingDelta: {
+    type: 'number',
+    above: 0,
+    below: 1,
+    default: 1e-7,
+    doc: 'δ of the Hoeffding bound: the chance of splitting on a feature that is not the best',
+  },
+  tieBreak: {
+    type: 'number',
+    atLeast: 0,
+    atMost: 1,
+    default: 0.05,
+    doc: 'τ: split on the leader anyway once ε < τ',
+  },
+  depthLimit: {
+    type: 'integer',
+    atLeast: 0,
+    default: 20,
+    doc: 'depth below which leaves may split (0: one leaf)',
+  },
+  byteLimit: {
+    type: 'number',
+    above: 0,
+    default: 32 * 1024 * 1024,
+    doc: 'size above which leaves stop collecting split statistics, in bytes',
+  },
+  splitPointLimit: {
+    type: 'integer',
+    atLeast: 2,
+    default: 64,
+    doc: 'distinct values each numeric feature keeps per leaf',
+  },
+} as const satisfies OptionTable;
+
+export type HoeffdingRegressionTreeOptions = OptionsOf<typeof HOEFFDING_REGRESSION_TREE_OPTIONS>;
+
+export type RegressionLeafKind = HoeffdingRegressionTreeOptions['leaf'];
+
+export const HOEFFDING_REGRESSION_TREE_DEFAULTS: HoeffdingRegressionTreeOptions = defaultsOf(
+  HOEFFDING_REGRESSION_TREE_OPTIONS,
+);
 
 const KIND = 'hoeffding-regression-tree';
 const VERSION = 1;
-const LEAF_KINDS = ['mean', 'linear'] as const;
 
 // Node layout: ints [kind, feature, lower child, upper child, aux] and doubles [threshold, lower
 // weight, upper weight] per node. aux is the leaf index of a leaf, the mask start of a nominal split.
@@ -196,15 +219,8 @@ export class HoeffdingRegressionTree implements Regressor {
 
   constructor(schema: FeatureSchema, options: Partial<HoeffdingRegressionTreeOptions> = {}, _seed: Seed = 0) {
     this.schema = checkSchema(KIND, schema);
-    const o = { ...HOEFFDING_REGRESSION_TREE_DEFAULTS, ...options };
-    oneOf(KIND, 'leaf', o.leaf, LEAF_KINDS);
-    integerAtLeast(KIND, 'checkInterval', o.checkInterval, 1);
-    openUnit(KIND, 'hoeffdingDelta', o.hoeffdingDelta);
-    closedUnit(KIND, 'tieBreak', o.tieBreak);
-    integerAtLeast(KIND, 'depthLimit', o.depthLimit, 0);
-    positive(KIND, 'byteLimit', o.byteLimit);
-    integerAtLeast(KIND, 'splitPointLimit', o.splitPointLimit, 2);
-    this.options = checkLinearSgdOptions(KIND, o);
+    const o = resolveOptions(KIND, HOEFFDING_REGRESSION_TREE_OPTIONS, options);
+    this.options = o;
     this.leafModel = o.leaf === 'linear' ? new LinearSgd(schema, o) : MEAN_MODEL;
     const features = schema.features;
     this.width = features.length;

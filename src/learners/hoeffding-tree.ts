@@ -3,19 +3,19 @@ import {
   checkSnapshot,
   decodeF64,
   decodeI32,
+  defaultsOf,
   encodeF64,
   encodeI32,
   erfc,
   type FeatureSchema,
   hoeffdingBound,
-  integerAtLeast,
-  nonNegative,
   normalCdf,
-  oneOf,
-  openUnit,
-  positive,
+  type OptionsOf,
+  type OptionTable,
+  optionConflict,
   Rng,
   type RngState,
+  resolveOptions,
   type Seed,
   ShoalError,
 } from '../core/index.js';
@@ -27,7 +27,7 @@ import {
   checkWeight,
   type LearnerSnapshot,
 } from './learner.js';
-import { impurity, type SplitCriterion, splitMerit } from './split-merit.js';
+import { impurity, splitMerit } from './split-merit.js';
 
 /**
  * Hoeffding tree classifier — Domingos & Hulten, "Mining high-speed data streams", KDD 2000 (VFDT).
@@ -63,41 +63,72 @@ import { impurity, type SplitCriterion, splitMerit } from './split-merit.js';
  * const predicted = tree.scoreTrain(rows, i * width, label, 1, probabilities, 0);
  */
 
-export type LeafModel = 'majority' | 'naive-bayes' | 'adaptive';
+/** The Hoeffding tree's options (see `OptionTable`). */
+export const HOEFFDING_TREE_OPTIONS = {
+  checkInterval: {
+    type: 'integer',
+    atLeast: 1,
+    default: 200,
+    doc: 'n_min, the weight a leaf sees between split attempts (Domingos & Hulten: 200)',
+  },
+  hoeffdingDelta: {
+    type: 'number',
+    above: 0,
+    below: 1,
+    default: 1e-7,
+    doc: 'δ, the confidence of the Hoeffding bound (Domingos & Hulten: 1e-7)',
+  },
+  tieBreak: {
+    type: 'number',
+    atLeast: 0,
+    default: 0.05,
+    doc: "τ, in units of the merit's range R: split anyway when ε < τR (Domingos & Hulten: 0.05, R = 1)",
+  },
+  merit: { type: 'choice', choices: ['info-gain', 'gini'], default: 'info-gain', doc: 'the split criterion' },
+  leafModel: {
+    type: 'choice',
+    choices: ['majority', 'naive-bayes', 'adaptive'],
+    default: 'adaptive',
+    doc: 'what a leaf predicts with (adaptive: whichever of the two has been right more often)',
+  },
+  candidateThresholds: {
+    type: 'integer',
+    atLeast: 1,
+    default: 10,
+    doc: 'candidate thresholds per numeric attribute (Pfahringer et al. 2008 use 10)',
+  },
+  featureSubset: {
+    type: 'integer',
+    atLeast: 0,
+    default: 0,
+    doc: 'attributes a leaf considers, drawn per leaf; 0 = all, at most the schema width',
+  },
+  depthLimit: {
+    type: 'integer',
+    atLeast: 0,
+    default: 30,
+    doc: 'leaves at this depth stop splitting (root: 0)',
+  },
+  byteLimit: {
+    type: 'number',
+    above: 0,
+    default: 256 * 1024,
+    doc: 'memory cap in bytes for a two-class tree, scaled by C/2 for C > 2 classes; the least promising leaves are deactivated above it',
+  },
+  branchShareFloor: {
+    type: 'number',
+    atLeast: 0,
+    below: 0.5,
+    default: 0.01,
+    doc: 'smallest share of weight each of two branches must get for a split to count (common practice)',
+  },
+} as const satisfies OptionTable;
 
-export interface HoeffdingTreeOptions {
-  /** Weight a leaf must observe between split attempts (n_min). Domingos & Hulten: 200. */
-  readonly checkInterval: number;
-  /** Confidence δ of the Hoeffding bound. Domingos & Hulten: 1e-7. */
-  readonly hoeffdingDelta: number;
-  /** Tie threshold τ, in units of the merit's range R: split anyway when ε < τR. Domingos & Hulten: 0.05 (R = 1). */
-  readonly tieBreak: number;
-  readonly merit: SplitCriterion;
-  readonly leafModel: LeafModel;
-  /** Candidate thresholds per numeric attribute (Pfahringer et al. 2008 use 10). */
-  readonly candidateThresholds: number;
-  /** Attributes a leaf considers for its split, drawn at random per leaf; 0 = all (forest-style when > 0). */
-  readonly featureSubset: number;
-  /** Maximum depth of a leaf (the root has depth 0); leaves at this depth stop splitting. */
-  readonly depthLimit: number;
-  /** Memory cap in bytes for leaf statistics and nodes of a two-class tree, scaled by C/2 for C > 2 classes; the least promising leaves are deactivated above it. */
-  readonly byteLimit: number;
-  /** Smallest share of weight each of two branches must get for a split to count (common practice: 0.01). */
-  readonly branchShareFloor: number;
-}
+export type HoeffdingTreeOptions = OptionsOf<typeof HOEFFDING_TREE_OPTIONS>;
 
-export const HOEFFDING_TREE_DEFAULTS: HoeffdingTreeOptions = {
-  checkInterval: 200,
-  hoeffdingDelta: 1e-7,
-  tieBreak: 0.05,
-  merit: 'info-gain',
-  leafModel: 'adaptive',
-  candidateThresholds: 10,
-  featureSubset: 0,
-  depthLimit: 30,
-  byteLimit: 256 * 1024,
-  branchShareFloor: 0.01,
-};
+export type LeafModel = HoeffdingTreeOptions['leafModel'];
+
+export const HOEFFDING_TREE_DEFAULTS: HoeffdingTreeOptions = defaultsOf(HOEFFDING_TREE_OPTIONS);
 
 const KIND = 'hoeffding-tree';
 const VERSION = 4;
@@ -143,26 +174,13 @@ const PRIOR_SHARE = 0.25;
 /** Weight trained between two checks of the memory cap, in check intervals. */
 const MEMORY_CHECK_GRACE_PERIODS = 10;
 
-function validate(o: HoeffdingTreeOptions, width: number): HoeffdingTreeOptions {
-  integerAtLeast(KIND, 'checkInterval', o.checkInterval, 1);
-  openUnit(KIND, 'hoeffdingDelta', o.hoeffdingDelta);
-  nonNegative(KIND, 'tieBreak', o.tieBreak);
-  oneOf(KIND, 'merit', o.merit, ['info-gain', 'gini'] as const);
-  oneOf(KIND, 'leafModel', o.leafModel, ['majority', 'naive-bayes', 'adaptive'] as const);
-  integerAtLeast(KIND, 'candidateThresholds', o.candidateThresholds, 1);
-  integerAtLeast(KIND, 'featureSubset', o.featureSubset, 0);
+function validate(options: Partial<HoeffdingTreeOptions>, width: number): HoeffdingTreeOptions {
+  const o = resolveOptions(KIND, HOEFFDING_TREE_OPTIONS, options);
   if (o.featureSubset > width) {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${KIND}: featureSubset must be at most the ${width} features of the schema, got ${o.featureSubset}`,
-    );
-  }
-  integerAtLeast(KIND, 'depthLimit', o.depthLimit, 0);
-  positive(KIND, 'byteLimit', o.byteLimit);
-  if (!(o.branchShareFloor >= 0 && o.branchShareFloor < 0.5)) {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${KIND}: branchShareFloor must be in [0, 0.5), got ${o.branchShareFloor}`,
+    optionConflict(
+      KIND,
+      'featureSubset',
+      `must be at most the ${width} features of the schema, got ${o.featureSubset}`,
     );
   }
   return o;
@@ -267,7 +285,7 @@ export class HoeffdingTree implements Classifier {
   constructor(schema: FeatureSchema, options: Partial<HoeffdingTreeOptions> = {}, seed: Seed = 0) {
     this.schema = checkSchema(KIND, schema);
     this.width = schema.features.length;
-    this.options = validate({ ...HOEFFDING_TREE_DEFAULTS, ...options }, this.width);
+    this.options = validate(options, this.width);
     this.nominal = Uint8Array.from(schema.features, (f) => (f.kind === 'nominal' ? 1 : 0));
     this.cardinality = Int32Array.from(schema.features, (f) => (f.kind === 'nominal' ? f.values : 0));
     this.mode =
@@ -434,7 +452,7 @@ export class HoeffdingTree implements Classifier {
       if (this.nominal[f] === 0) {
         n = !Number.isNaN(x) ? first + Number(x > nodeF[4 * n + N_THRESHOLD]!) : this.heaviestChild(n);
       } else {
-        n = x >= 0 && x < nodeI[8 * n + N_COUNT]! ? first + x : this.heaviestChild(n);
+        n = x >= 0 && x < nodeI[8 * n + N_COUNT]! && (x | 0) === x ? first + x : this.heaviestChild(n);
       }
       if (credit > 0) nodeF[4 * n + N_WEIGHT]! += credit;
       f = nodeI[8 * n + N_FEATURE]!;
@@ -591,7 +609,7 @@ export class HoeffdingTree implements Classifier {
         pred += PRED * c;
       } else {
         const v = this.cardinality[f]!;
-        if (x >= 0 && x < v) {
+        if (x >= 0 && x < v && (x | 0) === x) {
           const cell = nom + x * c;
           const totals = nom + v * c;
           for (let k = 0; k < c; k++) {
@@ -680,7 +698,7 @@ export class HoeffdingTree implements Classifier {
         pred += 2 * PRED;
       } else {
         const v = this.cardinality[f]!;
-        if (x >= 0 && x < v) {
+        if (x >= 0 && x < v && (x | 0) === x) {
           const cell = nom + x * 2;
           const totals = nom + v * 2;
           const q0 = (stats[cell]! + 1) / (stats[totals]! + v);
@@ -747,7 +765,8 @@ export class HoeffdingTree implements Classifier {
         pred += PRED * c;
       } else {
         const v = this.cardinality[f]!;
-        if (x >= 0 && x < v) lp += Math.log((stats[nom + x * c + k]! + 1) / (stats[nom + v * c + k]! + v));
+        if (x >= 0 && x < v && (x | 0) === x)
+          lp += Math.log((stats[nom + x * c + k]! + 1) / (stats[nom + v * c + k]! + v));
         nom += (v + 1) * c;
       }
     }
@@ -842,7 +861,7 @@ export class HoeffdingTree implements Classifier {
         train += TRAIN;
       } else {
         const v = this.cardinality[f]!;
-        if (x >= 0 && x < v) {
+        if (x >= 0 && x < v && (x | 0) === x) {
           stats[nom + x * c + label]! += weight;
           stats[nom + v * c + label]! += weight;
         }

@@ -19,9 +19,11 @@ export { NAIVE_BAYES_DEFAULTS, NaiveBayes } from './naive-bayes.js';
 export type { ClassifierKind, ClassifierSpec, RegressorKind, RegressorSpec } from './registry.js';
 export {
   CLASSIFIER_KINDS,
+  CLASSIFIER_OPTIONS,
   createClassifier,
   createRegressor,
   REGRESSOR_KINDS,
+  REGRESSOR_OPTIONS,
   restoreClassifier,
   restoreRegressor,
 } from './registry.js';

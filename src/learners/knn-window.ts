@@ -1,12 +1,14 @@
 import {
   argmax,
   checkSnapshot,
+  defaultsOf,
   encodeF64,
   encodeI32,
   type FeatureSchema,
-  integerAtLeast,
   normalizeInPlace,
-  oneOf,
+  type OptionsOf,
+  type OptionTable,
+  resolveOptions,
   type Seed,
   ShoalError,
 } from '../core/index.js';
@@ -16,24 +18,32 @@ import { isPresent, nominalCode } from './missing.js';
 import { OnlineClassifier } from './online-classifier.js';
 import { decodeF64Exact, decodeI32Exact, snapshotNumber } from './typed-arrays.js';
 
-export type KnnVote = 'plain' | 'distance';
+/** The kNN window's options (see `OptionTable`); k = 10 over the last 1,000 rows, plain vote: common practice. */
+export const KNN_WINDOW_OPTIONS = {
+  k: { type: 'integer', atLeast: 1, default: 10, doc: 'number of neighbours that vote' },
+  window: {
+    type: 'integer',
+    atLeast: 1,
+    default: 1000,
+    doc: 'most recent training rows kept; forgetting older rows is how kNN follows drift',
+  },
+  // `plain`: each neighbour votes with its training weight (Cover & Hart, "Nearest neighbor pattern
+  // classification", IEEE Trans. Information Theory 13, 1967). `distance`: the vote is divided by the
+  // distance (plus 1e-9), so closer neighbours count more (in the spirit of Dudani, "The distance-weighted
+  // k-nearest-neighbor rule", IEEE Trans. SMC 6, 1976, whose weights are linear; 1/d is common practice).
+  vote: {
+    type: 'choice',
+    choices: ['plain', 'distance'],
+    default: 'plain',
+    doc: 'plain: weight votes; distance: weight / distance votes',
+  },
+} as const satisfies OptionTable;
 
-export interface KnnWindowOptions {
-  /** Number of neighbours that vote; ≥ 1. */
-  readonly k: number;
-  /** Number of most recent training rows kept; ≥ 1. Older rows are forgotten, which is how kNN follows drift. */
-  readonly window: number;
-  /**
-   * `plain`: each neighbour votes with its training weight (Cover & Hart, "Nearest neighbor pattern
-   * classification", IEEE Trans. Information Theory 13, 1967). `distance`: the vote is divided by the
-   * distance (plus 1e-9), so closer neighbours count more (in the spirit of Dudani, "The distance-weighted
-   * k-nearest-neighbor rule", IEEE Trans. SMC 6, 1976, whose weights are linear; 1/d is common practice).
-   */
-  readonly vote: KnnVote;
-}
+export type KnnWindowOptions = OptionsOf<typeof KNN_WINDOW_OPTIONS>;
 
-/** k = 10 over the last 1,000 rows, plain vote: common practice for stream kNN baselines. */
-export const KNN_WINDOW_DEFAULTS: KnnWindowOptions = { k: 10, window: 1000, vote: 'plain' };
+export type KnnVote = KnnWindowOptions['vote'];
+
+export const KNN_WINDOW_DEFAULTS: KnnWindowOptions = defaultsOf(KNN_WINDOW_OPTIONS);
 
 const KIND = 'knn-window';
 const VERSION = 1;
@@ -45,11 +55,7 @@ const MISSING_NUMERIC = 2;
 const MISSING_NOMINAL = 1;
 
 function resolve(options: Partial<KnnWindowOptions>): KnnWindowOptions {
-  const o = { ...KNN_WINDOW_DEFAULTS, ...options };
-  integerAtLeast(KIND, 'k', o.k, 1);
-  integerAtLeast(KIND, 'window', o.window, 1);
-  oneOf(KIND, 'vote', o.vote, ['plain', 'distance'] as const);
-  return { k: o.k, window: o.window, vote: o.vote };
+  return resolveOptions(KIND, KNN_WINDOW_OPTIONS, options);
 }
 
 /**

@@ -1,4 +1,10 @@
-import { type FeatureSchema, nonNegative, positive, welfordAdd, welfordVariance } from '../core/index.js';
+import {
+  type FeatureSchema,
+  type OptionsOf,
+  type OptionTable,
+  welfordAdd,
+  welfordVariance,
+} from '../core/index.js';
 import { isPresent, nominalCode } from './missing.js';
 
 /**
@@ -40,30 +46,34 @@ import { isPresent, nominalCode } from './missing.js';
  * one per category of each nominal feature), (weight, mean, M2) of each numeric feature].
  */
 
-/** Options of the online linear model (also the linear leaves of the regression tree). */
-export interface LinearSgdOptions {
-  /** η₀, the step at t = 0 on the normalised scale (> 0). */
-  readonly learningRate: number;
-  /** d in η_t = η₀ / (1 + d·t), t = total weight trained; 0 keeps the rate constant (≥ 0). */
-  readonly rateDecay: number;
-  /** λ, the L2 penalty on the weights of the standardised inputs (≥ 0). */
-  readonly l2: number;
-}
-
 /**
- * Defaults: η₀ = 0.1 removes a tenth of a row's residual, a common-practice starting rate for
- * normalised LMS; d = 1e-3 halves the rate after 1,000 rows and keeps it decaying like 1/t after
- * that (common practice); no penalty by default (common practice for a model that sees many rows).
+ * Options of the online linear model (also the linear leaves of the regression tree); see
+ * `OptionTable`. Defaults: η₀ = 0.1 removes a tenth of a row's residual, a common-practice starting
+ * rate for normalised LMS; d = 1e-3 halves the rate after 1,000 rows and keeps it decaying like 1/t
+ * after that (common practice); no penalty by default (common practice for a model that sees many rows).
  */
-export const LINEAR_SGD_DEFAULTS: LinearSgdOptions = { learningRate: 0.1, rateDecay: 1e-3, l2: 0 };
+export const LINEAR_SGD_OPTIONS = {
+  learningRate: {
+    type: 'number',
+    above: 0,
+    default: 0.1,
+    doc: 'η₀, the step at t = 0 on the normalised scale',
+  },
+  rateDecay: {
+    type: 'number',
+    atLeast: 0,
+    default: 1e-3,
+    doc: 'd in η_t = η₀ / (1 + d·t), t = total weight trained; 0 keeps the rate constant',
+  },
+  l2: {
+    type: 'number',
+    atLeast: 0,
+    default: 0,
+    doc: 'λ, the L2 penalty on the weights of the standardised inputs',
+  },
+} as const satisfies OptionTable;
 
-/** Validate the options of the linear model; returns them unchanged. */
-export function checkLinearSgdOptions<T extends LinearSgdOptions>(owner: string, options: T): T {
-  positive(owner, 'learningRate', options.learningRate);
-  nonNegative(owner, 'rateDecay', options.rateDecay);
-  nonNegative(owner, 'l2', options.l2);
-  return options;
-}
+export type LinearSgdOptions = OptionsOf<typeof LINEAR_SGD_OPTIONS>;
 
 /** Slot of the schedule clock t in a model's state. */
 export const CLOCK = 0;
@@ -84,7 +94,7 @@ export interface LeafModel {
  * lives in caller-owned `Float64Array`s (one per model).
  *
  * @example
- * const sgd = new LinearSgd(schema, LINEAR_SGD_DEFAULTS);
+ * const sgd = new LinearSgd(schema, defaultsOf(LINEAR_SGD_OPTIONS));
  * const state = sgd.newState();
  * sgd.train(state, rows, i * width, target, 1);
  * const y = sgd.predict(state, rows, j * width);

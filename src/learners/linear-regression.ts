@@ -2,18 +2,15 @@ import {
   checkSchema,
   checkSnapshot,
   decodeF64,
+  defaultsOf,
   encodeF64,
   type FeatureSchema,
+  resolveOptions,
   type Seed,
   ShoalError,
 } from '../core/index.js';
 import { checkRow, checkTarget, checkWeight, type LearnerSnapshot, type Regressor } from './learner.js';
-import {
-  checkLinearSgdOptions,
-  LINEAR_SGD_DEFAULTS,
-  LinearSgd,
-  type LinearSgdOptions,
-} from './linear-regression-sgd.js';
+import { LINEAR_SGD_OPTIONS, LinearSgd, type LinearSgdOptions } from './linear-regression-sgd.js';
 
 /**
  * `linear-regression`: least-squares linear regression learned online by stochastic gradient
@@ -33,7 +30,7 @@ import {
  */
 export type LinearRegressionOptions = LinearSgdOptions;
 
-export const LINEAR_REGRESSION_DEFAULTS: LinearRegressionOptions = LINEAR_SGD_DEFAULTS;
+export const LINEAR_REGRESSION_DEFAULTS: LinearRegressionOptions = defaultsOf(LINEAR_SGD_OPTIONS);
 
 const KIND = 'linear-regression';
 const VERSION = 1;
@@ -52,7 +49,7 @@ export class LinearRegression implements Regressor {
 
   constructor(schema: FeatureSchema, options: Partial<LinearRegressionOptions> = {}, _seed: Seed = 0) {
     this.schema = checkSchema(KIND, schema);
-    this.options = checkLinearSgdOptions(KIND, { ...LINEAR_REGRESSION_DEFAULTS, ...options });
+    this.options = resolveOptions(KIND, LINEAR_SGD_OPTIONS, options);
     this.width = schema.features.length;
     this.sgd = new LinearSgd(schema, this.options);
     this.state = this.sgd.newState();

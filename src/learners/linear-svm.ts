@@ -1,43 +1,47 @@
 import {
   argmax,
   checkSnapshot,
+  defaultsOf,
   type FeatureSchema,
   normalizeInPlace,
-  positive,
+  type OptionsOf,
+  type OptionTable,
+  resolveOptions,
   type Seed,
-  ShoalError,
   sigmoid,
 } from '../core/index.js';
 import type { LearnerSnapshot } from './learner.js';
 import { LinearClassifier } from './linear-classifier.js';
 
-export interface LinearSvmOptions {
-  /** λ, the regularisation of the SVM objective (λ/2)‖w‖² + mean hinge loss; > 0. */
-  readonly lambda: number;
-  /** Apply Pegasos' optional projection of w onto the ball of radius 1/√λ after each step. */
-  readonly project: boolean;
-}
-
 /**
- * λ = 0.01 on standardised inputs: larger than in the Pegasos experiments (1e-4 … 1e-6 on large text sets,
- * from memory) because the step 1/(λt) must settle within thousands of rows of a stream, not millions
- * (common practice, checked on SEA and STAGGER in the tests). Projection on, as in the paper's algorithm.
+ * The linear SVM's options (see `OptionTable`). λ = 0.01 on standardised inputs: larger than in the
+ * Pegasos experiments (1e-4 … 1e-6 on large text sets, from memory) because the step 1/(λt) must settle
+ * within thousands of rows of a stream, not millions (common practice, checked on SEA and STAGGER in the
+ * tests). Projection on, as in the paper's algorithm.
  */
-export const LINEAR_SVM_DEFAULTS: LinearSvmOptions = { lambda: 0.01, project: true };
+export const LINEAR_SVM_OPTIONS = {
+  lambda: {
+    type: 'number',
+    above: 0,
+    default: 0.01,
+    doc: 'λ, the regularisation of the objective (λ/2)‖w‖² + mean hinge loss',
+  },
+  project: {
+    type: 'boolean',
+    default: true,
+    doc: "apply Pegasos' projection of w onto the ball of radius 1/√λ after each step",
+  },
+} as const satisfies OptionTable;
+
+export type LinearSvmOptions = OptionsOf<typeof LINEAR_SVM_OPTIONS>;
+
+export const LINEAR_SVM_DEFAULTS: LinearSvmOptions = defaultsOf(LINEAR_SVM_OPTIONS);
 
 const KIND = 'linear-svm';
 const VERSION = 1;
 
 function resolve(options: Partial<LinearSvmOptions>): LinearSvmOptions {
-  const o = { ...LINEAR_SVM_DEFAULTS, ...options };
-  positive(KIND, 'lambda', o.lambda);
-  if (typeof o.project !== 'boolean') {
-    throw new ShoalError(
-      'invalid-parameter',
-      `${KIND}: project must be true or false, got ${String(o.project)}`,
-    );
-  }
-  return { lambda: o.lambda, project: o.project };
+  return resolveOptions(KIND, LINEAR_SVM_OPTIONS, options);
 }
 
 /**

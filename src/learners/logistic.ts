@@ -1,42 +1,44 @@
 import {
   argmax,
   checkSnapshot,
+  defaultsOf,
   type FeatureSchema,
-  nonNegative,
-  positive,
+  type OptionsOf,
+  type OptionTable,
+  resolveOptions,
   type Seed,
   softmaxInPlace,
 } from '../core/index.js';
 import type { LearnerSnapshot } from './learner.js';
 import { LinearClassifier } from './linear-classifier.js';
 
-export interface LogisticOptions {
-  /** η₀, the step size of the first row; > 0. */
-  readonly learningRate: number;
-  /** d in η_t = η₀ / (1 + d·t), t = training weight seen; 0 keeps the step constant; ≥ 0. */
-  readonly rateDecay: number;
-  /** λ, the L2 penalty (λ/2)‖w‖² per row; ≥ 0. */
-  readonly l2: number;
-}
-
 /**
- * η₀ = 0.1 and d = 0.01 on standardised inputs: the step halves after 100 rows and then falls like 10/t, the
- * 1/t decay of stochastic approximation (Robbins & Monro, Ann. Math. Statist. 22, 1951) that lets the
- * weights settle near the batch fit; λ = 1e-4 only keeps the weights bounded on separable data.
- * Common practice, checked against a batch fit on SEA in the tests. Set d = 0 for a constant step that keeps
- * tracking a drifting stream.
+ * Logistic regression's options (see `OptionTable`). η₀ = 0.1 and d = 0.01 on standardised inputs: the
+ * step halves after 100 rows and then falls like 10/t, the 1/t decay of stochastic approximation
+ * (Robbins & Monro, Ann. Math. Statist. 22, 1951) that lets the weights settle near the batch fit;
+ * λ = 1e-4 only keeps the weights bounded on separable data. Common practice, checked against a batch
+ * fit on SEA in the tests. Set d = 0 for a constant step that keeps tracking a drifting stream.
  */
-export const LOGISTIC_DEFAULTS: LogisticOptions = { learningRate: 0.1, rateDecay: 0.01, l2: 1e-4 };
+export const LOGISTIC_OPTIONS = {
+  learningRate: { type: 'number', above: 0, default: 0.1, doc: 'η₀, the step size of the first row' },
+  rateDecay: {
+    type: 'number',
+    atLeast: 0,
+    default: 0.01,
+    doc: 'd in η_t = η₀ / (1 + d·t), t = training weight seen; 0 keeps the step constant',
+  },
+  l2: { type: 'number', atLeast: 0, default: 1e-4, doc: 'λ, the L2 penalty (λ/2)‖w‖² per row' },
+} as const satisfies OptionTable;
+
+export type LogisticOptions = OptionsOf<typeof LOGISTIC_OPTIONS>;
+
+export const LOGISTIC_DEFAULTS: LogisticOptions = defaultsOf(LOGISTIC_OPTIONS);
 
 const KIND = 'logistic';
 const VERSION = 1;
 
 function resolve(options: Partial<LogisticOptions>): LogisticOptions {
-  const o = { ...LOGISTIC_DEFAULTS, ...options };
-  positive(KIND, 'learningRate', o.learningRate);
-  nonNegative(KIND, 'rateDecay', o.rateDecay);
-  nonNegative(KIND, 'l2', o.l2);
-  return { learningRate: o.learningRate, rateDecay: o.rateDecay, l2: o.l2 };
+  return resolveOptions(KIND, LOGISTIC_OPTIONS, options);
 }
 
 /**

@@ -1,11 +1,13 @@
 import {
   argmax,
   checkSnapshot,
+  defaultsOf,
   encodeF64,
   type FeatureSchema,
-  integerAtLeast,
-  positive,
+  type OptionsOf,
+  type OptionTable,
   Rng,
+  resolveOptions,
   type Seed,
   softmaxInPlace,
 } from '../core/index.js';
@@ -14,27 +16,25 @@ import { OnlineClassifier } from './online-classifier.js';
 import { SparseInput } from './sparse-input.js';
 import { decodeF64Exact, growF64, snapshotNumber } from './typed-arrays.js';
 
-export interface MlpOptions {
-  /** Units in the hidden layer; ≥ 1. */
-  readonly hidden: number;
-  /** η, the constant step size of stochastic gradient descent; > 0. */
-  readonly learningRate: number;
-}
-
 /**
- * 16 tanh units and η = 0.02: common practice for a small network on standardised inputs, checked on SEA,
- * STAGGER and LED in the tests. The step stays constant so the network keeps tracking a drifting stream.
+ * The MLP's options (see `OptionTable`). 16 tanh units and η = 0.02: common practice for a small network
+ * on standardised inputs, checked on SEA, STAGGER and LED in the tests. The step stays constant so the
+ * network keeps tracking a drifting stream.
  */
-export const MLP_DEFAULTS: MlpOptions = { hidden: 16, learningRate: 0.02 };
+export const MLP_OPTIONS = {
+  hidden: { type: 'integer', atLeast: 1, default: 16, doc: 'units in the hidden layer' },
+  learningRate: { type: 'number', above: 0, default: 0.02, doc: 'η, the constant step of gradient descent' },
+} as const satisfies OptionTable;
+
+export type MlpOptions = OptionsOf<typeof MLP_OPTIONS>;
+
+export const MLP_DEFAULTS: MlpOptions = defaultsOf(MLP_OPTIONS);
 
 const KIND = 'mlp';
 const VERSION = 1;
 
 function resolve(options: Partial<MlpOptions>): MlpOptions {
-  const o = { ...MLP_DEFAULTS, ...options };
-  integerAtLeast(KIND, 'hidden', o.hidden, 1);
-  positive(KIND, 'learningRate', o.learningRate);
-  return { hidden: o.hidden, learningRate: o.learningRate };
+  return resolveOptions(KIND, MLP_OPTIONS, options);
 }
 
 /**

@@ -1,10 +1,13 @@
 import {
   argmax,
   checkSnapshot,
+  defaultsOf,
   encodeF64,
   type FeatureSchema,
   normalLogPdf,
-  positive,
+  type OptionsOf,
+  type OptionTable,
+  resolveOptions,
   type Seed,
   softmaxInPlace,
   WELFORD_SLOTS,
@@ -16,29 +19,33 @@ import { isPresent, nominalCode } from './missing.js';
 import { OnlineClassifier } from './online-classifier.js';
 import { decodeF64Exact, growF64, snapshotNumber } from './typed-arrays.js';
 
-export interface NaiveBayesOptions {
-  /**
-   * α of the Laplace (add-α) estimate used for class priors and nominal value frequencies:
-   * P(v | c) = (n_cv + α) / (n_c + α·V). α = 1 is Laplace's rule of succession (common practice); > 0.
-   */
-  readonly laplace: number;
-  /**
-   * Smallest variance a per-class Gaussian may have, in the squared units of the feature. It keeps a class
-   * that has shown one value (or one constant value) from having zero variance; > 0. 1e-9 is common practice.
-   */
-  readonly minVariance: number;
-}
+/** Naive Bayes' options (see `OptionTable`). */
+export const NAIVE_BAYES_OPTIONS = {
+  // P(v | c) = (n_cv + α) / (n_c + α·V); α = 1 is Laplace's rule of succession (common practice).
+  laplace: {
+    type: 'number',
+    above: 0,
+    default: 1,
+    doc: 'α of the add-α estimate of class priors and nominal value frequencies',
+  },
+  // Keeps a class that has shown one (or one constant) value from having zero variance; 1e-9 is common practice.
+  minVariance: {
+    type: 'number',
+    above: 0,
+    default: 1e-9,
+    doc: 'smallest variance of a per-class Gaussian, in squared feature units',
+  },
+} as const satisfies OptionTable;
 
-export const NAIVE_BAYES_DEFAULTS: NaiveBayesOptions = { laplace: 1, minVariance: 1e-9 };
+export type NaiveBayesOptions = OptionsOf<typeof NAIVE_BAYES_OPTIONS>;
+
+export const NAIVE_BAYES_DEFAULTS: NaiveBayesOptions = defaultsOf(NAIVE_BAYES_OPTIONS);
 
 const KIND = 'naive-bayes';
 const VERSION = 1;
 
 function resolve(options: Partial<NaiveBayesOptions>): NaiveBayesOptions {
-  const o = { ...NAIVE_BAYES_DEFAULTS, ...options };
-  positive(KIND, 'laplace', o.laplace);
-  positive(KIND, 'minVariance', o.minVariance);
-  return { laplace: o.laplace, minVariance: o.minVariance };
+  return resolveOptions(KIND, NAIVE_BAYES_OPTIONS, options);
 }
 
 /**

@@ -1,13 +1,18 @@
-import { type FeatureSchema, optionsOf, type Seed, ShoalError } from '../core/index.js';
-import { HoeffdingRegressionTree, type HoeffdingRegressionTreeOptions } from './hoeffding-regression-tree.js';
-import { HoeffdingTree, type HoeffdingTreeOptions } from './hoeffding-tree.js';
-import { KnnWindow, type KnnWindowOptions } from './knn-window.js';
+import { type FeatureSchema, type OptionTable, optionsOf, type Seed, ShoalError } from '../core/index.js';
+import {
+  HOEFFDING_REGRESSION_TREE_OPTIONS,
+  HoeffdingRegressionTree,
+  type HoeffdingRegressionTreeOptions,
+} from './hoeffding-regression-tree.js';
+import { HOEFFDING_TREE_OPTIONS, HoeffdingTree, type HoeffdingTreeOptions } from './hoeffding-tree.js';
+import { KNN_WINDOW_OPTIONS, KnnWindow, type KnnWindowOptions } from './knn-window.js';
 import type { Classifier, LearnerSnapshot, Regressor } from './learner.js';
 import { LinearRegression, type LinearRegressionOptions } from './linear-regression.js';
-import { LinearSvm, type LinearSvmOptions } from './linear-svm.js';
-import { Logistic, type LogisticOptions } from './logistic.js';
-import { Mlp, type MlpOptions } from './mlp.js';
-import { NaiveBayes, type NaiveBayesOptions } from './naive-bayes.js';
+import { LINEAR_SGD_OPTIONS } from './linear-regression-sgd.js';
+import { LINEAR_SVM_OPTIONS, LinearSvm, type LinearSvmOptions } from './linear-svm.js';
+import { LOGISTIC_OPTIONS, Logistic, type LogisticOptions } from './logistic.js';
+import { MLP_OPTIONS, Mlp, type MlpOptions } from './mlp.js';
+import { NAIVE_BAYES_OPTIONS, NaiveBayes, type NaiveBayesOptions } from './naive-bayes.js';
 
 /** Every classifier kind, as written in configuration. */
 export const CLASSIFIER_KINDS = [
@@ -23,6 +28,22 @@ export type ClassifierKind = (typeof CLASSIFIER_KINDS)[number];
 /** Every regressor kind, as written in configuration. */
 export const REGRESSOR_KINDS = ['hoeffding-regression-tree', 'linear-regression'] as const;
 export type RegressorKind = (typeof REGRESSOR_KINDS)[number];
+
+/** Each classifier's option table, by kind (what the configuration check reads). */
+export const CLASSIFIER_OPTIONS: Readonly<Record<ClassifierKind, OptionTable>> = {
+  'hoeffding-tree': HOEFFDING_TREE_OPTIONS,
+  'naive-bayes': NAIVE_BAYES_OPTIONS,
+  logistic: LOGISTIC_OPTIONS,
+  'knn-window': KNN_WINDOW_OPTIONS,
+  'linear-svm': LINEAR_SVM_OPTIONS,
+  mlp: MLP_OPTIONS,
+};
+
+/** Each regressor's option table, by kind. */
+export const REGRESSOR_OPTIONS: Readonly<Record<RegressorKind, OptionTable>> = {
+  'hoeffding-regression-tree': HOEFFDING_REGRESSION_TREE_OPTIONS,
+  'linear-regression': LINEAR_SGD_OPTIONS,
+};
 
 /** A classifier as configuration describes it: its kind and any options (the rest take their defaults). */
 export type ClassifierSpec =

@@ -1,34 +1,36 @@
-import { ConfigError, type ConfigIssue, numericSchema, ShoalError } from '../core/index.js';
 import {
-  ADWIN_DEFAULTS,
-  createDetector,
-  DDM_DEFAULTS,
-  DETECTOR_KINDS,
-  type DetectorSpec,
-  EDDM_DEFAULTS,
-  HDDM_A_DEFAULTS,
-  PAGE_HINKLEY_DEFAULTS,
-} from '../drift/index.js';
+  ConfigError,
+  type ConfigIssue,
+  checkOptions,
+  checkValue,
+  defaultsOf,
+  numericSchema,
+  type OptionSpec,
+  type OptionsOf,
+  type OptionTable,
+  resolveOptions,
+  ShoalError,
+} from '../core/index.js';
+import { createDetector, DETECTOR_KINDS, DETECTOR_OPTIONS, type DetectorSpec } from '../drift/index.js';
 import {
   BAGGING_DEFAULTS,
   BOOSTING_DEFAULTS,
-  createEnsemble,
   ENSEMBLE_KINDS,
+  ENSEMBLE_OPTIONS,
+  type EnsembleKind,
   type EnsembleSpec,
   LIFECYCLE_DEFAULTS,
+  LIFECYCLE_OPTIONS,
   STACKING_DEFAULTS,
 } from '../ensembles/index.js';
 import { VIEW_DEFAULTS } from '../evaluation/index.js';
+import { checkFeatureSpecs, DEFAULT_MISSING, DEFAULT_VOCABULARY } from '../frames/index.js';
 import {
   CLASSIFIER_KINDS,
+  CLASSIFIER_OPTIONS,
+  type ClassifierKind,
   type ClassifierSpec,
   createClassifier,
-  HOEFFDING_TREE_DEFAULTS,
-  KNN_WINDOW_DEFAULTS,
-  LINEAR_SVM_DEFAULTS,
-  LOGISTIC_DEFAULTS,
-  MLP_DEFAULTS,
-  NAIVE_BAYES_DEFAULTS,
 } from '../learners/index.js';
 
 /**
@@ -89,96 +91,131 @@ export interface InputsConfig {
   /** Explicit features (see the frames module); null to infer them from the data. */
   readonly features: readonly unknown[] | null;
   readonly vocabulary: number | null;
+  /** Text read as a missing value (default: empty, `NA`, `NaN`, `?`, `null`). */
+  readonly missing: readonly string[];
+  /** How labels are read: class codes, class names, or null to tell from the first rows. */
+  readonly labelsAs: 'class-codes' | 'class-names' | null;
   /** Watch each input feature for drift before labels arrive. */
   readonly monitor: boolean;
 }
 
 export const DEFAULT_SEED = '1';
 
-const LEARNER_DEFAULTS: Readonly<Record<string, object>> = {
-  'hoeffding-tree': HOEFFDING_TREE_DEFAULTS,
-  'naive-bayes': NAIVE_BAYES_DEFAULTS,
-  logistic: LOGISTIC_DEFAULTS,
-  'knn-window': KNN_WINDOW_DEFAULTS,
-  'linear-svm': LINEAR_SVM_DEFAULTS,
-  mlp: MLP_DEFAULTS,
-};
+/** The evaluation settings (see `OptionTable`). */
+export const EVALUATION_OPTIONS = {
+  window: {
+    type: 'integer',
+    atLeast: 1,
+    default: VIEW_DEFAULTS.window,
+    doc: 'rows of the sliding-window view',
+  },
+  fading: {
+    type: 'number',
+    above: 0,
+    atMost: 1,
+    default: VIEW_DEFAULTS.fading,
+    doc: 'the fading factor of the faded view',
+  },
+  journalEvery: {
+    type: 'integer',
+    atLeast: 1,
+    default: 1000,
+    doc: 'rows between two window records of the journal',
+  },
+} as const satisfies OptionTable;
 
-const DETECTOR_DEFAULTS: Readonly<Record<string, object>> = {
-  adwin: ADWIN_DEFAULTS,
-  ddm: DDM_DEFAULTS,
-  eddm: EDDM_DEFAULTS,
-  'page-hinkley': PAGE_HINKLEY_DEFAULTS,
-  'hddm-a': HDDM_A_DEFAULTS,
-};
-
-const ENSEMBLE_DEFAULTS: Readonly<Record<string, object>> = {
-  bagging: BAGGING_DEFAULTS,
-  boosting: BOOSTING_DEFAULTS,
-  stacking: STACKING_DEFAULTS,
-};
+/** The label-join settings' scalar options (see `LabelsConfig`). */
+const LABEL_JOIN_OPTIONS = {
+  pending: {
+    type: 'integer',
+    atLeast: 1,
+    default: LABELS_DEFAULTS.pending,
+    doc: 'predictions kept waiting for a label at most',
+  },
+  maxAgeSeconds: {
+    type: 'number',
+    above: 0,
+    default: 604_800,
+    doc: 'how long a prediction waits for its label, in seconds (null: no bound)',
+  },
+  unmatched: {
+    type: 'choice',
+    choices: ['ignore', 'train'],
+    default: LABELS_DEFAULTS.unmatched,
+    doc: "what a label that finds no prediction does: ignore, or train on the label's own row",
+  },
+} as const satisfies OptionTable;
 
 /** Collects every problem of a configuration before one `ConfigError` reports them all. */
 class Checker {
   readonly issues: ConfigIssue[] = [];
 
-  fail(path: string, message: string): void {
-    this.issues.push({ path, message });
+  fail(path: string, message: string, code: ConfigIssue['code'] = 'wrong-type'): void {
+    this.issues.push({ path, code, message });
   }
 
-  /** A plain object (or absent: an empty one) whose keys are all among `allowed`. */
-  object(path: string, value: unknown, allowed: readonly string[]): Record<string, unknown> {
+  /** A plain mapping (or absent: an empty one); keys outside `allowed` are issues. */
+  object(path: string, value: unknown, allowed: readonly string[] | null): Record<string, unknown> {
     if (value === undefined || value === null) return {};
     if (typeof value !== 'object' || Array.isArray(value)) {
-      this.fail(path || '(top level)', `must be a mapping, got ${describe(value)}`);
+      this.fail(
+        path,
+        `must be a mapping${allowed === null ? '' : ` of ${allowed.join(', ')}`}, got ${describe(value)}`,
+      );
       return {};
     }
-    for (const key of Object.keys(value)) {
-      if (!allowed.includes(key))
-        this.fail(join(path, key), `unknown setting; expected one of ${allowed.join(', ')}`);
+    if (allowed !== null) {
+      for (const key of Object.keys(value)) {
+        if (!allowed.includes(key))
+          this.fail(
+            join(path, key),
+            `unknown setting; expected one of ${allowed.join(', ')}`,
+            'unknown-setting',
+          );
+      }
     }
     return value as Record<string, unknown>;
   }
 
-  /** Options of a learner or detector: keys of its defaults, each of the default's type. */
-  options(path: string, value: Record<string, unknown>, defaults: object): void {
-    const known = defaults as Readonly<Record<string, unknown>>;
-    for (const [key, v] of Object.entries(value)) {
-      if (key === 'kind') continue;
-      if (!(key in known)) {
-        this.fail(join(path, key), `unknown setting; expected one of kind, ${Object.keys(known).join(', ')}`);
-      } else if (typeof v !== typeof known[key]) {
-        this.fail(join(path, key), `must be a ${typeof known[key]}, got ${describe(v)}`);
-      }
-    }
+  /** The scalar options of a component, by its table; `others` are the keys handled elsewhere. */
+  options(path: string, value: Record<string, unknown>, table: OptionTable, others: readonly string[]): void {
+    checkOptions(table, value, path, this.issues, others);
   }
 
-  kind(path: string, value: unknown, kinds: readonly string[]): string | null {
-    if (typeof value !== 'string' || !kinds.includes(value)) {
-      this.fail(join(path, 'kind'), `must be one of ${kinds.join(', ')}, got ${describe(value)}`);
+  kind<K extends string>(path: string, value: unknown, kinds: readonly K[]): K | null {
+    if (typeof value !== 'string' || !(kinds as readonly string[]).includes(value)) {
+      this.fail(
+        join(path, 'kind'),
+        `must be one of ${kinds.join(', ')}, got ${describe(value)}`,
+        'not-one-of',
+      );
       return null;
     }
-    return value;
+    return value as K;
   }
 
-  /** Run a constructor that validates ranges; its ShoalError becomes an issue at `path`. */
+  /**
+   * Run a constructor once its options passed their tables, for the rules between options (a warning
+   * level below the drift level, say); its issues land under `path`.
+   */
   attempt(path: string, build: () => unknown): void {
     try {
       build();
     } catch (e) {
       if (!(e instanceof ShoalError)) throw e;
-      if (e instanceof ConfigError) for (const i of e.issues) this.fail(join(path, i.path), i.message);
-      else this.fail(path, e.message);
+      if (e instanceof ConfigError)
+        for (const i of e.issues) this.fail(join(path, i.path), i.message, i.code);
+      else this.fail(path, e.message, 'conflict');
     }
   }
 
-  number(path: string, value: unknown, test: (n: number) => boolean, expected: string): number | undefined {
-    if (value === undefined) return undefined;
-    if (typeof value !== 'number' || !test(value)) {
-      this.fail(path, `must be ${expected}, got ${describe(value)}`);
-      return undefined;
-    }
-    return value;
+  /** Scalar settings by a table; returns them with the table's defaults filled in. */
+  settings<T extends OptionTable>(path: string, value: unknown, table: T): OptionsOf<T> {
+    const raw = this.object(path, value, null);
+    const before = this.issues.length;
+    this.options(path, raw, table, []);
+    if (this.issues.length > before) return defaultsOf(table);
+    return resolveOptions(path, table, raw, []);
   }
 }
 
@@ -197,143 +234,174 @@ function describe(value: unknown): string {
 /** Schema used only to validate learner options before the data's schema is known. */
 const PROBE_SCHEMA = numericSchema(64);
 
+/** One learner (or meta-learner) spec: its kind, then its options by the kind's table. */
+function checkLearner<K extends ClassifierKind>(
+  c: Checker,
+  path: string,
+  raw: unknown,
+  kinds: readonly K[],
+): Record<string, unknown> {
+  const spec = c.object(path, raw, null);
+  const kind = c.kind(path, spec.kind, kinds);
+  if (kind === null) return spec;
+  const before = c.issues.length;
+  c.options(path, spec, CLASSIFIER_OPTIONS[kind], ['kind']);
+  if (c.issues.length === before)
+    c.attempt(path, () => createClassifier(spec as ClassifierSpec, PROBE_SCHEMA, 0));
+  return spec;
+}
+
 function checkLearners(c: Checker, path: string, value: unknown): ClassifierSpec[] | undefined {
   if (value === undefined) return undefined;
   if (!Array.isArray(value) || value.length === 0) {
-    c.fail(path, 'must be a non-empty list of learner specs');
+    c.fail(path, `must be a non-empty list of learner specs, got ${describe(value)}`);
     return undefined;
   }
-  return value.map((raw, i) => {
-    const p = join(path, i);
-    const spec = c.object(p, raw, [
-      'kind',
-      ...Object.keys(LEARNER_DEFAULTS[(raw as { kind?: string })?.kind ?? ''] ?? {}),
-    ]);
-    const kind = c.kind(p, spec.kind, CLASSIFIER_KINDS);
-    if (kind !== null) {
-      c.options(p, spec, LEARNER_DEFAULTS[kind]!);
-      c.attempt(p, () => createClassifier(spec as ClassifierSpec, PROBE_SCHEMA, 0));
-    }
-    return spec as ClassifierSpec;
-  });
+  return value.map((raw, i) => checkLearner(c, join(path, i), raw, CLASSIFIER_KINDS) as ClassifierSpec);
 }
 
 function checkDetector(c: Checker, path: string, value: unknown): DetectorSpec | undefined {
   if (value === undefined) return undefined;
-  const kindName = (value as { kind?: string })?.kind ?? '';
-  const spec = c.object(path, value, ['kind', ...Object.keys(DETECTOR_DEFAULTS[kindName] ?? {})]);
+  const spec = c.object(path, value, null);
   const kind = c.kind(path, spec.kind, DETECTOR_KINDS);
   if (kind !== null) {
-    c.options(path, spec, DETECTOR_DEFAULTS[kind]!);
-    c.attempt(path, () => createDetector(spec as DetectorSpec));
+    const before = c.issues.length;
+    c.options(path, spec, DETECTOR_OPTIONS[kind], ['kind']);
+    if (c.issues.length === before) c.attempt(path, () => createDetector(spec as DetectorSpec));
   }
   return spec as DetectorSpec;
 }
 
+/** Settings of an ensemble beside its scalar options, by kind. */
+const NESTED: Readonly<Record<EnsembleKind, readonly string[]>> = {
+  bagging: ['kind', 'learners', 'lifecycle'],
+  boosting: ['kind', 'learners', 'lifecycle'],
+  stacking: ['kind', 'learners', 'meta', 'lifecycle'],
+};
+
 function checkEnsemble(c: Checker, value: unknown): EnsembleSpec {
   const path = 'ensemble';
-  const kindName = (value as { kind?: string } | undefined)?.kind ?? 'bagging';
-  const defaults = ENSEMBLE_DEFAULTS[kindName] ?? {};
-  const raw = c.object(path, value, ['kind', ...Object.keys(defaults)]);
-  const kind = c.kind(path, raw.kind ?? 'bagging', ENSEMBLE_KINDS);
-  const spec: Record<string, unknown> = { ...raw, kind: kind ?? 'bagging' };
+  const raw = c.object(path, value, null);
+  const kind = c.kind(path, raw.kind ?? 'bagging', ENSEMBLE_KINDS) ?? 'bagging';
+  c.options(path, raw, ENSEMBLE_OPTIONS[kind], NESTED[kind]);
+  const spec: Record<string, unknown> = { ...raw, kind };
   if (raw.learners !== undefined) spec.learners = checkLearners(c, join(path, 'learners'), raw.learners);
-  if (kind === 'stacking' && raw.meta !== undefined) {
-    const metaPath = join(path, 'meta');
-    const metaKind = (raw.meta as { kind?: string })?.kind ?? '';
-    const meta = c.object(metaPath, raw.meta, ['kind', ...Object.keys(LEARNER_DEFAULTS[metaKind] ?? {})]);
-    if (c.kind(metaPath, meta.kind, ['logistic', 'mlp']) !== null)
-      c.options(metaPath, meta, LEARNER_DEFAULTS[metaKind]!);
-  }
+  if (kind === 'stacking' && raw.meta !== undefined)
+    spec.meta = checkLearner(c, join(path, 'meta'), raw.meta, ['logistic', 'mlp'] as const);
   const lifecyclePath = join(path, 'lifecycle');
-  const lifecycle = c.object(lifecyclePath, raw.lifecycle, Object.keys(LIFECYCLE_DEFAULTS));
+  const lifecycle = c.object(lifecyclePath, raw.lifecycle, null);
+  c.options(lifecyclePath, lifecycle, LIFECYCLE_OPTIONS, ['detector']);
   const detector = checkDetector(c, join(lifecyclePath, 'detector'), lifecycle.detector);
-  for (const [key, v] of Object.entries(lifecycle)) {
-    if (key === 'detector' || !(key in LIFECYCLE_DEFAULTS)) continue;
-    const want = typeof LIFECYCLE_DEFAULTS[key as keyof typeof LIFECYCLE_DEFAULTS];
-    if (typeof v !== want) c.fail(join(lifecyclePath, key), `must be a ${want}, got ${describe(v)}`);
-  }
   spec.lifecycle = { ...LIFECYCLE_DEFAULTS, ...lifecycle, ...(detector === undefined ? {} : { detector }) };
-  if (c.issues.length === 0) c.attempt(path, () => createEnsemble(spec as EnsembleSpec, PROBE_SCHEMA, 0));
   // Every default filled in, down to each learner's and the detector's options, so that the journal
   // records exactly what ran.
+  const defaults = { bagging: BAGGING_DEFAULTS, boosting: BOOSTING_DEFAULTS, stacking: STACKING_DEFAULTS }[
+    kind
+  ];
   const full: Record<string, unknown> = { ...defaults, ...spec };
   const learners = full.learners as readonly { kind?: string }[] | undefined;
-  if (Array.isArray(learners)) full.learners = learners.map((l) => filled(l, LEARNER_DEFAULTS));
-  if (full.meta !== undefined) full.meta = filled(full.meta as { kind?: string }, LEARNER_DEFAULTS);
+  if (Array.isArray(learners)) full.learners = learners.map((l) => filled(l, CLASSIFIER_OPTIONS));
+  if (full.meta !== undefined) full.meta = filled(full.meta as { kind?: string }, CLASSIFIER_OPTIONS);
   const resolved = full.lifecycle as Record<string, unknown>;
   full.lifecycle = {
     ...resolved,
-    detector: filled(resolved.detector as { kind?: string }, DETECTOR_DEFAULTS),
+    detector: filled(resolved.detector as { kind?: string }, DETECTOR_OPTIONS),
   };
   return full as unknown as EnsembleSpec;
 }
 
 /** A learner or detector spec with the defaults of its kind under the options it names; `kind` first. */
-function filled<T extends { kind?: string }>(spec: T, table: Readonly<Record<string, object>>): T {
-  return { kind: spec?.kind, ...(table[spec?.kind ?? ''] ?? {}), ...spec };
+function filled<T extends { kind?: string }>(spec: T, tables: Readonly<Record<string, OptionTable>>): T {
+  const table = tables[spec?.kind ?? ''];
+  return { kind: spec?.kind, ...(table === undefined ? {} : defaultsOf(table)), ...spec };
 }
 
 function checkEvaluation(c: Checker, value: unknown): EvaluationConfig {
-  const raw = c.object('evaluation', value, ['window', 'fading', 'journalEvery']);
-  const positiveInteger = (n: number) => Number.isInteger(n) && n >= 1;
-  return {
-    window:
-      c.number('evaluation.window', raw.window, positiveInteger, 'a whole number ≥ 1') ??
-      VIEW_DEFAULTS.window,
-    fading:
-      c.number('evaluation.fading', raw.fading, (n) => n > 0 && n <= 1, 'in (0, 1]') ?? VIEW_DEFAULTS.fading,
-    journalEvery:
-      c.number('evaluation.journalEvery', raw.journalEvery, positiveInteger, 'a whole number ≥ 1') ?? 1000,
-  };
+  return c.settings('evaluation', value, EVALUATION_OPTIONS);
 }
 
 function checkInputs(c: Checker, value: unknown): InputsConfig {
-  const raw = c.object('inputs', value, ['label', 'id', 'exclude', 'features', 'vocabulary', 'monitor']);
+  const raw = c.object('inputs', value, [
+    'label',
+    'id',
+    'exclude',
+    'features',
+    'vocabulary',
+    'missing',
+    'labelsAs',
+    'monitor',
+  ]);
   const stringOrNull = (path: string, v: unknown, fallback: string | null): string | null => {
     if (v === undefined) return fallback;
     if (v === null || (typeof v === 'string' && v.length > 0)) return v;
     c.fail(path, `must be a column name or null, got ${describe(v)}`);
     return fallback;
   };
-  const exclude = raw.exclude ?? [];
-  if (!Array.isArray(exclude) || !exclude.every((x) => typeof x === 'string'))
-    c.fail('inputs.exclude', 'must be a list of column names');
-  if (raw.features !== undefined && !Array.isArray(raw.features))
-    c.fail('inputs.features', 'must be a list of feature specs');
+  const texts = (path: string, v: unknown, what: string): readonly string[] | null => {
+    if (Array.isArray(v) && v.every((x) => typeof x === 'string')) return v;
+    c.fail(path, `must be a list of ${what}, got ${describe(v)}`);
+    return null;
+  };
+  const exclude = raw.exclude === undefined ? [] : texts('inputs.exclude', raw.exclude, 'column names');
+  const missing =
+    raw.missing === undefined
+      ? DEFAULT_MISSING
+      : texts('inputs.missing', raw.missing, 'texts read as missing');
+  const vocabulary =
+    raw.vocabulary === undefined
+      ? null
+      : checkValue(VOCABULARY_OPTION, raw.vocabulary) === null
+        ? (raw.vocabulary as number)
+        : null;
+  if (raw.vocabulary !== undefined && vocabulary === null)
+    c.fail('inputs.vocabulary', checkValue(VOCABULARY_OPTION, raw.vocabulary)!.message, 'out-of-range');
+  const features =
+    raw.features === undefined
+      ? null
+      : checkFeatureSpecs(c.issues, 'inputs.features', raw.features, vocabulary ?? DEFAULT_VOCABULARY);
+  const labelsAs = raw.labelsAs === undefined ? null : raw.labelsAs;
+  if (labelsAs !== null && labelsAs !== 'class-codes' && labelsAs !== 'class-names')
+    c.fail(
+      'inputs.labelsAs',
+      `must be one of class-codes, class-names, got ${describe(labelsAs)}`,
+      'not-one-of',
+    );
   if (raw.monitor !== undefined && typeof raw.monitor !== 'boolean')
     c.fail('inputs.monitor', `must be true or false, got ${describe(raw.monitor)}`);
   return {
     label: stringOrNull('inputs.label', raw.label, 'label'),
     id: stringOrNull('inputs.id', raw.id, null),
-    exclude: Array.isArray(exclude) ? (exclude as string[]) : [],
-    features: Array.isArray(raw.features) ? raw.features : null,
-    vocabulary:
-      c.number(
-        'inputs.vocabulary',
-        raw.vocabulary,
-        (n) => Number.isInteger(n) && n >= 2,
-        'a whole number ≥ 2',
-      ) ?? null,
+    exclude: exclude ?? [],
+    features: features === null ? null : (raw.features as unknown[]),
+    vocabulary,
+    missing: missing ?? DEFAULT_MISSING,
+    labelsAs: labelsAs === 'class-codes' || labelsAs === 'class-names' ? labelsAs : null,
     monitor: typeof raw.monitor === 'boolean' ? raw.monitor : true,
   };
 }
 
+const VOCABULARY_OPTION = {
+  type: 'integer',
+  atLeast: 2,
+  default: DEFAULT_VOCABULARY,
+  doc: 'codes of a nominal feature whose categories are discovered, the last being the overflow bucket',
+} as const satisfies OptionSpec;
+
 function checkLabels(c: Checker, value: unknown): LabelsConfig {
-  const raw = c.object('labels', value, ['pending', 'maxAgeSeconds', 'unmatched']);
-  const unmatched = raw.unmatched ?? LABELS_DEFAULTS.unmatched;
-  if (unmatched !== 'ignore' && unmatched !== 'train')
-    c.fail('labels.unmatched', `must be one of ignore, train, got ${describe(unmatched)}`);
+  const raw = c.object('labels', value, null);
+  const { maxAgeSeconds, ...rest } = raw;
+  const settings = c.settings('labels', rest, LABEL_JOIN_OPTIONS);
+  if (maxAgeSeconds !== undefined && maxAgeSeconds !== null)
+    c.options('labels', { maxAgeSeconds }, LABEL_JOIN_OPTIONS, []);
   return {
-    pending:
-      c.number('labels.pending', raw.pending, (n) => Number.isInteger(n) && n >= 1, 'a whole number ≥ 1') ??
-      LABELS_DEFAULTS.pending,
+    pending: settings.pending,
+    unmatched: settings.unmatched,
     maxAgeSeconds:
-      raw.maxAgeSeconds === null
+      maxAgeSeconds === null
         ? null
-        : (c.number('labels.maxAgeSeconds', raw.maxAgeSeconds, (n) => n > 0, 'a number > 0 or null') ??
-          LABELS_DEFAULTS.maxAgeSeconds),
-    unmatched: unmatched === 'train' ? 'train' : 'ignore',
+        : typeof maxAgeSeconds === 'number' && maxAgeSeconds > 0
+          ? maxAgeSeconds
+          : LABELS_DEFAULTS.maxAgeSeconds,
   };
 }
 
@@ -344,6 +412,15 @@ function checkLabels(c: Checker, value: unknown): LabelsConfig {
  */
 export function resolveConfig(raw: unknown, source: string): RunConfig {
   const c = new Checker();
+  if (Array.isArray(raw) || (raw !== null && raw !== undefined && typeof raw !== 'object')) {
+    throw new ConfigError(source, [
+      {
+        path: '(top level)',
+        code: 'wrong-type',
+        message: `a configuration is a mapping of seed, ensemble, evaluation, inputs and labels, got ${describe(raw)}`,
+      },
+    ]);
+  }
   const top = c.object('', raw, ['seed', 'ensemble', 'evaluation', 'inputs', 'labels']);
   let seed = DEFAULT_SEED;
   if (top.seed !== undefined) {

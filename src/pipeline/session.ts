@@ -290,7 +290,7 @@ export class LearningSession {
       accuracy: cumulative.accuracy,
       kappa: cumulative.kappa,
       kappaM: cumulative.kappaM,
-      kappaTemporal: cumulative.kappaTemporal,
+      kappaNoChange: cumulative.kappaNoChange,
       logLoss: cumulative.logLoss,
       macroF1: cumulative.macroF1,
       classes: [...classes],
@@ -462,6 +462,7 @@ export class LearningSession {
         trained: c.trained,
         feature: f.name,
         kind: f.kind,
+        cause: monitor.missingFlags[i] === 1 ? 'missing-share' : 'distribution',
       });
     }
   }
@@ -616,7 +617,7 @@ function figures(f: ClassificationFigures): ViewFigures {
     accuracy: f.accuracy,
     kappa: f.kappa,
     kappaM: f.kappaM,
-    kappaTemporal: f.kappaTemporal,
+    kappaNoChange: f.kappaNoChange,
     logLoss: f.logLoss,
   };
 }

@@ -4,7 +4,7 @@ import { type ConceptSchedule, conceptSchedule, type ScheduledConcept } from './
 
 /**
  * A stream as a user asks for it, on the command line or in `shoal.yaml`:
- * `shoal synth sea --concepts 8,9,7,9.5 --every 25000 --width 0 --noise 0.1`.
+ * `shoal spawn sea --concepts 8,9,7,9.5 --every 25000 --width 0 --noise 0.1`.
  */
 export interface StreamRequest {
   /** A generator name (see `STREAM_NAMES`). */
@@ -45,7 +45,7 @@ function isRecord(value: unknown): value is Readonly<Record<string, unknown>> {
 export function buildStream(request: StreamRequest): ConceptSchedule {
   const issues: ConfigIssue[] = [];
   const problem = (path: string, message: string): void => {
-    issues.push({ path, message });
+    issues.push({ path, code: message.startsWith('unknown') ? 'not-one-of' : 'wrong-type', message });
   };
   const { generator, every, width, noise, seed } = request;
   if (!(typeof seed === 'string' || (typeof seed === 'number' && Number.isFinite(seed)))) {

@@ -10,7 +10,7 @@ import { stagger } from './stagger.js';
 
 /**
  * What each generator calls a concept, as a user types it on the command line
- * (`shoal synth sea --concepts 8,9,7,9.5 --every 25000`), and how to build one.
+ * (`shoal spawn sea --concepts 8,9,7,9.5 --every 25000`), and how to build one.
  */
 export type StreamName = 'sea' | 'stagger' | 'led' | 'agrawal' | 'hyperplane' | 'rbf' | 'sine';
 

@@ -65,9 +65,9 @@ const cases: readonly DetectorCase[] = [
     spec: { kind: 'hddm-a' },
     domain: 'unit',
     badSpecs: [
-      [{ kind: 'hddm-a', driftConfidence: 0 }, 'driftConfidence'],
-      [{ kind: 'hddm-a', warningConfidence: 1 }, 'warningConfidence'],
-      [{ kind: 'hddm-a', driftConfidence: 0.01, warningConfidence: 0.005 }, 'warningConfidence'],
+      [{ kind: 'hddm-a', alphaD: 0 }, 'alphaD'],
+      [{ kind: 'hddm-a', alphaW: 1 }, 'alphaW'],
+      [{ kind: 'hddm-a', alphaD: 0.01, alphaW: 0.005 }, 'alphaW'],
     ],
   },
 ];

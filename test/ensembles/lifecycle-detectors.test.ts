@@ -96,7 +96,8 @@ describe('every detector as the member monitor replaces members on real drift', 
           expect(r.detector).toBe(kind);
           expect(r.estimate).toBeGreaterThan(0);
         }
-      });
+        // Two 10-member ensembles over 100,000 rows: longer than the 10 s default on a shared machine.
+      }, 120_000);
     }
   }
 });

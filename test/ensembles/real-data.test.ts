@@ -59,7 +59,8 @@ describe('the defaults on real, stationary data', () => {
       expect(accuracy).toBeLessThanOrEqual(reference.forest + 3 * forestSe);
       // Good 1952: the log-loss of always answering 1/C is ln C; calibrated votes must do better.
       expect(logLoss).toBeLessThan(Math.log(classes));
-    });
+      // A real dataset and scikit-learn's references in a child process: tens of seconds when busy.
+    }, 180_000);
   }
 });
 
@@ -89,6 +90,7 @@ describe('boosting gives calibrated probabilities', () => {
         `${name}: boosting log-loss ${(loss / data.length).toFixed(3)} (ln C = ${Math.log(classes).toFixed(3)}), accuracy ${(correct / data.length).toFixed(4)}`,
       );
       expect(loss / data.length).toBeLessThan(Math.log(classes));
-    });
+      // A real dataset and scikit-learn's references in a child process: tens of seconds when busy.
+    }, 180_000);
   }
 });

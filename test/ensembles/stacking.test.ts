@@ -42,6 +42,8 @@ describe('online stacking (Wolpert 1992, streaming form)', () => {
       );
       expect(stacked).toBeGreaterThanOrEqual(best - 0.005);
     },
+    // Four members and a meta-learner over 40,000 rows: well over the 10 s default on a shared machine.
+    180_000,
   );
 
   it('routes the holdout share to the meta-learner only', () => {

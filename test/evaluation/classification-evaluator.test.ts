@@ -15,7 +15,7 @@ function expectView(view: ClassificationView, want: DirectFigures, tolerance = 1
   expectClose(view.accuracy(), want.accuracy, tolerance, 'accuracy');
   expectClose(view.kappa(), want.kappa, tolerance, 'kappa');
   expectClose(view.kappaM(), want.kappaM, tolerance, 'kappaM');
-  expectClose(view.kappaTemporal(), want.kappaTemporal, tolerance, 'kappaTemporal');
+  expectClose(view.kappaNoChange(), want.kappaNoChange, tolerance, 'kappaNoChange');
   expectClose(view.logLoss(), want.logLoss, tolerance, 'logLoss');
   expectClose(view.macroF1(), want.macroF1, tolerance, 'macroF1');
   for (let k = 0; k < want.precision.length; k++) {
@@ -118,7 +118,7 @@ describe('classification evaluator: the three prequential views (Gama, Sebastiã
     //   p_c = (1.125·1.375 + 0.75·0.5)/1.875² = (123/64)/(225/64) = 41/75, κ = (65 − 41)/(75 − 41) = 12/17
     //   majority row 1.125/1.875 = 9/15: κ-M = (13 − 9)/(15 − 9) = 2/3
     //   no-change hits: only record 3 (1 after 1), weight 0.5: p_nc = 0.5/1.875 = 4/15,
-    //   κ-temporal = (13 − 4)/(15 − 4) = 9/11
+    //   κ vs no-change = (13 − 4)/(15 − 4) = 9/11
     const records = [
       [0, 0],
       [1, 0],
@@ -139,7 +139,7 @@ describe('classification evaluator: the three prequential views (Gama, Sebastiã
     expect(f.accuracy()).toBeCloseTo(13 / 15, 14);
     expect(f.kappa()).toBeCloseTo(12 / 17, 14);
     expect(f.kappaM()).toBeCloseTo(2 / 3, 14);
-    expect(f.kappaTemporal()).toBeCloseTo(9 / 11, 14);
+    expect(f.kappaNoChange()).toBeCloseTo(9 / 11, 14);
     expect(f.count(0, 0)).toBeCloseTo(1.125, 14);
     expect(f.count(1, 0)).toBeCloseTo(0.25, 14);
     expect(evaluator.summary().faded.confusion).toEqual([

@@ -67,15 +67,15 @@ describe("Cohen's kappa", () => {
     expect(figures.recall).toEqual([c.recall(0), c.recall(1)]);
   });
 
-  it('gives κ-M and κ-temporal of a small stream computed by hand', () => {
+  it('gives κ-M and κ vs no-change of a small stream computed by hand', () => {
     // Definitions: κ-M uses the majority-class classifier's accuracy as p_c (Bifet et al. 2015, from
-    // memory); κ-temporal the no-change classifier's (Žliobaitė et al., Machine Learning 98, 2015,
+    // memory); κ vs no-change the no-change classifier's (Žliobaitė et al., Machine Learning 98, 2015,
     // from memory), which predicts the previous label; the first record has none and counts as a miss.
     //   labels      0 0 1 1 1 0 1 1
     //   predictions 0 1 1 1 1 0 0 1
     //   correct     1 0 1 1 1 1 0 1  → p₀ = 6/8 = 0.75
     //   majority class 1 holds 5 of 8 labels → p_m = 5/8, κ-M = (0.75 − 0.625)/0.375 = 1/3
-    //   no-change   – 1 0 1 1 0 0 1  → 4 hits of 8, p_nc = 0.5, κ-temporal = (0.75 − 0.5)/0.5 = 0.5
+    //   no-change   – 1 0 1 1 0 0 1  → 4 hits of 8, p_nc = 0.5, κ vs no-change = (0.75 − 0.5)/0.5 = 0.5
     //   Cohen: row totals (3, 5), column totals (3, 5): p_c = (9 + 25)/64 = 17/32,
     //          κ = (24/32 − 17/32)/(15/32) = 7/15
     const labels = [0, 0, 1, 1, 1, 0, 1, 1];
@@ -87,7 +87,7 @@ describe("Cohen's kappa", () => {
     const c = evaluator.cumulative;
     expect(c.accuracy()).toBe(0.75);
     expect(c.kappaM()).toBeCloseTo(1 / 3, 14);
-    expect(c.kappaTemporal()).toBeCloseTo(0.5, 14);
+    expect(c.kappaNoChange()).toBeCloseTo(0.5, 14);
     expect(c.kappa()).toBeCloseTo(7 / 15, 14);
   });
 

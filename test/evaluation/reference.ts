@@ -3,7 +3,7 @@ import { expect } from 'vitest';
 /**
  * Direct, unoptimised computations of the evaluation figures from their definitions, written
  * independently of src/evaluation: a weighted confusion matrix built afresh from a list of outcomes,
- * then Cohen's κ (Cohen 1960), κ-M (Bifet et al. 2015, from memory), κ-temporal (Žliobaitė et al.,
+ * then Cohen's κ (Cohen 1960), κ-M (Bifet et al. 2015, from memory), κ vs no-change (Žliobaitė et al.,
  * Machine Learning 98, 2015, from memory), log-loss, per-class precision/recall and macro F1. The
  * weights select a view (Gama, Sebastião & Rodrigues, Machine Learning 90, 2013): 1 on every record
  * (cumulative), 1 on the last w (window), α^(n−1−k) on record k (fading).
@@ -20,7 +20,7 @@ export interface DirectFigures {
   accuracy: number;
   kappa: number;
   kappaM: number;
-  kappaTemporal: number;
+  kappaNoChange: number;
   logLoss: number;
   macroF1: number;
   precision: number[];
@@ -66,7 +66,7 @@ export function direct(
     accuracy: p0,
     kappa: kappaOf(chance),
     kappaM: kappaOf(Math.max(...row) / n),
-    kappaTemporal: kappaOf(noChange / n),
+    kappaNoChange: kappaOf(noChange / n),
     logLoss: loss / n,
     macroF1: f1.length > 0 ? f1.reduce((a, b) => a + b, 0) / f1.length : Number.NaN,
     precision: m.map((r, k) => (col[k]! > 0 ? r[k]! / col[k]! : Number.NaN)),

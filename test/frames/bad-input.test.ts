@@ -169,7 +169,7 @@ describe('malformed text', () => {
 
   it('a label that is not a class code, an unknown closed category and a missing id are refused', async () => {
     await expectShoalError(
-      () => read(file('codes.csv', 'x,label\n1,0\n2,1\n3,-1\n')),
+      () => read(file('codes.csv', 'x,label\n1,0\n2,1\n3,-1\n'), { labelsAs: 'class-codes' }),
       'invalid-input',
       /codes\.csv line 4: label "-1" is not a class code/,
     );
@@ -208,12 +208,12 @@ describe('corrupt Arrow data', () => {
     [
       'truncated.arrow',
       whole.subarray(0, whole.length - 100),
-      /truncated\.arrow: not a readable Arrow IPC file or stream/,
+      /truncated\.arrow: the Arrow IPC file is cut short or damaged at byte \d+ \(the file ends before its footer\); 3 complete record batches precede it \(give --rejects to use them\)/,
     ],
     [
       'truncated.arrows',
       stream.subarray(0, stream.length - 300),
-      /truncated\.arrows: .*after 2 record batches/,
+      /truncated\.arrows: the Arrow IPC stream is cut short or damaged at byte \d+ \(.*\); 2 complete record batches precede it/,
     ],
     ['empty.arrow', new Uint8Array(0), /empty\.arrow: not a readable Arrow IPC/],
     ['text.arrow', Buffer.from('leg,temp\n1,2\n'), /text\.arrow: not a readable Arrow IPC/],
@@ -246,7 +246,11 @@ describe('single messages (Kafka): problems are values, nothing is thrown', () =
     expect(Array.from(result.frame.labels!)).toEqual([0, 1]);
     expect(Array.from(result.frame.origin.positions)).toEqual([0, 2]);
     expect(result.rejected).toEqual([
-      { index: 1, reason: 'legs/0@6 row 1: label 7000 is not a class code (an integer from 0 to 1023)' },
+      {
+        index: 1,
+        reason:
+          'legs/0@6 row 1: label 7000 is not a class code (an integer from 0 to 1023); set inputs.labelsAs: class-names (--labels-as class-names) to read labels as names',
+      },
     ]);
   });
 
@@ -315,7 +319,7 @@ describe('frame options are validated, every bad field named by its path', () =>
       'features[3].name',
     ]);
     expect((error as ConfigError).message).toMatch(
-      /^shoal\.yaml: input: exclude\[0\]: excludes the label or id column "outcome"/,
+      /^shoal\.yaml: input: 8 problems\n {2}exclude\[0\]: excludes the label or id column "outcome" \[conflict\]/,
     );
     expect((error as ConfigError).message).toMatch(
       /features\[1\]\.kind: must be numeric or nominal, got "categorical"/,

@@ -69,42 +69,57 @@ describe('resolveConfig', () => {
     expect(config.inputs).toMatchObject({ label: 'rejected', id: 'leg_id', monitor: false });
   });
 
-  it('reports every bad field at once, each by its path', () => {
-    const issues = issuesOf({
-      seed: [],
-      ensemble: {
-        kind: 'bagging',
-        lambda: 'six',
-        learners: [{ kind: 'hoeffding-tree', tieBreak: -1 }, { kind: 'oracle' }],
-        lifecycle: { warmup: 'soon', detector: { kind: 'ddm', driftFactor: 1, warningFactor: 2 } },
-      },
-      evaluation: { fading: 2, journalEvery: 0 },
-      inputs: { label: 5, exclude: 'x', monitor: 'yes' },
-      extra: true,
-    });
-    const paths = issues.map((i) => i.split(':')[0]);
-    for (const path of [
-      'seed',
-      'ensemble.learners[0]',
-      'ensemble.learners[1].kind',
-      'ensemble.lifecycle.detector',
-      'ensemble.lifecycle.warmup',
-      'evaluation.fading',
-      'evaluation.journalEvery',
-      'inputs.label',
-      'inputs.exclude',
-      'inputs.monitor',
-      'extra',
-    ]) {
-      expect(paths).toContain(path);
+  it('reports ten different mistakes as ten issues in one run, each at its exact path with a code', () => {
+    let error: ConfigError | null = null;
+    try {
+      resolveConfig(
+        {
+          ensemble: {
+            members: 'ten',
+            lambda: -1,
+            vote: 'majority',
+            learners: [{ kind: 'hoeffding-tree', checkInterval: 0 }, { kind: 'oracle' }],
+            lifecycle: {
+              warmup: -5,
+              minAge: 1.5,
+              detector: { kind: 'ddm', driftFactor: 1, warningFactor: 2 },
+            },
+          },
+          evaluation: { fading: 2 },
+          inputs: { features: [{ name: 'temp', kind: 'category' }] },
+        },
+        'shoal.yaml',
+      );
+    } catch (e) {
+      error = e as ConfigError;
     }
-    expect(issues.find((i) => i.startsWith('ensemble.learners[0]'))).toMatch(/tieBreak/);
-    expect(issues.find((i) => i.startsWith('ensemble.lifecycle.detector'))).toMatch(/driftFactor/);
+    expect(error).toBeInstanceOf(ConfigError);
+    expect(error!.issues.map((i) => [i.path, i.code])).toEqual([
+      ['ensemble.members', 'wrong-type'],
+      ['ensemble.lambda', 'out-of-range'],
+      ['ensemble.vote', 'not-one-of'],
+      ['ensemble.learners[0].checkInterval', 'out-of-range'],
+      ['ensemble.learners[1].kind', 'not-one-of'],
+      ['ensemble.lifecycle.warmup', 'out-of-range'],
+      ['ensemble.lifecycle.minAge', 'not-an-integer'],
+      ['ensemble.lifecycle.detector.driftFactor', 'conflict'],
+      ['evaluation.fading', 'out-of-range'],
+      ['inputs.features[0].kind', 'not-one-of'],
+    ]);
+    expect(error!.message).toMatch(
+      /^shoal\.yaml: 10 problems\n {2}ensemble\.members: must be an integer ≥ 1, got "ten" \[wrong-type\]\n/,
+    );
+  });
+
+  it('names the top level when the file is not a mapping', () => {
+    expect(issuesOf([{ seed: 1 }])).toEqual([
+      '(top level): a configuration is a mapping of seed, ensemble, evaluation, inputs and labels, got a list',
+    ]);
   });
 
   it('refuses a setting that belongs to another kind', () => {
     expect(issuesOf({ ensemble: { kind: 'boosting', lambda: 6 } })).toEqual([
-      'ensemble.lambda: unknown setting; expected one of kind, members, learners, maxRepeats, lifecycle',
+      'ensemble.lambda: unknown setting; expected one of kind, learners, lifecycle, members, maxRepeats',
     ]);
     expect(issuesOf({ ensemble: { learners: [{ kind: 'naive-bayes', k: 3 }] } })[0]).toMatch(
       /^ensemble\.learners\[0\]\.k: unknown setting/,

@@ -40,7 +40,7 @@ function view(f: ClassificationFigures): ViewFigures {
     accuracy: f.accuracy,
     kappa: f.kappa,
     kappaM: f.kappaM,
-    kappaTemporal: f.kappaTemporal,
+    kappaNoChange: f.kappaNoChange,
     logLoss: f.logLoss,
   };
 }
@@ -117,7 +117,7 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
     accuracy: total.accuracy,
     kappa: total.kappa,
     kappaM: total.kappaM,
-    kappaTemporal: total.kappaTemporal,
+    kappaNoChange: total.kappaNoChange,
     logLoss: total.logLoss,
     macroF1: total.macroF1,
     classes: stream.classes,

@@ -40,7 +40,14 @@ describe('seat lanes', () => {
       at(400, 0, 'active', 'watched'),
       at(700, 0, 'watched', 'retired'),
       at(700, 1, null, 'active'),
-      { type: 'input-drift', scored: 1000, trained: 1000, feature: 'f', kind: 'numeric' },
+      {
+        type: 'input-drift',
+        scored: 1000,
+        trained: 1000,
+        feature: 'f',
+        kind: 'numeric',
+        cause: 'distribution',
+      },
     ]);
     expect(t.rows).toBe(1000);
     expect(t.lanes[0]!.map((s) => [s.start, s.end, s.state, s.member])).toEqual([

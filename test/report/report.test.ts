@@ -135,7 +135,7 @@ describe('renderReport on a real journal (bagging over STAGGER a → c → b)', 
     const header = html.slice(0, html.indexOf('<section>'));
     expect(header).toContain(`${(100 * summary.accuracy!).toFixed(2)}%`);
     expect(header).toContain(summary.kappa!.toFixed(3));
-    expect(header).toContain(summary.kappaTemporal!.toFixed(3));
+    expect(header).toContain(summary.kappaNoChange!.toFixed(3));
     expect(section(html, 'Configuration')).toContain('<th>lifecycle</th>');
     expect(section(html, 'Configuration')).toContain('<code>hoeffding-tree</code>');
     for (const f of ['size', 'color', 'shape'])
@@ -253,7 +253,7 @@ describe('renderReport against hostile journals', () => {
       estimate: 0,
       reason: quote,
     },
-    { type: 'input-drift', scored: 20, trained: 20, feature: evil, kind: 'numeric' },
+    { type: 'input-drift', scored: 20, trained: 20, feature: evil, kind: 'numeric', cause: 'missing-share' },
     { ...summary, classes: [evil, quote] },
   ];
   const doc = renderReport(hostile, { title: evil });

@@ -119,6 +119,34 @@ export function describeLearnerContract(c: LearnerCase): void {
       expect(Number.isFinite(size)).toBe(true);
     });
 
+    it('treats a non-integer or out-of-range nominal code exactly as a missing value', () => {
+      // STAGGER's three nominal features have codes 0, 1, 2; every 4th row gets a bad code instead (or NaN).
+      const bad = [1.5, -1, 3, 2.0000001, 1e9, Number.POSITIVE_INFINITY, -0.5];
+      const gen = stagger({ concept: 'b' }, 21);
+      const block = take(gen, 2000);
+      const withBad = Float64Array.from(block.rows);
+      const withNaN = Float64Array.from(block.rows);
+      for (let i = 0; i < block.labels.length; i += 4) {
+        const at = i * block.width + (i % block.width);
+        withBad[at] = bad[(i / 4) % bad.length]!;
+        withNaN[at] = Number.NaN;
+      }
+      const a = c.make(gen, 9);
+      const b = c.make(gen, 9);
+      a.ensureClasses(2);
+      b.ensureClasses(2);
+      const p = new Float64Array(2);
+      const q = new Float64Array(2);
+      for (let i = 0; i < block.labels.length; i++) {
+        const off = i * block.width;
+        const k1 = a.scoreTrain(withBad, off, block.labels[i]!, 1, p, 0);
+        const k2 = b.scoreTrain(withNaN, off, block.labels[i]!, 1, q, 0);
+        expect(k1).toBe(k2);
+        expect(p[0]).toBe(q[0]);
+      }
+      expect(JSON.stringify(a.snapshot())).toBe(JSON.stringify(b.snapshot()));
+    });
+
     it('refuses bad input with a ShoalError naming the problem', () => {
       const gen = sea({}, 14);
       const learner = c.make(gen, 8);

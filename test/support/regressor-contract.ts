@@ -32,6 +32,22 @@ export function describeRegressorContract(c: RegressorCase): void {
       ['Friedman #1', friedman1],
       ['mixed nominal and missing', mixedRegression],
     ];
+    it('treats a non-integer or out-of-range nominal code exactly as a missing value', () => {
+      // Feature 2 of the mixed stream is nominal with codes 0 … 3; every 4th row gets a bad code (or NaN).
+      const bad = [1.5, -1, 4, 2.0000001, 1e9, Number.POSITIVE_INFINITY, -0.5];
+      const block = mixedRegression(2000, 21);
+      const withBad = { ...block, rows: Float64Array.from(block.rows) };
+      const withNaN = { ...block, rows: Float64Array.from(block.rows) };
+      for (let i = 0; i < 2000; i += 4) {
+        withBad.rows[i * block.width + 2] = bad[(i / 4) % bad.length]!;
+        withNaN.rows[i * block.width + 2] = Number.NaN;
+      }
+      const a = c.make(block.schema, 9);
+      const b = c.make(block.schema, 9);
+      expect(sameBits(prequential(a, withBad), prequential(b, withNaN))).toBe(true);
+      expect(JSON.stringify(a.snapshot())).toBe(JSON.stringify(b.snapshot()));
+    });
+
     for (const [streamName, draw] of streams) {
       it(`is deterministic: the same seed gives bit-identical predictions (${streamName})`, () => {
         const block = draw(4000, 5);

@@ -41,7 +41,7 @@ describe('the Prometheus harness', () => {
       await prom.stop();
       server.close();
     }
-  });
+  }, 60_000);
 
   it("fails with Prometheus's own log when a rule file does not parse", async () => {
     const dir = await scratch();

@@ -1,15 +1,17 @@
 import { ShoalError } from '../core/index.js';
-import { createWriter } from '../files/index.js';
+import { createWriter, formatOf } from '../files/index.js';
 import type { FrameFormat } from '../frames/index.js';
 import { buildStream, STREAM_NAMES, STREAMS, type StreamName, take } from '../streams/index.js';
 import { decimal, parse, positionals, text, whole } from './args.js';
+import { OutputFile } from './outputs.js';
 import { count, type Terminal } from './terminal.js';
 
 const BLOCK = 10_000;
 
-export const SYNTH_HELP = `shoal synth <generator> --rows N --out FILE [options]
+export const SPAWN_HELP = `shoal spawn <generator> --rows N --out FILE [options]
 
-Write a published benchmark stream to a file, with concept changes where asked.
+Write a published benchmark stream to a file, with concept changes where asked (a shoal spawns a
+stream). The former name, shoal synth, still works in this release and prints a notice.
 
 Generators: ${STREAM_NAMES.join(', ')}
 
@@ -25,8 +27,8 @@ Options:
   --format F        arrow (default for .arrow), csv or ndjson
 The label column is named "label".`;
 
-export async function synth(args: readonly string[], terminal: Terminal): Promise<number> {
-  const parsed = parse('synth', args, {
+export async function spawn(args: readonly string[], terminal: Terminal): Promise<number> {
+  const parsed = parse('spawn', args, {
     rows: { type: 'string' },
     out: { type: 'string' },
     seed: { type: 'string' },
@@ -37,23 +39,23 @@ export async function synth(args: readonly string[], terminal: Terminal): Promis
     format: { type: 'string' },
   });
   if (parsed.values.help) {
-    terminal.out(`${SYNTH_HELP}\n`);
+    terminal.out(`${SPAWN_HELP}\n`);
     return 0;
   }
-  const [generator] = positionals('synth', parsed, ['generator']);
+  const [generator] = positionals('spawn', parsed, ['generator']);
   if (!(STREAM_NAMES as readonly string[]).includes(generator!)) {
     throw new ShoalError(
       'invalid-parameter',
-      `synth: unknown generator ${JSON.stringify(generator)}; choose one of ${STREAM_NAMES.join(', ')}`,
+      `unknown generator ${JSON.stringify(generator)}; choose one of ${STREAM_NAMES.join(', ')}`,
     );
   }
-  const rows = whole('synth', parsed, 'rows');
+  const rows = whole(parsed, 'rows');
   const out = text(parsed, 'out');
-  if (rows === undefined) throw new ShoalError('invalid-parameter', 'synth: --rows is required');
-  if (out === undefined) throw new ShoalError('invalid-parameter', 'synth: --out is required');
-  const every = whole('synth', parsed, 'every');
-  const width = whole('synth', parsed, 'width', 0);
-  const noise = decimal('synth', parsed, 'noise');
+  if (rows === undefined) throw new ShoalError('invalid-parameter', '--rows is required');
+  if (out === undefined) throw new ShoalError('invalid-parameter', '--out is required');
+  const every = whole(parsed, 'every');
+  const width = whole(parsed, 'width', 0);
+  const noise = decimal(parsed, 'noise');
   const concepts = text(parsed, 'concepts');
   const seed = text(parsed, 'seed') ?? '1';
   const stream = buildStream({
@@ -64,15 +66,23 @@ export async function synth(args: readonly string[], terminal: Terminal): Promis
     ...(width === undefined ? {} : { width }),
     ...(noise === undefined ? {} : { noise }),
   });
-  const format = text(parsed, 'format') as FrameFormat | undefined;
-  const writer = await createWriter(out, { schema: stream.schema, classes: stream.classes }, format);
+  const format = formatOf(out, text(parsed, 'format') as FrameFormat | undefined);
+  const file = await OutputFile.open({ flag: '--out', path: out });
   try {
-    for (let done = 0; done < rows; done += BLOCK) {
-      const block = take(stream, Math.min(BLOCK, rows - done));
-      await writer.write({ rows: block.labels.length, values: block.rows, labels: block.labels });
+    const options = { schema: stream.schema, classes: stream.classes };
+    const writer = await createWriter(file.partialPath, options, format);
+    try {
+      for (let done = 0; done < rows; done += BLOCK) {
+        const block = take(stream, Math.min(BLOCK, rows - done));
+        await writer.write({ rows: block.labels.length, values: block.rows, labels: block.labels });
+      }
+    } finally {
+      await writer.close();
     }
-  } finally {
-    await writer.close();
+    await file.commit();
+  } catch (e) {
+    await file.discard();
+    throw e;
   }
   const spec = STREAMS[generator as StreamName];
   const changes =
