@@ -537,6 +537,7 @@ export class Lifecycle {
       trained: row,
       seat: seat.index,
       member: seat.memberId,
+      learner: seat.member.kind,
       from,
       to,
       cause,

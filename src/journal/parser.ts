@@ -107,6 +107,7 @@ function readLifecycle(f: Fields): LifecycleRecord {
     trained: f.integer('trained', 0),
     seat: f.integer('seat', 0, MOST_SEATS - 1),
     member: f.integer('member', 0),
+    learner: f.string('learner'),
     from: f.raw('from') === null ? null : f.oneOf('from', MEMBER_STATES),
     to: f.oneOf('to', MEMBER_STATES),
     cause: f.oneOf('cause', LIFECYCLE_CAUSES),

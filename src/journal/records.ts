@@ -17,7 +17,7 @@ import type { FeatureSchema } from '../core/index.js';
 export type JournalRecord = RunRecord | LifecycleRecord | WindowRecord | InputDriftRecord | SummaryRecord;
 
 /** The journal format this build writes and reads (`RunRecord.version`). */
-export const JOURNAL_VERSION = 2;
+export const JOURNAL_VERSION = 3;
 
 export interface RunRecord {
   readonly type: 'run';
@@ -86,6 +86,8 @@ export interface LifecycleChange {
   readonly seat: number;
   /** The member's id, unique within the ensemble and never reused. */
   readonly member: number;
+  /** The kind of learner the member is (`hoeffding-tree`, `naive-bayes`, …). */
+  readonly learner: string;
   /** The state before; null for a member that has just taken a seat. */
   readonly from: MemberState | null;
   readonly to: MemberState;

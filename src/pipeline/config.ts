@@ -293,11 +293,27 @@ function checkEnsemble(c: Checker, value: unknown): EnsembleSpec {
   c.options(lifecyclePath, lifecycle, LIFECYCLE_OPTIONS, ['detector']);
   const detector = checkDetector(c, join(lifecyclePath, 'detector'), lifecycle.detector);
   spec.lifecycle = { ...LIFECYCLE_DEFAULTS, ...lifecycle, ...(detector === undefined ? {} : { detector }) };
-  // Every default filled in, so that the journal records exactly what ran.
+  // Every default filled in, down to each learner's and the detector's options, so that the journal
+  // records exactly what ran.
   const defaults = { bagging: BAGGING_DEFAULTS, boosting: BOOSTING_DEFAULTS, stacking: STACKING_DEFAULTS }[
     kind
   ];
-  return { ...defaults, ...spec } as EnsembleSpec;
+  const full: Record<string, unknown> = { ...defaults, ...spec };
+  const learners = full.learners as readonly { kind?: string }[] | undefined;
+  if (Array.isArray(learners)) full.learners = learners.map((l) => filled(l, CLASSIFIER_OPTIONS));
+  if (full.meta !== undefined) full.meta = filled(full.meta as { kind?: string }, CLASSIFIER_OPTIONS);
+  const resolved = full.lifecycle as Record<string, unknown>;
+  full.lifecycle = {
+    ...resolved,
+    detector: filled(resolved.detector as { kind?: string }, DETECTOR_OPTIONS),
+  };
+  return full as unknown as EnsembleSpec;
+}
+
+/** A learner or detector spec with the defaults of its kind under the options it names; `kind` first. */
+function filled<T extends { kind?: string }>(spec: T, tables: Readonly<Record<string, OptionTable>>): T {
+  const table = tables[spec?.kind ?? ''];
+  return { kind: spec?.kind, ...(table === undefined ? {} : defaultsOf(table)), ...spec };
 }
 
 function checkEvaluation(c: Checker, value: unknown): EvaluationConfig {

@@ -160,7 +160,9 @@ function rugRow<T extends { readonly row: number }>(
       'g',
       { class: `mark ${kind}`, 'data-rows': g.items.map((i) => i.row).join(' ') },
       svgTitle(listing(head, g.items.map(describe))) +
-        svgElement('path', { d: GLYPHS[kind]!(g.x, mid), class: `m-${kind}` }),
+        svgElement('path', { d: GLYPHS[kind]!(g.x, mid), class: `m-${kind}` }) +
+        // Marks that share a column are one glyph: its count says how many, so none is hidden.
+        (n > 1 ? svgText(g.x + 5, mid - 3, grouped(n), 'mark-count') : ''),
     );
   }
   return out;

@@ -30,6 +30,7 @@ export interface LaneBlock {
   readonly to: number;
   readonly state: MemberState;
   readonly member: number;
+  readonly learner: string;
   /** Rows from the start of the first segment drawn to the end of the last. */
   readonly start: number;
   readonly end: number;
@@ -80,6 +81,7 @@ export function laneBlocks(
       to,
       state: s.state,
       member: s.member,
+      learner: s.learner,
       start: s.start,
       end: segments[last]!.end,
       reason: s.reason,
@@ -89,18 +91,26 @@ export function laneBlocks(
   return blocks;
 }
 
+/** The learners that sat in a seat, in the order they first took it (`hoeffding-tree`, or `a / b`). */
+export function seatLearners(segments: readonly LaneSegment[]): string {
+  return [...new Set(segments.map((s) => s.learner))].join(' / ');
+}
+
 /**
- * One lane per seat: the member states over rows as coloured blocks (hover: member id, state, rows,
- * reason), a dark tick where the seat's member was replaced, and the seat's recent accuracy from the
+ * One lane per seat, labelled with its number and the learner that sits in it: the member states over
+ * rows as coloured blocks (hover: member id, learner, state, rows, reason), a dark tick where the seat's member was replaced, and the seat's recent accuracy from the
  * last window record at the right.
  */
 export function seatLanes(t: Timeline, frame: TimeFrame): string {
   const last = t.windows[t.windows.length - 1];
-  let svg = svgText(frame.right + 8, 12, 'recent acc.', 'tick', 'start');
+  let svg =
+    svgText(frame.left - 8, 12, 'seat, learner', 'tick', 'end') +
+    svgText(frame.right + 8, 12, 'recent acc.', 'tick', 'start');
   const states = new Set<MemberState>();
   for (let seat = 0; seat < t.seats; seat++) {
     const top = HEADER + seat * PITCH;
-    let lane = svgText(frame.left - 8, top + LANE - 4, `seat ${seat}`, 'lane-label', 'end');
+    const learner = seatLearners(t.lanes[seat]!);
+    let lane = svgText(frame.left - 8, top + LANE - 4, `${seat} ${learner}`.trim(), 'lane-label', 'end');
     for (const b of laneBlocks(t.lanes[seat]!, frame)) {
       states.add(b.state);
       lane += svgElement(
@@ -112,7 +122,9 @@ export function seatLanes(t: Timeline, frame: TimeFrame): string {
           height: LANE,
           class: `st-${b.state}`,
         },
-        svgTitle(`member ${b.member} ${b.state}, rows ${grouped(b.start)}–${grouped(b.end)}: ${b.reason}`),
+        svgTitle(
+          `member ${b.member} (${b.learner}) ${b.state}, rows ${grouped(b.start)}–${grouped(b.end)}: ${b.reason}`,
+        ),
       );
     }
     const own = t.replacements.filter((r) => r.seat === seat);

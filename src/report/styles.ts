@@ -50,6 +50,7 @@ section{background:#fff;border:1px solid #e1e4ea;border-radius:8px;padding:14px 
 svg.chart{display:block;width:100%;height:auto;font-family:inherit}
 .legend svg{display:inline-block;flex:none}
 svg .tick{font-size:11px;fill:#5b6372;font-variant-numeric:tabular-nums}
+svg .mark-count{font-size:9px;font-weight:600;fill:#1d2330;font-variant-numeric:tabular-nums}
 svg .axis-name{font-style:italic}
 svg .lane-label{font-size:11.5px;fill:#1d2330;font-variant-numeric:tabular-nums}
 svg .axis{stroke:#9aa1ad;stroke-width:1}

@@ -18,7 +18,8 @@ export interface TimeFrame {
 }
 
 export const FRAME_WIDTH = 1100;
-const LEFT = 104;
+/** Wide enough for a seat lane's label: its number and its learner (`12 hoeffding-tree`). */
+const LEFT = 132;
 const RIGHT_MARGIN = 80;
 
 export function timeFrame(rows: number): TimeFrame {

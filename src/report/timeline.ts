@@ -27,6 +27,8 @@ export interface LaneSegment {
   readonly end: number;
   readonly state: MemberState;
   readonly member: number;
+  /** The kind of learner the member is. */
+  readonly learner: string;
   /** Why the member entered the state (the lifecycle record's reason). */
   readonly reason: string;
 }
@@ -102,7 +104,15 @@ function segments(list: readonly Placed<LifecycleRecord>[], end: number): LaneSe
   const out: LaneSegment[] = [];
   list.forEach((r, i) => {
     const next = list[i + 1]?.row ?? end;
-    if (next > r.row) out.push({ start: r.row, end: next, state: r.to, member: r.member, reason: r.reason });
+    if (next > r.row)
+      out.push({
+        start: r.row,
+        end: next,
+        state: r.to,
+        member: r.member,
+        learner: r.learner,
+        reason: r.reason,
+      });
   });
   return out;
 }

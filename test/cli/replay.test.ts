@@ -3,6 +3,8 @@ import { readFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { promisify } from 'node:util';
 import { describe, expect, it } from 'vitest';
+import { ADWIN_DEFAULTS } from '../../src/drift/index.js';
+import { HOEFFDING_TREE_DEFAULTS } from '../../src/learners/index.js';
 import { scratch, shoal } from '../support/cli.js';
 import { note } from '../support/note.js';
 
@@ -98,10 +100,20 @@ describe('shoal spawn → shoal replay', () => {
       .split('\n')
       .map((l) => JSON.parse(l) as { type: string });
     expect(records[0]!.type).toBe('run');
+    // The run record holds exactly what ran: every learner and detector option, defaults filled in.
+    const ensemble = (records[0] as unknown as { config: { ensemble: Record<string, unknown> } }).config
+      .ensemble;
+    expect(ensemble.learners).toEqual([{ kind: 'hoeffding-tree', ...HOEFFDING_TREE_DEFAULTS }]);
+    expect((ensemble.lifecycle as { detector: unknown }).detector).toEqual({
+      kind: 'adwin',
+      ...ADWIN_DEFAULTS,
+    });
     expect(records.at(-1)!.type).toBe('summary');
     expect(records.some((r) => r.type === 'lifecycle')).toBe(true);
     expect(records.filter((r) => r.type === 'window').length).toBe(6);
     const page = await readFile(html, 'utf8');
+    for (const option of [...Object.keys(HOEFFDING_TREE_DEFAULTS), ...Object.keys(ADWIN_DEFAULTS)])
+      expect(page).toContain(`<th>${option}</th>`);
     expect(page).toMatch(/^<!doctype html>/i);
     expect(page).not.toMatch(/(src|href)="https?:/);
     const again = join(dir, 'again.html');

@@ -67,6 +67,9 @@ describe('parseJournal', () => {
     expect(failure('x', withLine(life, JSON.stringify({ ...l, cause: 'bored' }))).message).toBe(
       `x:${life}: lifecycle record: cause must be one of created, warmed, watched, watch-cleared, drift, drift-deferred, drift-ignored-improving, promoted, fresh, got "bored"`,
     );
+    expect(failure('x', withLine(life, JSON.stringify({ ...l, learner: undefined }))).message).toMatch(
+      new RegExp(`^x:${life}: lifecycle record: learner must be a string`),
+    );
     expect(failure('x', withLine(life, JSON.stringify({ ...l, seat: 1e9 }))).message).toBe(
       `x:${life}: lifecycle record: seat must be an integer in [0, 65535], got 1000000000`,
     );
@@ -84,12 +87,12 @@ describe('parseJournal', () => {
   it('refuses another journal version, skips record types it does not know, reads null estimates as NaN', () => {
     const r = JSON.parse(lines[0]!) as object;
     expect(failure('x', withLine(1, JSON.stringify({ ...r, version: 1 }))).message).toBe(
-      'x:1: run record: version must be 2 (the journal format this Shoal reads), got 1',
+      'x:1: run record: version must be 3 (the journal format this Shoal reads), got 1',
     );
     const extra = `${lines[0]}\n{"type":"checkpoint","scored":100,"bytes":5120}\n${lines.slice(1).join('\n')}`;
     expect(parseJournal(extra, 'x')).toEqual(run.records);
     const record = parseJournal(
-      '{"type":"lifecycle","scored":0,"trained":0,"seat":0,"member":0,"from":null,"to":"warming","cause":"created","detector":"adwin","estimate":null,"reason":"ensemble created"}',
+      '{"type":"lifecycle","scored":0,"trained":0,"seat":0,"member":0,"learner":"naive-bayes","from":null,"to":"warming","cause":"created","detector":"adwin","estimate":null,"reason":"ensemble created"}',
       'x',
     )[0]!;
     expect(record.type === 'lifecycle' && Number.isNaN(record.estimate)).toBe(true);

@@ -1,6 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { ConfigError } from '../../src/core/index.js';
+import { ADWIN_DEFAULTS, DDM_DEFAULTS } from '../../src/drift/index.js';
 import { BAGGING_DEFAULTS, LIFECYCLE_DEFAULTS } from '../../src/ensembles/index.js';
+import { HOEFFDING_TREE_DEFAULTS, MLP_DEFAULTS, NAIVE_BAYES_DEFAULTS } from '../../src/learners/index.js';
 import { resolveConfig } from '../../src/pipeline/index.js';
 
 function issuesOf(raw: unknown): string[] {
@@ -22,7 +24,13 @@ describe('resolveConfig', () => {
       members: BAGGING_DEFAULTS.members,
       lambda: BAGGING_DEFAULTS.lambda,
     });
-    expect((config.ensemble as { lifecycle: unknown }).lifecycle).toEqual(LIFECYCLE_DEFAULTS);
+    expect((config.ensemble as { lifecycle: unknown }).lifecycle).toEqual({
+      ...LIFECYCLE_DEFAULTS,
+      detector: { kind: 'adwin', ...ADWIN_DEFAULTS },
+    });
+    expect((config.ensemble as { learners: unknown }).learners).toEqual([
+      { kind: 'hoeffding-tree', ...HOEFFDING_TREE_DEFAULTS },
+    ]);
     expect(config.evaluation).toEqual({ window: 1000, fading: 0.999, journalEvery: 1000 });
     expect(config.inputs).toMatchObject({ label: 'label', id: null, monitor: true });
   });
@@ -43,10 +51,19 @@ describe('resolveConfig', () => {
       'shoal.yaml',
     );
     expect(config.seed).toBe('7');
-    expect(config.ensemble).toMatchObject({
-      kind: 'stacking',
-      holdout: 0.1,
-      meta: { kind: 'mlp', hidden: 4 },
+    expect(config.ensemble).toMatchObject({ kind: 'stacking', holdout: 0.1 });
+    // Each learner's, the meta-learner's and the detector's options are resolved in full.
+    const e = config.ensemble as { learners: unknown; meta: unknown; lifecycle: { detector: unknown } };
+    expect(e.learners).toEqual([
+      { kind: 'naive-bayes', ...NAIVE_BAYES_DEFAULTS },
+      { kind: 'hoeffding-tree', ...HOEFFDING_TREE_DEFAULTS, depthLimit: 3 },
+    ]);
+    expect(e.meta).toEqual({ kind: 'mlp', ...MLP_DEFAULTS, hidden: 4 });
+    expect(e.lifecycle.detector).toEqual({ kind: 'adwin', ...ADWIN_DEFAULTS });
+    const ddm = resolveConfig({ ensemble: { lifecycle: { detector: { kind: 'ddm' } } } }, 'shoal.yaml');
+    expect((ddm.ensemble as { lifecycle: { detector: unknown } }).lifecycle.detector).toEqual({
+      kind: 'ddm',
+      ...DDM_DEFAULTS,
     });
     expect(config.evaluation.window).toBe(200);
     expect(config.inputs).toMatchObject({ label: 'rejected', id: 'leg_id', monitor: false });

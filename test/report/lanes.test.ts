@@ -1,14 +1,19 @@
 import { describe, expect, it } from 'vitest';
-import type { LifecycleRecord } from '../../src/journal/index.js';
+import { STACKING_DEFAULTS, Stacking, Verdict } from '../../src/ensembles/index.js';
+import type { JournalRecord, LifecycleRecord } from '../../src/journal/index.js';
+import { renderReport } from '../../src/report/index.js';
 import { LANE_UNIT, laneBlocks } from '../../src/report/seat-lanes.js';
 import { timeFrame } from '../../src/report/time-axis.js';
 import { type LaneSegment, timeline } from '../../src/report/timeline.js';
+import { buildStream } from '../../src/streams/index.js';
+import { openTags } from './html.js';
 
 const segment = (start: number, end: number, state: LaneSegment['state'], member: number): LaneSegment => ({
   start,
   end,
   state,
   member,
+  learner: 'naive-bayes',
   reason: 'r',
 });
 
@@ -21,6 +26,7 @@ describe('seat lanes', () => {
         trained: row,
         seat: 0,
         member,
+        learner: 'hoeffding-tree',
         from,
         to,
         cause: 'created',
@@ -77,5 +83,54 @@ describe('seat lanes', () => {
     expect(dense.length).toBeLessThanOrEqual(columns);
     // Columns tile the lane: each block starts where the last one ended.
     expect(dense.map((b) => b.from)).toEqual([0, ...dense.slice(0, -1).map((b) => b.to)]);
+  });
+
+  it('labels each lane with the learner in its seat: stacking’s heterogeneous members, one per seat', () => {
+    const stream = buildStream({ generator: 'stagger', concepts: 'a', seed: 1 });
+    const records: JournalRecord[] = [];
+    const ensemble = new Stacking(stream.schema, {}, 1, (c) => records.push({ ...c, scored: c.trained }));
+    ensemble.ensureClasses(stream.classes.length);
+    const row = new Float64Array(stream.schema.features.length);
+    const verdict = new Verdict();
+    for (let i = 0; i < 300; i++) ensemble.scoreTrain(row, 0, stream.next(row, 0), verdict);
+    const html = renderReport(records);
+    const lanes = openTags(html, 'g', 'lane');
+    expect(lanes).toHaveLength(STACKING_DEFAULTS.learners.length);
+    const kinds = STACKING_DEFAULTS.learners.map((l) => l.kind);
+    expect(new Set(kinds).size).toBe(kinds.length);
+    kinds.forEach((kind, seat) => {
+      const lane = html.slice(html.indexOf(`data-seat="${seat}"`));
+      expect(lane).toMatch(new RegExp(`^[^>]*><text[^>]*>${seat} ${kind}</text>`));
+      expect(lane).toMatch(new RegExp(`<title>member \\d+ \\(${kind}\\) `));
+    });
+  });
+
+  it('every drift signal is visible: signals sharing a pixel column carry their count', () => {
+    const signal = (row: number, seat: number): JournalRecord => ({
+      type: 'lifecycle',
+      scored: row,
+      trained: row,
+      seat,
+      member: seat,
+      learner: 'hoeffding-tree',
+      from: 'active',
+      to: 'active',
+      cause: 'drift-ignored-improving',
+      detector: 'adwin',
+      estimate: 0.1,
+      reason: 'r',
+    });
+    // 900,000 rows over a few hundred pixels: rows 500,000 … 500,002 share a column, 900,000 is alone.
+    const html = renderReport([
+      signal(500_000, 0),
+      signal(500_001, 1),
+      signal(500_002, 2),
+      signal(900_000, 0),
+    ]);
+    const marks = html.split('<g class="mark drift"').slice(1);
+    expect(marks).toHaveLength(2);
+    expect(marks[0]).toContain('data-rows="500000 500001 500002"');
+    expect(marks[0]).toMatch(/<text[^>]*class="mark-count"[^>]*>3<\/text>/);
+    expect(marks[1]).not.toContain('mark-count');
   });
 });

@@ -108,13 +108,14 @@ describe('renderReport on a real journal (bagging over STAGGER a → c → b)', 
     note(`replacements at rows ${retired.map((r) => `${r.trained} (seat ${r.seat})`).join(', ')}`);
   });
 
-  it('draws one lane per seat, for 1, 10 and 30 seats, with every member id on hover', () => {
+  it('draws one lane per seat, for 1, 10 and 30 seats, with every member id and its learner on hover', () => {
     for (const members of [1, 10, 30]) {
       const r = members === 10 ? run : journalRun({ members, rows: 3000 });
       const doc = members === 10 ? html : renderReport(r.records);
       expect(openTags(doc, 'g', 'lane')).toHaveLength(members);
       const ids = new Set(r.lifecycle.filter((x) => x.to !== 'retired').map((x) => x.member));
-      for (const id of ids) expect(doc).toMatch(new RegExp(`<title>member ${id} (warming|active|watched)`));
+      for (const id of ids)
+        expect(doc).toMatch(new RegExp(`<title>member ${id} \\(hoeffding-tree\\) (warming|active|watched)`));
     }
   });
 
@@ -217,6 +218,7 @@ describe('renderReport against hostile journals', () => {
       cause: 'created',
       seat: 0,
       member: 0,
+      learner: evil,
       from: null,
       to: 'warming',
       detector: evil,
@@ -230,6 +232,7 @@ describe('renderReport against hostile journals', () => {
       cause: 'drift',
       seat: 0,
       member: 0,
+      learner: evil,
       from: 'warming',
       to: 'retired',
       detector: evil,
@@ -243,6 +246,7 @@ describe('renderReport against hostile journals', () => {
       cause: 'fresh',
       seat: 0,
       member: 1,
+      learner: evil,
       from: null,
       to: 'active',
       detector: evil,

@@ -73,6 +73,7 @@ function change(seat: number, cause: LifecycleCause): LifecycleRecord {
     scored: 12,
     seat,
     member: seat,
+    learner: 'hoeffding-tree',
     from: 'active',
     to: 'active',
     cause,
