@@ -16,7 +16,7 @@ beforeAll(async () => {
   data = join(root, 'stagger.csv');
   dir = join(root, 'ck');
   const made = await shoal(
-    'synth',
+    'spawn',
     'stagger',
     '--rows',
     '6000',

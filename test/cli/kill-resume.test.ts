@@ -27,7 +27,7 @@ let data: string;
 beforeAll(async () => {
   data = join(await scratch(), 'sea.csv');
   const made = await shoal(
-    'synth',
+    'spawn',
     'sea',
     '--rows',
     String(ROWS),

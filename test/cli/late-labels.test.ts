@@ -170,7 +170,7 @@ describe('replay with late labels', () => {
   it('--label-delay without an id column joins by row number; the summary counts the joins', async () => {
     const dir = await scratch();
     const file = join(dir, 'sea.csv');
-    expect((await shoal('synth', 'sea', '--rows', '3000', '--seed', '2', '--out', file)).code).toBe(0);
+    expect((await shoal('spawn', 'sea', '--rows', '3000', '--seed', '2', '--out', file)).code).toBe(0);
     const r = await shoal('replay', file, '--label-delay', '250', '--json');
     expect(r.code).toBe(0);
     const json = JSON.parse(r.out) as { labels: LabelCounts; rows: number };
@@ -181,7 +181,7 @@ describe('replay with late labels', () => {
   it('refuses --labels without --id, and --labels with --label-delay', async () => {
     const dir = await scratch();
     const file = join(dir, 'sea.csv');
-    await shoal('synth', 'sea', '--rows', '10', '--out', file);
+    await shoal('spawn', 'sea', '--rows', '10', '--out', file);
     const noId = await shoal('replay', file, '--labels', file);
     expect(noId.code).not.toBe(0);
     expect(noId.err).toContain('--labels needs --id');

@@ -14,7 +14,7 @@ describe('replay --pace', () => {
   it('gives the same run as an unpaced replay', async () => {
     const dir = await scratch();
     const file = `${dir}/sea.arrow`;
-    expect((await shoal('synth', 'sea', '--rows', '6000', '--seed', '4', '--out', file)).code).toBe(0);
+    expect((await shoal('spawn', 'sea', '--rows', '6000', '--seed', '4', '--out', file)).code).toBe(0);
     const summary = async (...extra: string[]) => {
       const {
         seconds: _s,

@@ -122,6 +122,19 @@ describe('shoal spawn → shoal replay', () => {
     expect((await readFile(again, 'utf8')).length).toBeGreaterThan(1000);
   });
 
+  it('still takes the former name of spawn, with a notice, and writes the same stream', async () => {
+    const dir = await scratch();
+    const args = ['sea', '--rows', '2000', '--seed', '3', '--format', 'csv'];
+    const now = await shoal('spawn', ...args, '--out', join(dir, 'now.csv'));
+    const before = await shoal('synth', ...args, '--out', join(dir, 'before.csv'));
+    expect(before.code).toBe(0);
+    expect(before.err).toMatch(/shoal synth is now shoal spawn/);
+    expect(now.err).not.toMatch(/synth/);
+    expect(await readFile(join(dir, 'before.csv'), 'utf8')).toBe(
+      await readFile(join(dir, 'now.csv'), 'utf8'),
+    );
+  });
+
   it('takes a shoal.yaml and command-line overrides', async () => {
     const dir = await scratch();
     const data = join(dir, 'sea.arrow');

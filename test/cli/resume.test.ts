@@ -33,7 +33,7 @@ beforeAll(async () => {
   const dir = await scratch();
   data = join(dir, 'sea.csv');
   const made = await shoal(
-    'synth',
+    'spawn',
     'sea',
     '--rows',
     '20000',

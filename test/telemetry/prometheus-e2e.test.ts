@@ -70,7 +70,7 @@ describe('Shoal under a real Prometheus', () => {
     const dir = await scratch();
     const stream = join(dir, 'sea.arrow');
     const wrote = await shoal(
-      'synth',
+      'spawn',
       'sea',
       '--rows',
       String(ROWS),
@@ -157,7 +157,7 @@ describe('Shoal under a real Prometheus', () => {
   it('never shows a value of the configuration on /status or /metrics', async () => {
     const dir = await scratch();
     const stream = join(dir, 'sea.arrow');
-    expect((await shoal('synth', 'sea', '--rows', '20000', '--seed', '3', '--out', stream)).code).toBe(0);
+    expect((await shoal('spawn', 'sea', '--rows', '20000', '--seed', '3', '--out', stream)).code).toBe(0);
     // The seed stands in for a secret: a configuration string that nothing outside the run should show.
     const secret = 'tok-5e7c2f9a41d8b306';
     const config = join(dir, 'shoal.yaml');
@@ -179,7 +179,7 @@ describe('Shoal under a real Prometheus', () => {
   it('publishes the checkpoint age while replay writes checkpoints, and not without them', async () => {
     const dir = await scratch();
     const stream = join(dir, 'sea.arrow');
-    expect((await shoal('synth', 'sea', '--rows', '20000', '--seed', '5', '--out', stream)).code).toBe(0);
+    expect((await shoal('spawn', 'sea', '--rows', '20000', '--seed', '5', '--out', stream)).code).toBe(0);
     const port = await freePort();
     const target = `127.0.0.1:${port}`;
     const run = spawnShoal([
