@@ -24,6 +24,8 @@ export class FileSource implements Source, LabelSource {
   private readonly rejects: 'throw' | 'keep';
   private readonly format: { readonly format?: FrameFormat };
   private positions = new BigInt64Array(0);
+  /** `positions` seen as 32-bit words. */
+  private words = new Uint32Array(0);
 
   /** `format` names the file's format when its extension does not say. */
   constructor(path: string, decoder: FrameDecoder, rejects: 'throw' | 'keep', format?: FrameFormat) {
@@ -74,14 +76,21 @@ export class FileSource implements Source, LabelSource {
     first: bigint,
   ): BigInt64Array {
     const rows = origin.length;
-    if (this.positions.length < rows)
+    if (this.positions.length < rows) {
       this.positions = new BigInt64Array(Math.max(rows, 2 * this.positions.length));
-    const out = this.positions.subarray(0, rows);
+      this.words = new Uint32Array(this.positions.buffer);
+    }
+    // A file's row index fits a double exactly; each position is written as its two 32-bit words
+    // (little-endian, as on every platform Node runs on) so that no BigInt is made per row.
+    const base = Number(first);
+    const words = this.words;
     let skipped = 0;
     for (let r = 0; r < rows; r++) {
       while (skipped < rejected.length && rejected[skipped]!.index < origin[r]!) skipped++;
-      out[r] = first + BigInt(r + skipped);
+      const at = base + r + skipped;
+      words[2 * r] = at % 0x1_0000_0000;
+      words[2 * r + 1] = Math.floor(at / 0x1_0000_0000);
     }
-    return out;
+    return this.positions.subarray(0, rows);
   }
 }
