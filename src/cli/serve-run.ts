@@ -41,7 +41,7 @@ export class ServeModels {
 
   /** The output messages for one batch (its scores, dead letters and journal records). */
   handle(batch: FetchedBatch): { outputs: TopicOutputs[]; scored: number; dead: DeadLetter[] } {
-    const key = this.settings.scope === 'global' ? 'global' : `${batch.topic}/${batch.partition}`;
+    const key = this.key(batch);
     const state = this.state(key);
     const dead: DeadLetter[] = [];
     const scores: OutputMessage[] = [];
@@ -69,6 +69,16 @@ export class ServeModels {
     if (dead.length > 0) state.session.reject(dead.length);
     for (const d of dead) this.telemetry.deadLettered(d.code);
     return { outputs: this.outputs(key, state, scores, dead), scored, dead };
+  }
+
+  /**
+   * The session a batch belongs to: `global`, or its events stream; with scope `partition` a labels
+   * batch of partition p belongs to events partition p (the topics are co-partitioned).
+   */
+  private key(batch: FetchedBatch): string {
+    if (this.settings.scope === 'global') return 'global';
+    const topic = batch.topic === this.settings.labels?.topic ? this.settings.events.topics[0]! : batch.topic;
+    return `${topic}/${batch.partition}`;
   }
 
   /** Drop the sessions of streams this instance no longer reads (`partition` scope). */

@@ -135,12 +135,11 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
         message: 'late labels (kafka.labels) are joined by id: name the id column',
       });
     }
-    if (kafka.scope === 'partition') {
+    if (kafka.scope === 'partition' && kafka.events.topics.length !== 1) {
       issues.push({
-        path: 'kafka.labels',
+        path: 'kafka.events.topics',
         code: 'conflict',
-        message:
-          'late labels need scope global: with scope partition a label could reach an instance that does not hold its prediction',
+        message: `late labels with scope partition are routed by partition number to the session of one events topic: name one topic, not ${kafka.events.topics.length}`,
       });
     }
   }
@@ -194,13 +193,23 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         refusal = refuseSecond(settings);
         void consumer.stop();
       }
+      // Partitions added to one topic while running (a rebalance follows) break the co-partitioning.
+      const unpaired = await notCoPartitioned(settings, consumer);
+      if (unpaired !== null) {
+        refusal = unpaired;
+        void consumer.stop();
+      }
     },
     (joined) => endpoint?.setReady('consumer', joined),
   );
   await producer.connect();
   await consumer.connect();
-  if (settings.scope === 'global' && (await consumer.members()) > 0) {
-    terminal.err(`shoal serve: ${refuseSecond(settings)}\n`);
+  const refused =
+    settings.scope === 'global' && (await consumer.members()) > 0
+      ? refuseSecond(settings)
+      : await notCoPartitioned(settings, consumer);
+  if (refused !== null) {
+    terminal.err(`shoal serve: ${refused}\n`);
     await Promise.all([consumer.stop(), producer.stop(), endpoint?.close()]);
     return 2;
   }
@@ -311,6 +320,28 @@ function exitSoon(code: number): void {
 function eventOptions(config: RunConfig): FrameOptions {
   const { label, ...rest } = frameOptions(config);
   return label === DEFAULT_LABEL || label === undefined ? rest : { label, ...rest };
+}
+
+/**
+ * With scope `partition` and a labels topic, the labels of events partition p are read from labels
+ * partition p, by the instance that holds p's session: the labels topic must have as many partitions as
+ * the events topic (and each label be written to its event's partition number — by the same key and
+ * partitioner, or explicitly). Returns the refusal, or null when they match or the check does not apply.
+ */
+async function notCoPartitioned(settings: KafkaSettings, consumer: EventConsumer): Promise<string | null> {
+  if (settings.scope !== 'partition' || settings.labels === null) return null;
+  const events = settings.events.topics[0]!;
+  const labels = settings.labels.topic;
+  let counts: Map<string, number>;
+  try {
+    counts = await consumer.partitionCounts([events, labels]);
+  } catch (e) {
+    return `cannot read the partition counts of ${JSON.stringify(events)} and ${JSON.stringify(labels)} (${(e as Error).message}); create both topics, with the same partition count`;
+  }
+  const e = counts.get(events);
+  const l = counts.get(labels);
+  if (e === l) return null;
+  return `kafka.labels.topic ${JSON.stringify(labels)} has ${l ?? 'no'} partitions and the events topic ${JSON.stringify(events)} has ${e ?? 'no'}: with scope partition, labels are joined in the session of the events partition with the same number, so the two topics must have the same partition count (and each label be written to its event's partition number). Repartition one, or use scope global.`;
 }
 
 function refuseSecond(settings: KafkaSettings): string {
