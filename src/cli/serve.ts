@@ -125,6 +125,15 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
   const kafka = collect(() => resolveKafkaSettings(section, source));
   const telemetry = collect(() => telemetrySettings(telemetrySection));
   if (kafka !== null) collect(() => readSecrets(kafka, process.env, source));
+  if (run !== null && run.task === 'regression') {
+    // The scores topic carries class probabilities; a column for the number predicted is not there yet.
+    issues.push({
+      path: 'task',
+      code: 'conflict',
+      message:
+        'serve scores classifications only: the scores topic has no column for a number predicted; replay a regression instead',
+    });
+  }
   if (run !== null && kafka !== null && kafka.labels !== null) {
     if (run.inputs.id === null) {
       issues.push({

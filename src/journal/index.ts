@@ -10,6 +10,7 @@ export type {
   MemberState,
   RunRecord,
   SummaryRecord,
+  Task,
   ViewFigures,
   WindowRecord,
 } from './records.js';
@@ -19,5 +20,6 @@ export {
   JOURNAL_VERSION,
   LIFECYCLE_CAUSES,
   MEMBER_STATES,
+  TASKS,
 } from './records.js';
 export { journalLine } from './writer.js';

@@ -11,6 +11,7 @@ import {
   MEMBER_STATES,
   type RunRecord,
   type SummaryRecord,
+  TASKS,
   type ViewFigures,
   type WindowRecord,
 } from './records.js';
@@ -125,6 +126,9 @@ function readView(f: Fields): ViewFigures {
     kappaM: f.numberOrNull('kappaM'),
     kappaNoChange: f.numberOrNull('kappaNoChange'),
     logLoss: f.numberOrNull('logLoss'),
+    mae: f.numberOrNull('mae'),
+    rmse: f.numberOrNull('rmse'),
+    r2: f.numberOrNull('r2'),
   };
 }
 
@@ -171,6 +175,7 @@ function readSummary(f: Fields): SummaryRecord {
   const confusion = f.matrix('confusion');
   return {
     type: 'summary',
+    task: f.oneOf('task', TASKS),
     scored: f.integer('scored', 0),
     trained: f.integer('trained', 0),
     rows: f.integer('rows', 0),
@@ -180,6 +185,9 @@ function readSummary(f: Fields): SummaryRecord {
     kappaNoChange: f.numberOrNull('kappaNoChange'),
     logLoss: f.numberOrNull('logLoss'),
     macroF1: f.numberOrNull('macroF1'),
+    mae: f.numberOrNull('mae'),
+    rmse: f.numberOrNull('rmse'),
+    r2: f.numberOrNull('r2'),
     classes,
     confusion,
     driftSignals: f.integer('driftSignals', 0),
