@@ -27,7 +27,6 @@ import {
   STACKING_DEFAULTS,
 } from '../ensembles/index.js';
 import { VIEW_DEFAULTS } from '../evaluation/index.js';
-import { TASKS, type Task } from '../journal/index.js';
 import {
   checkFeatureSpecs,
   DEFAULT_MISSING,
@@ -35,6 +34,7 @@ import {
   LABELS_AS,
   type LabelsAs,
 } from '../frames/index.js';
+import { TASKS, type Task } from '../journal/index.js';
 import {
   CLASSIFIER_KINDS,
   CLASSIFIER_OPTIONS,

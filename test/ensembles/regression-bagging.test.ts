@@ -55,9 +55,7 @@ describe('regression bagging (Oza & Russell 2001 with regressors)', () => {
       JSON.parse(JSON.stringify(bag.snapshot())) as RegressionBaggingSnapshot,
     );
     for (let i = 2000; i < 3000; i++) {
-      expect(step(copy, data.rows, i, data.targets[i]!)).toBe(
-        step(bag, data.rows, i, data.targets[i]!),
-      );
+      expect(step(copy, data.rows, i, data.targets[i]!)).toBe(step(bag, data.rows, i, data.targets[i]!));
     }
     expect(() => new RegressionBagging(data.schema, { members: 0 })).toThrow(/members/);
     expect(() => new RegressionBagging(data.schema, { lambda: -1 })).toThrow(/lambda/);
