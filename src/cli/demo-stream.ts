@@ -38,6 +38,12 @@ export const DEMO_STREAM_DEFAULTS = {
 const UNPACED_STEP = 500;
 /** A paced run sends one events message a tenth of a second. */
 const STEPS_PER_SECOND = 10;
+/**
+ * An inspection result is sent no sooner than this after its leg was acknowledged (wall clock), however
+ * soon it is due in scenario time: serve reads the two topics independently, and a result that reached
+ * it before its leg would find no score to join.
+ */
+const DEFAULT_LABEL_WAIT_MS = 1000;
 
 export const DEMO_STREAM_HELP = `shoal demo-stream --brokers HOST:PORT [options]
 
@@ -61,6 +67,9 @@ Options:
   --forever      send until interrupted (Ctrl-C); the script plays out over the first ${count(FREIGHT_DEFAULTS.length)} legs
   --seed S       the scenario's seed (default 7, as shoal demo)
   --partitions N partitions of each topic it creates (default 1)
+  --label-wait MS
+                 send an inspection result no sooner than MS after its leg, whatever scenario time says
+                 (default ${DEFAULT_LABEL_WAIT_MS}), so that a serve reading a little behind has scored the leg first
 Columns: ${DEMO_STREAM_DEFAULTS.id} (utf8) and the features on the events topic; ${DEMO_STREAM_DEFAULTS.id} and
 ${DEMO_STREAM_DEFAULTS.label} (accepted | rejected) on the labels topic (the names in --config's inputs when given).
 
@@ -91,6 +100,7 @@ export async function demoStream(args: readonly string[], terminal: Terminal): P
     forever: { type: 'boolean' },
     seed: { type: 'string' },
     partitions: { type: 'string' },
+    'label-wait': { type: 'string' },
   });
   if (parsed.values.help) {
     terminal.out(`${DEMO_STREAM_HELP}\n`);
@@ -109,6 +119,7 @@ export async function demoStream(args: readonly string[], terminal: Terminal): P
     return 2;
   }
   const partitions = whole(parsed, 'partitions', 1) ?? 1;
+  const labelWait = whole(parsed, 'label-wait', 0) ?? DEFAULT_LABEL_WAIT_MS;
   const seed = text(parsed, 'seed') ?? '7';
   const target = await resolveTarget(
     text(parsed, 'config'),
@@ -186,6 +197,15 @@ export async function demoStream(args: readonly string[], terminal: Terminal): P
     return n;
   };
 
+  // When each events message was acknowledged (wall ms) and the scenario time of its last leg: a result
+  // goes out once scenario time has reached it and its leg's message is labelWait old.
+  const acked: { wall: number; time: number }[] = [];
+  let sentUpTo = Number.NEGATIVE_INFINITY;
+  const releasable = (): number => {
+    const cutoff = terminal.now() - labelWait;
+    while (acked.length > 0 && acked[0]!.wall <= cutoff) sentUpTo = acked.shift()!.time;
+    return Math.min(scenario.leg.time, sentUpTo);
+  };
   const started = terminal.now();
   let sent = 0;
   let labelled = 0;
@@ -207,7 +227,8 @@ export async function demoStream(args: readonly string[], terminal: Terminal): P
       }
       await deliver(producer, target.events, arrowStream(events.batch(rows, values, null, ids)));
       sent += rows;
-      labelled += await sendDue(scenario.leg.time);
+      acked.push({ wall: terminal.now(), time: scenario.leg.time });
+      labelled += await sendDue(releasable());
       if (sent >= nextProgress) {
         progress(terminal, sent, labelled, scenario.leg.time, terminal.now() - started);
         nextProgress += every;
@@ -219,6 +240,8 @@ export async function demoStream(args: readonly string[], terminal: Terminal): P
     }
     if (!stop) {
       // The inspections still out come in as scenario time goes on after the last leg.
+      const last = acked[acked.length - 1];
+      if (last !== undefined) await sleep(Math.max(0, last.wall + labelWait - terminal.now()));
       labelled += await sendDue(scenario.leg.time + scenario.options.labelHours[1] * 3_600_000);
     }
   } finally {
