@@ -67,6 +67,7 @@ Options:
   --forever      send until interrupted (Ctrl-C); the script plays out over the first ${count(FREIGHT_DEFAULTS.length)} legs
   --seed S       the scenario's seed (default 7, as shoal demo)
   --partitions N partitions of each topic it creates (default 1)
+  --create-only  create the topics and exit, sending nothing (start serve next, then send)
   --label-wait MS
                  send an inspection result no sooner than MS after its leg, whatever scenario time says
                  (default ${DEFAULT_LABEL_WAIT_MS}), so that a serve reading a little behind has scored the leg first
@@ -101,6 +102,7 @@ export async function demoStream(args: readonly string[], terminal: Terminal): P
     seed: { type: 'string' },
     partitions: { type: 'string' },
     'label-wait': { type: 'string' },
+    'create-only': { type: 'boolean' },
   });
   if (parsed.values.help) {
     terminal.out(`${DEMO_STREAM_HELP}\n`);
@@ -131,6 +133,12 @@ export async function demoStream(args: readonly string[], terminal: Terminal): P
   const log = createLogger({ level: 'warn', pretty: true, destination: process.stderr });
   const kafka = createKafka(target.connection, target.secrets, log);
   const created = await ensureTopics(kafka, target.topics, partitions);
+  if (parsed.values['create-only'] === true) {
+    terminal.out(
+      `shoal demo-stream: ${created.length > 0 ? `created topics: ${created.join(', ')}` : 'every topic exists already'} (${target.topics.join(', ')}); nothing sent\n`,
+    );
+    return 0;
+  }
   const producer = new OutputProducer(kafka, log);
   await producer.connect();
 

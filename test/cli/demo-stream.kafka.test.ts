@@ -8,7 +8,7 @@ import { parse, stringify } from 'yaml';
 import { CLASSES, FREIGHT_SCHEMA, FreightScenario } from '../../src/scenario/index.js';
 import { scratch } from '../support/cli.js';
 import { kafkaSection, serveTopics } from '../support/kafka-config.js';
-import { createTopics, killServes, readTopic, ServeProcess, scoreRows } from '../support/kafka-serve.js';
+import { killServes, readTopic, ServeProcess, scoreRows } from '../support/kafka-serve.js';
 import { note } from '../support/note.js';
 import { eventually, freePort } from '../support/prometheus.js';
 
@@ -68,13 +68,10 @@ describe('demo:stream → a real broker → shoal serve', () => {
     expect(refused.code).toBe(2);
     expect(refused.err).toContain('--rows must be a whole number ≥ 100');
     // The harness broker creates no topic on first use: the producer creates the ones it writes and
-    // those the configuration names (shown on other events and labels topics, so that serve's stay new).
-    const other = await demoStream([
-      ...['--config', config, '--rows', '100', '--events', `${t.events}-a`, '--labels', `${t.events}-b`],
-    ]);
-    expect(other.code, other.err).toBe(0);
-    expect(other.out).toContain(`created topics: ${t.events}-a, ${t.events}-b, ${t.scores}, ${t.dead}\n`);
-    await createTopics(brokers, { [t.events]: 1, [labelsTopic]: 1 });
+    // those the configuration names, and with --create-only sends nothing.
+    const created = await demoStream(['--config', config, '--create-only']);
+    expect(created.code, created.err).toBe(0);
+    expect(created.out).toContain(`created topics: ${t.events}, ${labelsTopic}, ${t.scores}, ${t.dead} (`);
 
     // Serve first (as the README says), so that every inspection result finds its score waiting.
     const serve = new ServeProcess(config, {}, []);
@@ -83,8 +80,6 @@ describe('demo:stream → a real broker → shoal serve', () => {
     const ran = await demoStream([
       '--config',
       config,
-      '--events',
-      t.events,
       '--rows',
       String(LEGS),
       '--rate',
