@@ -127,6 +127,15 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
   const kafka = collect(() => resolveKafkaSettings(section, source));
   const telemetry = collect(() => telemetrySettings(telemetrySection));
   if (kafka !== null) collect(() => readSecrets(kafka, process.env, source));
+  if (run !== null && run.task === 'regression') {
+    // The scores topic carries class probabilities; a column for the number predicted is not there yet.
+    issues.push({
+      path: 'task',
+      code: 'conflict',
+      message:
+        'serve scores classifications only: the scores topic has no column for a number predicted; replay a regression instead',
+    });
+  }
   if (run !== null && kafka !== null && kafka.labels !== null) {
     if (run.inputs.id === null) {
       issues.push({
@@ -154,7 +163,13 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   const kafka = createKafka(settings, secrets, log);
   const journalFile: WriteStream | null =
     settings.journal.file === null ? null : createWriteStream(settings.journal.file, { flags: 'a' });
-  const models = new ServeModels(config, settings, eventOptions(config), shoalVersion(), journalFile);
+  const models = new ServeModels(
+    config,
+    settings,
+    eventOptions(config, settings),
+    shoalVersion(),
+    journalFile,
+  );
   const listen = checked.telemetry.listen;
   const endpoint =
     listen === null
@@ -314,12 +329,14 @@ function exitSoon(code: number): void {
 }
 
 /**
- * The events decoder's options: replay's, except that the default label column may be absent (events
- * whose labels come later on the labels topic carry none); a label column named otherwise must exist.
+ * The events decoder's options: replay's, except that the label column may be absent from the events
+ * when it is the default one, or when labels come on the labels topic (`kafka.labels`); a label column
+ * named otherwise must exist.
  */
-function eventOptions(config: RunConfig): FrameOptions {
+function eventOptions(config: RunConfig, settings: KafkaSettings): FrameOptions {
   const { label, ...rest } = frameOptions(config);
-  return label === DEFAULT_LABEL || label === undefined ? rest : { label, ...rest };
+  if (label === DEFAULT_LABEL || label === undefined) return rest;
+  return settings.labels === null ? { label, ...rest } : { label, labelOptional: true, ...rest };
 }
 
 /**

@@ -12,7 +12,11 @@ const { Kafka, logLevel } = kafkajs;
  * A kafkajs client for the settings: brokers, TLS and SASL (PLAIN, SCRAM-SHA-256/512) with secrets read
  * from the environment, kafkajs's log routed into the service's logger.
  */
-export function createKafka(settings: KafkaSettings, secrets: Secrets, log: Logger): kafkajs.Kafka {
+export function createKafka(
+  settings: Pick<KafkaSettings, 'clientId' | 'brokers' | 'tls' | 'sasl'>,
+  secrets: Secrets,
+  log: Logger,
+): kafkajs.Kafka {
   registerCodecs();
   const tls = settings.tls;
   const sasl = settings.sasl;

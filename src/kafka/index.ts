@@ -13,3 +13,4 @@ export type { LogLevelName } from './log.js';
 export { createLogger } from './log.js';
 export { deadLetterMessage, journalMessage, scoresMessage } from './messages.js';
 export { OutputProducer } from './producer.js';
+export { ensureTopics } from './topics.js';
