@@ -12,6 +12,7 @@ import { createServeTopics, kafkaSection, serveTopics } from '../support/kafka-c
 import { arrowMessage, eventTable, seaEvents } from '../support/kafka-events.js';
 import {
   client,
+  committed,
   countScoreRows,
   killServes,
   produce,
@@ -64,9 +65,9 @@ describe('shoal serve on a real broker', () => {
 
     const admin = client(brokers).admin();
     await admin.connect();
-    const [committed] = await admin.fetchOffsets({ groupId: t.group, topics: [t.events] });
+    const [done] = await admin.fetchOffsets({ groupId: t.group, topics: [t.events] });
     await admin.disconnect();
-    expect(committed!.partitions[0]!.offset).toBe(String(messages.length));
+    expect(done!.partitions[0]!.offset).toBe(String(messages.length));
 
     const file = join(dir, 'events.arrow');
     await writeFile(file, tableToIPC(eventTable(events, 0, rows, true), 'file'));
@@ -151,7 +152,7 @@ describe('shoal serve on a real broker', () => {
       ]);
       labelMessages++;
       sent.push(...[0, 1].map((label) => JSON.stringify({ id: `before-${label}`, label, t: 0 })));
-      await committed(brokers, t.group, labelsTopic, labelMessages);
+      await committed(brokers, t.group, labelsTopic, [labelMessages]);
       for (let from = 0; from < rows; from += round) {
         const messages = [];
         for (let i = Math.max(1, from); i < from + round; i = (Math.floor(i / 500) + 1) * 500)
@@ -180,7 +181,7 @@ describe('shoal serve on a real broker', () => {
         labelMessages += labels.length;
         // The next round's events only once these labels were joined (their offsets committed): Kafka
         // does not order two topics, and the replay below needs the order known.
-        await committed(brokers, t.group, labelsTopic, labelMessages);
+        await committed(brokers, t.group, labelsTopic, [labelMessages]);
       }
     } finally {
       await counter.stop();
@@ -261,20 +262,4 @@ function model(c: RunCheckpoint<FrameDecoderSnapshot, SessionSnapshot>): {
   const { positions, ...session } = c.state.session;
   const { options: _, ...decoder } = c.state.decoder.state;
   return { session: canonicalJson(session), decoder: canonicalJson(decoder), positions };
-}
-
-/** Wait until the group has committed `offset` on partition 0 of `topic`. */
-async function committed(brokers: string, group: string, topic: string, offset: number): Promise<void> {
-  const admin = client(brokers).admin();
-  await admin.connect();
-  try {
-    for (let i = 0; i < 600; i++) {
-      const [got] = await admin.fetchOffsets({ groupId: group, topics: [topic] });
-      if (Number(got!.partitions[0]!.offset) >= offset) return;
-      await new Promise((d) => setTimeout(d, 100));
-    }
-    throw new Error(`${group} never committed offset ${offset} on ${topic}`);
-  } finally {
-    await admin.disconnect();
-  }
 }

@@ -176,3 +176,25 @@ export class ScoreCounter {
     return this.consumer.disconnect();
   }
 }
+
+/** Wait until the group has committed at least `offsets[p]` on each partition p of `topic`. */
+export async function committed(
+  brokers: string,
+  group: string,
+  topic: string,
+  offsets: number[],
+): Promise<void> {
+  const admin = client(brokers).admin();
+  await admin.connect();
+  try {
+    for (let i = 0; i < 600; i++) {
+      const [got] = await admin.fetchOffsets({ groupId: group, topics: [topic] });
+      if (offsets.every((o, p) => Number(got!.partitions.find((g) => g.partition === p)?.offset ?? -1) >= o))
+        return;
+      await new Promise((d) => setTimeout(d, 100));
+    }
+    throw new Error(`${group} never committed offsets ${offsets.join(', ')} on ${topic}`);
+  } finally {
+    await admin.disconnect();
+  }
+}
