@@ -1,7 +1,7 @@
 import { once } from 'node:events';
 import { createWriteStream, type WriteStream } from 'node:fs';
 import { stringify } from 'yaml';
-import { ConfigError, type ConfigIssue, ShoalError } from '../core/index.js';
+import { ConfigError, type ConfigIssue, checkOptions, resolveOptions, ShoalError } from '../core/index.js';
 import { DEFAULT_LABEL, type FrameOptions } from '../frames/index.js';
 import {
   createKafka,
@@ -12,11 +12,13 @@ import {
   readSecrets,
   resolveKafkaSettings,
 } from '../kafka/index.js';
-import { type RunConfig, resolveConfig } from '../pipeline/index.js';
+import { CHECKPOINT_CADENCE_OPTIONS, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { parseListen, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text } from './args.js';
 import { readConfigFile } from './config-file.js';
+import { LabelHold } from './label-hold.js';
 import { frameOptions } from './replay.js';
+import { type ServeCheckpointSettings, ServeCheckpoints } from './serve-checkpoints.js';
 import { ServeModels } from './serve-run.js';
 import type { Terminal } from './terminal.js';
 import { shoalVersion } from './version.js';
@@ -57,7 +59,14 @@ export async function serve(args: readonly string[], terminal: Terminal): Promis
     return 2;
   }
   if (parsed.values.check === true) {
-    terminal.out(stringify({ ...checked.run, kafka: checked.kafka, telemetry: checked.telemetry }));
+    terminal.out(
+      stringify({
+        ...checked.run,
+        kafka: checked.kafka,
+        telemetry: checked.telemetry,
+        checkpoints: checked.checkpoints,
+      }),
+    );
     return 0;
   }
   return run(checked, terminal);
@@ -68,6 +77,36 @@ interface ServeConfig {
   readonly kafka: KafkaSettings;
   /** Where the telemetry endpoint listens; null: no endpoint. */
   readonly telemetry: { readonly listen: { readonly host: string; readonly port: number } | null };
+  /** Where and how often the service checkpoints; null: it keeps its models in memory only. */
+  readonly checkpoints: ServeCheckpointSettings | null;
+}
+
+/**
+ * The `checkpoints:` section: `dir` (the store's directory) and the cadence options of
+ * `CHECKPOINT_CADENCE_OPTIONS`; absent, no checkpoints.
+ */
+function checkpointSettings(raw: unknown): ServeCheckpointSettings | null {
+  if (raw === undefined || raw === null) return null;
+  const issues: ConfigIssue[] = [];
+  if (typeof raw !== 'object' || Array.isArray(raw)) {
+    throw new ConfigError('checkpoints', [
+      { path: 'checkpoints', code: 'wrong-type', message: 'expected a mapping with dir: DIRECTORY' },
+    ]);
+  }
+  const { dir, ...cadence } = raw as Record<string, unknown>;
+  if (typeof dir !== 'string' || dir === '') {
+    issues.push({
+      path: 'checkpoints.dir',
+      code: dir === undefined ? 'required' : 'wrong-type',
+      message: 'the directory checkpoints are written to (a path)',
+    });
+  }
+  checkOptions(CHECKPOINT_CADENCE_OPTIONS, cadence, 'checkpoints', issues, ['dir']);
+  if (issues.length > 0) throw new ConfigError('checkpoints', issues);
+  return {
+    dir: dir as string,
+    cadence: resolveOptions('checkpoints', CHECKPOINT_CADENCE_OPTIONS, cadence, []),
+  };
 }
 
 /** The `telemetry:` section: `listen: HOST:PORT` (or `:PORT`, loopback); absent, no endpoint. */
@@ -120,10 +159,23 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
       return null;
     }
   };
-  const { kafka: section, telemetry: telemetrySection, ...rest } = (raw ?? {}) as Record<string, unknown>;
+  const {
+    kafka: section,
+    telemetry: telemetrySection,
+    checkpoints: checkpointSection,
+    ...rest
+  } = (raw ?? {}) as Record<string, unknown>;
   const run = collect(() => resolveConfig(rest, source));
   const kafka = collect(() => resolveKafkaSettings(section, source));
   const telemetry = collect(() => telemetrySettings(telemetrySection));
+  const checkpoints = collect(() => checkpointSettings(checkpointSection));
+  if (checkpoints !== null && kafka?.scope === 'partition') {
+    issues.push({
+      path: 'checkpoints',
+      code: 'conflict',
+      message: 'checkpoints are written for scope global only: the file store holds one session',
+    });
+  }
   if (kafka !== null) collect(() => readSecrets(kafka, process.env, source));
   if (run !== null && kafka !== null && kafka.labels !== null) {
     if (run.inputs.id === null) {
@@ -143,7 +195,7 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
     }
   }
   if (run === null || kafka === null || telemetry === null || issues.length > 0) return { issues };
-  return { run, kafka, telemetry };
+  return { run, kafka, telemetry, checkpoints };
 }
 
 async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
@@ -153,7 +205,28 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   const kafka = createKafka(settings, secrets, log);
   const journalFile: WriteStream | null =
     settings.journal.file === null ? null : createWriteStream(settings.journal.file, { flags: 'a' });
-  const models = new ServeModels(config, settings, eventOptions(config), shoalVersion(), journalFile);
+  const models = new ServeModels(
+    config,
+    settings,
+    eventOptions(config),
+    shoalVersion(),
+    journalFile,
+    checked.checkpoints !== null,
+  );
+  const checkpoints =
+    checked.checkpoints === null
+      ? null
+      : new ServeCheckpoints(checked.checkpoints, config, settings, shoalVersion(), Date.now());
+  if (checkpoints !== null) {
+    const taken = await checkpoints.load(models);
+    for (const why of taken?.refused ?? []) log.warn({ reason: why }, 'checkpoint refused');
+    if (taken === null) log.info({ dir: checkpoints.store.dir }, 'no checkpoint: starting afresh');
+    else
+      log.info(
+        { checkpoint: taken.where, offsets: Object.fromEntries(stringOffsets(models.positions('global'))) },
+        'going on from the checkpoint',
+      );
+  }
   const listen = checked.telemetry.listen;
   const endpoint =
     listen === null
@@ -165,25 +238,54 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         });
   if (endpoint !== null) {
     await endpoint.start();
-    // Serve has no model to load: each session builds its model from its first events' schema.
+    // The model is ready: taken up from its checkpoint above, or built from the first events' schema.
     endpoint.setReady('model', true);
     log.info({ host: endpoint.host, port: endpoint.port }, 'telemetry listening');
   }
   const producer = new OutputProducer(kafka, log);
   let refusal: string | null = null;
+  // Batches and checkpoints take turns: a checkpoint is cut between two batches, never inside one.
+  let turn: Promise<unknown> = Promise.resolve();
+  const exclusive = <T>(work: () => Promise<T>): Promise<T> => {
+    const mine = turn.then(work);
+    turn = mine.catch(() => undefined);
+    return mine;
+  };
+  const position = (stream: string): bigint | undefined =>
+    models.positions(models.key(stream)).get(stream) ?? starts.get(stream);
+  /** Where each events partition started at the last join, when no session holds it. */
+  const starts = new Map<string, bigint>();
+  /** Streams whose lag a batch told since the last join. */
+  const lagTold = new Set<string>();
+  const hold = new LabelHold(settings.labels?.topic ?? null, (topic) => {
+    log.info({ topic }, 'the events read at the join are scored: reading labels');
+    consumer.resumeTopic(topic);
+  });
   const consumer = new EventConsumer(
     kafka,
     settings,
     log,
     async (assignment) => {
       models.telemetry.keepLag(assignment.streams);
-      if (endpoint !== null) {
-        try {
-          for (const l of await consumer.lag(assignment.streams))
-            models.telemetry.setLag(l.topic, l.partition, l.lag);
-        } catch (e) {
-          log.debug({ error: (e as Error).message }, 'could not read the lag of the assigned partitions');
+      const events = assignment.streams.filter((s) => !models.isLabels(s));
+      try {
+        const lags = await consumer.lag(assignment.streams);
+        // A batch handled meanwhile told a newer lag than the group's offsets read before its commit.
+        for (const l of lags) {
+          if (!lagTold.has(`${l.topic}/${l.partition}`)) models.telemetry.setLag(l.topic, l.partition, l.lag);
         }
+        const ends = await consumer.ends(events);
+        starts.clear();
+        for (const l of lags) {
+          const stream = `${l.topic}/${l.partition}`;
+          const end = ends.get(stream);
+          if (end !== undefined) starts.set(stream, end - BigInt(l.lag));
+        }
+        hold.until(ends, position);
+      } catch (e) {
+        log.debug({ error: (e as Error).message }, 'could not read the lag of the assigned partitions');
+        // Not knowing the ends, the labels wait no longer than they would for a fresh start.
+        hold.until(new Map(), position);
       }
       for (const stream of models.keepOnly(assignment.streams)) {
         log.info({ stream }, 'partition revoked; its session is dropped (its outputs were committed)');
@@ -193,44 +295,105 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         void consumer.stop();
       }
     },
-    (joined) => endpoint?.setReady('consumer', joined),
+    {
+      onMembership: (joined) => endpoint?.setReady('consumer', joined),
+      onJoin: (streams) => {
+        lagTold.clear();
+        const seek = new Map<string, bigint>();
+        for (const stream of streams) {
+          const at = models.positions(models.key(stream)).get(stream);
+          if (at !== undefined) seek.set(stream, at);
+        }
+        return { seek, hold: hold.join(streams) };
+      },
+      onRebalance: () => {
+        if (checkpoints !== null) void exclusive(() => checkpoint('rebalance'));
+      },
+      commitEachBatch: checkpoints === null,
+    },
   );
+
+  /** Write a checkpoint and commit the offsets it covers (the group never claims more). */
+  const checkpoint = async (why: string): Promise<void> => {
+    try {
+      const saved = await checkpoints!.save(models, Date.now());
+      if (saved === null) return;
+      const committed = await consumer.commit(saved.offsets);
+      log.info(
+        {
+          checkpoint: saved.where,
+          why,
+          offsets: Object.fromEntries(stringOffsets(saved.offsets)),
+          committed,
+        },
+        'checkpoint written',
+      );
+    } catch (e) {
+      log.error(
+        { why, error: (e as Error).message },
+        'could not write a checkpoint; the previous one stands',
+      );
+    }
+  };
+
   await producer.connect();
   await consumer.connect();
-  if (settings.scope === 'global' && (await consumer.members()) > 0) {
+  if (settings.scope === 'global' && !(await alone(consumer, settings))) {
     terminal.err(`shoal serve: ${refuseSecond(settings)}\n`);
     await Promise.all([consumer.stop(), producer.stop(), endpoint?.close()]);
     return 2;
   }
   let scored = 0;
   let dead = 0;
-  await consumer.start(async (batch, control) => {
-    const began = performance.now();
-    const handled = models.handle(batch);
-    if (handled.scored > 0) endpoint?.batch(handled.scored, (performance.now() - began) / 1000);
-    for (const d of handled.dead) {
-      log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
-    }
-    // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
-    const delivered = await producer.deliver(handled.outputs, async () => {
-      control.pause();
-      await control.heartbeat().catch(() => undefined);
-    });
-    control.resume();
-    if (delivered) {
-      models.telemetry.setLag(batch.topic, batch.partition, batch.lag);
-      scored += handled.scored;
-      dead += handled.dead.length;
-    }
-    return delivered;
-  });
+  let stopping = false;
+  await consumer.start((batch, control) =>
+    exclusive(async () => {
+      // After the last checkpoint nothing more is handled: what it does not cover is read again later.
+      if (stopping) return false;
+      const began = performance.now();
+      const handled = models.handle(batch);
+      if (handled.scored > 0) endpoint?.batch(handled.scored, (performance.now() - began) / 1000);
+      for (const d of handled.dead) {
+        log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
+      }
+      // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
+      const delivered = await producer.deliver(handled.outputs, async () => {
+        control.pause();
+        await control.heartbeat().catch(() => undefined);
+      });
+      control.resume();
+      if (delivered) {
+        models.telemetry.setLag(batch.topic, batch.partition, batch.lag);
+        lagTold.add(`${batch.topic}/${batch.partition}`);
+        scored += handled.scored;
+        dead += handled.dead.length;
+        if (batch.topic !== settings.labels?.topic) hold.check(position);
+        if (checkpoints !== null) {
+          checkpoints.read(handled.rows);
+          if (checkpoints.due(Date.now())) await checkpoint('cadence');
+        }
+      }
+      return delivered;
+    }),
+  );
   log.info({ group: settings.group, topics: settings.events.topics, scope: settings.scope }, 'serving');
+  const ticker =
+    checkpoints === null
+      ? null
+      : setInterval(
+          () => {
+            if (!stopping && checkpoints.due(Date.now())) void exclusive(() => checkpoint('time'));
+          },
+          Math.max(100, checked.checkpoints!.cadence.everySeconds * 250),
+        );
+  ticker?.unref();
 
   const signalled = new Promise<string>((done) => {
     process.once('SIGTERM', () => done('SIGTERM'));
     process.once('SIGINT', () => done('SIGINT'));
   });
   const ended = await Promise.race([signalled.then((s) => ({ signal: s })), consumer.finished]);
+  if (ticker !== null) clearInterval(ticker);
   if ('crashed' in ended && ended.crashed) {
     log.error({ reason: ended.message }, 'the consumer crashed; exiting');
     terminal.err(`shoal serve: ${ended.message}\n`);
@@ -252,6 +415,13 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     process.exit(1);
   }, settings.shutdownMs);
   deadline.unref();
+  if (checkpoints !== null) {
+    // The last checkpoint, after the batch in flight, while the group membership can still commit.
+    await exclusive(async () => {
+      stopping = true;
+      await checkpoint('shutdown');
+    });
+  }
   await consumer.stop();
   await producer.deliver(models.finish(), async () => undefined);
   if (journalFile !== null) {
@@ -264,6 +434,24 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   log.info({ scored, deadLetters: dead }, 'stopped');
   exitSoon(0);
   return 0;
+}
+
+/** Offsets as decimal text, for logs. */
+function stringOffsets(offsets: ReadonlyMap<string, bigint>): [string, string][] {
+  return [...offsets].map(([stream, next]) => [stream, next.toString()]);
+}
+
+/**
+ * Whether the group is free for a `global` instance. A member that crashed stays in the group until its
+ * session times out, so a restart waits that long for it to leave before it refuses.
+ */
+async function alone(consumer: EventConsumer, settings: KafkaSettings): Promise<boolean> {
+  const until = performance.now() + settings.sessionTimeoutMs + settings.maxWaitMs;
+  for (;;) {
+    if ((await consumer.members()) === 0) return true;
+    if (performance.now() > until) return false;
+    await new Promise((done) => setTimeout(done, 250));
+  }
 }
 
 /**

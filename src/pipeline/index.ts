@@ -1,6 +1,12 @@
 export { EventClock, liveClock } from './clocks.js';
-export type { EvaluationConfig, InputsConfig, LabelsConfig, RunConfig } from './config.js';
-export { DEFAULT_SEED, LABELS_DEFAULTS, resolveConfig } from './config.js';
+export type {
+  CheckpointCadence,
+  EvaluationConfig,
+  InputsConfig,
+  LabelsConfig,
+  RunConfig,
+} from './config.js';
+export { CHECKPOINT_CADENCE_OPTIONS, DEFAULT_SEED, LABELS_DEFAULTS, resolveConfig } from './config.js';
 export type {
   CheckpointStore,
   Clock,

@@ -79,6 +79,44 @@ kafka:
     expect(run.err).toContain('kafka.labels: late labels need scope global');
   });
 
+  it('checks the checkpoints section: its directory, the cadence options by their table, the scope', async () => {
+    const path = await configFile(`
+checkpoints: { everyRows: 0, everySeconds: -1, every: 5 }
+kafka:
+  brokers: [127.0.0.1:9092]
+  group: legs
+  scope: partition
+  events: { topics: [legs] }
+  scores: { topic: legs-scores }
+  deadLetters: { topic: legs-dead }
+`);
+    const run = await shoal('serve', '--config', path, '--check');
+    expect(run.code).toBe(2);
+    for (const line of [
+      'checkpoints.dir: the directory checkpoints are written to',
+      'checkpoints.everyRows: must be an integer ≥ 1, got 0',
+      'checkpoints.everySeconds: must be a number > 0, got -1',
+      'checkpoints.every: unknown setting',
+    ]) {
+      expect(run.err).toContain(line);
+    }
+    const fine = await configFile(`
+checkpoints: { dir: run/checkpoints, everyRows: 2000 }
+kafka:
+  brokers: [127.0.0.1:9092]
+  group: legs
+  events: { topics: [legs] }
+  scores: { topic: legs-scores }
+  deadLetters: { topic: legs-dead }
+`);
+    const ok = await shoal('serve', '--config', fine, '--check');
+    expect(ok.code, ok.err).toBe(0);
+    expect((parse(ok.out) as { checkpoints: unknown }).checkpoints).toEqual({
+      dir: 'run/checkpoints',
+      cadence: { everyRows: 2000, everySeconds: 60, keep: 3 },
+    });
+  });
+
   it('prints the effective configuration with its defaults', async () => {
     const path = await configFile(`
 kafka:
