@@ -234,7 +234,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
       : new TelemetryServer(models.telemetry, {
           ...listen,
           version: shoalVersion(),
-          readiness: ['model', 'consumer'],
+          readiness: ['model', 'consumer', 'producer'],
         });
   if (endpoint !== null) {
     await endpoint.start();
@@ -337,6 +337,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   };
 
   await producer.connect();
+  endpoint?.setReady('producer', true);
   await consumer.connect();
   if (settings.scope === 'global' && !(await alone(consumer, settings))) {
     terminal.err(`shoal serve: ${refuseSecond(settings)}\n`);
@@ -358,11 +359,13 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
       }
       // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
       const delivered = await producer.deliver(handled.outputs, async () => {
+        endpoint?.setReady('producer', false);
         control.pause();
         await control.heartbeat().catch(() => undefined);
       });
       control.resume();
       if (delivered) {
+        endpoint?.setReady('producer', true);
         models.telemetry.setLag(batch.topic, batch.partition, batch.lag);
         lagTold.add(`${batch.topic}/${batch.partition}`);
         scored += handled.scored;

@@ -1,5 +1,6 @@
 import type { Admin, Consumer, EachBatchPayload, Kafka } from 'kafkajs';
 import type { Logger } from 'pino';
+import { persist } from './backoff.js';
 import type { KafkaSettings } from './config.js';
 import type { RawMessage } from './decode.js';
 
@@ -205,10 +206,11 @@ export class EventConsumer {
     return out;
   }
 
-  /** Connect (before `members()` or `start()`). */
+  /** Connect (before `members()` or `start()`), retrying while the broker cannot be reached. */
   async connect(): Promise<void> {
-    await this.admin.connect();
-    await this.consumer.connect();
+    const options = { log: this.log, stopped: () => this.stopping !== null };
+    await persist('connect the admin client', () => this.admin.connect(), options);
+    await persist('connect the consumer', () => this.consumer.connect(), options);
   }
 
   async start(handle: BatchHandler): Promise<void> {
