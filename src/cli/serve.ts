@@ -1,24 +1,25 @@
 import { once } from 'node:events';
 import { createWriteStream, type WriteStream } from 'node:fs';
 import { stringify } from 'yaml';
-import { ConfigError, type ConfigIssue, checkOptions, resolveOptions, ShoalError } from '../core/index.js';
+import { ConfigError, type ConfigIssue, ShoalError } from '../core/index.js';
 import { DEFAULT_LABEL, type FrameOptions } from '../frames/index.js';
 import {
   createKafka,
   createLogger,
   EventConsumer,
+  KafkaCheckpointStore,
   type KafkaSettings,
   OutputProducer,
   readSecrets,
   resolveKafkaSettings,
 } from '../kafka/index.js';
-import { CHECKPOINT_CADENCE_OPTIONS, type RunConfig, resolveConfig } from '../pipeline/index.js';
+import { type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { parseListen, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text } from './args.js';
 import { readConfigFile } from './config-file.js';
 import { LabelHold } from './label-hold.js';
 import { frameOptions } from './replay.js';
-import { type ServeCheckpointSettings, ServeCheckpoints } from './serve-checkpoints.js';
+import { checkpointing, ServeCheckpoints } from './serve-checkpoints.js';
 import { ServeModels } from './serve-run.js';
 import type { Terminal } from './terminal.js';
 import { shoalVersion } from './version.js';
@@ -59,14 +60,7 @@ export async function serve(args: readonly string[], terminal: Terminal): Promis
     return 2;
   }
   if (parsed.values.check === true) {
-    terminal.out(
-      stringify({
-        ...checked.run,
-        kafka: checked.kafka,
-        telemetry: checked.telemetry,
-        checkpoints: checked.checkpoints,
-      }),
-    );
+    terminal.out(stringify({ ...checked.run, kafka: checked.kafka, telemetry: checked.telemetry }));
     return 0;
   }
   return run(checked, terminal);
@@ -77,36 +71,6 @@ interface ServeConfig {
   readonly kafka: KafkaSettings;
   /** Where the telemetry endpoint listens; null: no endpoint. */
   readonly telemetry: { readonly listen: { readonly host: string; readonly port: number } | null };
-  /** Where and how often the service checkpoints; null: it keeps its models in memory only. */
-  readonly checkpoints: ServeCheckpointSettings | null;
-}
-
-/**
- * The `checkpoints:` section: `dir` (the store's directory) and the cadence options of
- * `CHECKPOINT_CADENCE_OPTIONS`; absent, no checkpoints.
- */
-function checkpointSettings(raw: unknown): ServeCheckpointSettings | null {
-  if (raw === undefined || raw === null) return null;
-  const issues: ConfigIssue[] = [];
-  if (typeof raw !== 'object' || Array.isArray(raw)) {
-    throw new ConfigError('checkpoints', [
-      { path: 'checkpoints', code: 'wrong-type', message: 'expected a mapping with dir: DIRECTORY' },
-    ]);
-  }
-  const { dir, ...cadence } = raw as Record<string, unknown>;
-  if (typeof dir !== 'string' || dir === '') {
-    issues.push({
-      path: 'checkpoints.dir',
-      code: dir === undefined ? 'required' : 'wrong-type',
-      message: 'the directory checkpoints are written to (a path)',
-    });
-  }
-  checkOptions(CHECKPOINT_CADENCE_OPTIONS, cadence, 'checkpoints', issues, ['dir']);
-  if (issues.length > 0) throw new ConfigError('checkpoints', issues);
-  return {
-    dir: dir as string,
-    cadence: resolveOptions('checkpoints', CHECKPOINT_CADENCE_OPTIONS, cadence, []),
-  };
 }
 
 /** The `telemetry:` section: `listen: HOST:PORT` (or `:PORT`, loopback); absent, no endpoint. */
@@ -159,24 +123,20 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
       return null;
     }
   };
-  const {
-    kafka: section,
-    telemetry: telemetrySection,
-    checkpoints: checkpointSection,
-    ...rest
-  } = (raw ?? {}) as Record<string, unknown>;
+  const { kafka: section, telemetry: telemetrySection, ...rest } = (raw ?? {}) as Record<string, unknown>;
   const run = collect(() => resolveConfig(rest, source));
   const kafka = collect(() => resolveKafkaSettings(section, source));
   const telemetry = collect(() => telemetrySettings(telemetrySection));
-  const checkpoints = collect(() => checkpointSettings(checkpointSection));
-  if (checkpoints !== null && kafka?.scope === 'partition') {
+  if (kafka !== null) collect(() => readSecrets(kafka, process.env, source));
+  if (run !== null && run.task === 'regression') {
+    // The scores topic carries class probabilities; a column for the number predicted is not there yet.
     issues.push({
-      path: 'checkpoints',
+      path: 'task',
       code: 'conflict',
-      message: 'checkpoints are written for scope global only: the file store holds one session',
+      message:
+        'serve scores classifications only: the scores topic has no column for a number predicted; replay a regression instead',
     });
   }
-  if (kafka !== null) collect(() => readSecrets(kafka, process.env, source));
   if (run !== null && kafka !== null && kafka.labels !== null) {
     if (run.inputs.id === null) {
       issues.push({
@@ -195,7 +155,7 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
     }
   }
   if (run === null || kafka === null || telemetry === null || issues.length > 0) return { issues };
-  return { run, kafka, telemetry, checkpoints };
+  return { run, kafka, telemetry };
 }
 
 async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
@@ -208,24 +168,41 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   const models = new ServeModels(
     config,
     settings,
-    eventOptions(config),
+    eventOptions(config, settings),
     shoalVersion(),
     journalFile,
-    checked.checkpoints !== null,
+    checkpointing(settings),
   );
-  const checkpoints =
-    checked.checkpoints === null
-      ? null
-      : new ServeCheckpoints(checked.checkpoints, config, settings, shoalVersion(), Date.now());
-  if (checkpoints !== null) {
-    const taken = await checkpoints.load(models);
+  const store = settings.checkpoint.topic;
+  const checkpoints = checkpointing(settings)
+    ? new ServeCheckpoints(
+        config,
+        settings,
+        shoalVersion(),
+        Date.now(),
+        store === null
+          ? null
+          : new KafkaCheckpointStore(kafka, { topic: store, pipeline: settings.group }, log),
+      )
+    : null;
+  /** Take up the session of `key` from its newest checkpoint; its offsets then say where to read. */
+  const takeUp = async (key: string): Promise<void> => {
+    const taken = await checkpoints!.load(models, key);
     for (const why of taken?.refused ?? []) log.warn({ reason: why }, 'checkpoint refused');
-    if (taken === null) log.info({ dir: checkpoints.store.dir }, 'no checkpoint: starting afresh');
+    if (taken === null) log.info({ scope: key, store: checkpoints!.place }, 'no checkpoint: starting afresh');
     else
       log.info(
-        { checkpoint: taken.where, offsets: Object.fromEntries(stringOffsets(models.positions('global'))) },
+        {
+          scope: key,
+          checkpoint: taken.where,
+          offsets: Object.fromEntries(stringOffsets(models.positions(key))),
+        },
         'going on from the checkpoint',
       );
+  };
+  if (checkpoints !== null) {
+    await checkpoints.connect();
+    if (settings.scope === 'global') await takeUp('global');
   }
   const listen = checked.telemetry.listen;
   const endpoint =
@@ -257,15 +234,18 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   const starts = new Map<string, bigint>();
   /** Streams whose lag a batch told since the last join. */
   const lagTold = new Set<string>();
+  /** Partitions the last join brought whose sessions are being taken up (held until they are). */
+  let arriving: string[] = [];
   const hold = new LabelHold(settings.labels?.topic ?? null, (topic) => {
     log.info({ topic }, 'the events read at the join are scored: reading labels');
-    consumer.resumeTopic(topic);
+    consumer.resume(topic);
   });
   const consumer = new EventConsumer(
     kafka,
     settings,
     log,
     async (assignment) => {
+      const coming = arriving;
       models.telemetry.keepLag(assignment.streams);
       const events = assignment.streams.filter((s) => !models.isLabels(s));
       try {
@@ -288,7 +268,16 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         hold.until(new Map(), position);
       }
       for (const stream of models.keepOnly(assignment.streams)) {
-        log.info({ stream }, 'partition revoked; its session is dropped (its outputs were committed)');
+        checkpoints?.drop(stream);
+        log.info({ stream }, 'partition revoked; its session is dropped');
+      }
+      // State follows partitions: each newly assigned partition's session is taken up from the store
+      // before the partition is fetched.
+      for (const stream of coming) {
+        await takeUp(stream);
+        const at = models.positions(stream).get(stream);
+        if (at !== undefined) consumer.seek(stream, at);
+        consumer.resume(stream);
       }
       if (settings.scope === 'global' && !assignment.isLeader && (await consumer.members()) > 1) {
         refusal = refuseSecond(settings);
@@ -304,7 +293,11 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
           const at = models.positions(models.key(stream)).get(stream);
           if (at !== undefined) seek.set(stream, at);
         }
-        return { seek, hold: hold.join(streams) };
+        arriving =
+          checkpoints === null || settings.scope === 'global'
+            ? []
+            : streams.filter((s) => !models.isLabels(s) && !models.keys().includes(s));
+        return { seek, hold: hold.join(streams), holdStreams: arriving };
       },
       onRebalance: () => {
         if (checkpoints !== null) void exclusive(() => checkpoint('rebalance'));
@@ -313,26 +306,31 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     },
   );
 
-  /** Write a checkpoint and commit the offsets it covers (the group never claims more). */
-  const checkpoint = async (why: string): Promise<void> => {
+  /**
+   * Write the checkpoints due (all with `all`) and commit the offsets they cover (the group never claims
+   * more); false when they could not be written (the previous ones stand).
+   */
+  const checkpoint = async (why: string, all = false): Promise<boolean> => {
     try {
-      const saved = await checkpoints!.save(models, Date.now());
-      if (saved === null) return;
+      const saved = await checkpoints!.save(models, Date.now(), all);
+      if (saved.written.length === 0) return true;
       const committed = await consumer.commit(saved.offsets);
       log.info(
         {
-          checkpoint: saved.where,
+          checkpoints: saved.written,
           why,
           offsets: Object.fromEntries(stringOffsets(saved.offsets)),
           committed,
         },
         'checkpoint written',
       );
+      return true;
     } catch (e) {
       log.error(
         { why, error: (e as Error).message },
         'could not write a checkpoint; the previous one stands',
       );
+      return false;
     }
   };
 
@@ -372,7 +370,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         dead += handled.dead.length;
         if (batch.topic !== settings.labels?.topic) hold.check(position);
         if (checkpoints !== null) {
-          checkpoints.read(handled.rows);
+          checkpoints.read(models.key(`${batch.topic}/${batch.partition}`), handled.rows);
           if (checkpoints.due(Date.now())) await checkpoint('cadence');
         }
       }
@@ -387,7 +385,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
           () => {
             if (!stopping && checkpoints.due(Date.now())) void exclusive(() => checkpoint('time'));
           },
-          Math.max(100, checked.checkpoints!.cadence.everySeconds * 250),
+          Math.max(100, settings.checkpoint.cadence.everySeconds * 250),
         );
   ticker?.unref();
 
@@ -418,12 +416,14 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     process.exit(1);
   }, settings.shutdownMs);
   deadline.unref();
+  let saved = true;
   if (checkpoints !== null) {
-    // The last checkpoint, after the batch in flight, while the group membership can still commit.
-    await exclusive(async () => {
+    // The last checkpoints, after the batch in flight, while the group membership can still commit.
+    saved = await exclusive(async () => {
       stopping = true;
-      await checkpoint('shutdown');
+      return checkpoint('shutdown', true);
     });
+    if (!saved) terminal.err('shoal serve: could not write the final checkpoint (see the log)\n');
   }
   await consumer.stop();
   await producer.deliver(models.finish(), async () => undefined);
@@ -432,11 +432,12 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     await once(journalFile, 'finish');
   }
   await producer.stop();
+  await checkpoints?.disconnect();
   await endpoint?.close();
   clearTimeout(deadline);
   log.info({ scored, deadLetters: dead }, 'stopped');
-  exitSoon(0);
-  return 0;
+  exitSoon(saved ? 0 : 1);
+  return saved ? 0 : 1;
 }
 
 /** Offsets as decimal text, for logs. */
@@ -468,12 +469,14 @@ function exitSoon(code: number): void {
 }
 
 /**
- * The events decoder's options: replay's, except that the default label column may be absent (events
- * whose labels come later on the labels topic carry none); a label column named otherwise must exist.
+ * The events decoder's options: replay's, except that the label column may be absent from the events
+ * when it is the default one, or when labels come on the labels topic (`kafka.labels`); a label column
+ * named otherwise must exist.
  */
-function eventOptions(config: RunConfig): FrameOptions {
+function eventOptions(config: RunConfig, settings: KafkaSettings): FrameOptions {
   const { label, ...rest } = frameOptions(config);
-  return label === DEFAULT_LABEL || label === undefined ? rest : { label, ...rest };
+  if (label === DEFAULT_LABEL || label === undefined) return rest;
+  return settings.labels === null ? { label, ...rest } : { label, labelOptional: true, ...rest };
 }
 
 function refuseSecond(settings: KafkaSettings): string {

@@ -50,8 +50,9 @@ export interface Assignment {
 export interface JoinPlan {
   /** The next offset to read of `topic/partition` streams; others start where the group committed. */
   readonly seek: ReadonlyMap<string, bigint>;
-  /** Topics not fetched until `resumeTopic`. */
+  /** Topics not fetched until `resume(topic)`, and `topic/partition` streams until `resume(stream)`. */
   readonly hold: readonly string[];
+  readonly holdStreams: readonly string[];
 }
 
 export interface ConsumerOptions {
@@ -92,8 +93,8 @@ export class EventConsumer {
       heartbeatInterval: Math.max(100, Math.floor(settings.sessionTimeoutMs / 5)),
       maxBytesPerPartition: Math.max(1024 * 1024, settings.events.maxMessageBytes),
       allowAutoTopicCreation: false,
-      // kafkajs restarts the consumer after any failure by default: a batch it cannot decode (a snappy or
-      // lz4 one) would then be fetched and refused forever. Restart only after a transient failure (a
+      // kafkajs restarts the consumer after any failure by default: a batch it cannot decode (a corrupt
+      // one, or a codec with no decoder registered) would then be fetched and refused forever. Restart only after a transient failure (a
       // broker away for longer than the retries ends in a retriable cause), and stop on anything else.
       retry: { restartOnFailure: async (e: Error) => transient(e) },
     });
@@ -135,17 +136,29 @@ export class EventConsumer {
 
   /** Seek and hold as the plan says; kafkajs applies seeks before its next fetch of each partition. */
   private plan(plan: JoinPlan): void {
-    for (const [stream, offset] of plan.seek) {
-      const { topic, partition } = splitStream(stream);
-      this.log.debug({ stream, offset: offset.toString() }, 'reading from the checkpointed offset');
-      this.consumer.seek({ topic, partition, offset: offset.toString() });
-    }
+    for (const [stream, offset] of plan.seek) this.seek(stream, offset);
     for (const topic of plan.hold) this.consumer.pause([{ topic }]);
+    for (const stream of plan.holdStreams) {
+      const { topic, partition } = splitStream(stream);
+      this.consumer.pause([{ topic, partitions: [partition] }]);
+    }
   }
 
-  /** Fetch a topic held by the join plan again. */
-  resumeTopic(topic: string): void {
-    this.consumer.resume([{ topic }]);
+  /** Read `topic/partition` from `offset` next (kafkajs applies it before its next fetch of it). */
+  seek(stream: string, offset: bigint): void {
+    const { topic, partition } = splitStream(stream);
+    this.log.debug({ stream, offset: offset.toString() }, 'reading from the checkpointed offset');
+    this.consumer.seek({ topic, partition, offset: offset.toString() });
+  }
+
+  /** Fetch a topic, or a `topic/partition` stream, held by the join plan again. */
+  resume(held: string): void {
+    if (!held.includes('/')) {
+      this.consumer.resume([{ topic: held }]);
+      return;
+    }
+    const { topic, partition } = splitStream(held);
+    this.consumer.resume([{ topic, partitions: [partition] }]);
   }
 
   /**

@@ -4,6 +4,7 @@ export type {
   EvaluationConfig,
   InputsConfig,
   LabelsConfig,
+  RegressionEnsembleSpec,
   RunConfig,
 } from './config.js';
 export { CHECKPOINT_CADENCE_OPTIONS, DEFAULT_SEED, LABELS_DEFAULTS, resolveConfig } from './config.js';
@@ -26,3 +27,5 @@ export type {
 } from './ports.js';
 export type { SessionCounts, SessionOptions, SessionSnapshot } from './session.js';
 export { LABEL_DELAY_BOUNDS, LearningSession } from './session.js';
+export type { Scorecard, SessionModel, SessionModelSnapshot } from './task.js';
+export { restoreModel, restoreScorecard } from './task.js';

@@ -142,8 +142,11 @@ async function serveConfig(
     path,
     stringify({
       ...RUN,
-      kafka: kafkaSection(brokers, t, { labels: { topic: labelsTopic }, log: { level: 'info' } }),
-      checkpoints: { dir: checkpoints, everyRows, everySeconds: 1 },
+      kafka: kafkaSection(brokers, t, {
+        labels: { topic: labelsTopic },
+        log: { level: 'info' },
+        checkpoint: { dir: checkpoints, everyRows, everySeconds: 1 },
+      }),
     }),
   );
   return path;

@@ -49,9 +49,11 @@ describe('a broker that goes away', () => {
           seed: 5,
           ensemble: { kind: 'bagging', members: 2 },
           inputs: { id: 'id', label: 'label' },
-          kafka: kafkaSection(brokers, t, { log: { level: 'info' } }),
+          kafka: kafkaSection(brokers, t, {
+            log: { level: 'info' },
+            checkpoint: { dir: join(dir, 'checkpoints'), everyRows: 1_000, everySeconds: 1 },
+          }),
           telemetry: { listen: `127.0.0.1:${port}` },
-          checkpoints: { dir: join(dir, 'checkpoints'), everyRows: 1_000, everySeconds: 1 },
         }),
       );
       const ready = async (): Promise<number> => {

@@ -194,11 +194,14 @@ export class ScoreCounter {
   }
 }
 
-/** Wait until `group` has committed at least the given next offset on partition 0 of each topic. */
+/**
+ * Wait until `group` has committed at least the given next offset of each topic: a number for partition
+ * 0, a list for partitions 0, 1, ….
+ */
 export async function waitCommitted(
   brokers: string,
   group: string,
-  want: Readonly<Record<string, number>>,
+  want: Readonly<Record<string, number | readonly number[]>>,
   timeoutMs = 120_000,
 ): Promise<void> {
   const admin = client(brokers).admin();
@@ -206,12 +209,17 @@ export async function waitCommitted(
   const began = performance.now();
   try {
     for (;;) {
-      const got: Record<string, number> = {};
+      const got: Record<string, number[]> = {};
       for (const topic of Object.keys(want)) {
         const [offsets] = await admin.fetchOffsets({ groupId: group, topics: [topic] });
-        got[topic] = Number(offsets?.partitions[0]?.offset ?? -1);
+        got[topic] = [...(offsets?.partitions ?? [])]
+          .sort((a, b) => a.partition - b.partition)
+          .map((p) => Number(p.offset));
       }
-      if (Object.entries(want).every(([topic, offset]) => got[topic]! >= offset)) return;
+      const reached = Object.entries(want).every(([topic, offsets]) =>
+        (typeof offsets === 'number' ? [offsets] : offsets).every((o, p) => (got[topic]![p] ?? -1) >= o),
+      );
+      if (reached) return;
       if (performance.now() - began > timeoutMs) {
         throw new Error(`${group} committed ${JSON.stringify(got)}, expected ${JSON.stringify(want)}`);
       }
