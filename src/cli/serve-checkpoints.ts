@@ -3,7 +3,7 @@ import { configFingerprint, type RunCheckpoint, runCheckpoint } from '../checkpo
 import { ShoalError } from '../core/index.js';
 import { FileCheckpointStore } from '../files/index.js';
 import type { FrameDecoderSnapshot } from '../frames/index.js';
-import type { KafkaCheckpointStore, KafkaSettings } from '../kafka/index.js';
+import type { KafkaCheckpointStore, KafkaSettings, TopicOutputs } from '../kafka/index.js';
 import type { RunConfig, SessionSnapshot, StoredCheckpoint } from '../pipeline/index.js';
 import type { ServeModels } from './serve-run.js';
 
@@ -139,22 +139,42 @@ export class ServeCheckpoints {
   /**
    * Write a checkpoint of each session that read rows since its last one (of every session with `all`),
    * each once it is stored; returns where they went and the offsets they cover — the next offset to read
-   * of each topic-partition — for the group commit.
+   * of each topic-partition — for the group commit. With `transaction` (exactly-once delivery, the Kafka
+   * store), the checkpoints' records are not sent here but handed to it with the offsets, to commit in one
+   * transaction with the outputs they cover; they count as stored once it resolves.
    */
   async save(
     models: ServeModels,
     now: number,
     all = false,
+    transaction:
+      | ((records: TopicOutputs[], offsets: ReadonlyMap<string, bigint>) => Promise<void>)
+      | null = null,
   ): Promise<{ written: string[]; offsets: ReadonlyMap<string, bigint> }> {
     const written: string[] = [];
     const offsets = new Map<string, bigint>();
-    for (const key of all ? models.keys() : [...this.dirty]) {
+    const records: TopicOutputs[] = [];
+    const stored: (() => void)[] = [];
+    const keys = all ? models.keys() : [...this.dirty];
+    for (const key of keys) {
       const parts = models.parts(key);
       if (parts === null) continue;
-      written.push(await this.store(key).save(this.envelope(parts, now)));
+      const checkpoint = this.envelope(parts, now);
+      if (transaction !== null && this.kafkaStore !== null) {
+        const prepared = await this.kafkaStore.prepare(key, checkpoint);
+        records.push({ topic: prepared.topic, messages: prepared.messages });
+        stored.push(prepared.stored);
+        written.push(prepared.where);
+      } else {
+        written.push(await this.store(key).save(checkpoint));
+      }
+      for (const [stream, next] of Object.entries(parts.session.positions)) offsets.set(stream, BigInt(next));
+    }
+    if (transaction !== null && records.length > 0) await transaction(records, offsets);
+    for (const done of stored) done();
+    for (const key of keys) {
       this.dirty.delete(key);
       models.saved(key);
-      for (const [stream, next] of Object.entries(parts.session.positions)) offsets.set(stream, BigInt(next));
     }
     this.rows = 0;
     this.last = now;

@@ -29,8 +29,9 @@ export const SERVE_HELP = `shoal serve --config shoal.yaml [--check]
 Score a Kafka events topic live: a consumer group reads Arrow IPC or NDJSON events, every event is
 scored (scores go to the scores topic as Arrow IPC), inline labels judge and train the ensemble, and
 messages that cannot be used go to the dead-letter topic with their reason. Offsets are committed only
-after a batch's outputs are acknowledged. SIGTERM or SIGINT: finish the batch in flight, flush, commit,
-exit 0.
+after a batch's outputs are acknowledged and, with kafka.checkpoint, once a checkpoint covers them; a
+restart goes on from the newest checkpoint's offsets. SIGTERM or SIGINT: finish the batch in flight,
+checkpoint, flush, commit, exit 0.
 
 Options:
   --config FILE   shoal.yaml: the ensemble, evaluation and inputs settings, a kafka: section, and
@@ -200,10 +201,6 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         'going on from the checkpoint',
       );
   };
-  if (checkpoints !== null) {
-    await checkpoints.connect();
-    if (settings.scope === 'global') await takeUp('global');
-  }
   const listen = checked.telemetry.listen;
   const endpoint =
     listen === null
@@ -219,7 +216,8 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     endpoint.setReady('model', true);
     log.info({ host: endpoint.host, port: endpoint.port }, 'telemetry listening');
   }
-  const producer = new OutputProducer(kafka, log);
+  const exactlyOnce = settings.delivery === 'exactly-once';
+  const producer = new OutputProducer(kafka, log, exactlyOnce ? `${settings.group}-shoal-outputs` : null);
   let refusal: string | null = null;
   // Batches and checkpoints take turns: a checkpoint is cut between two batches, never inside one.
   let turn: Promise<unknown> = Promise.resolve();
@@ -307,14 +305,31 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   );
 
   /**
+   * With exactly-once delivery a failed transaction takes everything since the last checkpoint with it:
+   * the service exits, and a restart goes on from the last checkpoint committed.
+   */
+  const lostTransaction = (e: Error): never => {
+    log.error({ error: e.message }, 'the transaction failed; exiting');
+    terminal.err(
+      `shoal serve: a transaction failed (${e.message}); restart to go on from the last checkpoint committed\n`,
+    );
+    process.exit(1);
+  };
+
+  /**
    * Write the checkpoints due (all with `all`) and commit the offsets they cover (the group never claims
    * more); false when they could not be written (the previous ones stand).
    */
   const checkpoint = async (why: string, all = false): Promise<boolean> => {
     try {
-      const saved = await checkpoints!.save(models, Date.now(), all);
+      const saved = await checkpoints!.save(
+        models,
+        Date.now(),
+        all,
+        exactlyOnce ? (records, offsets) => producer.commit(records, settings.group, offsets) : null,
+      );
       if (saved.written.length === 0) return true;
-      const committed = await consumer.commit(saved.offsets);
+      const committed = exactlyOnce || (await consumer.commit(saved.offsets));
       log.info(
         {
           checkpoints: saved.written,
@@ -330,12 +345,25 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         { why, error: (e as Error).message },
         'could not write a checkpoint; the previous one stands',
       );
+      if (exactlyOnce) {
+        // The transaction is lost with everything since the last checkpoint: go on from that one.
+        terminal.err(
+          `shoal serve: the transaction of a checkpoint failed (${(e as Error).message}); restart to go on from the last one committed\n`,
+        );
+        process.exit(1);
+      }
       return false;
     }
   };
 
+  // The producer first: with exactly-once delivery its connection fences a killed predecessor and aborts
+  // the transaction it left open, so the checkpoint read next is the last one committed.
   await producer.connect();
   endpoint?.setReady('producer', true);
+  if (checkpoints !== null) {
+    await checkpoints.connect();
+    if (settings.scope === 'global') await takeUp('global');
+  }
   await consumer.connect();
   if (settings.scope === 'global' && !(await alone(consumer, settings))) {
     terminal.err(`shoal serve: ${refuseSecond(settings)}\n`);
@@ -356,11 +384,13 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
       }
       // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
-      const delivered = await producer.deliver(handled.outputs, async () => {
-        endpoint?.setReady('producer', false);
-        control.pause();
-        await control.heartbeat().catch(() => undefined);
-      });
+      const delivered = await producer
+        .deliver(handled.outputs, async () => {
+          endpoint?.setReady('producer', false);
+          control.pause();
+          await control.heartbeat().catch(() => undefined);
+        })
+        .catch((e: Error) => (exactlyOnce ? lostTransaction(e) : Promise.reject(e)));
       control.resume();
       if (delivered) {
         endpoint?.setReady('producer', true);
@@ -427,6 +457,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   }
   await consumer.stop();
   await producer.deliver(models.finish(), async () => undefined);
+  if (exactlyOnce) await producer.commit([], settings.group, null);
   if (journalFile !== null) {
     journalFile.end();
     await once(journalFile, 'finish');

@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import type { Admin, Kafka, Producer } from 'kafkajs';
+import type { Admin, Kafka, Message, Producer } from 'kafkajs';
 import type { Logger } from 'pino';
 import { decodeCheckpoint, encodeCheckpoint, type RunCheckpoint } from '../checkpoint/index.js';
 import { ShoalError } from '../core/index.js';
@@ -106,6 +106,23 @@ export class KafkaCheckpointStore {
 
   /** Save one scope's checkpoint: chunks first, the manifest last. Returns where it is. */
   async save(scope: string, checkpoint: RunCheckpoint): Promise<string> {
+    const prepared = await this.prepare(scope, checkpoint);
+    // One acknowledged send per record, in order: the manifest goes only after every chunk is stored.
+    for (const message of prepared.messages) {
+      await this.producer.send({ topic: this.options.topic, acks: -1, messages: [message] });
+    }
+    prepared.stored();
+    return prepared.where;
+  }
+
+  /**
+   * The records of one save of `scope` — its chunks, then its manifest — for a caller that writes them
+   * itself (in a transaction with the outputs and offsets they belong to); `stored()` once they are.
+   */
+  async prepare(
+    scope: string,
+    checkpoint: RunCheckpoint,
+  ): Promise<{ topic: string; messages: Message[]; where: string; stored: () => void }> {
     if (!this.manifests.has(scope)) await this.latest([scope]);
     const previous = this.manifests.get(scope) ?? null;
     const bytes = encodeCheckpoint(checkpoint);
@@ -113,17 +130,12 @@ export class KafkaCheckpointStore {
     const slot: 0 | 1 = previous?.slot === 0 ? 1 : 0;
     const chunks = Math.max(1, Math.ceil(bytes.length / this.chunkBytes));
     const headers = { [SEQUENCE_HEADER]: String(sequence) };
+    const messages: Message[] = [];
     for (let i = 0; i < chunks; i++) {
-      await this.producer.send({
-        topic: this.options.topic,
-        acks: -1,
-        messages: [
-          {
-            key: this.key(scope, 'chunk', slot, i),
-            value: bytes.subarray(i * this.chunkBytes, (i + 1) * this.chunkBytes),
-            headers,
-          },
-        ],
+      messages.push({
+        key: this.key(scope, 'chunk', slot, i),
+        value: bytes.subarray(i * this.chunkBytes, (i + 1) * this.chunkBytes),
+        headers,
       });
     }
     const manifest: Manifest = {
@@ -134,13 +146,13 @@ export class KafkaCheckpointStore {
       sha256: createHash('sha256').update(bytes).digest('hex'),
       createdAt: checkpoint.state.createdAt,
     };
-    await this.producer.send({
+    messages.push({ key: this.key(scope, 'manifest'), value: JSON.stringify(manifest), headers });
+    return {
       topic: this.options.topic,
-      acks: -1,
-      messages: [{ key: this.key(scope, 'manifest'), value: JSON.stringify(manifest), headers }],
-    });
-    this.manifests.set(scope, manifest);
-    return this.where(scope, sequence);
+      messages,
+      where: this.where(scope, sequence),
+      stored: () => this.manifests.set(scope, manifest),
+    };
   }
 
   /**
@@ -201,6 +213,13 @@ export class KafkaCheckpointStore {
       await consumer.connect();
       await consumer.subscribe({ topic, fromBeginning: true });
       await new Promise<void>((done, fail) => {
+        // Progress is read from the end of each batch processed, including batches kafkajs does not hand
+        // over because all they held were records of aborted transactions and transaction markers.
+        consumer.on(consumer.events.END_BATCH_PROCESS, ({ payload }) => {
+          const end = left.get(payload.partition);
+          if (end !== undefined && BigInt(payload.lastOffset) + 1n >= end) left.delete(payload.partition);
+          if (left.size === 0) done();
+        });
         consumer
           .run({
             autoCommit: false,
@@ -213,9 +232,6 @@ export class KafkaCheckpointStore {
                   sequence: sequence === undefined ? undefined : String(sequence),
                 });
               }
-              const end = left.get(batch.partition);
-              if (end !== undefined && BigInt(batch.lastOffset()) + 1n >= end) left.delete(batch.partition);
-              if (left.size === 0) done();
             },
           })
           .catch(fail);

@@ -18,6 +18,14 @@ import { LOG_LEVELS, type LogLevelName } from './log.js';
  */
 
 export type Scope = 'global' | 'partition';
+/**
+ * `at-least-once`: outputs are sent as each batch is handled and offsets committed after them (a crash
+ * can repeat outputs; scores carry id and model epoch so consumers can drop repeats). `exactly-once`:
+ * outputs, checkpoint and offsets go in one Kafka transaction per checkpoint; `read_committed`
+ * consumers see each output once.
+ */
+export type Delivery = 'at-least-once' | 'exactly-once';
+export const DELIVERIES: readonly Delivery[] = ['at-least-once', 'exactly-once'];
 export type EventFormat = 'arrow' | 'ndjson';
 export type SaslMechanism = 'plain' | 'scram-sha-256' | 'scram-sha-512';
 export const SCOPES: readonly Scope[] = ['global', 'partition'];
@@ -31,6 +39,7 @@ export interface KafkaSettings {
   readonly group: string;
   /** `global`: one model for every partition (one instance per group); `partition`: one per partition. */
   readonly scope: Scope;
+  readonly delivery: Delivery;
   readonly events: {
     readonly topics: readonly string[];
     /** The format of a message without a `content-type` header. */
@@ -85,6 +94,7 @@ const TOP = [
   'clientId',
   'group',
   'scope',
+  'delivery',
   'events',
   'labels',
   'scores',
@@ -139,6 +149,7 @@ export function resolveKafkaSettings(raw: unknown, source: string, path = 'kafka
     clientId: c.text(at('clientId'), top.clientId, 'shoal'),
     group: c.text(at('group'), top.group, null),
     scope: c.choice(at('scope'), top.scope, SCOPES, 'global'),
+    delivery: c.choice(at('delivery'), top.delivery, DELIVERIES, 'at-least-once'),
     events: {
       topics: c.strings(`${at('events')}.topics`, events.topics, true),
       format: c.choice(`${at('events')}.format`, events.format, EVENT_FORMATS, 'arrow'),
@@ -168,6 +179,19 @@ export function resolveKafkaSettings(raw: unknown, source: string, path = 'kafka
     sasl: sasl(c, at('sasl'), top.sasl),
     log: { level: c.choice(`${at('log')}.level`, log.level, LOG_LEVELS, 'info') },
   };
+  if (settings.delivery === 'exactly-once') {
+    // The checkpoint must commit in the same transaction as the outputs and offsets it covers.
+    if (settings.checkpoint.topic === null) {
+      c.fail(
+        at('delivery'),
+        'exactly-once needs the Kafka checkpoint store (kafka.checkpoint.topic): the checkpoint goes in the transaction with the outputs and offsets it covers',
+        'conflict',
+      );
+    }
+    if (settings.scope !== 'global') {
+      c.fail(at('delivery'), 'exactly-once is offered with scope global only', 'conflict');
+    }
+  }
   if (c.issues.length > 0) throw new ConfigError(source, c.issues);
   return settings;
 }

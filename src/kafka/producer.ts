@@ -1,4 +1,4 @@
-import kafkajs, { type Kafka, type Producer, type TopicMessages } from 'kafkajs';
+import kafkajs, { type Kafka, type Producer, type TopicMessages, type Transaction } from 'kafkajs';
 import type { Logger } from 'pino';
 import { persist } from './backoff.js';
 
@@ -13,25 +13,71 @@ import { persist } from './backoff.js';
 export class OutputProducer {
   private readonly producer: Producer;
   private stopped = false;
+  /** With exactly-once delivery: the transaction outputs go into until the next checkpoint commits it. */
+  private transaction: Transaction | null = null;
 
   constructor(
     kafka: Kafka,
     private readonly log: Logger,
+    /** Set for exactly-once delivery: outputs, checkpoints and offsets then commit together. */
+    private readonly transactionalId: string | null = null,
   ) {
-    // Not idempotent: `deliver` re-sends a failed request itself, so a repeat after a failure is possible
-    // either way (at-least-once; scores carry id and epoch so that consumers can drop repeats).
+    // Not idempotent by default: `deliver` re-sends a failed request itself, so a repeat after a failure
+    // is possible either way (at-least-once; scores carry id and epoch so that consumers can drop
+    // repeats). A transactional producer is idempotent, as Kafka requires.
     this.producer = kafka.producer({
       createPartitioner: kafkajs.Partitioners.DefaultPartitioner,
       allowAutoTopicCreation: false,
+      ...(transactionalId === null ? {} : { transactionalId, idempotent: true, maxInFlightRequests: 1 }),
     });
   }
 
-  /** Connect, retrying while the broker cannot be reached (kafkajs does not retry a refused connection). */
+  /**
+   * Connect, retrying while the broker cannot be reached (kafkajs does not retry a refused connection).
+   * A transactional producer's connection fences any older producer with its id (a killed instance) and
+   * aborts the transaction that one left open.
+   */
   async connect(): Promise<void> {
     await persist('connect the producer', () => this.producer.connect(), {
       log: this.log,
       stopped: () => this.stopped,
     });
+  }
+
+  /**
+   * Commit the open transaction (exactly-once): with `more` (the checkpoint's records) and, when given,
+   * the group's next offsets of `topic/partition` streams. Throws when the transaction fails: what it held
+   * is then as if it never happened, and the last committed checkpoint is where to go on from.
+   */
+  async commit(
+    more: readonly TopicMessages[],
+    group: string,
+    offsets: ReadonlyMap<string, bigint> | null,
+  ): Promise<void> {
+    const transaction = await this.open();
+    for (const request of requests(more)) await transaction.sendBatch({ topicMessages: request, acks: -1 });
+    if (offsets !== null && offsets.size > 0) {
+      const topics = new Map<string, { partition: number; offset: string }[]>();
+      for (const [stream, next] of offsets) {
+        const at = stream.lastIndexOf('/');
+        const topic = stream.slice(0, at);
+        topics.set(topic, [
+          ...(topics.get(topic) ?? []),
+          { partition: Number(stream.slice(at + 1)), offset: next.toString() },
+        ]);
+      }
+      await transaction.sendOffsets({
+        consumerGroupId: group,
+        topics: [...topics].map(([topic, partitions]) => ({ topic, partitions })),
+      });
+    }
+    await transaction.commit();
+    this.transaction = null;
+  }
+
+  private async open(): Promise<Transaction> {
+    if (this.transaction === null) this.transaction = await this.producer.transaction();
+    return this.transaction;
   }
 
   /**
@@ -43,6 +89,14 @@ export class OutputProducer {
     topicMessages: TopicMessages[],
     waiting: (attempt: number) => Promise<void>,
   ): Promise<boolean> {
+    if (this.transactionalId !== null) {
+      // Into the open transaction, unseen by read_committed consumers until the next checkpoint commits.
+      const transaction = await this.open();
+      for (const request of requests(topicMessages)) {
+        await transaction.sendBatch({ topicMessages: request, acks: -1 });
+      }
+      return true;
+    }
     for (const request of requests(topicMessages)) {
       if (!(await this.send(request, waiting))) return false;
     }

@@ -99,10 +99,26 @@ kafka:
     ]) {
       expect(run.err).toContain(line);
     }
+    const files = await configFile(`
+kafka:
+  brokers: [127.0.0.1:9092]
+  group: legs
+  scope: partition
+  delivery: exactly-once
+  events: { topics: [legs] }
+  scores: { topic: legs-scores }
+  deadLetters: { topic: legs-dead }
+  checkpoint: { dir: run }
+`);
+    const refused = await shoal('serve', '--config', files, '--check');
+    expect(refused.code).toBe(2);
+    expect(refused.err).toContain('kafka.delivery: exactly-once needs the Kafka checkpoint store');
+    expect(refused.err).toContain('kafka.delivery: exactly-once is offered with scope global only');
     const fine = await configFile(`
 kafka:
   brokers: [127.0.0.1:9092]
   group: legs
+  delivery: exactly-once
   events: { topics: [legs] }
   scores: { topic: legs-scores }
   deadLetters: { topic: legs-dead }

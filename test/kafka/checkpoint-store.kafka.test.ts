@@ -1,10 +1,9 @@
 import { createHash } from 'node:crypto';
-import { Writable } from 'node:stream';
 import { describe, expect, inject, it } from 'vitest';
 import { type RunCheckpoint, runCheckpoint } from '../../src/checkpoint/index.js';
-import { createLogger, KafkaCheckpointStore } from '../../src/kafka/index.js';
+import { KafkaCheckpointStore } from '../../src/kafka/index.js';
 import { uniqueName } from '../support/kafka-names.js';
-import { client } from '../support/kafka-serve.js';
+import { client, quietLogger } from '../support/kafka-serve.js';
 
 /** A checkpoint of about `bytes` bytes (its session part is opaque to the store). */
 function checkpoint(n: number, bytes: number): RunCheckpoint {
@@ -12,18 +11,6 @@ function checkpoint(n: number, bytes: number): RunCheckpoint {
     { decoder: { n }, session: { n, filler: 'x'.repeat(bytes) }, labelTiming: null },
     { shoal: 'test', fingerprint: 'f'.repeat(64), createdAt: new Date(0).toISOString() },
   );
-}
-
-/** The store's log, kept in memory (a test writes nothing to the console). */
-function quietLogger() {
-  const lines: string[] = [];
-  const destination = new Writable({
-    write(chunk: Buffer, _encoding, done) {
-      lines.push(chunk.toString('utf8'));
-      done();
-    },
-  });
-  return createLogger({ level: 'warn', pretty: false, destination });
 }
 
 describe('the Kafka checkpoint store (real broker)', () => {

@@ -1,10 +1,9 @@
 import { writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import { Writable } from 'node:stream';
 import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import type { RunCheckpoint } from '../../src/checkpoint/index.js';
-import { createLogger, KafkaCheckpointStore } from '../../src/kafka/index.js';
+import { KafkaCheckpointStore } from '../../src/kafka/index.js';
 import type { SessionSnapshot } from '../../src/pipeline/index.js';
 import { scratch } from '../support/cli.js';
 import { createServeTopics, kafkaSection, type ServeTopics, serveTopics } from '../support/kafka-config.js';
@@ -14,6 +13,7 @@ import {
   client,
   killServes,
   produce,
+  quietLogger,
   ScoreCounter,
   ServeProcess,
   waitCommitted,
@@ -140,18 +140,7 @@ async function finalSessions(
   group: string,
   events: string,
 ): Promise<SessionSnapshot[]> {
-  const lines: string[] = [];
-  const log = createLogger({
-    level: 'warn',
-    pretty: false,
-    destination: new Writable({
-      write(chunk: Buffer, _e, done) {
-        lines.push(chunk.toString('utf8'));
-        done();
-      },
-    }),
-  });
-  const store = new KafkaCheckpointStore(client(brokers), { topic, pipeline: group }, log);
+  const store = new KafkaCheckpointStore(client(brokers), { topic, pipeline: group }, quietLogger());
   await store.connect();
   try {
     const scopes = Array.from({ length: PARTITIONS }, (_, p) => `${events}/${p}`);

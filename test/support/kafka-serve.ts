@@ -1,8 +1,11 @@
 import { type ChildProcess, spawn } from 'node:child_process';
 import { dirname, join, resolve } from 'node:path';
+import { Writable } from 'node:stream';
 import { fileURLToPath } from 'node:url';
 import { tableFromIPC } from 'apache-arrow';
 import { Kafka, type KafkaMessage, logLevel, type Message } from 'kafkajs';
+import type { Logger } from 'pino';
+import { createLogger } from '../../src/kafka/index.js';
 import { uniqueName } from './kafka-names.js';
 
 /**
@@ -245,4 +248,16 @@ export async function waitGroupEmpty(brokers: string, group: string, timeoutMs =
   } finally {
     await admin.disconnect();
   }
+}
+
+/** A logger for Shoal's Kafka adapters used in a test: its lines are kept in memory, never printed. */
+export function quietLogger(): Logger {
+  const lines: string[] = [];
+  const destination = new Writable({
+    write(chunk: Buffer, _encoding, done) {
+      lines.push(chunk.toString('utf8'));
+      done();
+    },
+  });
+  return createLogger({ level: 'warn', pretty: false, destination });
 }
