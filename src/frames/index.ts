@@ -1,4 +1,6 @@
 export { CLASSES_KEY, FEATURES_KEY } from './arrow-batch.js';
+export type { ArrowLayoutOptions } from './arrow-layout.js';
+export { ArrowLayout, arrowStream } from './arrow-layout.js';
 export type { ArrowByteSource } from './arrow-read.js';
 export { arrowBufferFrames, arrowFrames, decodeArrowMessage } from './arrow-read.js';
 export type { ColumnType } from './cells.js';

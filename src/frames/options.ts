@@ -22,6 +22,11 @@ export interface FrameOptions {
    * column is absent the frames simply have no labels; a column named here explicitly must exist.
    */
   readonly label?: string | null;
+  /**
+   * The label column may be absent even when named (events whose labels come later on a topic of their
+   * own, as `serve` reads them with `kafka.labels`); default false.
+   */
+  readonly labelOptional?: boolean;
   /** A column of event ids, used to join late labels to predictions. */
   readonly id?: string;
   /** Columns that are neither features nor label nor id. */
@@ -273,7 +278,7 @@ export function resolveFrameOptions(options: FrameOptions, where = 'frame option
   if (issues.length > 0) throw new ConfigError(where, issues);
   return {
     label: label as string | null,
-    labelRequired: o.label !== undefined && o.label !== null,
+    labelRequired: o.label !== undefined && o.label !== null && o.labelOptional !== true,
     id: (o.id as string | undefined) ?? null,
     exclude: exclude as readonly string[],
     features,

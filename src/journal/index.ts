@@ -8,6 +8,7 @@ export type {
   LifecycleChange,
   LifecycleRecord,
   MemberState,
+  ProofRecord,
   RunRecord,
   SummaryRecord,
   Task,

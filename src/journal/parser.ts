@@ -9,6 +9,7 @@ import {
   LIFECYCLE_CAUSES,
   type LifecycleRecord,
   MEMBER_STATES,
+  type ProofRecord,
   type RunRecord,
   type SummaryRecord,
   TASKS,
@@ -115,6 +116,17 @@ function readLifecycle(f: Fields): LifecycleRecord {
     detector: f.string('detector'),
     estimate: f.numberOrNaN('estimate'),
     reason: f.string('reason'),
+    ...(f.raw('proof') === undefined ? {} : { proof: readProof(f.object('proof')) }),
+  };
+}
+
+function readProof(f: Fields): ProofRecord {
+  return {
+    rows: f.integer('rows', 0),
+    gains: f.integer('gains', 0),
+    losses: f.integer('losses', 0),
+    margin: f.atLeastZero('margin'),
+    delta: f.atLeastZero('delta'),
   };
 }
 

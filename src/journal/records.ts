@@ -48,11 +48,21 @@ export const MEMBER_STATES: readonly MemberState[] = ['warming', 'active', 'watc
  * - `warmed`: its warm-up rows are done (warming → active);
  * - `watched`: its monitor warned and its recent error is above its own record; an understudy starts;
  * - `watch-cleared`: the warning cleared for a warm-up's worth of rows (watched → active);
- * - `drift`: its monitor signalled drift towards more errors and it was retired;
- * - `drift-deferred`: the same, but the replacement cap was reached: replaced as soon as it allows;
+ * - `drift`: its monitor signalled drift towards more errors, its understudy was already measurably
+ *   better (see `src/ensembles/proof.ts`), and it was retired at once;
+ * - `drift-on-trial`: its monitor signalled drift towards more errors, but no understudy is yet
+ *   measurably better: the member keeps its seat while its understudy (started now if it had none)
+ *   is on trial (→ watched);
+ * - `outperformed`: its understudy on trial proved measurably better: it is retired (the signal was
+ *   the `drift-on-trial` or `drift-deferred` before);
+ * - `trial-lapsed`: the understudy on trial did not prove measurably better in time: it is dropped and
+ *   the member stays (watched → active);
+ * - `drift-deferred`: drift, and the understudy is measurably better, but the replacement cap was
+ *   reached: replaced as soon as the cap allows;
  * - `drift-ignored-improving`: drift towards fewer errors: nothing is replaced (watched → active);
  * - `promoted`: the understudy took the retired member's seat;
- * - `fresh`: a fresh member took the retired member's seat (there was no understudy).
+ * - `fresh`: a fresh member took the retired member's seat (written by releases before understudies
+ *   had to prove themselves: a replacement now always promotes an understudy; read for older journals).
  */
 export type LifecycleCause =
   | 'created'
@@ -60,6 +70,9 @@ export type LifecycleCause =
   | 'watched'
   | 'watch-cleared'
   | 'drift'
+  | 'drift-on-trial'
+  | 'outperformed'
+  | 'trial-lapsed'
   | 'drift-deferred'
   | 'drift-ignored-improving'
   | 'promoted'
@@ -71,15 +84,40 @@ export const LIFECYCLE_CAUSES: readonly LifecycleCause[] = [
   'watched',
   'watch-cleared',
   'drift',
+  'drift-on-trial',
+  'outperformed',
+  'trial-lapsed',
   'drift-deferred',
   'drift-ignored-improving',
   'promoted',
   'fresh',
 ];
 
-/** Causes that mean a member monitor signalled drift (acted on, deferred or towards fewer errors). */
+/** Causes that mean a member monitor signalled drift (acted on, on trial, deferred or towards fewer errors). */
 export function isDriftSignal(cause: LifecycleCause): boolean {
-  return cause === 'drift' || cause === 'drift-deferred' || cause === 'drift-ignored-improving';
+  return (
+    cause === 'drift' ||
+    cause === 'drift-on-trial' ||
+    cause === 'drift-deferred' ||
+    cause === 'drift-ignored-improving'
+  );
+}
+
+/**
+ * The comparison behind a replacement (or a lapsed trial): the understudy against the member on the
+ * rows both answered since the understudy started (see `src/ensembles/proof.ts`).
+ */
+export interface ProofRecord {
+  /** Rows both answered since the understudy started. */
+  readonly rows: number;
+  /** Rows the member got wrong and the understudy right. */
+  readonly gains: number;
+  /** Rows the understudy got wrong and the member right. */
+  readonly losses: number;
+  /** What gains − losses had to exceed: √(2 m ln(m(m + 1)/δ)), m = gains + losses. */
+  readonly margin: number;
+  /** δ, the chance that an understudy no better than its member passes at any time. */
+  readonly delta: number;
 }
 
 /** A member changed state, as the ensemble's lifecycle knows it (it does not know rows scored). */
@@ -101,6 +139,8 @@ export interface LifecycleChange {
   readonly estimate: number;
   /** The same in prose, for people. */
   readonly reason: string;
+  /** On `promoted` and `trial-lapsed`: the comparison that decided. */
+  readonly proof?: ProofRecord;
 }
 
 /** A lifecycle change as journaled: with the rows scored when it happened. */

@@ -440,7 +440,7 @@ export class LearningSession {
         estimate: change.estimate,
       });
     }
-    if (change.to === 'watched') c.warnings++;
+    if (change.cause === 'watched') c.warnings++;
     if (change.to === 'retired') c.replacements++;
     this.options.journal.write({ ...change, scored: c.scored });
   }

@@ -65,7 +65,7 @@ describe('parseJournal', () => {
       `x:${life}: lifecycle record: to must be one of warming, active, watched, retired, got "asleep"`,
     );
     expect(failure('x', withLine(life, JSON.stringify({ ...l, cause: 'bored' }))).message).toBe(
-      `x:${life}: lifecycle record: cause must be one of created, warmed, watched, watch-cleared, drift, drift-deferred, drift-ignored-improving, promoted, fresh, got "bored"`,
+      `x:${life}: lifecycle record: cause must be one of created, warmed, watched, watch-cleared, drift, drift-on-trial, outperformed, trial-lapsed, drift-deferred, drift-ignored-improving, promoted, fresh, got "bored"`,
     );
     expect(failure('x', withLine(life, JSON.stringify({ ...l, learner: undefined }))).message).toMatch(
       new RegExp(`^x:${life}: lifecycle record: learner must be a string`),

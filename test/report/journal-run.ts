@@ -130,7 +130,7 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
     classes: stream.classes,
     confusion: total.confusion,
     driftSignals: lifecycle.filter((r) => isDriftSignal(r.cause)).length,
-    warnings: lifecycle.filter((r) => r.to === 'watched').length,
+    warnings: lifecycle.filter((r) => r.cause === 'watched').length,
     replacements: lifecycle.filter((r) => r.to === 'retired').length,
     inputDrifts: 0,
     labels: inline(rows),
