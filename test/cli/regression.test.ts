@@ -131,6 +131,26 @@ describe('regression replayed through the shoal binary (task: regression)', () =
     expect(html).not.toContain('κ');
   });
 
+  it('a regression stopped at a checkpoint and resumed ends with the figures of a run never stopped', async () => {
+    const first = join(dir, 'first-half.csv');
+    const lines = (await readFile(file, 'utf8')).split('\n');
+    await writeFile(first, `${lines.slice(0, HALF + 1).join('\n')}\n`);
+    const checkpoints = join(dir, 'checkpoints');
+    const options = ['--task', 'regression', '--members', '3', '--json'];
+    const stopped = await shoal('replay', first, ...options, '--checkpoint', checkpoints);
+    expect(stopped.code).toBe(0);
+    // The same file grown to its full length, as a recording goes on.
+    await writeFile(first, await readFile(file));
+    const resumed = await shoal('replay', first, ...options, '--resume', checkpoints);
+    const whole = await shoal('replay', file, ...options);
+    expect(resumed.code).toBe(0);
+    const figures = (out: string) => {
+      const { mae, rmse, r2, rows, trained } = JSON.parse(out) as Record<string, number>;
+      return { mae, rmse, r2, rows, trained };
+    };
+    expect(figures(resumed.out)).toEqual(figures(whole.out));
+  });
+
   it('late labels: a regression joins every label to the number served for its row', async () => {
     const config = join(dir, 'late.yaml');
     await writeFile(config, 'evaluation: { window: 10000 }\nensemble: { members: 2 }\n');
