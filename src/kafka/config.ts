@@ -1,4 +1,5 @@
-import { ConfigError, type ConfigIssue } from '../core/index.js';
+import { ConfigError, type ConfigIssue, checkOptions, defaultsOf, resolveOptions } from '../core/index.js';
+import { CHECKPOINT_CADENCE_OPTIONS, type CheckpointCadence } from '../pipeline/index.js';
 import { LOG_LEVELS, type LogLevelName } from './log.js';
 
 /**
@@ -44,8 +45,16 @@ export interface KafkaSettings {
   readonly scores: { readonly topic: string };
   readonly deadLetters: { readonly topic: string };
   readonly journal: { readonly topic: string | null; readonly file: string | null };
-  /** Where each session's run checkpoint is written when the service stops; null: none is written. */
-  readonly checkpoint: { readonly dir: string | null };
+  /**
+   * Where and how often each session's run checkpoint is written, with the offsets it covers: to files
+   * under `dir` (scope `global`: the directory itself; `partition`: a folder per partition in it) or to
+   * the compacted `topic`; neither: no checkpoints, the models live in memory only.
+   */
+  readonly checkpoint: {
+    readonly dir: string | null;
+    readonly topic: string | null;
+    readonly cadence: CheckpointCadence;
+  };
   /** How long SIGTERM may take: finish the batch in flight, flush, commit, exit (ms). */
   readonly shutdownMs: number;
   /** The longest the consumer waits for data in a fetch (ms); also how quickly it joins a rebalance. */
@@ -110,7 +119,20 @@ export function resolveKafkaSettings(raw: unknown, source: string, path = 'kafka
   const scores = c.mapping(at('scores'), top.scores, ['topic'], true);
   const dead = c.mapping(at('deadLetters'), top.deadLetters, ['topic'], true);
   const journal = c.mapping(at('journal'), top.journal, ['topic', 'file'], false);
-  const checkpoint = c.mapping(at('checkpoint'), top.checkpoint, ['dir'], false);
+  const checkpoint = c.mapping(
+    at('checkpoint'),
+    top.checkpoint,
+    ['dir', 'topic', ...Object.keys(CHECKPOINT_CADENCE_OPTIONS)],
+    false,
+  );
+  const { dir: _dir, topic: _topic, ...cadence } = checkpoint;
+  const cadenceIssues: ConfigIssue[] = [];
+  checkOptions(CHECKPOINT_CADENCE_OPTIONS, cadence, at('checkpoint'), cadenceIssues, []);
+  // Unknown keys were named by the mapping check already.
+  for (const i of cadenceIssues) if (i.code !== 'unknown-setting') c.issues.push(i);
+  if (checkpoint.dir !== undefined && checkpoint.topic !== undefined) {
+    c.fail(at('checkpoint'), 'choose one store: dir (files) or topic (a compacted Kafka topic)', 'conflict');
+  }
   const log = c.mapping(at('log'), top.log, ['level'], false);
   const settings: KafkaSettings = {
     brokers,
@@ -132,6 +154,12 @@ export function resolveKafkaSettings(raw: unknown, source: string, path = 'kafka
     },
     checkpoint: {
       dir: checkpoint.dir === undefined ? null : c.text(`${at('checkpoint')}.dir`, checkpoint.dir, null),
+      topic:
+        checkpoint.topic === undefined ? null : c.text(`${at('checkpoint')}.topic`, checkpoint.topic, null),
+      cadence:
+        cadenceIssues.length > 0
+          ? defaultsOf(CHECKPOINT_CADENCE_OPTIONS)
+          : resolveOptions('kafka.checkpoint', CHECKPOINT_CADENCE_OPTIONS, cadence, []),
     },
     shutdownMs: c.count(at('shutdownMs'), top.shutdownMs, 30_000),
     maxWaitMs: c.count(at('maxWaitMs'), top.maxWaitMs, 500),

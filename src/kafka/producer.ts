@@ -1,5 +1,6 @@
 import kafkajs, { type Kafka, type Producer, type TopicMessages } from 'kafkajs';
 import type { Logger } from 'pino';
+import { persist } from './backoff.js';
 
 /**
  * The service's producer: every output of a fetched batch (scores, dead letters, journal records) goes
@@ -25,8 +26,12 @@ export class OutputProducer {
     });
   }
 
-  connect(): Promise<void> {
-    return this.producer.connect();
+  /** Connect, retrying while the broker cannot be reached (kafkajs does not retry a refused connection). */
+  async connect(): Promise<void> {
+    await persist('connect the producer', () => this.producer.connect(), {
+      log: this.log,
+      stopped: () => this.stopped,
+    });
   }
 
   /**
@@ -44,27 +49,14 @@ export class OutputProducer {
     return true;
   }
 
-  private async send(
-    pending: TopicMessages[],
-    waiting: (attempt: number) => Promise<void>,
-  ): Promise<boolean> {
-    for (let attempt = 1; ; attempt++) {
-      try {
+  private send(pending: TopicMessages[], waiting: (attempt: number) => Promise<void>): Promise<boolean> {
+    return persist(
+      'deliver outputs',
+      async () => {
         await this.producer.sendBatch({ topicMessages: pending, acks: -1 });
-        if (attempt > 1) this.log.info({ attempts: attempt }, 'outputs delivered after retries');
-        return true;
-      } catch (e) {
-        if (this.stopped) return false;
-        const delay = Math.min(5_000, 100 * 2 ** Math.min(attempt, 6));
-        this.log[attempt === 1 ? 'warn' : 'debug'](
-          { attempt, retryInMs: delay, error: (e as Error).message },
-          'cannot deliver outputs; retrying',
-        );
-        await waiting(attempt);
-        await new Promise((done) => setTimeout(done, delay));
-        if (this.stopped) return false;
-      }
-    }
+      },
+      { log: this.log, stopped: () => this.stopped, waiting },
+    );
   }
 
   /** Give up on retries in progress (a shutdown past its deadline) and disconnect. */
