@@ -18,6 +18,7 @@ import {
 } from 'apache-arrow';
 import { ShoalError } from '../core/index.js';
 import {
+  CHANGES_KEY,
   CLASSES_KEY,
   FEATURES_KEY,
   type FrameWriter,
@@ -68,7 +69,8 @@ function codeColumn(type: DataType, codes: Float64Array, rows: number, dictionar
  * (10,000 by default). Numeric features are float64, nominal features dictionary-encoded strings
  * (the dictionary is the category names in code order), the label a dictionary of class names or an
  * int32 code, the id utf8; missing values are nulls. The schema metadata records the features and
- * classes (`shoal.features`, `shoal.classes`), so that reading the file back gives the same codes.
+ * classes (`shoal.features`, `shoal.classes`), so that reading the file back gives the same codes, and
+ * the stream's true change points when given (`shoal.changes`).
  *
  * @example
  * const writer = await createArrowWriter('sea.arrow', { schema: gen.schema, classes: gen.classes });
@@ -112,6 +114,7 @@ export async function createArrowWriter(path: string, options: WriterOptions): P
     new Map([
       [FEATURES_KEY, JSON.stringify(specs)],
       [CLASSES_KEY, JSON.stringify(plan.classes)],
+      ...(options.changes === undefined ? [] : [[CHANGES_KEY, JSON.stringify(options.changes)] as const]),
     ]),
   );
 

@@ -1,4 +1,4 @@
-export { CLASSES_KEY, FEATURES_KEY } from './arrow-batch.js';
+export { CHANGES_KEY, CLASSES_KEY, declaredChanges, FEATURES_KEY } from './arrow-batch.js';
 export type { ArrowByteSource } from './arrow-read.js';
 export { arrowBufferFrames, arrowFrames, decodeArrowMessage } from './arrow-read.js';
 export type { ColumnType } from './cells.js';

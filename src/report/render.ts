@@ -1,4 +1,5 @@
 import type { JournalRecord, RunRecord, SummaryRecord } from '../journal/index.js';
+import { changeTable } from './change-table.js';
 import { configTable, schemaTable } from './config-table.js';
 import { confusionTables } from './confusion.js';
 import { escapeHtml } from './escape.js';
@@ -22,7 +23,8 @@ export const CAUTION =
 /**
  * The HTML report of a run, from its journal: one self-contained document (inline CSS and SVG, no
  * script, no font, no link to anything) with the headline figures, windowed accuracy and κ over rows
- * with drift signals and replacements marked, a lane per seat with its members' states, the confusion
+ * with drift signals and replacements marked, the stream's true change points and each one's detection
+ * delay (when the journal has them), a lane per seat with its members' states, the confusion
  * matrix with per-class scores, and the configuration and schema the run used. Every string read from
  * the journal is escaped.
  *
@@ -42,6 +44,9 @@ export function renderReport(records: readonly JournalRecord[], options: ReportO
   const sections = [
     header(title, run, summary, t),
     section('Accuracy and κ over the run', metricChart(t, frame)),
+    ...(t.changes === null || run?.changes === undefined
+      ? []
+      : [section('True change points of the stream', changeTable(t.changes, run.changes))]),
     section(`Seats (${t.seats})`, seatLanes(t, frame)),
     section(
       'Confusion matrix',
