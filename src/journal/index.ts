@@ -11,6 +11,7 @@ export type {
   ProofRecord,
   RunRecord,
   SummaryRecord,
+  Task,
   ViewFigures,
   WindowRecord,
 } from './records.js';
@@ -20,5 +21,6 @@ export {
   JOURNAL_VERSION,
   LIFECYCLE_CAUSES,
   MEMBER_STATES,
+  TASKS,
 } from './records.js';
 export { journalLine } from './writer.js';

@@ -18,6 +18,7 @@ import {
   type ProofRecord,
   type RunRecord,
   type SummaryRecord,
+  TASKS,
   type ViewFigures,
   type WindowRecord,
 } from './records.js';
@@ -151,6 +152,9 @@ function readView(f: Fields): ViewFigures {
     kappaM: f.numberOrNull('kappaM'),
     kappaNoChange: f.numberOrNull('kappaNoChange'),
     logLoss: f.numberOrNull('logLoss'),
+    mae: f.numberOrNull('mae'),
+    rmse: f.numberOrNull('rmse'),
+    r2: f.numberOrNull('r2'),
   };
 }
 
@@ -197,6 +201,7 @@ function readSummary(f: Fields): SummaryRecord {
   const confusion = f.matrix('confusion');
   return {
     type: 'summary',
+    task: f.oneOf('task', TASKS),
     scored: f.integer('scored', 0),
     trained: f.integer('trained', 0),
     rows: f.integer('rows', 0),
@@ -206,6 +211,9 @@ function readSummary(f: Fields): SummaryRecord {
     kappaNoChange: f.numberOrNull('kappaNoChange'),
     logLoss: f.numberOrNull('logLoss'),
     macroF1: f.numberOrNull('macroF1'),
+    mae: f.numberOrNull('mae'),
+    rmse: f.numberOrNull('rmse'),
+    r2: f.numberOrNull('r2'),
     classes,
     confusion,
     driftSignals: f.integer('driftSignals', 0),

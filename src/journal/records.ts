@@ -17,7 +17,11 @@ import type { ChangePoints, FeatureSchema } from '../core/index.js';
 export type JournalRecord = RunRecord | LifecycleRecord | WindowRecord | InputDriftRecord | SummaryRecord;
 
 /** The journal format this build writes and reads (`RunRecord.version`). */
-export const JOURNAL_VERSION = 3;
+export const JOURNAL_VERSION = 4;
+
+/** What a run's labels are: classes to tell apart, or numbers to predict. */
+export type Task = 'classification' | 'regression';
+export const TASKS: readonly Task[] = ['classification', 'regression'];
 
 export interface RunRecord {
   readonly type: 'run';
@@ -146,14 +150,27 @@ export interface LifecycleRecord extends LifecycleChange {
   readonly scored: number;
 }
 
-/** The figures of one evaluation view; null where a figure is not yet defined. */
-export interface ViewFigures {
+/**
+ * The figures of one evaluation view; null where a figure is not yet defined, and where it does not
+ * belong to the run's task (a classification has no MAE, a regression no accuracy).
+ */
+export interface ViewFigures extends ClassificationViewFigures, RegressionViewFigures {
   readonly rows: number;
+}
+
+export interface ClassificationViewFigures {
   readonly accuracy: number | null;
   readonly kappa: number | null;
   readonly kappaM: number | null;
   readonly kappaNoChange: number | null;
   readonly logLoss: number | null;
+}
+
+/** Mean absolute error, root mean squared error and the coefficient of determination R². */
+export interface RegressionViewFigures {
+  readonly mae: number | null;
+  readonly rmse: number | null;
+  readonly r2: number | null;
 }
 
 /**
@@ -192,7 +209,7 @@ export interface WindowRecord {
   readonly window: ViewFigures;
   /** The cumulative view. */
   readonly cumulative: ViewFigures;
-  /** Each seat's accuracy over its recent rows, by seat index. */
+  /** Each seat's accuracy over its recent rows, by seat index (none in a regression: no seats). */
   readonly seats: readonly number[];
   readonly labels: LabelCounts;
 }
@@ -212,17 +229,17 @@ export type InputDriftCause = 'distribution' | 'missing-share';
 
 export const INPUT_DRIFT_CAUSES: readonly InputDriftCause[] = ['distribution', 'missing-share'];
 
-export interface SummaryRecord {
+/**
+ * The final figures: the cumulative view of the run's task (the other task's figures are null), and
+ * for a classification the macro F1 and the confusion matrix (a regression has no classes: both empty).
+ */
+export interface SummaryRecord extends ClassificationViewFigures, RegressionViewFigures {
   readonly type: 'summary';
+  readonly task: Task;
   readonly scored: number;
   readonly trained: number;
   /** Rows judged (a label joined to the prediction served for it). */
   readonly rows: number;
-  readonly accuracy: number | null;
-  readonly kappa: number | null;
-  readonly kappaM: number | null;
-  readonly kappaNoChange: number | null;
-  readonly logLoss: number | null;
   readonly macroF1: number | null;
   /** Class names, index = class code. */
   readonly classes: readonly string[];

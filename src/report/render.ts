@@ -1,4 +1,10 @@
-import type { JournalRecord, RunRecord, SummaryRecord } from '../journal/index.js';
+import {
+  type JournalRecord,
+  type RunRecord,
+  type SummaryRecord,
+  TASKS,
+  type Task,
+} from '../journal/index.js';
 import { changeTable } from './change-table.js';
 import { configTable, schemaTable } from './config-table.js';
 import { confusionTables } from './confusion.js';
@@ -23,13 +29,14 @@ export const CAUTION =
 /**
  * The HTML report of a run, from its journal: one self-contained document (inline CSS and SVG, no
  * script, no font, no link to anything) with the headline figures, windowed accuracy and κ over rows
- * with drift signals and replacements marked, the stream's true change points and each one's detection
- * delay (when the journal has them), a lane per seat with its members' states, the confusion
+ * with drift signals and replacements marked, the stream's true change points and each one's detection delay (when the journal has them), a lane per seat with its members' states, the confusion
  * matrix with per-class scores, and the configuration and schema the run used. Every string read from
  * the journal is escaped.
  *
  * The report reads the first `run` record and the last `summary`; any part of the journal may be
  * missing (a run that stopped early has no summary) and the report says so where it would have shown it.
+ * A regression's report draws its windowed RMSE and MAE and shows MAE, RMSE and R²: it has no classes
+ * (no confusion matrix) and no member lifecycle (no seats).
  *
  * @example
  * const records = parseJournal(readFileSync('run.ndjson', 'utf8'), 'run.ndjson');
@@ -41,19 +48,29 @@ export function renderReport(records: readonly JournalRecord[], options: ReportO
   const t = timeline(records);
   const frame = timeFrame(t.rows);
   const title = options.title ?? 'Shoal run report';
-  const sections = [
-    header(title, run, summary, t),
-    section('Accuracy and κ over the run', metricChart(t, frame)),
-    ...(t.changes === null || run?.changes === undefined
+  const task = taskOf(run, summary);
+  const judged =
+    task === 'regression'
+      ? [section('RMSE and MAE over the run', metricChart(t, frame, task))]
+      : [
+          section('Accuracy and κ over the run', metricChart(t, frame, task)),
+          section(`Seats (${t.seats})`, seatLanes(t, frame)),
+          section(
+            'Confusion matrix',
+            summary === undefined
+              ? '<p class="note">No summary record: the run did not finish, so there is no confusion matrix.</p>'
+              : confusionTables(summary),
+          ),
+        ];
+  const changes =
+    t.changes === null || run?.changes === undefined
       ? []
-      : [section('True change points of the stream', changeTable(t.changes, run.changes))]),
-    section(`Seats (${t.seats})`, seatLanes(t, frame)),
-    section(
-      'Confusion matrix',
-      summary === undefined
-        ? '<p class="note">No summary record: the run did not finish, so there is no confusion matrix.</p>'
-        : confusionTables(summary),
-    ),
+      : [section('True change points of the stream', changeTable(t.changes, run.changes))];
+  const sections = [
+    header(title, run, summary, t, task),
+    ...judged.slice(0, 1),
+    ...changes,
+    ...judged.slice(1),
     section(
       'Configuration',
       run === undefined ? '<p class="note">No run record.</p>' : configTable(run.config),
@@ -66,6 +83,12 @@ export function renderReport(records: readonly JournalRecord[], options: ReportO
     `<title>${escapeHtml(title)}</title><style>${STYLE}</style></head>` +
     `<body><main>${sections.join('\n')}\n<footer>${escapeHtml(options.caution ?? CAUTION)}</footer></main></body></html>\n`
   );
+}
+
+/** The run's task, from its summary or else its configuration (a journal without either: classification). */
+function taskOf(run: RunRecord | undefined, summary: SummaryRecord | undefined): Task {
+  const configured = run?.config.task;
+  return summary?.task ?? (TASKS.includes(configured as Task) ? (configured as Task) : 'classification');
 }
 
 function section(heading: string, body: string): string {

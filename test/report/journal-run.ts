@@ -42,6 +42,9 @@ function view(f: ClassificationFigures): ViewFigures {
     kappaM: f.kappaM,
     kappaNoChange: f.kappaNoChange,
     logLoss: f.logLoss,
+    mae: null,
+    rmse: null,
+    r2: null,
   };
 }
 
@@ -111,6 +114,7 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
   const total = evaluation.summary().cumulative;
   records.push({
     type: 'summary',
+    task: 'classification',
     scored: rows,
     trained: rows,
     rows,
@@ -120,6 +124,9 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
     kappaNoChange: total.kappaNoChange,
     logLoss: total.logLoss,
     macroF1: total.macroF1,
+    mae: null,
+    rmse: null,
+    r2: null,
     classes: stream.classes,
     confusion: total.confusion,
     driftSignals: lifecycle.filter((r) => isDriftSignal(r.cause)).length,
