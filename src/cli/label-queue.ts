@@ -71,9 +71,17 @@ export class LabelQueue {
 
   /** Give the session every label due by `now` (all of them with +∞), earliest due first. */
   release(now: number, session: LearningSession, classes: readonly string[]): void {
+    this.take(now, (frame, slot) => session.learn(frame, classes, slot, slot + 1));
+  }
+
+  /**
+   * Hand every label due by `now` to `each`, earliest due first: row `slot` of `frame` (its id, label
+   * and features), valid only during the call.
+   */
+  take(now: number, each: (frame: Frame, slot: number) => void): void {
     while (this.size > 0 && this.dues[this.heap[0]!]! <= now) {
       const slot = this.heap[0]!;
-      session.learn(this.view, classes, slot, slot + 1);
+      each(this.view, slot);
       this.pop();
       this.free[this.freeCount++] = slot;
     }

@@ -1,5 +1,6 @@
 import { ShoalError } from '../core/index.js';
 import { DEMO_HELP, demo } from './demo.js';
+import { DEMO_STREAM_HELP, demoStream } from './demo-stream.js';
 import { INSPECT_HELP, inspect } from './inspect.js';
 import { REPLAY_HELP, replay } from './replay.js';
 import { REPORT_HELP, report } from './report.js';
@@ -12,6 +13,7 @@ const COMMANDS: Readonly<
   Record<string, { run: (args: readonly string[], t: Terminal) => Promise<number>; help: string }>
 > = {
   demo: { run: demo, help: DEMO_HELP },
+  'demo-stream': { run: demoStream, help: DEMO_STREAM_HELP },
   replay: { run: replay, help: REPLAY_HELP },
   spawn: { run: spawn, help: SPAWN_HELP },
   report: { run: report, help: REPORT_HELP },
@@ -27,6 +29,9 @@ const USAGE = `shoal — online ensembles that keep scoring while the world chan
 Commands:
   shoal demo             the embedded demo: an invented cold-chain stream scored, joined with late
                          labels, drifting and healed, in-process (no broker); journal, checkpoint, report
+  shoal demo-stream --brokers HOST:PORT
+                         write the same invented stream to Kafka (legs and, later, inspection results)
+                         for shoal serve to score (npm run demo:stream)
   shoal replay FILE      run a recorded stream through an ensemble, test-then-train, and summarise it
   shoal spawn GEN ...    write a published benchmark stream (SEA, STAGGER, Agrawal, LED, …) to a file
   shoal report JOURNAL   turn a run's journal into a self-contained HTML report

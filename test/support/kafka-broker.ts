@@ -71,13 +71,16 @@ export class KafkaBroker {
     this.saslBootstrap = `127.0.0.1:${sasl}`;
   }
 
-  /** Format a fresh data folder and start a broker on free loopback ports. */
-  static async start(): Promise<KafkaBroker> {
+  /**
+   * Format a fresh data folder and start a broker on free loopback ports (the client listener on
+   * `port` when given: a fixed address for the README's walk-through).
+   */
+  static async start(port?: number): Promise<KafkaBroker> {
     const lib = await kafkaLib();
     const dir = await mkdtemp(join(tmpdir(), 'shoal-kafka-'));
-    const [port, controller, sasl] = await freePorts(3);
-    const broker = new KafkaBroker(dir, lib, port!, sasl!);
-    await writeFile(join(dir, 'server.properties'), properties(dir, port!, controller!, sasl!));
+    const [free, controller, sasl] = await freePorts(3);
+    const broker = new KafkaBroker(dir, lib, port ?? free!, sasl!);
+    await writeFile(join(dir, 'server.properties'), properties(dir, port ?? free!, controller!, sasl!));
     await writeFile(join(dir, 'log4j2.properties'), LOG4J);
     const clusterId = (await java(lib, ['kafka.tools.StorageTool', 'random-uuid'])).trim().split('\n').pop()!;
     await java(lib, [
