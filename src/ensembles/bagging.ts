@@ -12,7 +12,7 @@ import {
   resolveOptions,
   type Seed,
 } from '../core/index.js';
-import { type ClassifierSpec, createClassifier } from '../learners/index.js';
+import { type ClassifierSpec, createClassifier, TreeForest } from '../learners/index.js';
 import type { EnsembleSnapshot } from './ensemble.js';
 import {
   LIFECYCLE_DEFAULTS,
@@ -103,6 +103,8 @@ export class Bagging extends SeatedEnsemble {
   private readonly sampler: PoissonSampler;
   private readonly poisson: Rng[];
   private readonly hard: boolean;
+  /** Scores tree members together, level by level (see `TreeForest`). */
+  private readonly forest = new TreeForest();
   /** The Poisson weight each seat drew for the last row trained (for audits and tests). */
   readonly draws: Int32Array;
 
@@ -157,9 +159,12 @@ export class Bagging extends SeatedEnsemble {
     this.checkRowOnly(row, offset);
     const { probs, preds, weights, confidence, classes } = this.scratch;
     const seats = this.lifecycle.seats;
+    if (!this.forest.score(seats, row, offset, probs, classes, preds)) {
+      for (let m = 0; m < seats.length; m++)
+        preds[m] = seats[m]!.member.score(row, offset, probs, m * classes);
+    }
     for (let m = 0; m < seats.length; m++) {
       const seat = seats[m]!;
-      preds[m] = seat.member.score(row, offset, probs, m * classes);
       weights[m] = this.weight(seat);
       confidence[m] = seat.trust;
     }

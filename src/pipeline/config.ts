@@ -403,19 +403,26 @@ function checkRegressionEnsemble(c: Checker, value: unknown): RegressionEnsemble
       `must be bagging for task regression (boosting and stacking combine class votes), got ${describe(raw.kind)}`,
       'not-one-of',
     );
-  if (raw.lifecycle !== undefined)
-    c.fail(
-      join(path, 'lifecycle'),
-      'a regression has no member lifecycle (its monitors judge 0/1 errors); remove it',
-      'conflict',
-    );
+  if (raw.lifecycle !== undefined) {
+    // Each setting by its own path, so that one a command-line flag gave is named as that flag.
+    const lifecycle = c.object(join(path, 'lifecycle'), raw.lifecycle, null);
+    const keys = Object.keys(lifecycle);
+    for (const key of keys.length > 0
+      ? keys.map((k) => join(join(path, 'lifecycle'), k))
+      : [join(path, 'lifecycle')])
+      c.fail(
+        key,
+        'a regression has no member lifecycle (its monitors judge 0/1 errors); remove it',
+        'conflict',
+      );
+  }
   c.options(path, raw, REGRESSION_BAGGING_OPTIONS, ['kind', 'learners', 'lifecycle']);
   const learners = checkLearners(c, join(path, 'learners'), raw.learners, REGRESSORS);
   const { lifecycle: _, ...rest } = raw;
   return {
+    kind: 'bagging',
     ...REGRESSION_BAGGING_DEFAULTS,
     ...rest,
-    kind: 'bagging',
     learners: (learners ?? REGRESSION_BAGGING_DEFAULTS.learners).map((l) => filled(l, REGRESSOR_OPTIONS)),
   } as RegressionEnsembleSpec;
 }
