@@ -37,7 +37,7 @@ describe('TreeForest', () => {
         expect(out.subarray(2 * m, 2 * m + 2)).toEqual(mine);
       }
     }
-    seats.forEach(({ member }, m) => expect(member.snapshot()).toEqual(own[m]!.snapshot()));
+    for (const [m, { member }] of seats.entries()) expect(member.snapshot()).toEqual(own[m]!.snapshot());
     expect(seats.every(({ member }) => member.shape.nodes > 5)).toBe(true);
   });
 
