@@ -12,7 +12,6 @@ import { createServeTopics, kafkaSection, serveTopics } from '../support/kafka-c
 import { arrowMessage, eventTable, seaEvents } from '../support/kafka-events.js';
 import {
   client,
-  committed,
   countScoreRows,
   killServes,
   produce,
@@ -20,6 +19,7 @@ import {
   ScoreCounter,
   ServeProcess,
   scoreRows,
+  waitCommitted,
 } from '../support/kafka-serve.js';
 import { note } from '../support/note.js';
 
@@ -152,7 +152,7 @@ describe('shoal serve on a real broker', () => {
       ]);
       labelMessages++;
       sent.push(...[0, 1].map((label) => JSON.stringify({ id: `before-${label}`, label, t: 0 })));
-      await committed(brokers, t.group, labelsTopic, [labelMessages]);
+      await waitCommitted(brokers, t.group, { [labelsTopic]: [labelMessages] });
       for (let from = 0; from < rows; from += round) {
         const messages = [];
         for (let i = Math.max(1, from); i < from + round; i = (Math.floor(i / 500) + 1) * 500)
@@ -181,7 +181,7 @@ describe('shoal serve on a real broker', () => {
         labelMessages += labels.length;
         // The next round's events only once these labels were joined (their offsets committed): Kafka
         // does not order two topics, and the replay below needs the order known.
-        await committed(brokers, t.group, labelsTopic, [labelMessages]);
+        await waitCommitted(brokers, t.group, { [labelsTopic]: [labelMessages] });
       }
     } finally {
       await counter.stop();

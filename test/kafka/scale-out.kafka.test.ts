@@ -8,7 +8,6 @@ import { scratch } from '../support/cli.js';
 import { createServeTopics, kafkaSection, type ServeTopics, serveTopics } from '../support/kafka-config.js';
 import { arrowMessage, type Events, seaEvents } from '../support/kafka-events.js';
 import {
-  committed,
   countScoreRows,
   killServes,
   produce,
@@ -16,6 +15,7 @@ import {
   ScoreCounter,
   ServeProcess,
   scoreRows,
+  waitCommitted,
 } from '../support/kafka-serve.js';
 import { note } from '../support/note.js';
 
@@ -153,7 +153,7 @@ describe('scale-out by partition', () => {
         }
         await produce(brokers, labelsTopic, labels);
       }
-      await committed(brokers, t.group, labelsTopic, labelMessages);
+      await waitCommitted(brokers, t.group, { [labelsTopic]: labelMessages });
     } finally {
       await counter.stop();
     }
