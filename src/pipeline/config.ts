@@ -149,6 +149,34 @@ export const EVALUATION_OPTIONS = {
   },
 } as const satisfies OptionTable;
 
+/**
+ * When a live service (`serve`) writes a checkpoint of its sessions and the offsets they cover: after
+ * `everyRows` rows read (events and labels) or `everySeconds` since the last one, whichever comes first,
+ * and always when partitions are taken away and on shutdown. `keep` checkpoints stay in the store.
+ */
+export const CHECKPOINT_CADENCE_OPTIONS = {
+  everyRows: {
+    type: 'integer',
+    atLeast: 1,
+    default: 10_000,
+    doc: 'rows read (events and labels) after which a checkpoint is written',
+  },
+  everySeconds: {
+    type: 'number',
+    above: 0,
+    default: 60,
+    doc: 'seconds after which a checkpoint is written when rows were read since the last one',
+  },
+  keep: {
+    type: 'integer',
+    atLeast: 1,
+    default: 3,
+    doc: 'checkpoints kept in the store; older ones are deleted after each save',
+  },
+} as const satisfies OptionTable;
+
+export type CheckpointCadence = OptionsOf<typeof CHECKPOINT_CADENCE_OPTIONS>;
+
 /** The label-join settings' scalar options (see `LabelsConfig`). */
 const LABEL_JOIN_OPTIONS = {
   pending: {
