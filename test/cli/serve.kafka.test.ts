@@ -19,9 +19,9 @@ import {
   ScoreCounter,
   ServeProcess,
   scoreRows,
-  waitCommitted,
 } from '../support/kafka-serve.js';
 import { note } from '../support/note.js';
+import { eventually, freePort } from '../support/prometheus.js';
 
 const RUN = { seed: 11, ensemble: { kind: 'bagging', members: 5 }, inputs: { label: 'label', id: 'id' } };
 /** Labels as class codes: class 0 is "0" however the labels arrive (names take codes as they appear). */
@@ -120,6 +120,16 @@ describe('shoal serve on a real broker', () => {
     const round = 2_000;
     const events = seaEvents(rows, 9);
     const dir = await scratch();
+    const port = await freePort();
+    /** Labels the service has taken (joined, or matching no prediction), read from its /metrics. */
+    const taken = async (): Promise<number> => {
+      const text = await (await fetch(`http://127.0.0.1:${port}/metrics`)).text();
+      let n = 0;
+      for (const m of text.matchAll(/^shoal_labels_total\{outcome="(joined|orphaned)"\} (\d+)/gm))
+        n += Number(m[2]);
+      return n;
+    };
+    let labelsSent = 0;
     const journal = join(dir, 'journal.ndjson');
     const config = join(dir, 'shoal.yaml');
     await writeFile(
@@ -131,12 +141,12 @@ describe('shoal serve on a real broker', () => {
           journal: { topic: t.journal, file: journal },
           checkpoint: { dir: join(dir, 'serve-checkpoints') },
         }),
+        telemetry: { listen: `127.0.0.1:${port}` },
       }),
     );
     const serve = new ServeProcess(config);
     const counter = await ScoreCounter.start(brokers, t.scores);
     const rng = new Rng(17);
-    let labelMessages = 0;
     /** The labels in the order they were sent, each with the last event of its round (when it became known). */
     const sent: string[] = [];
     try {
@@ -150,9 +160,9 @@ describe('shoal serve on a real broker', () => {
       await produce(brokers, labelsTopic, [
         { value: classes.join('\n'), headers: { 'content-type': 'application/x-ndjson' } },
       ]);
-      labelMessages++;
+      labelsSent += 2;
       sent.push(...[0, 1].map((label) => JSON.stringify({ id: `before-${label}`, label, t: 0 })));
-      await waitCommitted(brokers, t.group, { [labelsTopic]: [labelMessages] });
+      await eventually(async () => (await taken()) >= labelsSent, 'the first labels taken', 60_000, 50);
       for (let from = 0; from < rows; from += round) {
         const messages = [];
         for (let i = Math.max(1, from); i < from + round; i = (Math.floor(i / 500) + 1) * 500)
@@ -178,10 +188,15 @@ describe('shoal serve on a real broker', () => {
           labels.push({ value: lines.join('\n'), headers: { 'content-type': 'application/x-ndjson' } });
         }
         await produce(brokers, labelsTopic, labels);
-        labelMessages += labels.length;
-        // The next round's events only once these labels were joined (their offsets committed): Kafka
-        // does not order two topics, and the replay below needs the order known.
-        await waitCommitted(brokers, t.group, { [labelsTopic]: [labelMessages] });
+        labelsSent += round;
+        // The next round's events only once these labels were joined: Kafka does not order two topics,
+        // and the replay below needs the order known.
+        await eventually(
+          async () => (await taken()) >= labelsSent,
+          'the labels of the round taken',
+          60_000,
+          50,
+        );
       }
     } finally {
       await counter.stop();
