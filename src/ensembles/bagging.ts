@@ -61,6 +61,16 @@ export type BaggingOptions = OptionsOf<typeof BAGGING_OPTIONS> & {
 };
 
 /**
+ * The split confidence δ of the default ensemble's trees: 0.01, that of the trees of adaptive random
+ * forests (Gomes et al., Machine Learning 106, 2017, from memory), where each member also trains with
+ * Poisson(6) weights, rather than the 1e-7 of a single Hoeffding tree (Domingos & Hulten 2000). A
+ * member's errors are averaged with nine others', so it can afford splits on less evidence; on wide,
+ * many-class data the trees then grow where 1e-7 kept them near naive Bayes: LetterRecognition 0.783 →
+ * 0.814, Satellite 0.816 → 0.859, Vehicle 0.480 → 0.579 (test/ensembles/real-data.test.ts).
+ */
+const MEMBER_SPLIT_CONFIDENCE = 0.01;
+
+/**
  * The default is leveraging bagging (Bifet, Holmes & Pfahringer, "Leveraging bagging for evolving data
  * streams", ECML PKDD 2010), not Oza & Russell's plain online bagging: Poisson weights of λ = 6 and an
  * ADWIN change detector per member that replaces the member it flags (here with an understudy trained
@@ -71,7 +81,7 @@ export type BaggingOptions = OptionsOf<typeof BAGGING_OPTIONS> & {
  */
 export const BAGGING_DEFAULTS: BaggingOptions = {
   ...defaultsOf(BAGGING_OPTIONS),
-  learners: [{ kind: 'hoeffding-tree' }],
+  learners: [{ kind: 'hoeffding-tree', hoeffdingDelta: MEMBER_SPLIT_CONFIDENCE }],
   lifecycle: LIFECYCLE_DEFAULTS,
 };
 

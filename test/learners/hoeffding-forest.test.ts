@@ -40,7 +40,7 @@ describe('TreeForest', () => {
     }
     expect(walked).toBe(labels.length);
     expect(differ).toBe(0);
-    seats.forEach(({ member }, m) => expect(member.snapshot()).toEqual(own[m]!.snapshot()));
+    for (const [m, { member }] of seats.entries()) expect(member.snapshot()).toEqual(own[m]!.snapshot());
     expect(seats.every(({ member }) => member.shape.nodes > 5)).toBe(true);
   });
 
