@@ -101,7 +101,7 @@ export class TreeForest {
   private build(seats: readonly { readonly member: Classifier }[]): void {
     const count = seats.length;
     this.members = seats.map((s) => s.member);
-    this.structures = new Float64Array(count);
+    this.structures = Float64Array.from(this.members, (m) => (m instanceof HoeffdingTree ? m.structure : 0));
     this.usable = this.members.every((m) => m instanceof HoeffdingTree);
     if (!this.usable) return;
     const trees = this.members as HoeffdingTree[];
@@ -112,7 +112,6 @@ export class TreeForest {
     this.levels = 0;
     for (let m = 0; m < count; m++) {
       const tree = trees[m]!;
-      this.structures[m] = tree.structure;
       this.starts[m] = total;
       total += tree.nodeCount;
       this.levels = Math.max(this.levels, tree.depthReached);
