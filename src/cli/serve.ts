@@ -216,7 +216,14 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     log.info({ host: endpoint.host, port: endpoint.port }, 'telemetry listening');
   }
   const exactlyOnce = settings.delivery === 'exactly-once';
-  const producer = new OutputProducer(kafka, log, exactlyOnce ? `${settings.group}-shoal-outputs` : null);
+  // A transaction stays open from one checkpoint to the next: give the broker room before it aborts one
+  // (its transaction.max.timeout.ms is 15 minutes by default).
+  const producer = new OutputProducer(
+    kafka,
+    log,
+    exactlyOnce ? `${settings.group}-shoal-outputs` : null,
+    Math.min(900_000, Math.max(60_000, settings.checkpoint.cadence.everySeconds * 3_000)),
+  );
   let refusal: string | null = null;
   // Batches and checkpoints take turns: a checkpoint is cut between two batches, never inside one.
   let turn: Promise<unknown> = Promise.resolve();
@@ -409,7 +416,11 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         dead += handled.dead.length;
         if (batch.topic !== settings.labels?.topic) hold.check(position);
         if (checkpoints !== null) {
-          checkpoints.read(models.key(`${batch.topic}/${batch.partition}`), handled.rows);
+          // Dead letters count too: their outputs and offsets wait for a checkpoint like any other.
+          checkpoints.read(
+            models.key(`${batch.topic}/${batch.partition}`),
+            handled.rows + handled.dead.length,
+          );
           if (checkpoints.due(Date.now())) await checkpoint('cadence');
         }
       }

@@ -21,6 +21,8 @@ export class OutputProducer {
     private readonly log: Logger,
     /** Set for exactly-once delivery: outputs, checkpoints and offsets then commit together. */
     private readonly transactionalId: string | null = null,
+    /** How long a transaction may stay open before the broker aborts it (ms; the checkpoint cadence). */
+    transactionTimeoutMs = 60_000,
   ) {
     // Not idempotent by default: `deliver` re-sends a failed request itself, so a repeat after a failure
     // is possible either way (at-least-once; scores carry id and epoch so that consumers can drop
@@ -28,7 +30,14 @@ export class OutputProducer {
     this.producer = kafka.producer({
       createPartitioner: kafkajs.Partitioners.DefaultPartitioner,
       allowAutoTopicCreation: false,
-      ...(transactionalId === null ? {} : { transactionalId, idempotent: true, maxInFlightRequests: 1 }),
+      ...(transactionalId === null
+        ? {}
+        : {
+            transactionalId,
+            idempotent: true,
+            maxInFlightRequests: 1,
+            transactionTimeout: transactionTimeoutMs,
+          }),
     });
   }
 

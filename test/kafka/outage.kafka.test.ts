@@ -68,6 +68,21 @@ describe('a broker that goes away', () => {
       void serve.exited.then(() => {
         exited = true;
       });
+      /** A failing wait says what the service logged last (the messages, not the full records). */
+      const step = async (work: Promise<unknown>): Promise<void> => {
+        try {
+          await work;
+        } catch (e) {
+          const tail = serve
+            .logs()
+            .filter((l) => l.level !== 'debug')
+            .slice(-20)
+            .map((l) => `${String(l.time)} ${String(l.level)} ${String(l.msg)} ${String(l.error ?? '')}`);
+          throw new Error(
+            `${(e as Error).message}; exited: ${exited}; stderr: ${serve.stderr}\n${tail.join('\n')}`,
+          );
+        }
+      };
 
       let counter = await ScoreCounter.start(brokers, t.scores);
       await produce(brokers, t.events, messages(0, 2_000));
@@ -77,28 +92,27 @@ describe('a broker that goes away', () => {
       await produce(brokers, t.events, messages(2_000, 4_000));
       await counter.stop();
       await broker.stop();
-      await eventually(
-        async () => (await ready()) === 503,
-        '/readyz 503 while the broker is away',
-        180_000,
-        200,
+      await step(
+        eventually(async () => (await ready()) === 503, '/readyz 503 while the broker is away', 180_000, 200),
       );
       const during = await fetch(`http://127.0.0.1:${port}/readyz`).then((r) => r.text());
       expect(exited).toBe(false);
       await broker.restart();
       note(`broker back (restart took ${Math.round(broker.startMillis)} ms); /readyz said: ${during.trim()}`);
-      await eventually(
-        async () => (await ready()) === 200,
-        '/readyz 200 after the broker came back',
-        180_000,
-        200,
+      await step(
+        eventually(
+          async () => (await ready()) === 200,
+          '/readyz 200 after the broker came back',
+          180_000,
+          200,
+        ),
       );
 
       await produce(brokers, t.events, messages(4_000, ROWS));
       counter = await ScoreCounter.start(brokers, t.scores);
-      await counter.reachIds(ROWS, () => false, 180_000);
+      await step(counter.reachIds(ROWS, () => false, 180_000));
       await counter.stop();
-      await waitCommitted(brokers, t.group, { [t.events]: ROWS / PER_MESSAGE });
+      await step(waitCommitted(brokers, t.group, { [t.events]: ROWS / PER_MESSAGE }));
       expect(exited).toBe(false);
       serve.signal('SIGTERM');
       expect(await serve.exited, serve.stderr).toBe(0);
