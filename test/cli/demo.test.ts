@@ -3,7 +3,7 @@ import { readdir, readFile, stat } from 'node:fs/promises';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import type { LifecycleRecord } from '../../src/journal/index.js';
-import { parseJournal } from '../../src/journal/index.js';
+import { isDriftSignal, parseJournal } from '../../src/journal/index.js';
 import { driftRows, SCRIPT } from '../../src/scenario/index.js';
 import { scratch } from '../support/cli.js';
 import { note } from '../support/note.js';
@@ -17,7 +17,6 @@ import { note } from '../support/note.js';
 const ROWS = 20_000;
 /** Legs after an abrupt drift within which a signal and a replacement must appear (10% of the run). */
 const TOLERANCE = 2_000;
-const SIGNAL = new Set(['drift', 'drift-on-trial', 'drift-deferred', 'drift-ignored-improving']);
 const REPLACED = new Set(['promoted', 'fresh']);
 
 interface Ran {
@@ -77,14 +76,14 @@ describe('shoal demo', () => {
     const at = driftRows(ROWS);
     const firstDrift = Math.min(...at.values());
     const early = changes.filter(
-      (c) => c.scored <= firstDrift && (SIGNAL.has(c.cause) || REPLACED.has(c.cause)),
+      (c) => c.scored <= firstDrift && (isDriftSignal(c.cause) || REPLACED.has(c.cause)),
     );
     expect(early).toEqual([]);
     let answered = 0;
     for (const d of SCRIPT.filter((s) => s.kind === 'abrupt')) {
       const row = at.get(d.name)!;
       const near = changes.filter((c) => c.scored > row && c.scored <= row + TOLERANCE);
-      const signal = near.find((c) => SIGNAL.has(c.cause) && c.cause !== 'drift-ignored-improving');
+      const signal = near.find((c) => isDriftSignal(c.cause) && c.cause !== 'drift-ignored-improving');
       const replaced = near.find((c) => REPLACED.has(c.cause));
       note(
         `${d.name} at leg ${row}: first drift signal ${signal ? `+${signal.scored - row}` : 'none'}, first replacement ${replaced ? `+${replaced.scored - row}` : 'none'} (tolerance ${TOLERANCE})`,
