@@ -86,7 +86,7 @@ export const BAGGING_DEFAULTS: BaggingOptions = {
 };
 
 const KIND = 'bagging';
-const VERSION = 1;
+const VERSION = 2;
 
 export type BaggingSpec = Partial<Omit<BaggingOptions, 'lifecycle'>> & {
   readonly lifecycle?: Partial<LifecycleOptions>;
