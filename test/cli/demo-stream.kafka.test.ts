@@ -119,6 +119,22 @@ describe('demo:stream → a real broker → shoal serve', () => {
       expect(Number(s.p_accepted) + Number(s.p_rejected)).toBeCloseTo(1, 9);
       expect(CLASSES).toContain(s.predicted);
     }
+    // The README's reader of the scores topic, as a child process.
+    const read = await new Promise<string>((done, fail) => {
+      let out = '';
+      const child = spawn(
+        process.execPath,
+        ['deploy/read-scores.mjs', '--brokers', brokers, '--topic', t.scores, '--rows', '3'],
+        { cwd: repo, stdio: ['ignore', 'pipe', 'inherit'] },
+      );
+      child.stdout.on('data', (c: Buffer) => {
+        out += c.toString('utf8');
+      });
+      child.once('exit', (code) => (code === 0 ? done(out) : fail(new Error(`read-scores exited ${code}`))));
+    });
+    expect(read).toContain(`4000 score rows on ${t.scores}; the last 3:`);
+    expect(read).toMatch(/^\s+id\s+p_accepted\s+p_rejected\s+predicted\s+agreement/m);
+    expect(read).toContain(String(scores.at(-1)!.id));
     const results = (await readTopic(brokers, labelsTopic, (seen) => countRows(seen) >= LEGS)).flatMap((m) =>
       tableFromIPC(m.value!)
         .toArray()
