@@ -57,10 +57,16 @@ export class DemoView {
     }
     if (r.type === 'lifecycle') {
       const at = `leg ${count(r.scored)}`;
-      if (r.cause === 'drift' || r.cause === 'drift-deferred') {
+      if (r.cause === 'drift' || r.cause === 'outperformed') {
         this.event(
-          `${at}  seat ${r.seat}: drift signal (${r.detector}, error ${figure(r.estimate, 3)}), member ${r.member} retired${r.cause === 'drift-deferred' ? ' (deferred by the cap)' : ''}`,
+          `${at}  seat ${r.seat}: ${r.cause === 'drift' ? `drift signal (${r.detector}, error ${figure(r.estimate, 3)}), ` : ''}member ${r.member} retired: its understudy is measurably better`,
         );
+      } else if (r.cause === 'drift-on-trial' || r.cause === 'drift-deferred') {
+        this.event(
+          `${at}  seat ${r.seat}: drift signal (${r.detector}, error ${figure(r.estimate, 3)}), ${r.cause === 'drift-deferred' ? 'replacement deferred by the cap' : 'understudy on trial'}`,
+        );
+      } else if (r.cause === 'trial-lapsed') {
+        this.event(`${at}  seat ${r.seat}: understudy not measurably better; member ${r.member} stays`);
       } else if (r.cause === 'promoted' || r.cause === 'fresh') {
         this.event(
           `${at}  seat ${r.seat}: replaced by ${r.cause === 'promoted' ? 'its understudy' : 'a fresh member'} (member ${r.member})`,
@@ -119,7 +125,7 @@ export class DemoView {
       '',
       `${bar}legs ${count(state.produced)}${of}   ${count(state.produced / seconds)} rows/s   scenario ${scenarioClock(state.scenarioTime)}`,
       `accuracy ${figure(metrics.windowAccuracy, 3)}  kappa ${figure(metrics.windowKappa, 3)}  (last ${count(this.window)} judged)   ${sparkline(this.history)}`,
-      `inspections joined ${count(labels.joined)}   still out ${count(state.labelsOut)}   drift signals ${count(sum(metrics.lifecycleCounts(), ['drift', 'drift-deferred']))}   replacements ${count(metrics.epoch)}`,
+      `inspections joined ${count(labels.joined)}   still out ${count(state.labelsOut)}   drift signals ${count(sum(metrics.lifecycleCounts(), ['drift', 'drift-on-trial', 'drift-deferred']))}   replacements ${count(metrics.epoch)}`,
       '',
       ...seatLines(metrics.seats()),
       '',

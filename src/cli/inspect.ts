@@ -1,12 +1,12 @@
 import { stat } from 'node:fs/promises';
 import type { RunCheckpoint } from '../checkpoint/index.js';
 import { ShoalError } from '../core/index.js';
-import { restoreEnsemble } from '../ensembles/index.js';
-import { ClassificationEvaluator, orNull } from '../evaluation/index.js';
+import type { EnsembleSnapshot } from '../ensembles/index.js';
 import { FileCheckpointStore, readCheckpointFile } from '../files/index.js';
 import type { FrameDecoderSnapshot } from '../frames/index.js';
+import type { ViewFigures } from '../journal/index.js';
 import { restoreClassifier } from '../learners/index.js';
-import type { SessionSnapshot } from '../pipeline/index.js';
+import { restoreModel, restoreScorecard, type SessionSnapshot } from '../pipeline/index.js';
 import { parse, positionals } from './args.js';
 import { count, figure, type Terminal } from './terminal.js';
 
@@ -54,7 +54,13 @@ export interface CheckpointSummary {
   readonly epoch: number;
   readonly positions: Readonly<Record<string, string>>;
   readonly pending: { readonly waiting: number; readonly capacity: number } | null;
-  readonly window: { readonly accuracy: number | null; readonly kappa: number | null };
+  /** The evaluation window: accuracy and κ of a classification, RMSE and MAE of a regression. */
+  readonly window: {
+    readonly accuracy: number | null;
+    readonly kappa: number | null;
+    readonly rmse: number | null;
+    readonly mae: number | null;
+  };
   readonly seats: readonly SeatSummary[];
 }
 
@@ -95,11 +101,13 @@ export function summarizeCheckpoint(
   const { state } = checkpoint;
   const session = state.session as SessionSnapshot;
   const decoder = state.decoder as FrameDecoderSnapshot;
-  const evaluator = ClassificationEvaluator.restore(session.evaluator);
+  const { task } = session.config;
+  const scorecard = restoreScorecard(task, session.evaluator);
   const judged = session.counts.judged;
-  const ensemble = session.ensemble === null ? null : restoreEnsemble(session.ensemble);
+  const ensemble = session.ensemble === null ? null : restoreModel(task, session.ensemble, () => {});
   const seats: SeatSummary[] = (ensemble?.seats() ?? []).map((view, i) => {
-    const member = restoreClassifier(session.ensemble!.lifecycle.seats[i]!.member);
+    // Only a classification ensemble has seats.
+    const member = restoreClassifier((session.ensemble as EnsembleSnapshot).lifecycle.seats[i]!.member);
     const shape = (member as { shape?: NonNullable<SeatSummary['tree']> }).shape;
     return {
       seat: view.seat,
@@ -133,12 +141,14 @@ export function summarizeCheckpoint(
       session.pending === null
         ? null
         : { waiting: session.pending.ids.length, capacity: session.pending.capacity },
-    window: {
-      accuracy: judged > 0 ? orNull(evaluator.windowed.accuracy()) : null,
-      kappa: judged > 0 ? orNull(evaluator.windowed.kappa()) : null,
-    },
+    window:
+      judged > 0 ? windowOf(scorecard.windowed()) : { accuracy: null, kappa: null, rmse: null, mae: null },
     seats,
   };
+}
+
+function windowOf(f: ViewFigures): CheckpointSummary['window'] {
+  return { accuracy: f.accuracy, kappa: f.kappa, rmse: f.rmse, mae: f.mae };
 }
 
 function render(s: CheckpointSummary): string {
@@ -161,7 +171,12 @@ function render(s: CheckpointSummary): string {
         ? '–'
         : `${count(s.pending.waiting)} waiting (room for ${count(s.pending.capacity)})`,
     ],
-    ['recent window', `accuracy ${figure(s.window.accuracy)}, kappa ${figure(s.window.kappa)}`],
+    [
+      'recent window',
+      s.window.rmse !== null
+        ? `RMSE ${figure(s.window.rmse)}, MAE ${figure(s.window.mae)}`
+        : `accuracy ${figure(s.window.accuracy)}, kappa ${figure(s.window.kappa)}`,
+    ],
   ];
   for (const [stream, next] of Object.entries(s.positions))
     facts.push(['resumes', `${stream} at ${BigInt(next).toLocaleString('en-US')}`]);

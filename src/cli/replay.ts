@@ -4,7 +4,7 @@ import { ENSEMBLE_KINDS } from '../ensembles/index.js';
 import { countRows, deadLetterFile } from '../files/index.js';
 import { FrameDecoder, type FrameFormat, type FrameOptions } from '../frames/index.js';
 import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index.js';
-import { CLASSIFIER_KINDS } from '../learners/index.js';
+import { CLASSIFIER_KINDS, REGRESSOR_KINDS } from '../learners/index.js';
 import { EventClock, LearningSession, type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
@@ -28,9 +28,12 @@ the same scoring, training and member lifecycle the live service runs.
 
 Options:
   --config FILE     shoal.yaml with the ensemble, evaluation and input settings
-  --ensemble KIND   ${ENSEMBLE_KINDS.join(', ')} (default bagging)
+  --task T          classification (default) or regression (labels are numbers to predict: a bagging
+                    of regressors, judged by MAE, RMSE and R²)
+  --ensemble KIND   ${ENSEMBLE_KINDS.join(', ')} (default bagging; a regression is bagged)
   --members N       members of a bagging or boosting ensemble (default 10)
-  --learner KIND    the members' learner: ${CLASSIFIER_KINDS.join(', ')}
+  --learner KIND    the members' learner: ${CLASSIFIER_KINDS.join(', ')};
+                    in a regression ${REGRESSOR_KINDS.join(', ')}
   --detector KIND   each member's drift monitor: ${DETECTOR_KINDS.join(', ')}
   --seed S          seed of every random choice
   --label COL       the label column (default "label")
@@ -38,8 +41,9 @@ Options:
   --schema FILE     the features, declared (YAML or JSON: a list of {name, kind, categories, values},
                     or a mapping with "features"); without it the kinds are inferred from the first rows
   --format F        arrow, csv or ndjson, for a file whose extension does not say
-  --labels-as HOW   class-codes (integers 0, 1, …) or class-names (any value names a class); by default
-                    codes when the first rows' labels are all integers from 0 to 1023, else names
+  --labels-as HOW   class-codes (integers 0, 1, …), class-names (any value names a class) or regression
+                    (numbers to predict, the same as --task regression); by default codes when the
+                    first rows' labels are all integers from 0 to 1023, else names
   --labels FILE     labels in a file of their own (the --id and --label columns), joined by id to the
                     prediction served for each event; the k-th label becomes known once k events were
                     scored (labels left at the end are joined after the last event)
@@ -107,7 +111,14 @@ function withOverrides(
     inputs.exclude = [...excluded, ...times.filter((c) => !excluded.includes(c!))];
   }
   const seed = text(parsed, 'seed');
-  return { ...base, ...(seed === undefined ? {} : { seed }), ensemble, inputs };
+  const task = text(parsed, 'task');
+  return {
+    ...base,
+    ...(seed === undefined ? {} : { seed }),
+    ...(task === undefined ? {} : { task }),
+    ensemble,
+    inputs,
+  };
 }
 
 /** When labels become known: inline (the default), held back N rows, or from a labels file. */
@@ -188,6 +199,7 @@ export function frameOptions(config: RunConfig): FrameOptions {
 export async function replay(args: readonly string[], terminal: Terminal): Promise<number> {
   const parsed = parse('replay', args, {
     config: { type: 'string' },
+    task: { type: 'string' },
     ensemble: { type: 'string' },
     members: { type: 'string' },
     learner: { type: 'string' },
@@ -356,6 +368,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
 
 /** The configuration paths each command-line flag sets. */
 const FLAG_PATHS: readonly (readonly [string, string])[] = [
+  ['task', 'task'],
   ['ensemble', 'ensemble.kind'],
   ['members', 'ensemble.members'],
   ['learner', 'ensemble.learners'],
@@ -405,19 +418,26 @@ async function readSchemaFile(path: string): Promise<Record<string, unknown>> {
 }
 
 function jsonSummary(file: string, config: RunConfig, s: SummaryRecord): Record<string, unknown> {
+  const figures =
+    s.task === 'regression'
+      ? { mae: s.mae, rmse: s.rmse, r2: s.r2 }
+      : {
+          accuracy: s.accuracy,
+          kappa: s.kappa,
+          kappaM: s.kappaM,
+          kappaNoChange: s.kappaNoChange,
+          logLoss: s.logLoss,
+          macroF1: s.macroF1,
+        };
   return {
     file,
+    task: s.task,
     ensemble: config.ensemble.kind,
     seed: config.seed,
     scored: s.scored,
     trained: s.trained,
     rows: s.rows,
-    accuracy: s.accuracy,
-    kappa: s.kappa,
-    kappaM: s.kappaM,
-    kappaNoChange: s.kappaNoChange,
-    logLoss: s.logLoss,
-    macroF1: s.macroF1,
+    ...figures,
     driftSignals: s.driftSignals,
     warnings: s.warnings,
     replacements: s.replacements,
@@ -433,6 +453,24 @@ function summaryTable(file: string, config: RunConfig, s: SummaryRecord, rejecte
   const e = config.ensemble as { kind: string; members?: number; learners?: readonly { kind: string }[] };
   const learners = [...new Set((e.learners ?? [{ kind: 'hoeffding-tree' }]).map((l) => l.kind))].join(', ');
   const head = `replay of ${file}: ${e.kind}${e.members === undefined ? '' : ` of ${e.members}`} (${learners}), seed ${config.seed}\n\n`;
+  const figures: [string, string][] =
+    s.task === 'regression'
+      ? [
+          ['MAE', figure(s.mae)],
+          ['RMSE', figure(s.rmse)],
+          ['R²', figure(s.r2)],
+        ]
+      : [
+          ['accuracy', figure(s.accuracy)],
+          ['kappa', figure(s.kappa)],
+          ['kappa-M', figure(s.kappaM)],
+          ['kappa vs no-change', figure(s.kappaNoChange)],
+          ['log-loss', figure(s.logLoss)],
+          ['macro F1', figure(s.macroF1)],
+          ['drift signals', count(s.driftSignals)],
+          ['warnings', count(s.warnings)],
+          ['replacements', count(s.replacements)],
+        ];
   return (
     head +
     table([
@@ -441,15 +479,7 @@ function summaryTable(file: string, config: RunConfig, s: SummaryRecord, rejecte
       ['rows judged', count(s.rows)],
       ['rows trained', count(s.trained)],
       ...labelLines(s.labels),
-      ['accuracy', figure(s.accuracy)],
-      ['kappa', figure(s.kappa)],
-      ['kappa-M', figure(s.kappaM)],
-      ['kappa vs no-change', figure(s.kappaNoChange)],
-      ['log-loss', figure(s.logLoss)],
-      ['macro F1', figure(s.macroF1)],
-      ['drift signals', count(s.driftSignals)],
-      ['warnings', count(s.warnings)],
-      ['replacements', count(s.replacements)],
+      ...figures,
       ['input drifts', count(s.inputDrifts)],
       ['rows/s', count(s.rowsPerSecond)],
       ['seconds', s.seconds.toFixed(1)],

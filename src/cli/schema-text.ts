@@ -24,7 +24,13 @@ export function describeSchema(file: string, decoder: FrameDecoder, declared: bo
   ]);
   const mode = decoder.labelMode;
   if (label !== null && decoder.binding !== null && decoder.binding.label >= 0) {
-    rows.push([label, `label, ${mode === 'name' ? 'classes named by its values' : 'class codes 0, 1, …'}`]);
+    const reading =
+      mode === 'value'
+        ? 'regression target (numbers)'
+        : mode === 'name'
+          ? 'classes named by its values'
+          : 'class codes 0, 1, …';
+    rows.push([label, `label, ${reading}`]);
   }
   const wide = Math.max(...rows.map((r) => r[0].length));
   return `schema of ${file} (${origin}; missing: ${shown}):\n${rows.map(([k, v]) => `  ${k.padEnd(wide)}  ${v}`).join('\n')}\n`;

@@ -1,4 +1,5 @@
 import type { WriteStream } from 'node:fs';
+import { configFingerprint, type RunCheckpoint, runCheckpoint } from '../checkpoint/index.js';
 import { encodeScores, FrameDecoder, type FrameOptions, SCORES_CONTENT_TYPE } from '../frames/index.js';
 import type { JournalRecord } from '../journal/index.js';
 import {
@@ -79,6 +80,23 @@ export class ServeModels {
       this.telemetry.drop(key);
     }
     return dropped;
+  }
+
+  /**
+   * Each session's run checkpoint as it is now, by scope key (`global`, or `topic/partition`): the
+   * events decoder's state and the session's snapshot, as `replay --checkpoint` writes them, with
+   * `{ source: 'kafka', labels }` (the labels topic or null) as the label timing.
+   */
+  checkpoints(createdAt: string): { key: string; checkpoint: RunCheckpoint }[] {
+    const meta = { shoal: this.version, fingerprint: configFingerprint(this.config), createdAt };
+    const labelTiming = { source: 'kafka', labels: this.settings.labels?.topic ?? null };
+    return [...this.states].map(([key, state]) => ({
+      key,
+      checkpoint: runCheckpoint(
+        { decoder: state.decoder.snapshot(), session: state.session.snapshot(), labelTiming },
+        meta,
+      ),
+    }));
   }
 
   /** Close every session: the summary records to send before exit. */

@@ -1,7 +1,9 @@
 import { once } from 'node:events';
 import { createWriteStream, type WriteStream } from 'node:fs';
+import { join } from 'node:path';
 import { stringify } from 'yaml';
 import { ConfigError, type ConfigIssue, ShoalError } from '../core/index.js';
+import { FileCheckpointStore } from '../files/index.js';
 import { DEFAULT_LABEL, type FrameOptions } from '../frames/index.js';
 import {
   createKafka,
@@ -125,6 +127,15 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
   const kafka = collect(() => resolveKafkaSettings(section, source));
   const telemetry = collect(() => telemetrySettings(telemetrySection));
   if (kafka !== null) collect(() => readSecrets(kafka, process.env, source));
+  if (run !== null && run.task === 'regression') {
+    // The scores topic carries class probabilities; a column for the number predicted is not there yet.
+    issues.push({
+      path: 'task',
+      code: 'conflict',
+      message:
+        'serve scores classifications only: the scores topic has no column for a number predicted; replay a regression instead',
+    });
+  }
   if (run !== null && kafka !== null && kafka.labels !== null) {
     if (run.inputs.id === null) {
       issues.push({
@@ -259,6 +270,18 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   }, settings.shutdownMs);
   deadline.unref();
   await consumer.stop();
+  let saved = true;
+  if (settings.checkpoint.dir !== null) {
+    try {
+      for (const where of await saveCheckpoints(models, settings.checkpoint.dir)) {
+        log.info({ checkpoint: where }, 'final checkpoint written');
+      }
+    } catch (e) {
+      saved = false;
+      log.error({ error: (e as Error).message }, 'could not write the final checkpoint');
+      terminal.err(`shoal serve: could not write the final checkpoint: ${(e as Error).message}\n`);
+    }
+  }
   await producer.deliver(models.finish(), async () => undefined);
   if (journalFile !== null) {
     journalFile.end();
@@ -268,8 +291,22 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   await endpoint?.close();
   clearTimeout(deadline);
   log.info({ scored, deadLetters: dead }, 'stopped');
-  exitSoon(0);
-  return 0;
+  exitSoon(saved ? 0 : 1);
+  return saved ? 0 : 1;
+}
+
+/**
+ * Write each session's run checkpoint as the service stops (taken before the summary is written, as
+ * `replay` takes its last one): into `dir` with scope `global`, into `dir/<topic>-<partition>` for each
+ * partition's session with scope `partition`. Returns the files written.
+ */
+async function saveCheckpoints(models: ServeModels, dir: string): Promise<string[]> {
+  const written: string[] = [];
+  for (const { key, checkpoint } of models.checkpoints(new Date().toISOString())) {
+    const store = new FileCheckpointStore(key === 'global' ? dir : join(dir, key.replace('/', '-')));
+    written.push(await store.save(checkpoint));
+  }
+  return written;
 }
 
 /**

@@ -29,20 +29,21 @@ export interface RngState {
 }
 
 export class Rng {
-  // Alea's state: three fractions in [0, 1) and a carry (Baagøe's algorithm, as in seedrandom's alea.js).
-  private c: number;
-  private s0: number;
-  private s1: number;
-  private s2: number;
+  /**
+   * Alea's state: the carry, then three fractions in [0, 1) (Baagøe's algorithm, as in seedrandom's
+   * alea.js), in a typed array: object fields holding doubles are boxed, and every step would write
+   * through the box.
+   */
+  private readonly s = new Float64Array(4);
   private spare = 0;
   private hasSpare = false;
 
   constructor(seed: Seed, state?: RngState) {
     const s = state ?? seedrandom.alea(String(seed), { state: true }).state();
-    this.c = s.c;
-    this.s0 = s.s0;
-    this.s1 = s.s1;
-    this.s2 = s.s2;
+    this.s[0] = s.c;
+    this.s[1] = s.s0;
+    this.s[2] = s.s1;
+    this.s[3] = s.s2;
     if (state !== undefined && state.spare !== null) {
       this.spare = state.spare;
       this.hasSpare = true;
@@ -65,12 +66,14 @@ export class Rng {
    * closure so that V8 inlines it and the result is never boxed. Same sequence as `seedrandom.alea`.
    */
   next(): number {
-    const t = 2091639 * this.s0 + this.c * 2.3283064365386963e-10;
-    this.s0 = this.s1;
-    this.s1 = this.s2;
-    this.c = t | 0;
-    this.s2 = t - this.c;
-    return this.s2;
+    const s = this.s;
+    const t = 2091639 * s[1]! + s[0]! * 2.3283064365386963e-10;
+    const c = t | 0;
+    s[0] = c;
+    s[1] = s[2]!;
+    s[2] = s[3]!;
+    s[3] = t - c;
+    return s[3];
   }
 
   /** A uniform integer in [0, n). */
@@ -110,7 +113,8 @@ export class Rng {
 
   /** The generator's complete state, JSON-safe. */
   state(): RngState {
-    return { c: this.c, s0: this.s0, s1: this.s1, s2: this.s2, spare: this.hasSpare ? this.spare : null };
+    const s = this.s;
+    return { c: s[0]!, s0: s[1]!, s1: s[2]!, s2: s[3]!, spare: this.hasSpare ? this.spare : null };
   }
 }
 

@@ -185,7 +185,7 @@ export class Bagging extends SeatedEnsemble {
       const predicted = seat.member.scoreTrain(row, offset, label, k, probs, m * classes);
       preds[m] = predicted;
       seat.calibrate(label < classes ? probs[m * classes + label]! : 0, classes);
-      if (seat.understudy !== null) seat.understudy.train(row, offset, label, k);
+      lifecycle.coach(seat, row, offset, label, k);
       lifecycle.judge(seat, predicted === label, this.rows);
     }
     if (verdict !== null)

@@ -158,7 +158,7 @@ export class Boosting extends SeatedEnsemble {
       preds[m] = before;
       // Boosting votes one-hot, so the member's answer gives the true class 1 or 0.
       seat.calibrate(before === label ? 1 : 0, classes);
-      if (seat.understudy !== null) seat.understudy.train(row, offset, label, k);
+      this.lifecycle.coach(seat, row, offset, label, k);
       if (this.lifecycle.judge(seat, before === label, this.rows)) {
         this.right[m] = 0;
         this.wrong[m] = 0;

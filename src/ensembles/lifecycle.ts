@@ -4,11 +4,13 @@ import {
   type DetectorSnapshot,
   type DetectorSpec,
   type DriftDetector,
+  type DriftLevel,
   restoreDetector,
 } from '../drift/index.js';
-import type { LifecycleCause, LifecycleChange, MemberState } from '../journal/index.js';
+import type { LifecycleCause, LifecycleChange, MemberState, ProofRecord } from '../journal/index.js';
 import type { Classifier, LearnerSnapshot } from '../learners/index.js';
 import { restoreClassifier } from '../learners/index.js';
+import { proofMargin, provenBetter } from './proof.js';
 
 /**
  * The member lifecycle every ensemble kind shares. Each seat of an ensemble holds one member and a
@@ -17,13 +19,19 @@ import { restoreClassifier } from '../learners/index.js';
  *
  *   warming ──(warm-up rows)──► active ──(warning, recent error above the member's own record)──► watched
  *   watched ──(warning clears for a warm-up's worth of rows)──► active
- *   active | watched ──(drift, error went up)──► retired; the understudy (or a fresh member) takes the seat
+ *   active | watched ──(drift, error went up)──► watched, its understudy on trial (started now if none)
+ *   on trial ──(understudy measurably better)──► retired; the understudy takes the seat
+ *   on trial ──(not measurably better within `trialRows` rows)──► active; the understudy is dropped
  *
- * While a member is `watched` an understudy trains on the same rows; on drift it takes the seat, as the
- * background learner of Gomes et al., "Adaptive random forests", Machine Learning 106, 2017 (from memory).
+ * While a member is `watched` an understudy trains on the same rows, as the background learner of Gomes
+ * et al., "Adaptive random forests", Machine Learning 106, 2017 (from memory). Unlike there, a drift
+ * signal alone replaces nothing: the understudy takes the seat only once it is measurably more accurate
+ * than the member on the rows both answered since it started — a paired test with Hoeffding's bound
+ * whose chance of passing an understudy that is no better is at most `proofDelta` (see proof.ts). So a
+ * false alarm of the detector costs an understudy's training, not a member.
  * Guards: no member is judged before `minAge` rows; at most `maxReplacements` replacements happen within
- * any `replacementWindow` rows (no flapping) — a seat found drifting while the cap is reached is replaced
- * as soon as the cap allows; a drift towards lower error replaces nothing.
+ * any `replacementWindow` rows (no flapping) — an understudy proven while the cap is reached takes the
+ * seat as soon as the cap allows; a drift towards lower error replaces nothing.
  * Every change of state is a `LifecycleChange` with a cause from the journal's closed set, handed to
  * the ensemble's `LifecycleSink` (the session journals it).
  */
@@ -58,6 +66,19 @@ export const LIFECYCLE_OPTIONS = {
     atLeast: 1,
     default: 1000,
     doc: 'the window of the replacement cap, in rows',
+  },
+  proofDelta: {
+    type: 'number',
+    above: 0,
+    below: 1,
+    default: 0.002,
+    doc: 'δ: the chance that an understudy no better than its member is found better and takes the seat',
+  },
+  trialRows: {
+    type: 'integer',
+    atLeast: 1,
+    default: 10_000,
+    doc: 'rows an understudy has, after a drift signal, to prove itself better than its member',
   },
   accuracyWindow: {
     type: 'integer',
@@ -113,12 +134,20 @@ export class Seat {
   understudyAge = 0;
   /** Consecutive stable rows while watched. */
   stableRun = 0;
-  /** A drift was found while the replacement cap was reached: replace as soon as the cap allows. */
-  due = false;
-  /** The monitor's estimate at the alarm that made the seat due (journaled when it is replaced). */
-  dueEstimate = 0;
+  /** Rows since the understudy started on which the member erred and the understudy did not. */
+  gains = 0;
+  /** Rows since the understudy started on which the understudy erred and the member did not. */
+  losses = 0;
+  /** Whether the understudy answered the row being judged right (set by `Lifecycle.coach`). */
+  understudyRight = false;
+  /** Rows left for the understudy on trial after a drift signal to prove itself; 0: no trial. */
+  trialLeft = 0;
+  /** The monitor's estimate at the drift signal that opened the trial (journaled at the retirement). */
+  trialEstimate = 0;
   /** No new watch before this age: a warning just cleared should not reopen on the next row. */
   calmUntil = 0;
+  /** The understudy's class probabilities on the row being judged (scratch). */
+  understudyOut: Float64Array = new Float64Array(2);
   private readonly ring: Uint8Array;
   private ringAt = 0;
   private ringFill = 0;
@@ -204,8 +233,10 @@ export class Seat {
       understudyId: this.understudyId,
       understudyAge: this.understudyAge,
       stableRun: this.stableRun,
-      due: this.due,
-      dueEstimate: this.dueEstimate,
+      gains: this.gains,
+      losses: this.losses,
+      trialLeft: this.trialLeft,
+      trialEstimate: this.trialEstimate,
       calmUntil: this.calmUntil,
       ring: Array.from(this.ring).join(''),
       ringAt: this.ringAt,
@@ -230,8 +261,10 @@ export class Seat {
     seat.understudyId = s.understudyId;
     seat.understudyAge = s.understudyAge;
     seat.stableRun = s.stableRun;
-    seat.due = s.due;
-    seat.dueEstimate = s.dueEstimate ?? 0;
+    seat.gains = s.gains;
+    seat.losses = s.losses;
+    seat.trialLeft = s.trialLeft;
+    seat.trialEstimate = s.trialEstimate;
     seat.calmUntil = s.calmUntil;
     if (s.ring.length !== window) {
       throw new ShoalError(
@@ -260,8 +293,10 @@ export interface SeatSnapshot {
   readonly understudyId: number;
   readonly understudyAge: number;
   readonly stableRun: number;
-  readonly due: boolean;
-  readonly dueEstimate?: number;
+  readonly gains: number;
+  readonly losses: number;
+  readonly trialLeft: number;
+  readonly trialEstimate: number;
   readonly calmUntil: number;
   readonly ring: string;
   readonly ringAt: number;
@@ -359,6 +394,20 @@ export class Lifecycle {
   }
 
   /**
+   * Score the seat's understudy on a labelled row before it trains on it, then train it with `weight`;
+   * `judge` compares its answer with the member's. Call it before `judge`, for every row the member is
+   * judged on (nothing happens when the seat has no understudy).
+   */
+  coach(seat: Seat, row: Float64Array, offset: number, label: number, weight: number): void {
+    const understudy = seat.understudy;
+    if (understudy === null) return;
+    // Sized for a class the understudy may learn from this very row (a rare growth, not per row).
+    if (seat.understudyOut.length <= Math.max(label, this.classes))
+      seat.understudyOut = new Float64Array(2 * Math.max(label + 1, this.classes));
+    seat.understudyRight = understudy.scoreTrain(row, offset, label, weight, seat.understudyOut, 0) === label;
+  }
+
+  /**
    * Judge a seat on one row: `correct` says whether its member's prediction (made before training on
    * the row) was right; `row` is the ensemble's row count. Returns true when a new member took the seat.
    */
@@ -366,13 +415,19 @@ export class Lifecycle {
     seat.record(correct);
     const o = this.options;
     if (!o.enabled) return false;
-    if (seat.understudy !== null) seat.understudyAge++;
+    if (seat.understudy !== null) {
+      // Compared once warmed up, as a member joins the vote only then: before, it is learning.
+      if (++seat.understudyAge > o.warmup && correct !== seat.understudyRight) {
+        if (correct) seat.losses++;
+        else seat.gains++;
+      }
+    }
     if (seat.state === 'warming' && seat.age >= o.warmup)
       this.move(row, seat, 'active', 'warmed', 'warm-up complete');
     const monitor = seat.monitor;
     const level = monitor.update(correct ? 0 : 1);
     if (seat.age < o.minAge) return false;
-    if (seat.due) return this.replace(seat, row);
+    if (seat.trialLeft > 0) return this.trial(seat, level, row);
     if (level === 'drift') {
       // The detector says which way the error rate moved, from its statistics at the alarm.
       if (monitor.shift === 'fall') {
@@ -390,7 +445,7 @@ export class Lifecycle {
           );
         return false;
       }
-      return this.replace(seat, row);
+      return this.alarm(seat, row);
     }
     if (level === 'warning') {
       seat.stableRun = 0;
@@ -433,6 +488,11 @@ export class Lifecycle {
   }
 
   private watch(seat: Seat, row: number): void {
+    const id = this.startUnderstudy(seat);
+    this.move(row, seat, 'watched', 'watched', `warning; understudy ${id} started`);
+  }
+
+  private startUnderstudy(seat: Seat): number {
     const id = this.nextMemberId++;
     const understudy = this.make(seat.index, id);
     understudy.ensureClasses(this.classes);
@@ -440,60 +500,132 @@ export class Lifecycle {
     seat.understudyId = id;
     seat.understudyAge = 0;
     seat.stableRun = 0;
-    this.move(row, seat, 'watched', 'watched', `warning; understudy ${id} started`);
+    seat.gains = 0;
+    seat.losses = 0;
+    return id;
   }
 
-  private clearWatch(row: number, seat: Seat, cause: LifecycleCause, reason: string): void {
+  private clearWatch(
+    row: number,
+    seat: Seat,
+    cause: LifecycleCause,
+    reason: string,
+    proof?: ProofRecord,
+  ): void {
     seat.calmUntil = seat.age + this.options.warmup;
     seat.understudy = null;
     seat.understudyId = -1;
     seat.understudyAge = 0;
     seat.stableRun = 0;
-    this.move(row, seat, 'active', cause, reason);
+    seat.trialLeft = 0;
+    this.move(row, seat, 'active', cause, reason, seat.monitor.estimate, proof);
   }
 
-  private replace(seat: Seat, row: number): boolean {
+  /** Whether the seat's understudy is measurably better than its member, and the cap allows a replacement. */
+  private proven(seat: Seat): boolean {
+    return seat.understudy !== null && provenBetter(seat.gains, seat.losses, this.options.proofDelta);
+  }
+
+  private capReached(row: number): boolean {
     const o = this.options;
     while (this.replacements.length > 0 && this.replacements[0]! <= row - o.replacementWindow)
       this.replacements.shift();
-    if (this.replacements.length >= o.maxReplacements) {
-      if (!seat.due) {
-        seat.due = true;
-        seat.dueEstimate = seat.monitor.alarmEstimate;
-        this.write(
-          row,
-          seat,
-          seat.state,
-          seat.state,
-          'drift-deferred',
-          `drift; replacement deferred (cap of ${o.maxReplacements} per ${o.replacementWindow} rows)`,
-          seat.dueEstimate,
-        );
-      }
+    return this.replacements.length >= o.maxReplacements;
+  }
+
+  /**
+   * A drift signal towards more errors: the understudy takes the seat at once when it is already
+   * measurably better and the cap allows; otherwise it goes on trial (started now if there was none).
+   */
+  private alarm(seat: Seat, row: number): boolean {
+    const o = this.options;
+    const estimate = seat.monitor.alarmEstimate;
+    if (this.proven(seat) && !this.capReached(row)) return this.replace(seat, row, 'drift', estimate);
+    const from = seat.state;
+    let reason: string;
+    let cause: LifecycleCause = 'drift-on-trial';
+    if (this.proven(seat)) {
+      cause = 'drift-deferred';
+      reason = `drift; understudy ${seat.understudyId} measurably better, replacement deferred (cap of ${o.maxReplacements} per ${o.replacementWindow} rows)`;
+    } else if (seat.understudy === null) {
+      const id = this.startUnderstudy(seat);
+      reason = `drift; understudy ${id} started, on trial for ${o.trialRows} rows`;
+    } else {
+      reason = `drift; understudy ${seat.understudyId} on trial for ${o.trialRows} rows`;
+    }
+    seat.trialLeft = o.trialRows;
+    seat.trialEstimate = estimate;
+    seat.state = 'watched';
+    this.write(row, seat, from, 'watched', cause, reason, estimate);
+    return false;
+  }
+
+  /**
+   * One row of a trial: the understudy takes the seat once it is measurably better (and the cap
+   * allows); a later drift signal renews the trial; when the trial runs out unproven, the understudy is
+   * dropped and the member stays.
+   */
+  private trial(seat: Seat, level: DriftLevel, row: number): boolean {
+    if (this.proven(seat)) {
+      if (!this.capReached(row)) return this.replace(seat, row, 'outperformed', seat.trialEstimate);
       return false;
     }
-    const estimate = seat.due ? seat.dueEstimate : seat.monitor.alarmEstimate;
-    seat.due = false;
-    this.move(row, seat, 'retired', 'drift', 'drift', estimate);
-    let cause: LifecycleCause;
-    if (seat.understudy !== null) {
-      seat.member = seat.understudy;
-      seat.memberId = seat.understudyId;
-      seat.age = seat.understudyAge;
-      cause = 'promoted';
-    } else {
-      const id = this.nextMemberId++;
-      seat.member = this.make(seat.index, id);
-      seat.member.ensureClasses(this.classes);
-      seat.memberId = id;
-      seat.age = 0;
-      cause = 'fresh';
+    if (level === 'drift') {
+      if (seat.monitor.shift === 'rise') return this.alarm(seat, row);
+      const estimate = seat.monitor.alarmEstimate;
+      this.write(
+        row,
+        seat,
+        'watched',
+        'watched',
+        'drift-ignored-improving',
+        'drift towards fewer errors',
+        estimate,
+      );
     }
+    if (--seat.trialLeft > 0) return false;
+    this.clearWatch(
+      row,
+      seat,
+      'trial-lapsed',
+      `understudy ${seat.understudyId} not measurably better within ${this.options.trialRows} rows; dropped`,
+      this.proof(seat),
+    );
+    return false;
+  }
+
+  private proof(seat: Seat): ProofRecord {
+    const delta = this.options.proofDelta;
+    return {
+      rows: Math.max(0, seat.understudyAge - this.options.warmup),
+      gains: seat.gains,
+      losses: seat.losses,
+      margin: proofMargin(seat.gains + seat.losses, delta),
+      delta,
+    };
+  }
+
+  private replace(seat: Seat, row: number, cause: 'drift' | 'outperformed', estimate: number): boolean {
+    const o = this.options;
+    const understudy = seat.understudy!;
+    const proof = this.proof(seat);
+    this.move(
+      row,
+      seat,
+      'retired',
+      cause,
+      cause === 'drift' ? 'drift; understudy measurably better' : 'understudy on trial measurably better',
+      estimate,
+    );
+    seat.member = understudy;
+    seat.memberId = seat.understudyId;
+    seat.age = seat.understudyAge;
     seat.understudy = null;
     seat.understudyId = -1;
     seat.understudyAge = 0;
     seat.stableRun = 0;
     seat.calmUntil = 0;
+    seat.trialLeft = 0;
     seat.clearRecord();
     seat.monitor = createDetector(o.detector);
     seat.state = seat.age >= o.warmup || o.warmup === 0 ? 'active' : 'warming';
@@ -502,8 +634,10 @@ export class Lifecycle {
       seat,
       null,
       seat.state,
-      cause,
-      cause === 'promoted' ? 'understudy promoted' : 'fresh member',
+      'promoted',
+      `understudy promoted: ${proof.gains} rows gained, ${proof.losses} lost over ${proof.rows} (needed a lead above ${proof.margin.toFixed(1)})`,
+      seat.monitor.estimate,
+      proof,
     );
     this.replacements.push(row);
     this.epoch++;
@@ -517,10 +651,11 @@ export class Lifecycle {
     cause: LifecycleCause,
     reason: string,
     estimate = seat.monitor.estimate,
+    proof?: ProofRecord,
   ): void {
     const from = seat.state;
     seat.state = to;
-    this.write(row, seat, from, to, cause, reason, estimate);
+    this.write(row, seat, from, to, cause, reason, estimate, proof);
   }
 
   private write(
@@ -531,6 +666,7 @@ export class Lifecycle {
     cause: LifecycleCause,
     reason: string,
     estimate = seat.monitor.estimate,
+    proof?: ProofRecord,
   ): void {
     this.journal({
       type: 'lifecycle',
@@ -544,6 +680,7 @@ export class Lifecycle {
       detector: seat.monitor.kind,
       estimate,
       reason,
+      ...(proof === undefined ? {} : { proof }),
     });
   }
 }

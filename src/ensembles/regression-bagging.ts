@@ -23,16 +23,9 @@ import {
   type RegressorSpec,
   restoreRegressor,
 } from '../learners/index.js';
+import type { SeatView } from './lifecycle.js';
+import type { Verdict } from './verdict.js';
 
-/**
- * Online bagging for regression (Oza & Russell 2001, with regressors as members): each member trains
- * on each row with a weight k ~ Poisson(λ); the ensemble predicts the members' mean. Members are not
- * monitored: the member lifecycle judges 0/1 errors, which regression does not have.
- *
- * @example
- * const bag = new RegressionBagging(schema, { members: 10 }, 7);
- * const y = bag.predictTrain(rows, i * width, target);
- */
 /** Regression bagging's scalar options (see `OptionTable`). */
 export const REGRESSION_BAGGING_OPTIONS = {
   members: { type: 'integer', atLeast: 1, default: 10, doc: 'members whose mean is the prediction' },
@@ -49,9 +42,10 @@ export const REGRESSION_BAGGING_DEFAULTS: RegressionBaggingOptions = {
 };
 
 const KIND = 'regression-bagging';
-const VERSION = 1;
+const VERSION = 2;
 
 interface RegressionBaggingState {
+  readonly rows: number;
   readonly members: readonly LearnerSnapshot[];
   readonly poisson: readonly RngState[];
 }
@@ -61,9 +55,27 @@ export interface RegressionBaggingSnapshot extends ConfiguredSnapshot<Regression
   readonly schema: FeatureSchema;
 }
 
+/**
+ * Online bagging for regression (Oza & Russell 2001, with regressors as members): each member trains
+ * on each row with a weight k ~ Poisson(λ); the ensemble predicts the members' mean. Members are not
+ * monitored: the member lifecycle judges 0/1 errors, which regression does not have, so there are no
+ * seats to watch and the model epoch stays 0. It scores into the same reused `Verdict` as the
+ * classification ensembles (its `value`; no classes), so a session drives either alike.
+ *
+ * @example
+ * const bag = new RegressionBagging(schema, { members: 10 }, 7);
+ * const verdict = new Verdict();
+ * bag.scoreTrain(rows, i * width, target, verdict); // verdict.value: the prediction made before training
+ */
 export class RegressionBagging {
   readonly kind = KIND;
   readonly schema: FeatureSchema;
+  /** A regression has no classes. */
+  readonly classes = 0;
+  /** No seat is ever replaced. */
+  readonly epoch = 0;
+  /** Rows trained on so far. */
+  rows = 0;
   readonly options: RegressionBaggingOptions;
   private readonly members: Regressor[];
   private readonly poisson: Rng[];
@@ -87,10 +99,19 @@ export class RegressionBagging {
   static restore(snapshot: RegressionBaggingSnapshot): RegressionBagging {
     checkSnapshot(snapshot, KIND, VERSION);
     const bag = new RegressionBagging(snapshot.schema, snapshot.options as Partial<RegressionBaggingOptions>);
-    const { members, poisson } = snapshot.state;
-    if (!Array.isArray(members) || !Array.isArray(poisson) || members.length !== bag.members.length) {
-      throw new ShoalError('invalid-snapshot', `${KIND} state: expected ${bag.members.length} members`);
+    const { rows, members, poisson } = snapshot.state;
+    if (
+      !(Number.isInteger(rows) && rows >= 0) ||
+      !Array.isArray(members) ||
+      !Array.isArray(poisson) ||
+      members.length !== bag.members.length
+    ) {
+      throw new ShoalError(
+        'invalid-snapshot',
+        `${KIND} state: expected a count of rows and ${bag.members.length} members`,
+      );
     }
+    bag.rows = rows;
     members.forEach((m, i) => {
       bag.members[i] = restoreRegressor(m);
       bag.poisson[i] = Rng.fromState(poisson[i]!);
@@ -98,23 +119,43 @@ export class RegressionBagging {
     return bag;
   }
 
-  /** The members' mean prediction. */
-  predict(row: Float64Array, offset: number): number {
+  /** A regression has no classes to announce: nothing changes. */
+  ensureClasses(_n: number): void {}
+
+  /** The members' mean prediction into `verdict.value`; every member votes. */
+  score(row: Float64Array, offset: number, verdict: Verdict): void {
     checkRow(KIND, row, offset, this.width);
     let sum = 0;
     for (const m of this.members) sum += m.predict(row, offset);
-    return sum / this.members.length;
+    verdict.fit(0);
+    verdict.value = sum / this.members.length;
+    verdict.predicted = -1;
+    verdict.agreement = Number.NaN;
+    verdict.voters = this.members.length;
+    verdict.epoch = 0;
   }
 
-  /** Predict, then train every member with its Poisson weight: the prequential step. */
-  predictTrain(row: Float64Array, offset: number, target: number): number {
+  /** Train every member on the row with its own Poisson weight. */
+  train(row: Float64Array, offset: number, target: number): void {
+    checkRow(KIND, row, offset, this.width);
     checkTarget(KIND, target);
-    const y = this.predict(row, offset);
     for (let i = 0; i < this.members.length; i++) {
       const k = this.sampler.sample(this.poisson[i]!);
       if (k > 0) this.members[i]!.train(row, offset, target, k);
     }
-    return y;
+    this.rows++;
+  }
+
+  /** Score, then train: the prequential step (the verdict never saw the target). */
+  scoreTrain(row: Float64Array, offset: number, target: number, verdict: Verdict): void {
+    checkTarget(KIND, target);
+    this.score(row, offset, verdict);
+    this.train(row, offset, target);
+  }
+
+  /** Members hold no seats: nothing watches them (see the class comment). */
+  seats(): SeatView[] {
+    return [];
   }
 
   sizeBytes(): number {
@@ -128,6 +169,7 @@ export class RegressionBagging {
       schema: this.schema,
       options: { ...this.options },
       state: {
+        rows: this.rows,
         members: this.members.map((m) => m.snapshot()),
         poisson: this.poisson.map((r) => r.state()),
       },

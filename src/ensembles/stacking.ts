@@ -175,7 +175,7 @@ export class Stacking extends SeatedEnsemble {
       const seat = seats[m]!;
       const predicted = seat.member.scoreTrain(row, offset, label, weight, probs, m * classes);
       preds[m] = predicted;
-      if (seat.understudy !== null && weight > 0) seat.understudy.train(row, offset, label, weight);
+      this.lifecycle.coach(seat, row, offset, label, weight);
       replaced[m] = this.lifecycle.judge(seat, predicted === label, this.rows) ? 1 : 0;
       replacements += replaced[m]!;
     }

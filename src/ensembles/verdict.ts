@@ -1,7 +1,8 @@
 /**
  * What an ensemble says about one row: class probabilities, the predicted class, how many of the
- * voting members agree with it, how many voted, and the model epoch (replacements so far). One
- * `Verdict` is reused row after row, so scoring allocates nothing.
+ * voting members agree with it, how many voted, and the model epoch (replacements so far); in a
+ * regression, the predicted `value` instead of classes. One `Verdict` is reused row after row, so
+ * scoring allocates nothing.
  *
  * @example
  * const verdict = new Verdict();
@@ -19,6 +20,8 @@ export class Verdict {
   voters = 0;
   /** Seat replacements the ensemble has made so far. */
   epoch = 0;
+  /** The predicted number of a regression (NaN from a classifier). */
+  value = Number.NaN;
 
   /** Make room for `classes` probabilities. */
   fit(classes: number): Float64Array {

@@ -213,6 +213,20 @@ export class ArrowBatchFiller {
   private fillLabels(data: Data, width: number, at: number, n: number): void {
     const labels = this.decoder.labelDictionary();
     const out = this.decoder.buffer.labels;
+    if (labels.mode === 'value') {
+      // A regression target is its own value: no dictionary to look up, each cell read as a number.
+      const plain = isPlainNumeric(data.type);
+      const values = data.values as ArrayLike<number>;
+      const vector = plain ? null : makeVector(data);
+      for (let r = 0; r < n; r++) {
+        const valid = data.nullCount === 0 || isValid(data.nullBitmap, data.offset + r);
+        const value: unknown = !valid ? null : plain ? values[r]! : vector!.get(r);
+        const target = labels.read(value);
+        if (target === undefined) this.refuse(at + r, labels.explain(value));
+        else out[at + r] = target;
+      }
+      return;
+    }
     if (labels.mode === 'code' && isPlainNumeric(data.type)) {
       const values = data.values as ArrayLike<number>;
       const nulls = data.nullCount > 0;

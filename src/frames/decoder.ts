@@ -14,6 +14,7 @@ import { LabelDictionary, type LabelMode } from './label-dictionary.js';
 import {
   checkFeatureSpecs,
   type FrameOptions,
+  type LabelsAs,
   type ResolvedOptions,
   resolveFrameOptions,
 } from './options.js';
@@ -39,6 +40,12 @@ export interface FrameDecoderState {
 
 /** A decoder's snapshot: its state in the shared envelope. */
 export type FrameDecoderSnapshot = Snapshot<FrameDecoderState>;
+
+const LABEL_MODES: Readonly<Record<LabelsAs, LabelMode>> = {
+  'class-codes': 'code',
+  'class-names': 'name',
+  regression: 'value',
+};
 
 const KIND = 'frame-decoder';
 const STATE_VERSION = 1;
@@ -77,11 +84,7 @@ export class FrameDecoder {
       this.options.classes,
       this.options.maxClasses,
       (v) => this.cells.isMissing(v),
-      this.options.labelsAs === 'class-codes'
-        ? 'code'
-        : this.options.labelsAs === 'class-names'
-          ? 'name'
-          : null,
+      this.options.labelsAs === null ? null : LABEL_MODES[this.options.labelsAs],
     );
     if (this.options.features !== null) this.settle(this.options.features);
   }
@@ -238,9 +241,9 @@ export class FrameDecoder {
     }
     if (binding.label >= 0) {
       const value = cells[binding.label];
-      const code = this.labels.code(value);
-      if (code === -1) return this.labels.explain(value);
-      this.buffer.labels[row] = code;
+      const label = this.labels.read(value);
+      if (label === undefined) return this.labels.explain(value);
+      this.buffer.labels[row] = label;
     }
     if (ids !== null) {
       const value = cells[binding.id];

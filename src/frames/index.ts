@@ -16,8 +16,14 @@ export { cloneFrame, describePosition, describeRow } from './frame.js';
 export type { LabelMode } from './label-dictionary.js';
 export { decodeJsonRecord, ndjsonFrames } from './ndjson-read.js';
 export { ndjsonLayout } from './ndjson-write.js';
-export type { FeatureSpec, FrameOptions } from './options.js';
-export { checkFeatureSpecs, DEFAULT_LABEL, DEFAULT_MAX_CLASSES, DEFAULT_VOCABULARY } from './options.js';
+export type { FeatureSpec, FrameOptions, LabelsAs } from './options.js';
+export {
+  checkFeatureSpecs,
+  DEFAULT_LABEL,
+  DEFAULT_MAX_CLASSES,
+  DEFAULT_VOCABULARY,
+  LABELS_AS,
+} from './options.js';
 export type { ReadOptions } from './read-options.js';
 export { DEFAULT_BATCH_ROWS } from './read-options.js';
 export type { ScoreRows } from './score-ipc.js';

@@ -2,9 +2,10 @@
  * The classes of one stream, discovered as labels arrive. A label column holds either class codes
  * (integers 0, 1, …, or booleans as 0 and 1) or class names (strings, coded in order of first
  * appearance after any names given up front). The class list only grows, so codes stay stable for the
- * life of the stream (and across restarts, through the decoder's snapshot).
+ * life of the stream (and across restarts, through the decoder's snapshot). In a regression (`value`,
+ * set up front, never guessed) a label is the number to predict and there are no classes.
  */
-export type LabelMode = 'code' | 'name';
+export type LabelMode = 'code' | 'name' | 'value';
 
 /** Whether a label cell is missing (the decoder's missing-value tokens). */
 export type IsMissing = (value: unknown) => boolean;
@@ -65,6 +66,28 @@ export class LabelDictionary {
   }
 
   /**
+   * What a label cell of any source holds: its class code (or, in a regression, its number); NaN for
+   * a missing label (null, undefined, NaN, a missing-value token); undefined for a value that is not a
+   * label (see `explain`).
+   */
+  read(value: unknown): number | undefined {
+    if (this.mode !== 'value') {
+      const code = this.code(value);
+      return code === -1 ? undefined : code;
+    }
+    if (this.isMissing(value)) return Number.NaN;
+    const n =
+      typeof value === 'number'
+        ? value
+        : typeof value === 'bigint'
+          ? Number(value)
+          : typeof value === 'string' && value.trim() !== ''
+            ? Number(value)
+            : Number.NaN;
+    return Number.isFinite(n) ? n : undefined;
+  }
+
+  /**
    * The code of a label cell of any source: NaN for a missing label (null, undefined, NaN, a missing-value token), −1
    * for a value that is not a label (see `explain`).
    */
@@ -88,6 +111,8 @@ export class LabelDictionary {
   /** Why `value` has no code; built only when a label is refused. */
   explain(value: unknown): string {
     const shown = typeof value === 'bigint' ? String(value) : JSON.stringify(value);
+    if (this.mode === 'value')
+      return `label ${shown} is not a number (labels are read as regression targets)`;
     if (this.mode === 'name' && typeof value !== 'object') {
       return `label ${shown} would be class ${this.list.length + 1}, more than maxClasses (${this.maxClasses})`;
     }

@@ -42,10 +42,11 @@ export interface FrameOptions {
   /** Text read as a missing value in any column (default: empty, `NA`, `NaN`, `?`, `null`). */
   readonly missing?: readonly string[];
   /**
-   * How labels are read: `class-codes` (integers 0, 1, …), `class-names` (any value names a class).
-   * By default labels are codes when the first rows' labels are all integers from 0 to 1023, else names.
+   * How labels are read: `class-codes` (integers 0, 1, …), `class-names` (any value names a class) or
+   * `regression` (each label is a number to predict). By default labels are codes when the first rows'
+   * labels are all integers from 0 to 1023, else names.
    */
-  readonly labelsAs?: 'class-codes' | 'class-names';
+  readonly labelsAs?: LabelsAs;
 }
 
 /** One feature of an explicit specification. */
@@ -61,6 +62,10 @@ export interface FeatureSpec {
    */
   readonly values?: number;
 }
+
+/** How labels are read (see `FrameOptions.labelsAs`). */
+export type LabelsAs = 'class-codes' | 'class-names' | 'regression';
+export const LABELS_AS: readonly LabelsAs[] = ['class-codes', 'class-names', 'regression'];
 
 export const DEFAULT_LABEL = 'label';
 export const DEFAULT_VOCABULARY = 32;
@@ -79,7 +84,7 @@ export interface ResolvedOptions {
   readonly vocabulary: number;
   readonly maxClasses: number;
   readonly missing: readonly string[];
-  readonly labelsAs: 'class-codes' | 'class-names' | null;
+  readonly labelsAs: LabelsAs | null;
 }
 
 function isStringList(value: unknown): value is readonly string[] {
@@ -242,11 +247,11 @@ export function resolveFrameOptions(options: FrameOptions, where = 'frame option
       message: `lists ${classes.length} classes, more than maxClasses`,
     });
   }
-  if (o.labelsAs !== undefined && o.labelsAs !== 'class-codes' && o.labelsAs !== 'class-names') {
+  if (o.labelsAs !== undefined && !LABELS_AS.includes(o.labelsAs as LabelsAs)) {
     issues.push({
       path: 'labelsAs',
       code: 'not-one-of',
-      message: `must be one of class-codes, class-names, got ${JSON.stringify(o.labelsAs)}`,
+      message: `must be one of ${LABELS_AS.join(', ')}, got ${JSON.stringify(o.labelsAs)}`,
     });
   }
   const missing = o.missing ?? DEFAULT_MISSING;

@@ -8,8 +8,10 @@ export type {
   LifecycleChange,
   LifecycleRecord,
   MemberState,
+  ProofRecord,
   RunRecord,
   SummaryRecord,
+  Task,
   ViewFigures,
   WindowRecord,
 } from './records.js';
@@ -19,5 +21,6 @@ export {
   JOURNAL_VERSION,
   LIFECYCLE_CAUSES,
   MEMBER_STATES,
+  TASKS,
 } from './records.js';
 export { journalLine } from './writer.js';

@@ -9,8 +9,10 @@ import {
   LIFECYCLE_CAUSES,
   type LifecycleRecord,
   MEMBER_STATES,
+  type ProofRecord,
   type RunRecord,
   type SummaryRecord,
+  TASKS,
   type ViewFigures,
   type WindowRecord,
 } from './records.js';
@@ -114,6 +116,17 @@ function readLifecycle(f: Fields): LifecycleRecord {
     detector: f.string('detector'),
     estimate: f.numberOrNaN('estimate'),
     reason: f.string('reason'),
+    ...(f.raw('proof') === undefined ? {} : { proof: readProof(f.object('proof')) }),
+  };
+}
+
+function readProof(f: Fields): ProofRecord {
+  return {
+    rows: f.integer('rows', 0),
+    gains: f.integer('gains', 0),
+    losses: f.integer('losses', 0),
+    margin: f.atLeastZero('margin'),
+    delta: f.atLeastZero('delta'),
   };
 }
 
@@ -125,6 +138,9 @@ function readView(f: Fields): ViewFigures {
     kappaM: f.numberOrNull('kappaM'),
     kappaNoChange: f.numberOrNull('kappaNoChange'),
     logLoss: f.numberOrNull('logLoss'),
+    mae: f.numberOrNull('mae'),
+    rmse: f.numberOrNull('rmse'),
+    r2: f.numberOrNull('r2'),
   };
 }
 
@@ -171,6 +187,7 @@ function readSummary(f: Fields): SummaryRecord {
   const confusion = f.matrix('confusion');
   return {
     type: 'summary',
+    task: f.oneOf('task', TASKS),
     scored: f.integer('scored', 0),
     trained: f.integer('trained', 0),
     rows: f.integer('rows', 0),
@@ -180,6 +197,9 @@ function readSummary(f: Fields): SummaryRecord {
     kappaNoChange: f.numberOrNull('kappaNoChange'),
     logLoss: f.numberOrNull('logLoss'),
     macroF1: f.numberOrNull('macroF1'),
+    mae: f.numberOrNull('mae'),
+    rmse: f.numberOrNull('rmse'),
+    r2: f.numberOrNull('r2'),
     classes,
     confusion,
     driftSignals: f.integer('driftSignals', 0),

@@ -17,7 +17,11 @@ import type { FeatureSchema } from '../core/index.js';
 export type JournalRecord = RunRecord | LifecycleRecord | WindowRecord | InputDriftRecord | SummaryRecord;
 
 /** The journal format this build writes and reads (`RunRecord.version`). */
-export const JOURNAL_VERSION = 3;
+export const JOURNAL_VERSION = 4;
+
+/** What a run's labels are: classes to tell apart, or numbers to predict. */
+export type Task = 'classification' | 'regression';
+export const TASKS: readonly Task[] = ['classification', 'regression'];
 
 export interface RunRecord {
   readonly type: 'run';
@@ -44,11 +48,21 @@ export const MEMBER_STATES: readonly MemberState[] = ['warming', 'active', 'watc
  * - `warmed`: its warm-up rows are done (warming → active);
  * - `watched`: its monitor warned and its recent error is above its own record; an understudy starts;
  * - `watch-cleared`: the warning cleared for a warm-up's worth of rows (watched → active);
- * - `drift`: its monitor signalled drift towards more errors and it was retired;
- * - `drift-deferred`: the same, but the replacement cap was reached: replaced as soon as it allows;
+ * - `drift`: its monitor signalled drift towards more errors, its understudy was already measurably
+ *   better (see `src/ensembles/proof.ts`), and it was retired at once;
+ * - `drift-on-trial`: its monitor signalled drift towards more errors, but no understudy is yet
+ *   measurably better: the member keeps its seat while its understudy (started now if it had none)
+ *   is on trial (→ watched);
+ * - `outperformed`: its understudy on trial proved measurably better: it is retired (the signal was
+ *   the `drift-on-trial` or `drift-deferred` before);
+ * - `trial-lapsed`: the understudy on trial did not prove measurably better in time: it is dropped and
+ *   the member stays (watched → active);
+ * - `drift-deferred`: drift, and the understudy is measurably better, but the replacement cap was
+ *   reached: replaced as soon as the cap allows;
  * - `drift-ignored-improving`: drift towards fewer errors: nothing is replaced (watched → active);
  * - `promoted`: the understudy took the retired member's seat;
- * - `fresh`: a fresh member took the retired member's seat (there was no understudy).
+ * - `fresh`: a fresh member took the retired member's seat (written by releases before understudies
+ *   had to prove themselves: a replacement now always promotes an understudy; read for older journals).
  */
 export type LifecycleCause =
   | 'created'
@@ -56,6 +70,9 @@ export type LifecycleCause =
   | 'watched'
   | 'watch-cleared'
   | 'drift'
+  | 'drift-on-trial'
+  | 'outperformed'
+  | 'trial-lapsed'
   | 'drift-deferred'
   | 'drift-ignored-improving'
   | 'promoted'
@@ -67,15 +84,40 @@ export const LIFECYCLE_CAUSES: readonly LifecycleCause[] = [
   'watched',
   'watch-cleared',
   'drift',
+  'drift-on-trial',
+  'outperformed',
+  'trial-lapsed',
   'drift-deferred',
   'drift-ignored-improving',
   'promoted',
   'fresh',
 ];
 
-/** Causes that mean a member monitor signalled drift (acted on, deferred or towards fewer errors). */
+/** Causes that mean a member monitor signalled drift (acted on, on trial, deferred or towards fewer errors). */
 export function isDriftSignal(cause: LifecycleCause): boolean {
-  return cause === 'drift' || cause === 'drift-deferred' || cause === 'drift-ignored-improving';
+  return (
+    cause === 'drift' ||
+    cause === 'drift-on-trial' ||
+    cause === 'drift-deferred' ||
+    cause === 'drift-ignored-improving'
+  );
+}
+
+/**
+ * The comparison behind a replacement (or a lapsed trial): the understudy against the member on the
+ * rows both answered since the understudy started (see `src/ensembles/proof.ts`).
+ */
+export interface ProofRecord {
+  /** Rows both answered since the understudy started. */
+  readonly rows: number;
+  /** Rows the member got wrong and the understudy right. */
+  readonly gains: number;
+  /** Rows the understudy got wrong and the member right. */
+  readonly losses: number;
+  /** What gains − losses had to exceed: √(2 m ln(m(m + 1)/δ)), m = gains + losses. */
+  readonly margin: number;
+  /** δ, the chance that an understudy no better than its member passes at any time. */
+  readonly delta: number;
 }
 
 /** A member changed state, as the ensemble's lifecycle knows it (it does not know rows scored). */
@@ -97,6 +139,8 @@ export interface LifecycleChange {
   readonly estimate: number;
   /** The same in prose, for people. */
   readonly reason: string;
+  /** On `promoted` and `trial-lapsed`: the comparison that decided. */
+  readonly proof?: ProofRecord;
 }
 
 /** A lifecycle change as journaled: with the rows scored when it happened. */
@@ -104,14 +148,27 @@ export interface LifecycleRecord extends LifecycleChange {
   readonly scored: number;
 }
 
-/** The figures of one evaluation view; null where a figure is not yet defined. */
-export interface ViewFigures {
+/**
+ * The figures of one evaluation view; null where a figure is not yet defined, and where it does not
+ * belong to the run's task (a classification has no MAE, a regression no accuracy).
+ */
+export interface ViewFigures extends ClassificationViewFigures, RegressionViewFigures {
   readonly rows: number;
+}
+
+export interface ClassificationViewFigures {
   readonly accuracy: number | null;
   readonly kappa: number | null;
   readonly kappaM: number | null;
   readonly kappaNoChange: number | null;
   readonly logLoss: number | null;
+}
+
+/** Mean absolute error, root mean squared error and the coefficient of determination R². */
+export interface RegressionViewFigures {
+  readonly mae: number | null;
+  readonly rmse: number | null;
+  readonly r2: number | null;
 }
 
 /**
@@ -150,7 +207,7 @@ export interface WindowRecord {
   readonly window: ViewFigures;
   /** The cumulative view. */
   readonly cumulative: ViewFigures;
-  /** Each seat's accuracy over its recent rows, by seat index. */
+  /** Each seat's accuracy over its recent rows, by seat index (none in a regression: no seats). */
   readonly seats: readonly number[];
   readonly labels: LabelCounts;
 }
@@ -170,17 +227,17 @@ export type InputDriftCause = 'distribution' | 'missing-share';
 
 export const INPUT_DRIFT_CAUSES: readonly InputDriftCause[] = ['distribution', 'missing-share'];
 
-export interface SummaryRecord {
+/**
+ * The final figures: the cumulative view of the run's task (the other task's figures are null), and
+ * for a classification the macro F1 and the confusion matrix (a regression has no classes: both empty).
+ */
+export interface SummaryRecord extends ClassificationViewFigures, RegressionViewFigures {
   readonly type: 'summary';
+  readonly task: Task;
   readonly scored: number;
   readonly trained: number;
   /** Rows judged (a label joined to the prediction served for it). */
   readonly rows: number;
-  readonly accuracy: number | null;
-  readonly kappa: number | null;
-  readonly kappaM: number | null;
-  readonly kappaNoChange: number | null;
-  readonly logLoss: number | null;
   readonly macroF1: number | null;
   /** Class names, index = class code. */
   readonly classes: readonly string[];

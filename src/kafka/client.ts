@@ -1,12 +1,12 @@
-import { decompress } from 'fzstd';
 import type { SASLOptions } from 'kafkajs';
 import kafkajs from 'kafkajs';
 import type { Logger } from 'pino';
+import { registerCodecs } from './codecs.js';
 import type { KafkaSettings, Secrets } from './config.js';
 import { kafkaLogCreator } from './log.js';
 
 /** kafkajs is a CommonJS module whose named exports Node cannot detect: take them from its default. */
-const { CompressionCodecs, CompressionTypes, Kafka, logLevel } = kafkajs;
+const { Kafka, logLevel } = kafkajs;
 
 /**
  * A kafkajs client for the settings: brokers, TLS and SASL (PLAIN, SCRAM-SHA-256/512) with secrets read
@@ -45,20 +45,5 @@ export function createKafka(
     logLevel: logLevel.DEBUG,
     logCreator: kafkaLogCreator(log),
     retry: { retries: 8, initialRetryTime: 200, maxRetryTime: 5_000 },
-  });
-}
-
-/**
- * kafkajs decodes only gzip; a record batch compressed with another codec makes its fetch throw, which
- * would stop the consumer on one message from any producer. zstd batches (librdkafka's and the Java
- * client's common choice) are decoded with fzstd, a pure-JavaScript decoder of the Zstandard format
- * (RFC 8878). The service never compresses with zstd itself, so `compress` refuses.
- */
-function registerCodecs(): void {
-  CompressionCodecs[CompressionTypes.ZSTD] = () => ({
-    compress: async () => {
-      throw new Error('shoal writes gzip or uncompressed batches, not zstd');
-    },
-    decompress: async (buffer: Buffer) => Buffer.from(decompress(buffer)),
   });
 }

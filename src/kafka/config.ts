@@ -44,6 +44,8 @@ export interface KafkaSettings {
   readonly scores: { readonly topic: string };
   readonly deadLetters: { readonly topic: string };
   readonly journal: { readonly topic: string | null; readonly file: string | null };
+  /** Where each session's run checkpoint is written when the service stops; null: none is written. */
+  readonly checkpoint: { readonly dir: string | null };
   /** How long SIGTERM may take: finish the batch in flight, flush, commit, exit (ms). */
   readonly shutdownMs: number;
   /** The longest the consumer waits for data in a fetch (ms); also how quickly it joins a rebalance. */
@@ -79,6 +81,7 @@ const TOP = [
   'scores',
   'deadLetters',
   'journal',
+  'checkpoint',
   'shutdownMs',
   'maxWaitMs',
   'sessionTimeoutMs',
@@ -107,6 +110,7 @@ export function resolveKafkaSettings(raw: unknown, source: string, path = 'kafka
   const scores = c.mapping(at('scores'), top.scores, ['topic'], true);
   const dead = c.mapping(at('deadLetters'), top.deadLetters, ['topic'], true);
   const journal = c.mapping(at('journal'), top.journal, ['topic', 'file'], false);
+  const checkpoint = c.mapping(at('checkpoint'), top.checkpoint, ['dir'], false);
   const log = c.mapping(at('log'), top.log, ['level'], false);
   const settings: KafkaSettings = {
     brokers,
@@ -125,6 +129,9 @@ export function resolveKafkaSettings(raw: unknown, source: string, path = 'kafka
     journal: {
       topic: journal.topic === undefined ? null : c.text(`${at('journal')}.topic`, journal.topic, null),
       file: journal.file === undefined ? null : c.text(`${at('journal')}.file`, journal.file, null),
+    },
+    checkpoint: {
+      dir: checkpoint.dir === undefined ? null : c.text(`${at('checkpoint')}.dir`, checkpoint.dir, null),
     },
     shutdownMs: c.count(at('shutdownMs'), top.shutdownMs, 30_000),
     maxWaitMs: c.count(at('maxWaitMs'), top.maxWaitMs, 500),

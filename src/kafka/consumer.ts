@@ -64,8 +64,8 @@ export class EventConsumer {
       heartbeatInterval: Math.max(100, Math.floor(settings.sessionTimeoutMs / 5)),
       maxBytesPerPartition: Math.max(1024 * 1024, settings.events.maxMessageBytes),
       allowAutoTopicCreation: false,
-      // kafkajs restarts the consumer after any failure by default: a batch it cannot decode (a snappy or
-      // lz4 one) would then be fetched and refused forever. Restart only after a transient failure (a
+      // kafkajs restarts the consumer after any failure by default: a batch it cannot decode (a corrupt
+      // one, or a codec with no decoder registered) would then be fetched and refused forever. Restart only after a transient failure (a
       // broker away for longer than the retries ends in a retriable cause), and stop on anything else.
       retry: { restartOnFailure: async (e: Error) => transient(e) },
     });

@@ -1,6 +1,7 @@
 /** Output messages and their topics, as the producer sends them. */
 export type { Message as OutputMessage, TopicMessages as TopicOutputs } from 'kafkajs';
 export { createKafka } from './client.js';
+export { registerCodecs } from './codecs.js';
 export type { KafkaSettings, SaslMechanism, Scope, Secrets } from './config.js';
 export { readSecrets, resolveKafkaSettings } from './config.js';
 export type { Assignment, BatchControl, BatchHandler, FetchedBatch } from './consumer.js';

@@ -8,7 +8,7 @@
  */
 export type SplitCriterion = 'info-gain' | 'gini';
 
-const INV_LN2 = 1 / Math.LN2;
+export const INV_LN2 = 1 / Math.LN2;
 
 /** Impurity of `classes` non-negative weights at `offset` (0 when they sum to 0). */
 export function impurity(

@@ -21,16 +21,29 @@ import {
   type EnsembleSpec,
   LIFECYCLE_DEFAULTS,
   LIFECYCLE_OPTIONS,
+  REGRESSION_BAGGING_DEFAULTS,
+  REGRESSION_BAGGING_OPTIONS,
+  type RegressionBaggingOptions,
   STACKING_DEFAULTS,
 } from '../ensembles/index.js';
 import { VIEW_DEFAULTS } from '../evaluation/index.js';
-import { checkFeatureSpecs, DEFAULT_MISSING, DEFAULT_VOCABULARY } from '../frames/index.js';
+import {
+  checkFeatureSpecs,
+  DEFAULT_MISSING,
+  DEFAULT_VOCABULARY,
+  LABELS_AS,
+  type LabelsAs,
+} from '../frames/index.js';
+import { TASKS, type Task } from '../journal/index.js';
 import {
   CLASSIFIER_KINDS,
   CLASSIFIER_OPTIONS,
-  type ClassifierKind,
   type ClassifierSpec,
   createClassifier,
+  createRegressor,
+  REGRESSOR_KINDS,
+  REGRESSOR_OPTIONS,
+  type RegressorSpec,
 } from '../learners/index.js';
 
 /**
@@ -48,14 +61,23 @@ import {
  * evaluation: { window: 1000 }
  * inputs: { label: rejected, id: leg_id }
  * labels: { pending: 100000, maxAgeSeconds: 604800, unmatched: ignore }
+ *
+ * A regression (`task: regression`, or `inputs.labelsAs: regression`) bags regressors instead:
+ * `ensemble: { kind: bagging, members: 10, lambda: 1, learners: [{ kind: hoeffding-regression-tree }] }`.
  */
 export interface RunConfig {
   readonly seed: string;
-  readonly ensemble: EnsembleSpec;
+  /** What the labels are: classes to tell apart, or numbers to predict. */
+  readonly task: Task;
+  /** A classification ensemble, or (task `regression`) a bagging of regressors. */
+  readonly ensemble: EnsembleSpec | RegressionEnsembleSpec;
   readonly evaluation: EvaluationConfig;
   readonly inputs: InputsConfig;
   readonly labels: LabelsConfig;
 }
+
+/** The ensemble of a regression: online bagging of regressors (no member lifecycle). */
+export type RegressionEnsembleSpec = { readonly kind: 'bagging' } & RegressionBaggingOptions;
 
 /**
  * How late labels are joined to the predictions served for them (see `LearningSession`).
@@ -93,8 +115,11 @@ export interface InputsConfig {
   readonly vocabulary: number | null;
   /** Text read as a missing value (default: empty, `NA`, `NaN`, `?`, `null`). */
   readonly missing: readonly string[];
-  /** How labels are read: class codes, class names, or null to tell from the first rows. */
-  readonly labelsAs: 'class-codes' | 'class-names' | null;
+  /**
+   * How labels are read: class codes, class names, numbers to predict (`regression`, the one reading of
+   * a regression), or null to tell codes from names by the first rows.
+   */
+  readonly labelsAs: LabelsAs | null;
   /** Watch each input feature for drift before labels arrive. */
   readonly monitor: boolean;
 }
@@ -234,30 +259,55 @@ function describe(value: unknown): string {
 /** Schema used only to validate learner options before the data's schema is known. */
 const PROBE_SCHEMA = numericSchema(64);
 
+/** A family of learners as configuration names them: their kinds, option tables and constructor. */
+interface LearnerFamily<K extends string> {
+  readonly kinds: readonly K[];
+  readonly options: Readonly<Record<string, OptionTable>>;
+  readonly build: (spec: Record<string, unknown>) => unknown;
+}
+
+const CLASSIFIERS: LearnerFamily<(typeof CLASSIFIER_KINDS)[number]> = {
+  kinds: CLASSIFIER_KINDS,
+  options: CLASSIFIER_OPTIONS,
+  build: (spec) => createClassifier(spec as ClassifierSpec, PROBE_SCHEMA, 0),
+};
+
+const META_LEARNERS: LearnerFamily<'logistic' | 'mlp'> = { ...CLASSIFIERS, kinds: ['logistic', 'mlp'] };
+
+const REGRESSORS: LearnerFamily<(typeof REGRESSOR_KINDS)[number]> = {
+  kinds: REGRESSOR_KINDS,
+  options: REGRESSOR_OPTIONS,
+  build: (spec) => createRegressor(spec as RegressorSpec, PROBE_SCHEMA, 0),
+};
+
 /** One learner (or meta-learner) spec: its kind, then its options by the kind's table. */
-function checkLearner<K extends ClassifierKind>(
+function checkLearner<K extends string>(
   c: Checker,
   path: string,
   raw: unknown,
-  kinds: readonly K[],
+  family: LearnerFamily<K>,
 ): Record<string, unknown> {
   const spec = c.object(path, raw, null);
-  const kind = c.kind(path, spec.kind, kinds);
+  const kind = c.kind(path, spec.kind, family.kinds);
   if (kind === null) return spec;
   const before = c.issues.length;
-  c.options(path, spec, CLASSIFIER_OPTIONS[kind], ['kind']);
-  if (c.issues.length === before)
-    c.attempt(path, () => createClassifier(spec as ClassifierSpec, PROBE_SCHEMA, 0));
+  c.options(path, spec, family.options[kind]!, ['kind']);
+  if (c.issues.length === before) c.attempt(path, () => family.build(spec));
   return spec;
 }
 
-function checkLearners(c: Checker, path: string, value: unknown): ClassifierSpec[] | undefined {
+function checkLearners<K extends string>(
+  c: Checker,
+  path: string,
+  value: unknown,
+  family: LearnerFamily<K>,
+): Record<string, unknown>[] | undefined {
   if (value === undefined) return undefined;
   if (!Array.isArray(value) || value.length === 0) {
     c.fail(path, `must be a non-empty list of learner specs, got ${describe(value)}`);
     return undefined;
   }
-  return value.map((raw, i) => checkLearner(c, join(path, i), raw, CLASSIFIER_KINDS) as ClassifierSpec);
+  return value.map((raw, i) => checkLearner(c, join(path, i), raw, family));
 }
 
 function checkDetector(c: Checker, path: string, value: unknown): DetectorSpec | undefined {
@@ -285,9 +335,10 @@ function checkEnsemble(c: Checker, value: unknown): EnsembleSpec {
   const kind = c.kind(path, raw.kind ?? 'bagging', ENSEMBLE_KINDS) ?? 'bagging';
   c.options(path, raw, ENSEMBLE_OPTIONS[kind], NESTED[kind]);
   const spec: Record<string, unknown> = { ...raw, kind };
-  if (raw.learners !== undefined) spec.learners = checkLearners(c, join(path, 'learners'), raw.learners);
+  if (raw.learners !== undefined)
+    spec.learners = checkLearners(c, join(path, 'learners'), raw.learners, CLASSIFIERS);
   if (kind === 'stacking' && raw.meta !== undefined)
-    spec.meta = checkLearner(c, join(path, 'meta'), raw.meta, ['logistic', 'mlp'] as const);
+    spec.meta = checkLearner(c, join(path, 'meta'), raw.meta, META_LEARNERS);
   const lifecyclePath = join(path, 'lifecycle');
   const lifecycle = c.object(lifecyclePath, raw.lifecycle, null);
   c.options(lifecyclePath, lifecycle, LIFECYCLE_OPTIONS, ['detector']);
@@ -310,6 +361,37 @@ function checkEnsemble(c: Checker, value: unknown): EnsembleSpec {
   return full as unknown as EnsembleSpec;
 }
 
+/**
+ * The ensemble of a regression: online bagging of regressors, with `members`, `lambda` and `learners`.
+ * Boosting and stacking combine class votes, and the member lifecycle judges 0/1 errors: neither
+ * applies, and naming them is an issue.
+ */
+function checkRegressionEnsemble(c: Checker, value: unknown): RegressionEnsembleSpec {
+  const path = 'ensemble';
+  const raw = c.object(path, value, null);
+  if (raw.kind !== undefined && raw.kind !== 'bagging')
+    c.fail(
+      join(path, 'kind'),
+      `must be bagging for task regression (boosting and stacking combine class votes), got ${describe(raw.kind)}`,
+      'not-one-of',
+    );
+  if (raw.lifecycle !== undefined)
+    c.fail(
+      join(path, 'lifecycle'),
+      'a regression has no member lifecycle (its monitors judge 0/1 errors); remove it',
+      'conflict',
+    );
+  c.options(path, raw, REGRESSION_BAGGING_OPTIONS, ['kind', 'learners', 'lifecycle']);
+  const learners = checkLearners(c, join(path, 'learners'), raw.learners, REGRESSORS);
+  const { lifecycle: _, ...rest } = raw;
+  return {
+    ...REGRESSION_BAGGING_DEFAULTS,
+    ...rest,
+    kind: 'bagging',
+    learners: (learners ?? REGRESSION_BAGGING_DEFAULTS.learners).map((l) => filled(l, REGRESSOR_OPTIONS)),
+  } as RegressionEnsembleSpec;
+}
+
 /** A learner or detector spec with the defaults of its kind under the options it names; `kind` first. */
 function filled<T extends { kind?: string }>(spec: T, tables: Readonly<Record<string, OptionTable>>): T {
   const table = tables[spec?.kind ?? ''];
@@ -320,7 +402,7 @@ function checkEvaluation(c: Checker, value: unknown): EvaluationConfig {
   return c.settings('evaluation', value, EVALUATION_OPTIONS);
 }
 
-function checkInputs(c: Checker, value: unknown): InputsConfig {
+function checkInputs(c: Checker, value: unknown, task: Task): InputsConfig {
   const raw = c.object('inputs', value, [
     'label',
     'id',
@@ -360,11 +442,18 @@ function checkInputs(c: Checker, value: unknown): InputsConfig {
       ? null
       : checkFeatureSpecs(c.issues, 'inputs.features', raw.features, vocabulary ?? DEFAULT_VOCABULARY);
   const labelsAs = raw.labelsAs === undefined ? null : raw.labelsAs;
-  if (labelsAs !== null && labelsAs !== 'class-codes' && labelsAs !== 'class-names')
+  const knownLabelsAs = LABELS_AS.includes(labelsAs as LabelsAs);
+  if (labelsAs !== null && !knownLabelsAs)
     c.fail(
       'inputs.labelsAs',
-      `must be one of class-codes, class-names, got ${describe(labelsAs)}`,
+      `must be one of ${LABELS_AS.join(', ')}, got ${describe(labelsAs)}`,
       'not-one-of',
+    );
+  if (knownLabelsAs && (labelsAs === 'regression') !== (task === 'regression'))
+    c.fail(
+      'inputs.labelsAs',
+      `${describe(labelsAs)} does not fit task ${task}: a regression reads its labels as numbers (regression), a classification as class-codes or class-names`,
+      'conflict',
     );
   if (raw.monitor !== undefined && typeof raw.monitor !== 'boolean')
     c.fail('inputs.monitor', `must be true or false, got ${describe(raw.monitor)}`);
@@ -375,7 +464,7 @@ function checkInputs(c: Checker, value: unknown): InputsConfig {
     features: features === null ? null : (raw.features as unknown[]),
     vocabulary,
     missing: missing ?? DEFAULT_MISSING,
-    labelsAs: labelsAs === 'class-codes' || labelsAs === 'class-names' ? labelsAs : null,
+    labelsAs: task === 'regression' ? 'regression' : knownLabelsAs ? (labelsAs as LabelsAs) : null,
     monitor: typeof raw.monitor === 'boolean' ? raw.monitor : true,
   };
 }
@@ -406,6 +495,21 @@ function checkLabels(c: Checker, value: unknown): LabelsConfig {
 }
 
 /**
+ * The task: as `task` says, else a regression when the labels are read as numbers (`inputs.labelsAs:
+ * regression`), else a classification. A `task` that contradicts `inputs.labelsAs` is reported there.
+ */
+function checkTask(c: Checker, value: unknown, inputs: unknown): Task {
+  if (value === undefined) {
+    const labelsAs =
+      typeof inputs === 'object' && inputs !== null ? (inputs as { labelsAs?: unknown }).labelsAs : undefined;
+    return labelsAs === 'regression' ? 'regression' : 'classification';
+  }
+  if (TASKS.includes(value as Task)) return value as Task;
+  c.fail('task', `must be one of ${TASKS.join(', ')}, got ${describe(value)}`, 'not-one-of');
+  return 'classification';
+}
+
+/**
  * Check a parsed configuration and fill in the defaults. Every problem is reported at once in a
  * `ConfigError` whose issues name the field (`ensemble.learners[1].checkInterval: …`); `source` names
  * the file in the message.
@@ -417,11 +521,11 @@ export function resolveConfig(raw: unknown, source: string): RunConfig {
       {
         path: '(top level)',
         code: 'wrong-type',
-        message: `a configuration is a mapping of seed, ensemble, evaluation, inputs and labels, got ${describe(raw)}`,
+        message: `a configuration is a mapping of seed, task, ensemble, evaluation, inputs and labels, got ${describe(raw)}`,
       },
     ]);
   }
-  const top = c.object('', raw, ['seed', 'ensemble', 'evaluation', 'inputs', 'labels']);
+  const top = c.object('', raw, ['seed', 'task', 'ensemble', 'evaluation', 'inputs', 'labels']);
   let seed = DEFAULT_SEED;
   if (top.seed !== undefined) {
     if (
@@ -433,10 +537,12 @@ export function resolveConfig(raw: unknown, source: string): RunConfig {
       c.fail('seed', `must be a number or a string, got ${describe(top.seed)}`);
     }
   }
-  const ensemble = checkEnsemble(c, top.ensemble);
+  const task = checkTask(c, top.task, top.inputs);
+  const ensemble =
+    task === 'regression' ? checkRegressionEnsemble(c, top.ensemble) : checkEnsemble(c, top.ensemble);
   const evaluation = checkEvaluation(c, top.evaluation);
-  const inputs = checkInputs(c, top.inputs);
+  const inputs = checkInputs(c, top.inputs, task);
   const labels = checkLabels(c, top.labels);
   if (c.issues.length > 0) throw new ConfigError(source, c.issues);
-  return { seed, ensemble, evaluation, inputs, labels };
+  return { seed, task, ensemble, evaluation, inputs, labels };
 }

@@ -1,5 +1,11 @@
 export { EventClock, liveClock } from './clocks.js';
-export type { EvaluationConfig, InputsConfig, LabelsConfig, RunConfig } from './config.js';
+export type {
+  EvaluationConfig,
+  InputsConfig,
+  LabelsConfig,
+  RegressionEnsembleSpec,
+  RunConfig,
+} from './config.js';
 export { DEFAULT_SEED, LABELS_DEFAULTS, resolveConfig } from './config.js';
 export type {
   CheckpointStore,
@@ -20,3 +26,5 @@ export type {
 } from './ports.js';
 export type { SessionCounts, SessionOptions, SessionSnapshot } from './session.js';
 export { LABEL_DELAY_BOUNDS, LearningSession } from './session.js';
+export type { Scorecard, SessionModel, SessionModelSnapshot } from './task.js';
+export { restoreModel, restoreScorecard } from './task.js';

@@ -10,7 +10,8 @@ export type Gone = 0 | typeof GONE_JOINED | typeof GONE_EXPIRED | typeof GONE_EV
 /**
  * Predictions waiting for their labels, joined by event id. Each entry keeps what a late label needs
  * to judge the prediction that was served and to train on the row: the row's values, the served class
- * probabilities and predicted class, the model epoch and the session's time it was served (`Clock.event`).
+ * probabilities and predicted class (or, in a regression, the number predicted), the model epoch and the
+ * session's time it was served (`Clock.event`).
  *
  * Bounds (both settings):
  * - count: entries sit in a ring of `capacity` slots in the order they were scored; a prediction is
@@ -40,6 +41,7 @@ export class PendingStore {
   private readonly values: Float64Array;
   private probabilities: Float64Array;
   private readonly predicted: Int32Array;
+  private readonly served: Float64Array;
   private readonly epochs: Int32Array;
   private readonly times: Float64Array;
   private readonly ids: (string | null)[];
@@ -66,6 +68,7 @@ export class PendingStore {
     this.values = new Float64Array(capacity * width);
     this.probabilities = new Float64Array(capacity * this.classes);
     this.predicted = new Int32Array(capacity);
+    this.served = new Float64Array(capacity);
     this.epochs = new Int32Array(capacity);
     this.times = new Float64Array(capacity);
     this.ids = new Array<string | null>(capacity).fill(null);
@@ -123,6 +126,7 @@ export class PendingStore {
     const base = slot * c;
     for (let k = 0; k < c; k++) this.probabilities[base + k] = k < n ? verdict.probabilities[k]! : 0;
     this.predicted[slot] = verdict.predicted;
+    this.served[slot] = verdict.value;
     this.epochs[slot] = verdict.epoch;
     this.times[slot] = time;
     return evicted;
@@ -155,6 +159,11 @@ export class PendingStore {
 
   predictedOf(slot: number): number {
     return this.predicted[slot]!;
+  }
+
+  /** The number a regression served (NaN for a classification). */
+  valueOf(slot: number): number {
+    return this.served[slot]!;
   }
 
   epochOf(slot: number): number {
@@ -237,6 +246,7 @@ export class PendingStore {
     const values = new Float64Array(ids.length * width);
     const probabilities = new Float64Array(ids.length * classes);
     const predicted = new Int32Array(ids.length);
+    const served = new Float64Array(ids.length);
     const epochs = new Int32Array(ids.length);
     const times = new Float64Array(ids.length);
     for (let e = 0; e < ids.length; e++) {
@@ -244,6 +254,7 @@ export class PendingStore {
       values.set(this.values.subarray(slot * width, (slot + 1) * width), e * width);
       probabilities.set(this.probabilities.subarray(slot * classes, (slot + 1) * classes), e * classes);
       predicted[e] = this.predicted[slot]!;
+      served[e] = this.served[slot]!;
       epochs[e] = this.epochs[slot]!;
       times[e] = this.times[slot]!;
     }
@@ -267,6 +278,7 @@ export class PendingStore {
       values: encodeF64(values),
       probabilities: encodeF64(probabilities),
       predicted: encodeI32(predicted),
+      served: encodeF64(served),
       epochs: encodeI32(epochs),
       times: encodeF64(times),
       goneSlots: encodeI32(Int32Array.from(goneSlots)),
@@ -307,6 +319,8 @@ export class PendingStore {
     sized(probabilities, n * store.classes, 'probabilities');
     const predicted = decodeI32(s.predicted, `${what} predicted`);
     sized(predicted, n, 'predicted');
+    const served = decodeF64(s.served, `${what} served`);
+    sized(served, n, 'served');
     const epochs = decodeI32(s.epochs, `${what} epochs`);
     sized(epochs, n, 'epochs');
     const times = decodeF64(s.times, `${what} times`);
@@ -333,6 +347,7 @@ export class PendingStore {
       store.values.set(values.subarray(e * width, (e + 1) * width), slot * width);
       store.probabilities.set(probabilities.subarray(e * classes, (e + 1) * classes), slot * classes);
       store.predicted[slot] = predicted[e]!;
+      store.served[slot] = served[e]!;
       store.epochs[slot] = epochs[e]!;
       store.times[slot] = times[e]!;
     }
@@ -373,6 +388,8 @@ export interface PendingSnapshot {
   readonly values: string;
   readonly probabilities: string;
   readonly predicted: string;
+  /** The numbers a regression served (NaN for a classification). */
+  readonly served: string;
   readonly epochs: string;
   readonly times: string;
   /** The remembered ids in force: each one's slot of the ring (Int32, base64), id and fate. */

@@ -5,20 +5,8 @@ import {
   type InputMonitorSnapshot,
   restoreInputMonitor,
 } from '../drift/index.js';
-import {
-  createEnsemble,
-  type Ensemble,
-  type EnsembleSnapshot,
-  restoreEnsemble,
-  type SeatView,
-  Verdict,
-} from '../ensembles/index.js';
-import {
-  ClassificationEvaluator,
-  type ClassificationFigures,
-  type EvaluatorSnapshot,
-  orNull,
-} from '../evaluation/index.js';
+import { type SeatView, Verdict } from '../ensembles/index.js';
+import type { EvaluatorSnapshot } from '../evaluation/index.js';
 import type { Frame } from '../frames/index.js';
 import {
   isDriftSignal,
@@ -28,7 +16,6 @@ import {
   type LifecycleCause,
   type LifecycleChange,
   type SummaryRecord,
-  type ViewFigures,
 } from '../journal/index.js';
 import type { RunConfig } from './config.js';
 import {
@@ -40,6 +27,15 @@ import {
 } from './pending-store.js';
 import type { Clock, DriftSignal, JournalSink, ScoreBatch, SessionMetrics } from './ports.js';
 import { ScoreBuffers } from './score-buffers.js';
+import {
+  createModel,
+  createScorecard,
+  restoreModel,
+  restoreScorecard,
+  type Scorecard,
+  type SessionModel,
+  type SessionModelSnapshot,
+} from './task.js';
 
 /** What a session is built with: its configuration and the ports it writes to and reads time from. */
 export interface SessionOptions {
@@ -58,13 +54,15 @@ const RECENT_SIGNALS = 64;
 export const LABEL_DELAY_BOUNDS: readonly number[] = [1, 10, 60, 600, 3600, 21_600, 86_400, 604_800];
 
 const KIND = 'learning-session';
-const VERSION = 2;
+const VERSION = 3;
 
 /**
  * The learning session: everything the model side does with a stream, for every source alike
  * (`replay`, `serve`, `demo` differ only in the adapters that feed it). It owns all run state — the
  * ensemble, the evaluator, the input monitor, the pending predictions and the counters — and does no
- * I/O: it writes to the `JournalSink` it is given and reads time from the `Clock` it is given.
+ * I/O: it writes to the `JournalSink` it is given and reads time from the `Clock` it is given. A
+ * classification and a regression (`config.task`) differ only in the model and the scorecard they
+ * build (`task.ts`); a regression's labels are the numbers to predict, and it has no classes.
  *
  * - `score(frame, classes)`: a verdict for every row (returned in reused buffers); every row goes
  *   through the input monitor. A row whose label came with it is judged on the prediction just served
@@ -93,10 +91,10 @@ const VERSION = 2;
 export class LearningSession {
   readonly config: RunConfig;
   private readonly options: SessionOptions;
-  private ensemble: Ensemble | null = null;
+  private ensemble: SessionModel | null = null;
   private monitor: InputMonitor | null = null;
   private pending: PendingStore | null = null;
-  private evaluator: ClassificationEvaluator;
+  private scorecard: Scorecard;
   private readonly verdict = new Verdict();
   private readonly scores = new ScoreBuffers();
   private schema: FeatureSchema | null = null;
@@ -114,7 +112,7 @@ export class LearningSession {
   constructor(options: SessionOptions) {
     this.options = options;
     this.config = options.config;
-    this.evaluator = new ClassificationEvaluator({
+    this.scorecard = createScorecard(options.config.task, {
       window: options.config.evaluation.window,
       fading: options.config.evaluation.fading,
     });
@@ -122,7 +120,7 @@ export class LearningSession {
   }
 
   /** The ensemble (built from the first batch's schema), or null before it. */
-  get model(): Ensemble | null {
+  get model(): SessionModel | null {
     return this.ensemble;
   }
 
@@ -139,9 +137,9 @@ export class LearningSession {
     return this.counts.judged;
   }
 
-  /** Accuracy over the evaluation window, or null before the first judged row. */
+  /** Accuracy over the evaluation window, or null before the first judged row (and in a regression). */
   get recentAccuracy(): number | null {
-    return this.counts.judged > 0 ? orNull(this.evaluator.windowed.accuracy()) : null;
+    return this.counts.judged > 0 ? this.scorecard.windowAccuracy() : null;
   }
 
   /**
@@ -176,7 +174,12 @@ export class LearningSession {
         if (ids !== null && pending.settled(ids[r]!) === GONE_EVICTED) counts.evictedPredictions++;
         counts.inline++;
         counts.trained++;
-        this.judge(verdict.predicted, label, label < verdict.classes ? verdict.probabilities[label]! : 0);
+        this.judge(
+          verdict.predicted,
+          verdict.value,
+          label,
+          label < verdict.classes ? verdict.probabilities[label]! : 0,
+        );
       }
       this.scores.put(r - from, verdict);
     }
@@ -217,7 +220,7 @@ export class LearningSession {
       const slot = pending === null ? -1 : pending.find(id);
       if (slot >= 0) {
         const store = pending!;
-        this.judge(store.predictedOf(slot), label, store.probability(slot, label));
+        this.judge(store.predictedOf(slot), store.valueOf(slot), label, store.probability(slot, label));
         ensemble!.train(store.rows, store.offsetOf(slot), label);
         this.delay(now - store.timeOf(slot));
         store.joined(slot);
@@ -280,21 +283,13 @@ export class LearningSession {
   finish(classes: readonly string[]): SummaryRecord {
     const c = this.counts;
     if (c.judged % this.config.evaluation.journalEvery !== 0 && c.judged > 0) this.window();
-    const cumulative = this.evaluator.summary().cumulative;
     const seconds = Math.max(1e-9, (this.options.clock.monotonic() - this.startedAt) / 1000);
     const summary: SummaryRecord = {
       type: 'summary',
       scored: c.scored,
       trained: c.trained,
       rows: c.judged,
-      accuracy: cumulative.accuracy,
-      kappa: cumulative.kappa,
-      kappaM: cumulative.kappaM,
-      kappaNoChange: cumulative.kappaNoChange,
-      logLoss: cumulative.logLoss,
-      macroF1: cumulative.macroF1,
-      classes: [...classes],
-      confusion: square(cumulative.confusion, classes.length),
+      ...this.scorecard.summary(classes),
       driftSignals: c.driftSignals,
       warnings: c.warnings,
       replacements: c.replacements,
@@ -315,7 +310,7 @@ export class LearningSession {
       config: this.config,
       schema: this.schema,
       ensemble: this.ensemble?.snapshot() ?? null,
-      evaluator: this.evaluator.snapshot(),
+      evaluator: this.scorecard.snapshot(),
       monitor: this.monitor?.snapshot() ?? null,
       pending: this.pending?.snapshot() ?? null,
       counts: { ...this.counts },
@@ -344,10 +339,11 @@ export class LearningSession {
   }
 
   private restoreState(s: SessionSnapshot): void {
-    this.evaluator = ClassificationEvaluator.restore(s.evaluator);
+    this.scorecard = restoreScorecard(this.config.task, s.evaluator);
     this.schema = s.schema;
     this.startedAt = this.options.clock.monotonic();
-    if (s.ensemble !== null) this.ensemble = restoreEnsemble(s.ensemble, (c) => this.lifecycle(c));
+    if (s.ensemble !== null)
+      this.ensemble = restoreModel(this.config.task, s.ensemble, (c) => this.lifecycle(c));
     if (s.monitor !== null) this.monitor = restoreInputMonitor(s.monitor);
     if (s.pending !== null) this.pending = PendingStore.restore(s.pending);
     Object.assign(this.counts, s.counts);
@@ -367,7 +363,7 @@ export class LearningSession {
   }
 
   /** Build the ensemble, monitor and pending store on the first batch; announce classes as they appear. */
-  private ensure(schema: FeatureSchema, classes: readonly string[]): Ensemble {
+  private ensure(schema: FeatureSchema, classes: readonly string[]): SessionModel {
     if (this.ensemble === null) {
       const { config, version, source, clock } = this.options;
       this.schema = schema;
@@ -382,7 +378,7 @@ export class LearningSession {
         schema,
         seed: config.seed,
       });
-      this.ensemble = createEnsemble(config.ensemble, schema, config.seed, (c) => this.lifecycle(c));
+      this.ensemble = createModel(config, schema, (c) => this.lifecycle(c));
       if (config.inputs.monitor) this.monitor = createInputMonitor(schema);
       this.pending = new PendingStore(config.labels.pending, schema.features.length, classes.length);
       this.inputDriftCounts = new Float64Array(schema.features.length);
@@ -400,7 +396,7 @@ export class LearningSession {
     const n = Math.max(1, classes.length);
     if (n > this.ensemble!.classes) {
       this.ensemble!.ensureClasses(n);
-      this.evaluator.ensureClasses(n);
+      this.scorecard.ensureClasses(n);
     }
     this.pending!.ensureClasses(n);
   }
@@ -414,8 +410,9 @@ export class LearningSession {
     return expired;
   }
 
-  private judge(predicted: number, label: number, probability: number): void {
-    this.evaluator.record(predicted, label, probability);
+  /** Judge a served prediction: its class and the probability it gave `label`, or its number. */
+  private judge(predicted: number, value: number, label: number, probability: number): void {
+    this.scorecard.record(predicted, value, label, probability);
     if (++this.counts.judged % this.config.evaluation.journalEvery === 0) this.window();
   }
 
@@ -443,7 +440,7 @@ export class LearningSession {
         estimate: change.estimate,
       });
     }
-    if (change.to === 'watched') c.warnings++;
+    if (change.cause === 'watched') c.warnings++;
     if (change.to === 'retired') c.replacements++;
     this.options.journal.write({ ...change, scored: c.scored });
   }
@@ -468,13 +465,12 @@ export class LearningSession {
   }
 
   private window(): void {
-    const s = this.evaluator.summary();
     this.options.journal.write({
       type: 'window',
       scored: this.counts.scored,
       trained: this.counts.trained,
-      window: figures(s.windowed),
-      cumulative: figures(s.cumulative),
+      window: this.scorecard.windowed(),
+      cumulative: this.scorecard.cumulative(),
       seats: this.ensemble!.seats().map((seat) => seat.recentAccuracy),
       labels: this.labelCounts(),
     });
@@ -519,8 +515,7 @@ export class LearningSession {
 
   windowFigures(): { readonly accuracy: number | null; readonly kappa: number | null } {
     if (this.counts.judged === 0) return { accuracy: null, kappa: null };
-    const w = this.evaluator.windowed;
-    return { accuracy: orNull(w.accuracy()), kappa: orNull(w.kappa()) };
+    return { accuracy: this.scorecard.windowAccuracy(), kappa: this.scorecard.windowKappa() };
   }
 }
 
@@ -555,7 +550,7 @@ export interface SessionSnapshot {
   readonly version: number;
   readonly config: RunConfig;
   readonly schema: FeatureSchema | null;
-  readonly ensemble: EnsembleSnapshot | null;
+  readonly ensemble: SessionModelSnapshot | null;
   readonly evaluator: EvaluatorSnapshot;
   readonly monitor: InputMonitorSnapshot | null;
   readonly pending: PendingSnapshot | null;
@@ -609,20 +604,4 @@ function metricsOf(s: LearningSession): SessionMetrics {
     },
     modelBytes: () => s.model?.sizeBytes() ?? 0,
   };
-}
-
-function figures(f: ClassificationFigures): ViewFigures {
-  return {
-    rows: f.rows,
-    accuracy: f.accuracy,
-    kappa: f.kappa,
-    kappaM: f.kappaM,
-    kappaNoChange: f.kappaNoChange,
-    logLoss: f.logLoss,
-  };
-}
-
-/** The confusion matrix padded to `n` × `n` (classes named but never seen have zero rows). */
-function square(confusion: readonly (readonly number[])[], n: number): number[][] {
-  return Array.from({ length: n }, (_, i) => Array.from({ length: n }, (_, j) => confusion[i]?.[j] ?? 0));
 }

@@ -1,4 +1,4 @@
-import type { RunRecord, SummaryRecord, ViewFigures } from '../journal/index.js';
+import type { RunRecord, SummaryRecord, Task, ViewFigures } from '../journal/index.js';
 import { escapeHtml } from './escape.js';
 import { fixed, grouped, percent } from './format.js';
 import type { Timeline } from './timeline.js';
@@ -24,6 +24,7 @@ export function header(
   run: RunRecord | undefined,
   summary: SummaryRecord | undefined,
   t: Timeline,
+  task: Task = 'classification',
 ): string {
   const last: ViewFigures | undefined = t.windows[t.windows.length - 1]?.cumulative;
   const figures = summary ?? {
@@ -33,12 +34,59 @@ export function header(
     kappaNoChange: last?.kappaNoChange ?? null,
     logLoss: last?.logLoss ?? null,
     macroF1: null,
+    mae: last?.mae ?? null,
+    rmse: last?.rmse ?? null,
+    r2: last?.r2 ?? null,
     rowsPerSecond: null,
     driftSignals: t.driftSignals.length,
     replacements: t.replacements.length,
     inputDrifts: t.inputDrifts.length,
   };
-  const strip: Figure[] = [
+  const strip = task === 'regression' ? regressionStrip(figures) : classificationStrip(figures);
+  const facts: string[] = [];
+  if (run !== undefined) {
+    facts.push(`source <b>${escapeHtml(run.source)}</b>`);
+    facts.push(`started ${escapeHtml(run.startedAt)}`);
+    facts.push(`Shoal ${escapeHtml(run.shoal)}`);
+    facts.push(`seed ${escapeHtml(run.seed)}`);
+  } else {
+    facts.push('no run record: source and configuration unknown');
+  }
+  facts.push(`<b>${grouped(summary?.rows ?? t.rows)}</b> rows`);
+  if (summary !== undefined) facts.push(`${fixed(summary.seconds, 1)} s`);
+  else facts.push('no summary record: the run did not finish, figures are from its last window');
+  const cards = strip
+    .map(
+      (f) =>
+        `<div class="figure${f.alert === true ? ' alert' : ''}" title="${escapeHtml(f.help)}">` +
+        `<span class="label">${escapeHtml(f.label)}</span><span class="value">${escapeHtml(f.value)}</span></div>`,
+    )
+    .join('');
+  return (
+    `<header><h1>${escapeHtml(title)}</h1><p class="meta">${facts.join(' · ')}</p></header>` +
+    `<div class="figures">${cards}</div>`
+  );
+}
+
+/** The figures both strips read: a summary record, or what a journal without one can tell. */
+type StripFigures = Pick<
+  SummaryRecord,
+  | 'accuracy'
+  | 'kappa'
+  | 'kappaM'
+  | 'kappaNoChange'
+  | 'logLoss'
+  | 'macroF1'
+  | 'mae'
+  | 'rmse'
+  | 'r2'
+  | 'driftSignals'
+  | 'replacements'
+  | 'inputDrifts'
+> & { readonly rowsPerSecond: number | null };
+
+function classificationStrip(figures: StripFigures): Figure[] {
+  return [
     {
       label: 'accuracy',
       value: percent(figures.accuracy),
@@ -81,27 +129,28 @@ export function header(
       help: 'input features whose distribution moved',
     },
   ];
-  const facts: string[] = [];
-  if (run !== undefined) {
-    facts.push(`source <b>${escapeHtml(run.source)}</b>`);
-    facts.push(`started ${escapeHtml(run.startedAt)}`);
-    facts.push(`Shoal ${escapeHtml(run.shoal)}`);
-    facts.push(`seed ${escapeHtml(run.seed)}`);
-  } else {
-    facts.push('no run record: source and configuration unknown');
-  }
-  facts.push(`<b>${grouped(summary?.rows ?? t.rows)}</b> rows`);
-  if (summary !== undefined) facts.push(`${fixed(summary.seconds, 1)} s`);
-  else facts.push('no summary record: the run did not finish, figures are from its last window');
-  const cards = strip
-    .map(
-      (f) =>
-        `<div class="figure${f.alert === true ? ' alert' : ''}" title="${escapeHtml(f.help)}">` +
-        `<span class="label">${escapeHtml(f.label)}</span><span class="value">${escapeHtml(f.value)}</span></div>`,
-    )
-    .join('');
-  return (
-    `<header><h1>${escapeHtml(title)}</h1><p class="meta">${facts.join(' · ')}</p></header>` +
-    `<div class="figures">${cards}</div>`
-  );
+}
+
+/** A regression's strip: its errors and R², speed and input drifts (no member lifecycle). */
+function regressionStrip(figures: StripFigures): Figure[] {
+  return [
+    { label: 'MAE', value: fixed(figures.mae, 3), help: 'mean absolute error of the numbers served' },
+    { label: 'RMSE', value: fixed(figures.rmse, 3), help: 'root mean squared error of the numbers served' },
+    {
+      label: 'R²',
+      value: fixed(figures.r2, 3),
+      help: '1 − squared error / spread of the targets: 1 = perfect, 0 = no better than their mean',
+      alert: below0(figures.r2),
+    },
+    {
+      label: 'rows/s',
+      value: figures.rowsPerSecond === null ? '—' : grouped(figures.rowsPerSecond),
+      help: 'rows scored and trained per second of the run',
+    },
+    {
+      label: 'input drifts',
+      value: grouped(figures.inputDrifts),
+      help: 'input features whose distribution moved',
+    },
+  ];
 }

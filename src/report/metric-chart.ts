@@ -1,3 +1,4 @@
+import type { Task, ViewFigures } from '../journal/index.js';
 import { escapeHtml } from './escape.js';
 import { driftSignalText, inputDriftText, replacementText } from './event-text.js';
 import { grouped } from './format.js';
@@ -15,16 +16,57 @@ const RUG_ROW = 20;
 /** Draw a guide through the plot at each replacement while there are at most this many marks. */
 const MOST_GUIDES = 60;
 
+/** One line of the chart: a windowed figure of the journal's window records. */
+interface ChartLine {
+  readonly name: keyof typeof SERIES_COLOURS;
+  readonly label: string;
+  readonly value: (f: ViewFigures) => number | null;
+}
+
+/** What the chart draws for a task: its lines (the headline last, on top) and their range. */
+interface ChartPlan {
+  readonly lines: readonly ChartLine[];
+  /** The figures' natural bounds: accuracy and κ lie in [−1, 1]; errors in [0, ∞). */
+  readonly bounds: readonly [number, number];
+  /** Whether members have a lifecycle whose warnings, drift signals and replacements get marks. */
+  readonly lifecycle: boolean;
+  readonly description: string;
+}
+
+const CHART_PLANS: Readonly<Record<Task, ChartPlan>> = {
+  classification: {
+    lines: [
+      { name: 'kappa', label: "Cohen's κ", value: (f) => f.kappa },
+      { name: 'accuracy', label: 'accuracy', value: (f) => f.accuracy },
+    ],
+    bounds: [-1, 1],
+    lifecycle: true,
+    description: 'Windowed accuracy and kappa over rows, with drift signals, replacements and input drifts',
+  },
+  regression: {
+    lines: [
+      { name: 'mae', label: 'MAE', value: (f) => f.mae },
+      { name: 'rmse', label: 'RMSE', value: (f) => f.rmse },
+    ],
+    bounds: [0, Number.POSITIVE_INFINITY],
+    lifecycle: false,
+    description: 'Windowed RMSE and MAE over rows, with input drifts',
+  },
+};
+
 /**
- * The windowed accuracy and windowed Cohen's κ of the run over rows (from `window` records, thinned to
- * at most `MOST_POINTS` points per series), with three rows of marks under the plot on the same axis:
- * member drift signals, seat replacements and input drifts. Each mark names its events on hover.
+ * The windowed figures of the run over rows (from `window` records, thinned to at most `MOST_POINTS`
+ * points per series) — accuracy and Cohen's κ of a classification, RMSE and MAE of a regression — with
+ * rows of marks under the plot on the same axis: member warnings, drift signals and seat replacements
+ * (a classification's member lifecycle) and input drifts. Each mark names its events on hover.
  */
-export function metricChart(t: Timeline, frame: TimeFrame): string {
-  const accuracy = thinSeries(t.windows.map((w) => ({ row: w.row, value: w.window.accuracy })));
-  const kappa = thinSeries(t.windows.map((w) => ({ row: w.row, value: w.window.kappa })));
+export function metricChart(t: Timeline, frame: TimeFrame, task: Task = 'classification'): string {
+  const plan = CHART_PLANS[task];
+  const lines = plan.lines.map((line) =>
+    thinSeries(t.windows.map((w) => ({ row: w.row, value: line.value(w.window) }))),
+  );
   const bottom = TOP + PLOT_HEIGHT;
-  const y = linearScale(zoomed([...accuracy, ...kappa]), [bottom, TOP]);
+  const y = linearScale(zoomed(lines.flat(), plan.bounds), [bottom, TOP]);
   const replacementMarks = byColumn(frame, t.replacements);
 
   let svg = yAxis(y, frame);
@@ -33,18 +75,21 @@ export function metricChart(t: Timeline, frame: TimeFrame): string {
       svg += svgElement('line', { x1: g.x, x2: g.x, y1: TOP, y2: bottom, class: 'guide' });
     }
   }
-  // Accuracy, the headline figure, is drawn last so that it stays on top where the lines meet.
-  svg += series(kappa, 'kappa', frame, y);
-  svg += series(accuracy, 'accuracy', frame, y);
+  // The headline figure is drawn last so that it stays on top where the lines meet.
+  plan.lines.forEach((line, k) => {
+    svg += series(lines[k]!, line.name, frame, y);
+  });
   svg += svgElement('line', { x1: frame.left, x2: frame.right, y1: bottom, y2: bottom, class: 'axis' });
 
   let rug = bottom + RUG_GAP;
-  svg += rugRow(frame, rug, 'warnings', 'warning', byColumn(frame, t.warnings), driftSignalText);
-  rug += RUG_ROW;
-  svg += rugRow(frame, rug, 'drift signals', 'drift', byColumn(frame, t.driftSignals), driftSignalText);
-  rug += RUG_ROW;
-  svg += rugRow(frame, rug, 'replacements', 'replacement', replacementMarks, (r) => replacementText(r));
-  rug += RUG_ROW;
+  if (plan.lifecycle) {
+    svg += rugRow(frame, rug, 'warnings', 'warning', byColumn(frame, t.warnings), driftSignalText);
+    rug += RUG_ROW;
+    svg += rugRow(frame, rug, 'drift signals', 'drift', byColumn(frame, t.driftSignals), driftSignalText);
+    rug += RUG_ROW;
+    svg += rugRow(frame, rug, 'replacements', 'replacement', replacementMarks, (r) => replacementText(r));
+    rug += RUG_ROW;
+  }
   svg += rugRow(frame, rug, 'input drifts', 'input', byColumn(frame, t.inputDrifts), inputDriftText);
   const axisY = rug + RUG_ROW - 4;
   svg += timeAxis(frame, axisY);
@@ -54,9 +99,13 @@ export function metricChart(t: Timeline, frame: TimeFrame): string {
   const over = windowRows > 0 ? ` over the last ${grouped(windowRows)} rows` : '';
   const legend =
     `<div class="legend">` +
-    lineKey(SERIES_COLOURS.accuracy, `accuracy${over}`) +
-    lineKey(SERIES_COLOURS.kappa, `Cohen's κ${over}`) +
-    `<span><svg width="10" height="10" viewBox="0 0 10 10" aria-hidden="true"><path d="M1 2H9L5 9Z" fill="${EVENT_COLOURS.replacement}"/></svg>replacement (dashed line through the plot)</span>` +
+    [...plan.lines]
+      .reverse()
+      .map((line) => lineKey(SERIES_COLOURS[line.name], `${line.label}${over}`))
+      .join('') +
+    (plan.lifecycle
+      ? `<span><svg width="10" height="10" viewBox="0 0 10 10" aria-hidden="true"><path d="M1 2H9L5 9Z" fill="${EVENT_COLOURS.replacement}"/></svg>replacement (dashed line through the plot)</span>`
+      : '') +
     `</div>`;
   const empty =
     t.windows.length === 0
@@ -70,8 +119,7 @@ export function metricChart(t: Timeline, frame: TimeFrame): string {
         viewBox: `0 0 ${frame.width} ${px(height)}`,
         role: 'img',
         class: 'chart metrics',
-        'aria-label':
-          'Windowed accuracy and kappa over rows, with drift signals, replacements and input drifts',
+        'aria-label': plan.description,
       },
       svg,
     ) +
@@ -81,10 +129,11 @@ export function metricChart(t: Timeline, frame: TimeFrame): string {
 
 /**
  * The y axis zooms to the data: from the lowest to the highest figure drawn, widened by a tenth of the
- * span on each side and rounded out to steps of 0.05, within [−1, 1] (accuracy and κ both live there).
- * A run whose accuracy moves between 0.86 and 0.90 is drawn over 0.85–0.95, not 0–1.
+ * span on each side and rounded out to steps of 0.05, within the figures' bounds ([−1, 1] for accuracy
+ * and κ, [0, ∞) for errors). A run whose accuracy moves between 0.86 and 0.90 is drawn over 0.85–0.95,
+ * not 0–1.
  */
-function zoomed(points: readonly SeriesPoint[]): [number, number] {
+function zoomed(points: readonly SeriesPoint[], bounds: readonly [number, number]): [number, number] {
   let low = Number.POSITIVE_INFINITY;
   let high = Number.NEGATIVE_INFINITY;
   for (const p of points) {
@@ -94,8 +143,8 @@ function zoomed(points: readonly SeriesPoint[]): [number, number] {
   }
   if (!(high >= low)) return [0, 1];
   const pad = Math.max(0.01, (high - low) / 10);
-  const lo = Math.max(-1, Math.floor((low - pad) * 20) / 20);
-  const hi = Math.min(1, Math.ceil((high + pad) * 20) / 20);
+  const lo = Math.max(bounds[0], Math.floor((low - pad) * 20) / 20);
+  const hi = Math.min(bounds[1], Math.ceil((high + pad) * 20) / 20);
   return [lo, hi];
 }
 

@@ -1,4 +1,10 @@
-import type { JournalRecord, RunRecord, SummaryRecord } from '../journal/index.js';
+import {
+  type JournalRecord,
+  type RunRecord,
+  type SummaryRecord,
+  TASKS,
+  type Task,
+} from '../journal/index.js';
 import { configTable, schemaTable } from './config-table.js';
 import { confusionTables } from './confusion.js';
 import { escapeHtml } from './escape.js';
@@ -28,6 +34,8 @@ export const CAUTION =
  *
  * The report reads the first `run` record and the last `summary`; any part of the journal may be
  * missing (a run that stopped early has no summary) and the report says so where it would have shown it.
+ * A regression's report draws its windowed RMSE and MAE and shows MAE, RMSE and R²: it has no classes
+ * (no confusion matrix) and no member lifecycle (no seats).
  *
  * @example
  * const records = parseJournal(readFileSync('run.ndjson', 'utf8'), 'run.ndjson');
@@ -39,16 +47,23 @@ export function renderReport(records: readonly JournalRecord[], options: ReportO
   const t = timeline(records);
   const frame = timeFrame(t.rows);
   const title = options.title ?? 'Shoal run report';
+  const task = taskOf(run, summary);
+  const judged =
+    task === 'regression'
+      ? [section('RMSE and MAE over the run', metricChart(t, frame, task))]
+      : [
+          section('Accuracy and κ over the run', metricChart(t, frame, task)),
+          section(`Seats (${t.seats})`, seatLanes(t, frame)),
+          section(
+            'Confusion matrix',
+            summary === undefined
+              ? '<p class="note">No summary record: the run did not finish, so there is no confusion matrix.</p>'
+              : confusionTables(summary),
+          ),
+        ];
   const sections = [
-    header(title, run, summary, t),
-    section('Accuracy and κ over the run', metricChart(t, frame)),
-    section(`Seats (${t.seats})`, seatLanes(t, frame)),
-    section(
-      'Confusion matrix',
-      summary === undefined
-        ? '<p class="note">No summary record: the run did not finish, so there is no confusion matrix.</p>'
-        : confusionTables(summary),
-    ),
+    header(title, run, summary, t, task),
+    ...judged,
     section(
       'Configuration',
       run === undefined ? '<p class="note">No run record.</p>' : configTable(run.config),
@@ -61,6 +76,12 @@ export function renderReport(records: readonly JournalRecord[], options: ReportO
     `<title>${escapeHtml(title)}</title><style>${STYLE}</style></head>` +
     `<body><main>${sections.join('\n')}\n<footer>${escapeHtml(options.caution ?? CAUTION)}</footer></main></body></html>\n`
   );
+}
+
+/** The run's task, from its summary or else its configuration (a journal without either: classification). */
+function taskOf(run: RunRecord | undefined, summary: SummaryRecord | undefined): Task {
+  const configured = run?.config.task;
+  return summary?.task ?? (TASKS.includes(configured as Task) ? (configured as Task) : 'classification');
 }
 
 function section(heading: string, body: string): string {

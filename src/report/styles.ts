@@ -5,7 +5,12 @@ import type { MemberState } from '../journal/index.js';
  * colour-vision deficiencies (after the Okabe & Ito palette, "Color universal design", 2008, from
  * memory); member states run from calm (active) to alert (watched).
  */
-export const SERIES_COLOURS = { accuracy: '#0072b2', kappa: '#d55e00' } as const;
+export const SERIES_COLOURS = {
+  accuracy: '#0072b2',
+  kappa: '#d55e00',
+  rmse: '#0072b2',
+  mae: '#d55e00',
+} as const;
 export const EVENT_COLOURS = {
   warning: '#d08c00',
   drift: '#7b3fa0',
@@ -59,6 +64,8 @@ svg .zero{stroke:#b8bec8;stroke-width:1}
 svg .series{fill:none;stroke-width:1.6;stroke-linejoin:round}
 svg .s-accuracy{stroke:${SERIES_COLOURS.accuracy}}
 svg .s-kappa{stroke:${SERIES_COLOURS.kappa}}
+svg .s-rmse{stroke:${SERIES_COLOURS.rmse}}
+svg .s-mae{stroke:${SERIES_COLOURS.mae}}
 svg .rug{stroke:#eef0f3;stroke-width:1}
 svg .m-warning{fill:${EVENT_COLOURS.warning}}
 svg .m-drift{fill:${EVENT_COLOURS.drift}}

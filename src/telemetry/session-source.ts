@@ -84,9 +84,10 @@ export class SessionTelemetry implements TelemetrySource {
       const schema = made?.runSchema ?? null;
       const model = session.model;
       if (model === null || schema === null) return null;
-      const lifecycle = session.config.ensemble.lifecycle;
+      const spec = session.config.ensemble;
+      const lifecycle = 'lifecycle' in spec ? spec.lifecycle : undefined;
       return {
-        ensemble: session.config.ensemble.kind,
+        ensemble: spec.kind,
         detector: lifecycle?.enabled === false ? null : (lifecycle?.detector?.kind ?? null),
         seats: model.seats().length,
         features: schema.features.map((f) => ({ name: f.name, kind: f.kind })),

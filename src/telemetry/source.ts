@@ -51,7 +51,7 @@ export type LabelOutcome = (typeof LABEL_OUTCOMES)[number];
  */
 export const SIGNAL_CAUSES = {
   warning: ['watched'],
-  drift: ['drift', 'drift-deferred', 'drift-ignored-improving'],
+  drift: ['drift', 'drift-on-trial', 'drift-deferred', 'drift-ignored-improving'],
 } as const satisfies Record<string, readonly LifecycleCause[]>;
 export type SignalLevel = keyof typeof SIGNAL_CAUSES;
 export type SignalCause = (typeof SIGNAL_CAUSES)[SignalLevel][number];

@@ -3,6 +3,7 @@ import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { configFingerprint } from '../../src/checkpoint/index.js';
 import type { CheckpointSummary } from '../../src/cli/inspect.js';
+import type { EnsembleSnapshot } from '../../src/ensembles/index.js';
 import { FileCheckpointStore } from '../../src/files/index.js';
 import type { SessionSnapshot } from '../../src/pipeline/index.js';
 import { scratch, shoal } from '../support/cli.js';
@@ -62,7 +63,7 @@ describe('shoal inspect', () => {
     expect(s.pending).toEqual({ waiting: 0, capacity: session.pending!.capacity });
     expect(s.window.accuracy).toBeGreaterThan(0.9);
     expect(s.seats).toHaveLength(3);
-    const seats = session.ensemble!.lifecycle.seats;
+    const seats = (session.ensemble as EnsembleSnapshot).lifecycle.seats;
     s.seats.forEach((seat, i) => {
       expect(seat.member).toBe(seats[i]!.memberId);
       expect(seat.state).toBe(seats[i]!.state);
@@ -73,7 +74,7 @@ describe('shoal inspect', () => {
       expect(seat.recentAccuracy).toBeGreaterThanOrEqual(0);
       expect(seat.recentAccuracy).toBeLessThanOrEqual(1);
     });
-    expect(s.epoch).toBe(session.ensemble!.lifecycle.epoch);
+    expect(s.epoch).toBe((session.ensemble as EnsembleSnapshot).lifecycle.epoch);
   });
 
   it('prints a readable summary of a checkpoint file', async () => {

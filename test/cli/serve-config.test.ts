@@ -96,6 +96,7 @@ kafka:
       clientId: 'shoal',
       events: { topics: ['legs'], format: 'arrow', fromBeginning: true, maxMessageBytes: 1048576 },
       journal: { topic: null, file: null },
+      checkpoint: { dir: null },
       shutdownMs: 30000,
       sasl: null,
       tls: null,

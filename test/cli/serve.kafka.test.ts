@@ -1,9 +1,12 @@
-import { readFile, writeFile } from 'node:fs/promises';
+import { readdir, readFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { tableToIPC } from 'apache-arrow';
 import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
+import { canonicalJson, decodeCheckpoint, type RunCheckpoint } from '../../src/checkpoint/index.js';
 import { Rng } from '../../src/core/index.js';
+import type { FrameDecoderSnapshot } from '../../src/frames/index.js';
+import type { SessionSnapshot } from '../../src/pipeline/index.js';
 import { scratch, shoal } from '../support/cli.js';
 import { createServeTopics, kafkaSection, serveTopics } from '../support/kafka-config.js';
 import { arrowMessage, eventTable, seaEvents } from '../support/kafka-events.js';
@@ -24,7 +27,7 @@ const RUN = { seed: 11, ensemble: { kind: 'bagging', members: 5 }, inputs: { lab
 describe('shoal serve on a real broker', () => {
   afterEach(killServes);
 
-  it('scores 50,000 Arrow events with inline labels exactly as replay does, and exits 0 on SIGTERM having committed', async () => {
+  it('scores 50,000 Arrow events with inline labels into the model replay builds, and exits 0 on SIGTERM having committed', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();
     await createServeTopics(brokers, t);
@@ -42,7 +45,10 @@ describe('shoal serve on a real broker', () => {
       config,
       stringify({
         ...RUN,
-        kafka: kafkaSection(brokers, t, { journal: { topic: t.journal, file: journal } }),
+        kafka: kafkaSection(brokers, t, {
+          journal: { topic: t.journal, file: journal },
+          checkpoint: { dir: join(dir, 'serve-checkpoints') },
+        }),
       }),
     );
     const serve = new ServeProcess(config);
@@ -63,8 +69,23 @@ describe('shoal serve on a real broker', () => {
     const file = join(dir, 'events.arrow');
     await writeFile(file, tableToIPC(eventTable(events, 0, rows, true), 'file'));
     await writeFile(join(dir, 'run.yaml'), stringify(RUN));
-    const replay = await shoal('replay', file, '--config', join(dir, 'run.yaml'), '--json');
+    const replay = await shoal(
+      'replay',
+      file,
+      ...['--config', join(dir, 'run.yaml'), '--json', '--checkpoint', join(dir, 'replay-checkpoints')],
+    );
     expect(replay.code, replay.err).toBe(0);
+    // The final model: serve's checkpoint written on SIGTERM against replay's last, byte for byte but for
+    // what names the source (stream positions, label timing, the decoder's label option: serve's events
+    // may lack the label column) and the wall-clock fields (createdAt).
+    const served = model(await newest(join(dir, 'serve-checkpoints')));
+    const replayed = model(await newest(join(dir, 'replay-checkpoints')));
+    expect(served.positions).toEqual({ [`${t.events}/0`]: String(messages.length) });
+    expect(replayed.positions).toEqual({ [file]: String(rows) });
+    expect(served.session.length).toBeGreaterThan(10_000);
+    note(`final model: ${served.session.length} bytes of session snapshot, equal to replay's`);
+    expect(served.session).toBe(replayed.session);
+    expect(served.decoder).toBe(replayed.decoder);
     const offline = JSON.parse(replay.out) as Record<string, unknown>;
     const lines = (await readFile(journal, 'utf8'))
       .trim()
@@ -162,6 +183,31 @@ describe('shoal serve on a real broker', () => {
     expect(summary.accuracy).toBeGreaterThan(0.8);
   });
 });
+
+/** The newest checkpoint file in `dir`, decoded (its header, length and SHA-256 checked). */
+async function newest(dir: string): Promise<RunCheckpoint<FrameDecoderSnapshot, SessionSnapshot>> {
+  const names = (await readdir(dir)).filter((n) => n.endsWith('.shoal')).sort();
+  expect(names.length).toBeGreaterThan(0);
+  const where = join(dir, names[names.length - 1]!);
+  return decodeCheckpoint(await readFile(where), where) as RunCheckpoint<
+    FrameDecoderSnapshot,
+    SessionSnapshot
+  >;
+}
+
+/**
+ * A checkpoint's model as canonical JSON text: the session's snapshot without its stream positions and
+ * the decoder's state without the options it was given; the positions apart.
+ */
+function model(c: RunCheckpoint<FrameDecoderSnapshot, SessionSnapshot>): {
+  session: string;
+  decoder: string;
+  positions: Readonly<Record<string, string>>;
+} {
+  const { positions, ...session } = c.state.session;
+  const { options: _, ...decoder } = c.state.decoder.state;
+  return { session: canonicalJson(session), decoder: canonicalJson(decoder), positions };
+}
 
 /** Wait until the group has committed `offset` on partition 0 of `topic`. */
 async function committed(brokers: string, group: string, topic: string, offset: number): Promise<void> {

@@ -23,14 +23,15 @@ describe('special functions', () => {
     expect(Math.abs(logGamma(0.5) - 0.5 * Math.log(Math.PI))).toBeLessThan(1e-12);
   });
 
-  it('erfc matches tabulated values to 1.2e-7 relative', () => {
-    // Abramowitz & Stegun, Table 7.1 (erf 0.5 = 0.5204998778, erf 1 = 0.8427007929, erf 2 = 0.9953222650).
+  it('erfc matches tabulated values to 1.5e-7 absolute', () => {
+    // Abramowitz & Stegun, Table 7.1 (erf 0.5 = 0.5204998778, erf 1 = 0.8427007929, erf 2 = 0.9953222650);
+    // the bound is that of their approximation 7.1.26.
     const table: [number, number][] = [
       [0.5, 1 - 0.5204998778],
       [1, 1 - 0.8427007929],
       [2, 1 - 0.995322265],
       [-1, 1 + 0.8427007929],
     ];
-    for (const [x, want] of table) expect(Math.abs(erfc(x) - want) / want).toBeLessThan(1.2e-7);
+    for (const [x, want] of table) expect(Math.abs(erfc(x) - want)).toBeLessThan(1.5e-7);
   });
 });

@@ -65,7 +65,7 @@ describe('parseJournal', () => {
       `x:${life}: lifecycle record: to must be one of warming, active, watched, retired, got "asleep"`,
     );
     expect(failure('x', withLine(life, JSON.stringify({ ...l, cause: 'bored' }))).message).toBe(
-      `x:${life}: lifecycle record: cause must be one of created, warmed, watched, watch-cleared, drift, drift-deferred, drift-ignored-improving, promoted, fresh, got "bored"`,
+      `x:${life}: lifecycle record: cause must be one of created, warmed, watched, watch-cleared, drift, drift-on-trial, outperformed, trial-lapsed, drift-deferred, drift-ignored-improving, promoted, fresh, got "bored"`,
     );
     expect(failure('x', withLine(life, JSON.stringify({ ...l, learner: undefined }))).message).toMatch(
       new RegExp(`^x:${life}: lifecycle record: learner must be a string`),
@@ -87,7 +87,7 @@ describe('parseJournal', () => {
   it('refuses another journal version, skips record types it does not know, reads null estimates as NaN', () => {
     const r = JSON.parse(lines[0]!) as object;
     expect(failure('x', withLine(1, JSON.stringify({ ...r, version: 1 }))).message).toBe(
-      'x:1: run record: version must be 3 (the journal format this Shoal reads), got 1',
+      'x:1: run record: version must be 4 (the journal format this Shoal reads), got 1',
     );
     const extra = `${lines[0]}\n{"type":"checkpoint","scored":100,"bytes":5120}\n${lines.slice(1).join('\n')}`;
     expect(parseJournal(extra, 'x')).toEqual(run.records);

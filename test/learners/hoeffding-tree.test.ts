@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { decodeF64, decodeI32 } from '../../src/core/index.js';
 import { HoeffdingTree } from '../../src/learners/hoeffding-tree.js';
 import type { LearnerSnapshot } from '../../src/learners/learner.js';
 import { led, type StreamGenerator, sea, stagger } from '../../src/streams/index.js';
@@ -95,19 +96,46 @@ describe('hoeffding-tree mechanics', () => {
     expect(accuracy).toBeGreaterThan(0.8);
   });
 
-  it('routes missing values to the most-travelled branch and never trains statistics on them', () => {
+  it('routes missing values to the branch that took the most weight at its split, and never trains statistics on them', () => {
     const gen = sea({ noise: 0 }, 32);
     const tree = new HoeffdingTree(gen.schema, {}, 1);
-    prequential(tree, gen, 20_000);
+    const width = gen.schema.features.length;
+    const row = new Float64Array(width);
     const out = new Float64Array(2);
-    const row = new Float64Array([Number.NaN, Number.NaN, Number.NaN]);
-    const k = tree.score(row, 0, out, 0);
+    while (tree.shape.nodes === 1) tree.scoreTrain(row, 0, gen.next(row, 0), 1, out, 0);
+    type State = { firstChild: string; missingChild: string; leafOf: string; heads: string; classes: number };
+    const i32 = (text: string) => decodeI32(text, 'test');
+    const f64 = (text: string) => decodeF64(text, 'test');
+    const before = tree.snapshot().state as State;
+    const first = i32(before.firstChild)[0]!;
+    const leafOf = i32(before.leafOf);
+    const headSize = 4 + before.classes;
+    // Each child starts with the class weight its branch received: the heavier one takes missing values.
+    const weightOf = (heads: Float64Array, node: number) => {
+      const at = leafOf[node]! * headSize + 4;
+      return heads[at]! + heads[at + 1]!;
+    };
+    const seeded = f64(before.heads);
+    const heavier = weightOf(seeded, first + 1) > weightOf(seeded, first) ? 1 : 0;
+    expect(i32(before.missingChild)[0]).toBe(heavier);
+    const missing = new Float64Array([Number.NaN, Number.NaN, Number.NaN]);
+    tree.train(missing, 0, 0, 5);
+    const after = f64((tree.snapshot().state as State).heads);
+    expect(weightOf(after, first + heavier) - weightOf(seeded, first + heavier)).toBe(5);
+    expect(weightOf(after, first + 1 - heavier)).toBe(weightOf(seeded, first + 1 - heavier));
+    const k = tree.score(missing, 0, out, 0);
     expect(k === 0 || k === 1).toBe(true);
     expect(Math.abs(out[0]! + out[1]! - 1)).toBeLessThan(1e-12);
     // A tree fed only missing values has no statistics to split on, however much weight it sees.
     const blind = new HoeffdingTree(gen.schema, { checkInterval: 10 }, 1);
-    for (let i = 0; i < 2000; i++) blind.train(row, 0, i % 2, 1);
+    for (let i = 0; i < 2000; i++) blind.train(missing, 0, i % 2, 1);
     expect(blind.shape.nodes).toBe(1);
+  });
+
+  it('refuses a snapshot of the former format (version 4, a weight per node), saying which versions', () => {
+    const tree = new HoeffdingTree(sea().schema, {}, 1);
+    const old = { ...tree.snapshot(), version: 4 };
+    expect(() => HoeffdingTree.restore(old)).toThrow(/format version 4; this build reads version 5/);
   });
 
   it('refuses bad options, naming the parameter', () => {

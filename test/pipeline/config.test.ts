@@ -113,7 +113,7 @@ describe('resolveConfig', () => {
 
   it('names the top level when the file is not a mapping', () => {
     expect(issuesOf([{ seed: 1 }])).toEqual([
-      '(top level): a configuration is a mapping of seed, ensemble, evaluation, inputs and labels, got a list',
+      '(top level): a configuration is a mapping of seed, task, ensemble, evaluation, inputs and labels, got a list',
     ]);
   });
 

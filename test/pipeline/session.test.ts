@@ -79,9 +79,10 @@ describe('the learning session', () => {
     expect(windows.map((w) => w.trained)).toEqual([1000, 2000, 3000, 4000, 5000, 6000]);
     const lifecycle = records.filter((r) => r.type === 'lifecycle');
     expect(summary.replacements).toBe(lifecycle.filter((r) => r.to === 'retired').length);
-    expect(summary.warnings).toBe(lifecycle.filter((r) => r.to === 'watched').length);
+    expect(summary.warnings).toBe(lifecycle.filter((r) => r.cause === 'watched').length);
     expect(summary.replacements).toBeGreaterThan(0);
-    expect(s.metrics.lifecycleCounts().drift).toBe(summary.replacements);
+    const counts = s.metrics.lifecycleCounts();
+    expect(counts.drift + counts.outperformed).toBe(summary.replacements);
     expect(records.at(-1)).toEqual(summary);
     expect(summary).toMatchObject({ rows: 6000, scored: 6000, trained: 6000 });
     expect(summary.labels.inline).toBe(6000);

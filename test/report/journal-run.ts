@@ -42,6 +42,9 @@ function view(f: ClassificationFigures): ViewFigures {
     kappaM: f.kappaM,
     kappaNoChange: f.kappaNoChange,
     logLoss: f.logLoss,
+    mae: null,
+    rmse: null,
+    r2: null,
   };
 }
 
@@ -111,6 +114,7 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
   const total = evaluation.summary().cumulative;
   records.push({
     type: 'summary',
+    task: 'classification',
     scored: rows,
     trained: rows,
     rows,
@@ -120,10 +124,13 @@ export function journalRun(options: JournalRunOptions = {}): JournalRun {
     kappaNoChange: total.kappaNoChange,
     logLoss: total.logLoss,
     macroF1: total.macroF1,
+    mae: null,
+    rmse: null,
+    r2: null,
     classes: stream.classes,
     confusion: total.confusion,
     driftSignals: lifecycle.filter((r) => isDriftSignal(r.cause)).length,
-    warnings: lifecycle.filter((r) => r.to === 'watched').length,
+    warnings: lifecycle.filter((r) => r.cause === 'watched').length,
     replacements: lifecycle.filter((r) => r.to === 'retired').length,
     inputDrifts: 0,
     labels: inline(rows),

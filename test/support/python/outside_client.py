@@ -25,7 +25,7 @@ def produce(brokers, topic, rows, seed, codec):
         f3 = [10 * rng.random() for _ in range(n)]
         table = pa.table(
             {
-                "id": [f"py{start + i}" for i in range(n)],
+                "id": [f"py-{codec}-{start + i}" for i in range(n)],
                 "f1": f1,
                 "f2": f2,
                 "f3": f3,
