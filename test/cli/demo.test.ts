@@ -3,7 +3,7 @@ import { readdir, readFile, stat } from 'node:fs/promises';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import type { LifecycleRecord } from '../../src/journal/index.js';
-import { parseJournal } from '../../src/journal/index.js';
+import { isDriftSignal, parseJournal } from '../../src/journal/index.js';
 import { driftRows, SCRIPT } from '../../src/scenario/index.js';
 import { scratch } from '../support/cli.js';
 import { note } from '../support/note.js';
@@ -12,12 +12,15 @@ import { note } from '../support/note.js';
  * `shoal demo --rows 20000` run as a user runs it: the built CLI (bin/shoal.js) as a child process on a
  * non-terminal (pipes). With the default ensemble (10-member bagging of Hoeffding trees, ADWIN per
  * member) and the default seed, every scripted abrupt drift is followed within TOLERANCE legs by a
- * member drift signal and a replacement, and the first stable stretch has neither.
+ * member drift signal towards more errors, at least one of them by a replacement, and the first stable
+ * stretch has neither. Not every abrupt drift is followed by a replacement: since a replacement needs
+ * proof (the understudy measurably more accurate on the same rows), the members re-learn the firmware
+ * update and the new carrier as fast as their understudies and keep their seats (README, "The demo
+ * scenario").
  */
 const ROWS = 20_000;
-/** Legs after an abrupt drift within which a signal and a replacement must appear (10% of the run). */
+/** Legs after an abrupt drift within which a signal (and a replacement) must appear (10% of the run). */
 const TOLERANCE = 2_000;
-const SIGNAL = new Set(['drift', 'drift-deferred', 'drift-ignored-improving']);
 const REPLACED = new Set(['promoted', 'fresh']);
 
 interface Ran {
@@ -54,7 +57,7 @@ function run(args: readonly string[]): Promise<Ran> {
 }
 
 describe('shoal demo', () => {
-  it('runs the scenario: drift signals and replacements after each abrupt drift, a journal, checkpoint and report', async () => {
+  it('runs the scenario: a drift signal after each abrupt drift, a replacement after at least one, none before; a journal, checkpoint and report', async () => {
     const dir = await scratch();
     const { code, out, err, scrape } = await run(['demo', '--rows', String(ROWS), '--out', dir]);
     expect(err).not.toMatch(/unexpected failure/);
@@ -77,20 +80,25 @@ describe('shoal demo', () => {
     const at = driftRows(ROWS);
     const firstDrift = Math.min(...at.values());
     const early = changes.filter(
-      (c) => c.scored <= firstDrift && (SIGNAL.has(c.cause) || REPLACED.has(c.cause)),
+      (c) => c.scored <= firstDrift && (isDriftSignal(c.cause) || REPLACED.has(c.cause)),
     );
     expect(early).toEqual([]);
+    let replacedAfter = 0;
     for (const d of SCRIPT.filter((s) => s.kind === 'abrupt')) {
       const row = at.get(d.name)!;
       const near = changes.filter((c) => c.scored > row && c.scored <= row + TOLERANCE);
-      const signal = near.find((c) => SIGNAL.has(c.cause) && c.cause !== 'drift-ignored-improving');
+      const signal = near.find((c) => isDriftSignal(c.cause) && c.cause !== 'drift-ignored-improving');
       const replaced = near.find((c) => REPLACED.has(c.cause));
+      if (replaced !== undefined) replacedAfter++;
       note(
         `${d.name} at leg ${row}: first drift signal ${signal ? `+${signal.scored - row}` : 'none'}, first replacement ${replaced ? `+${replaced.scored - row}` : 'none'} (tolerance ${TOLERANCE})`,
       );
       expect(signal, `${d.name}: a member drift signal within ${TOLERANCE} legs`).toBeDefined();
-      expect(replaced, `${d.name}: a replacement within ${TOLERANCE} legs`).toBeDefined();
     }
+    expect(
+      replacedAfter,
+      `abrupt drifts followed by a replacement within ${TOLERANCE} legs`,
+    ).toBeGreaterThanOrEqual(1);
     const summary = records.findLast((r) => r.type === 'summary');
     expect(summary).toMatchObject({ scored: ROWS });
     expect(summary!.type === 'summary' && summary!.labels.joined).toBe(ROWS);
