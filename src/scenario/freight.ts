@@ -33,8 +33,9 @@ import {
  * The script, at fixed shares of the scenario's `length` (rows; `SCRIPT` below):
  * - `seafood-rule` (abrupt): the seafood limit drops from 2.5 °C to 0.5 °C above setpoint;
  * - `heat-wave` (gradual): ambient temperature rises by up to 9 °C, holds, and falls back;
- * - `firmware` (abrupt): every sensor moves to firmware thermo-ox 3.0, which reads 3–7 °C low, differently on every trailer;
- * - `new-carrier` (abrupt): Brisk Badger Logistics takes half of the legs; its loads leave warm.
+ * - `firmware` (abrupt): every sensor moves to firmware thermo-ox 3.0, which reads 5–9 °C low, differently on every trailer;
+ * - `new-carrier` (abrupt): Brisk Badger Logistics takes half of the legs; its doors open often, so its
+ *   boxes read warm, but its loads leave deep-chilled and pass inspection.
  * After `length` rows the world stays as the script left it.
  */
 
@@ -106,13 +107,13 @@ export const SCRIPT: readonly ScriptedDrift[] = [
     name: 'firmware',
     kind: 'abrupt',
     at: 0.6,
-    what: 'sensor firmware thermo-ox 3.0 on every trailer: box readings 3–7 °C low (a calibration bug)',
+    what: 'sensor firmware thermo-ox 3.0 on every trailer: box readings 5–9 °C low (a calibration bug)',
   },
   {
     name: 'new-carrier',
     kind: 'abrupt',
     at: 0.8,
-    what: 'a new carrier, Brisk Badger Logistics, takes half of the legs; its loads leave warm',
+    what: 'a new carrier, Brisk Badger Logistics, takes half of the legs; its boxes read warm, its loads leave deep-chilled',
   },
 ];
 
@@ -147,11 +148,11 @@ const SEAFOOD_STRICT = 0.5;
 const SHARES_CARRIER = [0.35, 0.3, 0.2, 0.15];
 const NEW_CARRIER_SHARE = 0.5;
 /** Door openings per hour on the road, per carrier. */
-const DOOR_RATE = [0.15, 0.25, 0.35, 0.2, 0.6];
+const DOOR_RATE = [0.15, 0.25, 0.35, 0.2, 1.0];
 /** How warm the load is when it leaves (°C above setpoint): unseen by the sensors. */
-const LOAD_WARMTH = [0.8, 1.1, 1.5, 1.0, -1.5];
+const LOAD_WARMTH = [0.8, 1.1, 1.5, 1.0, -3];
 const HEAT_PEAK = 9;
-const FIRMWARE_OFFSET = -5;
+const FIRMWARE_OFFSET = -7;
 const SEAFOOD = 4;
 const NEW_CARRIER = 4;
 
@@ -268,7 +269,7 @@ export class FreightScenario {
       0.06 * Math.max(0, ambient - 15) +
       0.08 * openMinutes +
       0.9 * Math.abs(rng.normal());
-    // The new firmware's calibration bug: readings low by 3–7 °C, differently on every trailer.
+    // The new firmware's calibration bug: readings low by 5–9 °C, differently on every trailer.
     const sensorOffset = this.begun('firmware', index) ? FIRMWARE_OFFSET + 4 * (rng.next() - 0.5) : 0;
     const mean = setpoint + excess + sensorOffset;
     const max = mean + 1 + 0.4 * openings + 1.2 * Math.abs(rng.normal());
