@@ -137,8 +137,8 @@ export class DemoView {
       ...Array.from({ length: EVENTS - this.events.length }, () => ''),
     ];
     const up = this.drawnLines > 0 ? `\x1b[${this.drawnLines}F` : '';
-    const fit = (l: string): string => (width > 0 && l.length >= width ? `${l.slice(0, width - 2)}…` : l);
-    this.terminal.err(`${up}${lines.map((l) => `\x1b[2K${fit(l)}`).join('\n')}\n`);
+    const clip = (l: string): string => (width > 0 && l.length >= width ? `${l.slice(0, width - 2)}…` : l);
+    this.terminal.err(`${up}${lines.map((l) => `\x1b[2K${clip(l)}`).join('\n')}\n`);
     this.drawnLines = lines.length;
   }
 }
