@@ -66,7 +66,15 @@ export {
 export type { ClassificationFigures, ClassificationView } from './evaluation/index.js';
 export { ClassificationEvaluator, RegressionEvaluator, SeatScores } from './evaluation/index.js';
 export { createWriter, FileCheckpointStore, readCheckpointFile, readFrames } from './files/index.js';
-export type { Decoded, FeatureSpec, Frame, FrameOptions, FrameWriter, Rejection } from './frames/index.js';
+export type {
+  Decoded,
+  FeatureSpec,
+  Frame,
+  FrameOptions,
+  FrameWriter,
+  LabelsAs,
+  Rejection,
+} from './frames/index.js';
 export { decodeArrowMessage, decodeJsonRecord, FrameDecoder } from './frames/index.js';
 export type {
   JournalRecord,
@@ -75,6 +83,7 @@ export type {
   LifecycleRecord,
   MemberState,
   SummaryRecord,
+  Task,
 } from './journal/index.js';
 export { journalLine, LIFECYCLE_CAUSES, parseJournal } from './journal/index.js';
 export type {
@@ -95,6 +104,7 @@ export {
 export type {
   Clock,
   JournalSink,
+  RegressionEnsembleSpec,
   RunConfig,
   ScoreBatch,
   SessionMetrics,

@@ -1,7 +1,7 @@
 import { ConfigError, ShoalError } from '../core/index.js';
 import { DETECTOR_KINDS } from '../drift/index.js';
 import { ENSEMBLE_KINDS } from '../ensembles/index.js';
-import { countRows, deadLetterFile } from '../files/index.js';
+import { countRows, deadLetterFile, recordedChanges } from '../files/index.js';
 import { FrameDecoder, type FrameFormat, type FrameOptions } from '../frames/index.js';
 import type { JournalRecord, LabelCounts, SummaryRecord } from '../journal/index.js';
 import { CLASSIFIER_KINDS, REGRESSOR_KINDS } from '../learners/index.js';
@@ -272,6 +272,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     },
     clock,
     version: shoalVersion(),
+    changes: await recordedChanges(file!, format),
   };
   const resumed =
     checkpoints !== null && text(parsed, 'resume') !== undefined

@@ -22,8 +22,11 @@ export function describeSchema(file: string, decoder: FrameDecoder, declared: bo
       ? 'numeric'
       : `nominal, ${f.values} codes${f.categories === undefined ? '' : ` (${f.categories.length} named)`}`,
   ]);
+  const binding = decoder.binding;
+  if (binding !== null && binding.names[0] === '' && !binding.features.includes(0))
+    rows.unshift(['(unnamed)', 'row index (the first column has no name): not a feature']);
   const mode = decoder.labelMode;
-  if (label !== null && decoder.binding !== null && decoder.binding.label >= 0) {
+  if (label !== null && binding !== null && binding.label >= 0) {
     const reading =
       mode === 'value'
         ? 'regression target (numbers)'

@@ -1,6 +1,11 @@
 import type { WriteStream } from 'node:fs';
-import { configFingerprint, type RunCheckpoint, runCheckpoint } from '../checkpoint/index.js';
-import { encodeScores, FrameDecoder, type FrameOptions, SCORES_CONTENT_TYPE } from '../frames/index.js';
+import {
+  encodeScores,
+  FrameDecoder,
+  type FrameDecoderSnapshot,
+  type FrameOptions,
+  SCORES_CONTENT_TYPE,
+} from '../frames/index.js';
 import type { JournalRecord } from '../journal/index.js';
 import {
   BatchDecoder,
@@ -13,7 +18,7 @@ import {
   scoresMessage,
   type TopicOutputs,
 } from '../kafka/index.js';
-import { LearningSession, liveClock, type RunConfig } from '../pipeline/index.js';
+import { LearningSession, liveClock, type RunConfig, type SessionSnapshot } from '../pipeline/index.js';
 import { ServeTelemetry, SessionTelemetry } from '../telemetry/index.js';
 
 /** Rows per scores message: about 60 bytes a row (two classes), far below the broker's 1 MiB limit. */
@@ -30,6 +35,8 @@ export class ServeModels {
   /** What the telemetry endpoint reads: every session's metrics, dead letters and lag. */
   readonly telemetry = new ServeTelemetry();
   private readonly states = new Map<string, ScopeState>();
+  /** Each session's telemetry, told when a checkpoint of it is written; null without checkpoints. */
+  private readonly checkpointed: Map<string, SessionTelemetry> | null;
 
   constructor(
     private readonly config: RunConfig,
@@ -37,18 +44,30 @@ export class ServeModels {
     private readonly frameOptions: FrameOptions,
     private readonly version: string,
     private readonly journalFile: WriteStream | null,
-  ) {}
+    checkpoints: boolean,
+  ) {
+    this.checkpointed = checkpoints ? new Map() : null;
+  }
+
+  /** A checkpoint of `key` was written now (telemetry's checkpoint age). */
+  saved(key: string): void {
+    this.checkpointed?.get(key)?.checkpointed();
+  }
 
   /** The output messages for one batch (its scores, dead letters and journal records). */
-  handle(batch: FetchedBatch): { outputs: TopicOutputs[]; scored: number; dead: DeadLetter[] } {
+  handle(batch: FetchedBatch): { outputs: TopicOutputs[]; scored: number; rows: number; dead: DeadLetter[] } {
     const key = this.settings.scope === 'global' ? 'global' : `${batch.topic}/${batch.partition}`;
     const state = this.state(key);
     const dead: DeadLetter[] = [];
     const scores: OutputMessage[] = [];
     let scored = 0;
+    let rows = 0;
     if (batch.topic === this.settings.labels?.topic) {
       const labels = this.labels(state).decode(batch.topic, batch.partition, batch.messages, dead);
-      if (labels !== null) state.session.learn(labels.frame, state.decoder.classes);
+      if (labels !== null) {
+        state.session.learn(labels.frame, state.decoder.classes);
+        rows = labels.frame.rows;
+      }
     } else {
       const events = state.events.decode(batch.topic, batch.partition, batch.messages, dead);
       if (events !== null) {
@@ -62,13 +81,54 @@ export class ServeModels {
           );
           scores.push(scoresMessage(events.stream, ipc, SCORES_CONTENT_TYPE));
         }
-        state.session.advance(events.stream, events.next);
         scored = out.rows;
+        rows = out.rows;
       }
     }
+    // Every handled message moves its stream on, dead letters too: the session's positions are the
+    // offsets a checkpoint of it covers.
+    const last = batch.messages[batch.messages.length - 1];
+    if (last !== undefined)
+      state.session.advance(`${batch.topic}/${batch.partition}`, BigInt(last.offset) + 1n);
     if (dead.length > 0) state.session.reject(dead.length);
     for (const d of dead) this.telemetry.deadLettered(d.code);
-    return { outputs: this.outputs(key, state, scores, dead), scored, dead };
+    return { outputs: this.outputs(key, state, scores, dead), scored, rows, dead };
+  }
+
+  /** Whether a `topic/partition` stream is one of the labels topic. */
+  isLabels(stream: string): boolean {
+    const topic = this.settings.labels?.topic;
+    return (
+      topic !== undefined && stream.startsWith(`${topic}/`) && !stream.slice(topic.length + 1).includes('/')
+    );
+  }
+
+  /** The scope key of a `topic/partition` stream: `global`, or the stream itself. */
+  key(stream: string): string {
+    return this.settings.scope === 'global' ? 'global' : stream;
+  }
+
+  /** The scope keys that hold a session now. */
+  keys(): string[] {
+    return [...this.states.keys()];
+  }
+
+  /** Where the session of `key` goes on reading each stream it read (empty when there is none). */
+  positions(key: string): ReadonlyMap<string, bigint> {
+    return this.states.get(key)?.session.resumePositions() ?? new Map();
+  }
+
+  /** What a checkpoint of `key` holds: the events decoder's state and the session's snapshot. */
+  parts(key: string): { decoder: FrameDecoderSnapshot; session: SessionSnapshot } | null {
+    const state = this.states.get(key);
+    if (state === undefined) return null;
+    return { decoder: state.decoder.snapshot(), session: state.session.snapshot() };
+  }
+
+  /** Take up the session of `key` from a checkpoint's parts (before any batch of it is handled). */
+  restore(key: string, parts: { decoder: FrameDecoderSnapshot; session: SessionSnapshot }): void {
+    if (this.states.has(key)) throw new Error(`the session of ${key} is already running`);
+    this.state(key, parts);
   }
 
   /** Drop the sessions of streams this instance no longer reads (`partition` scope). */
@@ -77,26 +137,10 @@ export class ServeModels {
     const dropped = [...this.states.keys()].filter((key) => !streams.includes(key));
     for (const key of dropped) {
       this.states.delete(key);
+      this.checkpointed?.delete(key);
       this.telemetry.drop(key);
     }
     return dropped;
-  }
-
-  /**
-   * Each session's run checkpoint as it is now, by scope key (`global`, or `topic/partition`): the
-   * events decoder's state and the session's snapshot, as `replay --checkpoint` writes them, with
-   * `{ source: 'kafka', labels }` (the labels topic or null) as the label timing.
-   */
-  checkpoints(createdAt: string): { key: string; checkpoint: RunCheckpoint }[] {
-    const meta = { shoal: this.version, fingerprint: configFingerprint(this.config), createdAt };
-    const labelTiming = { source: 'kafka', labels: this.settings.labels?.topic ?? null };
-    return [...this.states].map(([key, state]) => ({
-      key,
-      checkpoint: runCheckpoint(
-        { decoder: state.decoder.snapshot(), session: state.session.snapshot(), labelTiming },
-        meta,
-      ),
-    }));
   }
 
   /** Close every session: the summary records to send before exit. */
@@ -142,32 +186,45 @@ export class ServeModels {
     return state.labels;
   }
 
-  private state(key: string): ScopeState {
+  private state(
+    key: string,
+    restored: { decoder: FrameDecoderSnapshot; session: SessionSnapshot } | null = null,
+  ): ScopeState {
     let state = this.states.get(key);
     if (state === undefined) {
-      const decoder = new FrameDecoder(this.frameOptions, 'inputs');
+      const decoder =
+        restored === null
+          ? new FrameDecoder(this.frameOptions, 'inputs')
+          : FrameDecoder.restore(restored.decoder);
       const journal: JournalRecord[] = [];
       let telemetry: SessionTelemetry | null = null;
+      const options = {
+        source: `kafka:${this.settings.events.topics.join(',')}${key === 'global' ? '' : ` ${key}`}`,
+        journal: {
+          write: (r: JournalRecord) => {
+            telemetry?.record(r);
+            journal.push(r);
+          },
+          flush: async () => undefined,
+        },
+        clock: liveClock({ monotonic: () => performance.now(), wall: () => Date.now() }),
+        version: this.version,
+      };
       state = {
         decoder,
         events: new BatchDecoder(decoder, this.settings.events.format, this.settings.events.maxMessageBytes),
         labels: null,
-        session: new LearningSession({
-          config: this.config,
-          source: `kafka:${this.settings.events.topics.join(',')}${key === 'global' ? '' : ` ${key}`}`,
-          journal: {
-            write: (r) => {
-              telemetry?.record(r);
-              journal.push(r);
-            },
-            flush: async () => undefined,
-          },
-          clock: liveClock({ monotonic: () => performance.now(), wall: () => Date.now() }),
-          version: this.version,
-        }),
+        session:
+          restored === null
+            ? new LearningSession({ config: this.config, ...options })
+            : LearningSession.restore(restored.session, options),
         journal,
       };
-      telemetry = SessionTelemetry.of(state.session, { checkpoints: false, wall: () => Date.now() });
+      telemetry = SessionTelemetry.of(state.session, {
+        checkpoints: this.checkpointed !== null,
+        wall: () => Date.now(),
+      });
+      this.checkpointed?.set(key, telemetry);
       this.telemetry.add(key, telemetry);
       this.states.set(key, state);
     }

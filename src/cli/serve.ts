@@ -1,14 +1,13 @@
 import { once } from 'node:events';
 import { createWriteStream, type WriteStream } from 'node:fs';
-import { join } from 'node:path';
 import { stringify } from 'yaml';
 import { ConfigError, type ConfigIssue, ShoalError } from '../core/index.js';
-import { FileCheckpointStore } from '../files/index.js';
 import { DEFAULT_LABEL, type FrameOptions } from '../frames/index.js';
 import {
   createKafka,
   createLogger,
   EventConsumer,
+  KafkaCheckpointStore,
   type KafkaSettings,
   OutputProducer,
   readSecrets,
@@ -18,7 +17,9 @@ import { type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { parseListen, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text } from './args.js';
 import { IssueList, readConfigFile } from './config-file.js';
+import { LabelHold } from './label-hold.js';
 import { frameOptions } from './replay.js';
+import { checkpointing, ServeCheckpoints } from './serve-checkpoints.js';
 import { ServeModels } from './serve-run.js';
 import type { Terminal } from './terminal.js';
 import { shoalVersion } from './version.js';
@@ -28,8 +29,9 @@ export const SERVE_HELP = `shoal serve --config shoal.yaml [--check]
 Score a Kafka events topic live: a consumer group reads Arrow IPC or NDJSON events, every event is
 scored (scores go to the scores topic as Arrow IPC), inline labels judge and train the ensemble, and
 messages that cannot be used go to the dead-letter topic with their reason. Offsets are committed only
-after a batch's outputs are acknowledged. SIGTERM or SIGINT: finish the batch in flight, flush, commit,
-exit 0.
+after a batch's outputs are acknowledged and, with kafka.checkpoint, once a checkpoint covers them; a
+restart goes on from the newest checkpoint's offsets. SIGTERM or SIGINT: finish the batch in flight,
+checkpoint, flush, commit, exit 0.
 
 Options:
   --config FILE   shoal.yaml: the ensemble, evaluation and inputs settings, a kafka: section, and
@@ -163,7 +165,35 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     eventOptions(config, settings),
     shoalVersion(),
     journalFile,
+    checkpointing(settings),
   );
+  const store = settings.checkpoint.topic;
+  const checkpoints = checkpointing(settings)
+    ? new ServeCheckpoints(
+        config,
+        settings,
+        shoalVersion(),
+        Date.now(),
+        store === null
+          ? null
+          : new KafkaCheckpointStore(kafka, { topic: store, pipeline: settings.group }, log),
+      )
+    : null;
+  /** Take up the session of `key` from its newest checkpoint; its offsets then say where to read. */
+  const takeUp = async (key: string): Promise<void> => {
+    const taken = await checkpoints!.load(models, key);
+    for (const why of taken?.refused ?? []) log.warn({ reason: why }, 'checkpoint refused');
+    if (taken === null) log.info({ scope: key, store: checkpoints!.place }, 'no checkpoint: starting afresh');
+    else
+      log.info(
+        {
+          scope: key,
+          checkpoint: taken.where,
+          offsets: Object.fromEntries(stringOffsets(models.positions(key))),
+        },
+        'going on from the checkpoint',
+      );
+  };
   const listen = checked.telemetry.listen;
   const endpoint =
     listen === null
@@ -171,76 +201,223 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
       : new TelemetryServer(models.telemetry, {
           ...listen,
           version: shoalVersion(),
-          readiness: ['model', 'consumer'],
+          readiness: ['model', 'consumer', 'producer'],
         });
   if (endpoint !== null) {
     await endpoint.start();
-    // Serve has no model to load: each session builds its model from its first events' schema.
+    // The model is ready: taken up from its checkpoint above, or built from the first events' schema.
     endpoint.setReady('model', true);
     log.info({ host: endpoint.host, port: endpoint.port }, 'telemetry listening');
   }
-  const producer = new OutputProducer(kafka, log);
+  const exactlyOnce = settings.delivery === 'exactly-once';
+  const producer = new OutputProducer(kafka, log, exactlyOnce ? `${settings.group}-shoal-outputs` : null);
   let refusal: string | null = null;
+  // Batches and checkpoints take turns: a checkpoint is cut between two batches, never inside one.
+  let turn: Promise<unknown> = Promise.resolve();
+  const exclusive = <T>(work: () => Promise<T>): Promise<T> => {
+    const mine = turn.then(work);
+    turn = mine.catch(() => undefined);
+    return mine;
+  };
+  const position = (stream: string): bigint | undefined =>
+    models.positions(models.key(stream)).get(stream) ?? starts.get(stream);
+  /** Where each events partition started at the last join, when no session holds it. */
+  const starts = new Map<string, bigint>();
+  /** Streams whose lag a batch told since the last join. */
+  const lagTold = new Set<string>();
+  /** Partitions the last join brought whose sessions are being taken up (held until they are). */
+  let arriving: string[] = [];
+  const hold = new LabelHold(settings.labels?.topic ?? null, (topic) => {
+    log.info({ topic }, 'the events read at the join are scored: reading labels');
+    consumer.resume(topic);
+  });
   const consumer = new EventConsumer(
     kafka,
     settings,
     log,
     async (assignment) => {
+      const coming = arriving;
       models.telemetry.keepLag(assignment.streams);
-      if (endpoint !== null) {
-        try {
-          for (const l of await consumer.lag(assignment.streams))
-            models.telemetry.setLag(l.topic, l.partition, l.lag);
-        } catch (e) {
-          log.debug({ error: (e as Error).message }, 'could not read the lag of the assigned partitions');
+      const events = assignment.streams.filter((s) => !models.isLabels(s));
+      try {
+        const lags = await consumer.lag(assignment.streams);
+        // A batch handled meanwhile told a newer lag than the group's offsets read before its commit.
+        for (const l of lags) {
+          if (!lagTold.has(`${l.topic}/${l.partition}`)) models.telemetry.setLag(l.topic, l.partition, l.lag);
         }
+        const ends = await consumer.ends(events);
+        starts.clear();
+        for (const l of lags) {
+          const stream = `${l.topic}/${l.partition}`;
+          const end = ends.get(stream);
+          if (end !== undefined) starts.set(stream, end - BigInt(l.lag));
+        }
+        hold.until(ends, position);
+      } catch (e) {
+        log.debug({ error: (e as Error).message }, 'could not read the lag of the assigned partitions');
+        // Not knowing the ends, the labels wait no longer than they would for a fresh start.
+        hold.until(new Map(), position);
       }
       for (const stream of models.keepOnly(assignment.streams)) {
-        log.info({ stream }, 'partition revoked; its session is dropped (its outputs were committed)');
+        checkpoints?.drop(stream);
+        log.info({ stream }, 'partition revoked; its session is dropped');
+      }
+      // State follows partitions: each newly assigned partition's session is taken up from the store
+      // before the partition is fetched.
+      for (const stream of coming) {
+        await takeUp(stream);
+        const at = models.positions(stream).get(stream);
+        if (at !== undefined) consumer.seek(stream, at);
+        consumer.resume(stream);
       }
       if (settings.scope === 'global' && !assignment.isLeader && (await consumer.members()) > 1) {
         refusal = refuseSecond(settings);
         void consumer.stop();
       }
     },
-    (joined) => endpoint?.setReady('consumer', joined),
+    {
+      onMembership: (joined) => endpoint?.setReady('consumer', joined),
+      onJoin: (streams) => {
+        lagTold.clear();
+        const seek = new Map<string, bigint>();
+        for (const stream of streams) {
+          const at = models.positions(models.key(stream)).get(stream);
+          if (at !== undefined) seek.set(stream, at);
+        }
+        arriving =
+          checkpoints === null || settings.scope === 'global'
+            ? []
+            : streams.filter((s) => !models.isLabels(s) && !models.keys().includes(s));
+        return { seek, hold: hold.join(streams), holdStreams: arriving };
+      },
+      onRebalance: () => {
+        if (checkpoints !== null) void exclusive(() => checkpoint('rebalance'));
+      },
+      commitEachBatch: checkpoints === null,
+    },
   );
+
+  /**
+   * With exactly-once delivery a failed transaction takes everything since the last checkpoint with it:
+   * the service exits, and a restart goes on from the last checkpoint committed.
+   */
+  const lostTransaction = (e: Error): never => {
+    log.error({ error: e.message }, 'the transaction failed; exiting');
+    terminal.err(
+      `shoal serve: a transaction failed (${e.message}); restart to go on from the last checkpoint committed\n`,
+    );
+    process.exit(1);
+  };
+
+  /**
+   * Write the checkpoints due (all with `all`) and commit the offsets they cover (the group never claims
+   * more); false when they could not be written (the previous ones stand).
+   */
+  const checkpoint = async (why: string, all = false): Promise<boolean> => {
+    try {
+      const saved = await checkpoints!.save(
+        models,
+        Date.now(),
+        all,
+        exactlyOnce ? (records, offsets) => producer.commit(records, settings.group, offsets) : null,
+      );
+      if (saved.written.length === 0) return true;
+      const committed = exactlyOnce || (await consumer.commit(saved.offsets));
+      log.info(
+        {
+          checkpoints: saved.written,
+          why,
+          offsets: Object.fromEntries(stringOffsets(saved.offsets)),
+          committed,
+        },
+        'checkpoint written',
+      );
+      return true;
+    } catch (e) {
+      log.error(
+        { why, error: (e as Error).message },
+        'could not write a checkpoint; the previous one stands',
+      );
+      if (exactlyOnce) {
+        // The transaction is lost with everything since the last checkpoint: go on from that one.
+        terminal.err(
+          `shoal serve: the transaction of a checkpoint failed (${(e as Error).message}); restart to go on from the last one committed\n`,
+        );
+        process.exit(1);
+      }
+      return false;
+    }
+  };
+
+  // The producer first: with exactly-once delivery its connection fences a killed predecessor and aborts
+  // the transaction it left open, so the checkpoint read next is the last one committed.
   await producer.connect();
+  endpoint?.setReady('producer', true);
+  if (checkpoints !== null) {
+    await checkpoints.connect();
+    if (settings.scope === 'global') await takeUp('global');
+  }
   await consumer.connect();
-  if (settings.scope === 'global' && (await consumer.members()) > 0) {
+  if (settings.scope === 'global' && !(await alone(consumer, settings))) {
     terminal.err(`shoal serve: ${refuseSecond(settings)}\n`);
     await Promise.all([consumer.stop(), producer.stop(), endpoint?.close()]);
     return 2;
   }
   let scored = 0;
   let dead = 0;
-  await consumer.start(async (batch, control) => {
-    const began = performance.now();
-    const handled = models.handle(batch);
-    if (handled.scored > 0) endpoint?.batch(handled.scored, (performance.now() - began) / 1000);
-    for (const d of handled.dead) {
-      log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
-    }
-    // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
-    const delivered = await producer.deliver(handled.outputs, async () => {
-      control.pause();
-      await control.heartbeat().catch(() => undefined);
-    });
-    control.resume();
-    if (delivered) {
-      models.telemetry.setLag(batch.topic, batch.partition, batch.lag);
-      scored += handled.scored;
-      dead += handled.dead.length;
-    }
-    return delivered;
-  });
+  let stopping = false;
+  await consumer.start((batch, control) =>
+    exclusive(async () => {
+      // After the last checkpoint nothing more is handled: what it does not cover is read again later.
+      if (stopping) return false;
+      const began = performance.now();
+      const handled = models.handle(batch);
+      if (handled.scored > 0) endpoint?.batch(handled.scored, (performance.now() - began) / 1000);
+      for (const d of handled.dead) {
+        log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
+      }
+      // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
+      const delivered = await producer
+        .deliver(handled.outputs, async () => {
+          endpoint?.setReady('producer', false);
+          control.pause();
+          await control.heartbeat().catch(() => undefined);
+        })
+        .catch((e: Error) => (exactlyOnce ? lostTransaction(e) : Promise.reject(e)));
+      control.resume();
+      if (delivered) {
+        endpoint?.setReady('producer', true);
+        models.telemetry.setLag(batch.topic, batch.partition, batch.lag);
+        lagTold.add(`${batch.topic}/${batch.partition}`);
+        scored += handled.scored;
+        dead += handled.dead.length;
+        if (batch.topic !== settings.labels?.topic) hold.check(position);
+        if (checkpoints !== null) {
+          checkpoints.read(models.key(`${batch.topic}/${batch.partition}`), handled.rows);
+          if (checkpoints.due(Date.now())) await checkpoint('cadence');
+        }
+      }
+      return delivered;
+    }),
+  );
   log.info({ group: settings.group, topics: settings.events.topics, scope: settings.scope }, 'serving');
+  const ticker =
+    checkpoints === null
+      ? null
+      : setInterval(
+          () => {
+            if (!stopping && checkpoints.due(Date.now())) void exclusive(() => checkpoint('time'));
+          },
+          Math.max(100, settings.checkpoint.cadence.everySeconds * 250),
+        );
+  ticker?.unref();
 
   const signalled = new Promise<string>((done) => {
     process.once('SIGTERM', () => done('SIGTERM'));
     process.once('SIGINT', () => done('SIGINT'));
   });
   const ended = await Promise.race([signalled.then((s) => ({ signal: s })), consumer.finished]);
+  if (ticker !== null) clearInterval(ticker);
   if ('crashed' in ended && ended.crashed) {
     log.error({ reason: ended.message }, 'the consumer crashed; exiting');
     terminal.err(`shoal serve: ${ended.message}\n`);
@@ -262,25 +439,24 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     process.exit(1);
   }, settings.shutdownMs);
   deadline.unref();
-  await consumer.stop();
   let saved = true;
-  if (settings.checkpoint.dir !== null) {
-    try {
-      for (const where of await saveCheckpoints(models, settings.checkpoint.dir)) {
-        log.info({ checkpoint: where }, 'final checkpoint written');
-      }
-    } catch (e) {
-      saved = false;
-      log.error({ error: (e as Error).message }, 'could not write the final checkpoint');
-      terminal.err(`shoal serve: could not write the final checkpoint: ${(e as Error).message}\n`);
-    }
+  if (checkpoints !== null) {
+    // The last checkpoints, after the batch in flight, while the group membership can still commit.
+    saved = await exclusive(async () => {
+      stopping = true;
+      return checkpoint('shutdown', true);
+    });
+    if (!saved) terminal.err('shoal serve: could not write the final checkpoint (see the log)\n');
   }
+  await consumer.stop();
   await producer.deliver(models.finish(), async () => undefined);
+  if (exactlyOnce) await producer.commit([], settings.group, null);
   if (journalFile !== null) {
     journalFile.end();
     await once(journalFile, 'finish');
   }
   await producer.stop();
+  await checkpoints?.disconnect();
   await endpoint?.close();
   clearTimeout(deadline);
   log.info({ scored, deadLetters: dead }, 'stopped');
@@ -288,18 +464,22 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   return saved ? 0 : 1;
 }
 
+/** Offsets as decimal text, for logs. */
+function stringOffsets(offsets: ReadonlyMap<string, bigint>): [string, string][] {
+  return [...offsets].map(([stream, next]) => [stream, next.toString()]);
+}
+
 /**
- * Write each session's run checkpoint as the service stops (taken before the summary is written, as
- * `replay` takes its last one): into `dir` with scope `global`, into `dir/<topic>-<partition>` for each
- * partition's session with scope `partition`. Returns the files written.
+ * Whether the group is free for a `global` instance. A member that crashed stays in the group until its
+ * session times out, so a restart waits that long for it to leave before it refuses.
  */
-async function saveCheckpoints(models: ServeModels, dir: string): Promise<string[]> {
-  const written: string[] = [];
-  for (const { key, checkpoint } of models.checkpoints(new Date().toISOString())) {
-    const store = new FileCheckpointStore(key === 'global' ? dir : join(dir, key.replace('/', '-')));
-    written.push(await store.save(checkpoint));
+async function alone(consumer: EventConsumer, settings: KafkaSettings): Promise<boolean> {
+  const until = performance.now() + settings.sessionTimeoutMs + settings.maxWaitMs;
+  for (;;) {
+    if ((await consumer.members()) === 0) return true;
+    if (performance.now() > until) return false;
+    await new Promise((done) => setTimeout(done, 250));
   }
-  return written;
 }
 
 /**

@@ -25,7 +25,8 @@ Options:
   --width W         rows over which each change blends in (sigmoid); 0 = abrupt (default)
   --noise P         the generator's noise (for most: the share of labels flipped)
   --format F        arrow (default for .arrow), csv or ndjson
-The label column is named "label".`;
+The label column is named "label". An Arrow file records the stream's true change points in its schema
+metadata (shoal.changes), so that replay journals them and the report shows each one's detection delay.`;
 
 export async function spawn(args: readonly string[], terminal: Terminal): Promise<number> {
   const parsed = parse('spawn', args, {
@@ -69,7 +70,10 @@ export async function spawn(args: readonly string[], terminal: Terminal): Promis
   const format = formatOf(out, text(parsed, 'format') as FrameFormat | undefined);
   const file = await OutputFile.open({ flag: '--out', path: out });
   try {
-    const options = { schema: stream.schema, classes: stream.classes };
+    // The true change points go into an Arrow file's schema metadata, so that a replay's journal and
+    // report can show each change and how long the ensemble took to react to it.
+    const changes = { rows: stream.changePoints, concepts: stream.sequence, width: stream.width };
+    const options = { schema: stream.schema, classes: stream.classes, changes };
     const writer = await createWriter(file.partialPath, options, format);
     try {
       for (let done = 0; done < rows; done += BLOCK) {

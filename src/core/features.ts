@@ -59,3 +59,34 @@ export function checkSchema(owner: string, schema: FeatureSchema): FeatureSchema
   });
   return schema;
 }
+
+/**
+ * The true change points of a generated stream, as `shoal spawn` records them in the file it writes
+ * and a replay's journal carries them: where each concept after the first begins.
+ */
+export interface ChangePoints {
+  /** Row index (from 0) of each change: the first row of the new concept, the midpoint of a blended one. */
+  readonly rows: readonly number[];
+  /** The concepts in the order they take turns: one more than the change points. */
+  readonly concepts: readonly string[];
+  /** Rows over which each change blends in (0: abrupt). */
+  readonly width: number;
+}
+
+/**
+ * Check a value read back from a file or a journal as `ChangePoints`: a message naming the first
+ * problem, or the value typed.
+ */
+export function readChangePoints(value: unknown): ChangePoints | string {
+  if (typeof value !== 'object' || value === null) return 'expected an object with rows, concepts and width';
+  const { rows, concepts, width } = value as Record<string, unknown>;
+  if (!Array.isArray(rows) || !rows.every((r) => Number.isInteger(r) && (r as number) >= 0))
+    return 'rows must be a list of row indices (integers ≥ 0)';
+  if (rows.some((r, i) => i > 0 && (r as number) <= (rows[i - 1] as number))) return 'rows must increase';
+  if (!Array.isArray(concepts) || !concepts.every((c) => typeof c === 'string'))
+    return 'concepts must be a list of names';
+  if (concepts.length !== rows.length + 1)
+    return `concepts must name ${rows.length + 1} concepts (one more than the rows), got ${concepts.length}`;
+  if (typeof width !== 'number' || !(width >= 0)) return 'width must be a number ≥ 0';
+  return { rows: rows as number[], concepts: concepts as string[], width };
+}

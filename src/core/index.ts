@@ -1,8 +1,8 @@
 export { decodeF64, decodeI32, encodeF64, encodeI32 } from './encoding.js';
 export type { ConfigIssue, ConfigIssueCode, ShoalErrorCode, ShoalErrorOptions } from './errors.js';
 export { ConfigError, issueLine, ShoalError } from './errors.js';
-export type { Feature, FeatureKind, FeatureSchema } from './features.js';
-export { checkSchema, nominal, numeric, numericSchema } from './features.js';
+export type { ChangePoints, Feature, FeatureKind, FeatureSchema } from './features.js';
+export { checkSchema, nominal, numeric, numericSchema, readChangePoints } from './features.js';
 export {
   argmax,
   entropyBits,

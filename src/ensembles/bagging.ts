@@ -12,7 +12,7 @@ import {
   resolveOptions,
   type Seed,
 } from '../core/index.js';
-import { type ClassifierSpec, createClassifier } from '../learners/index.js';
+import { type ClassifierSpec, createClassifier, TreeForest } from '../learners/index.js';
 import type { EnsembleSnapshot } from './ensemble.js';
 import {
   LIFECYCLE_DEFAULTS,
@@ -103,6 +103,8 @@ export class Bagging extends SeatedEnsemble {
   private readonly sampler: PoissonSampler;
   private readonly poisson: Rng[];
   private readonly hard: boolean;
+  /** Walks tree members together, level by level (see `TreeForest`). */
+  private readonly forest = new TreeForest();
   /** The Poisson weight each seat drew for the last row trained (for audits and tests). */
   readonly draws: Int32Array;
 
@@ -157,9 +159,13 @@ export class Bagging extends SeatedEnsemble {
     this.checkRowOnly(row, offset);
     const { probs, preds, weights, confidence, classes } = this.scratch;
     const seats = this.lifecycle.seats;
+    const forest = this.forest;
+    const walked = forest.walk(seats, row, offset);
     for (let m = 0; m < seats.length; m++) {
       const seat = seats[m]!;
-      preds[m] = seat.member.score(row, offset, probs, m * classes);
+      preds[m] = walked
+        ? forest.score(m, row, offset, probs, m * classes)
+        : seat.member.score(row, offset, probs, m * classes);
       weights[m] = this.weight(seat);
       confidence[m] = seat.trust;
     }
@@ -176,13 +182,17 @@ export class Bagging extends SeatedEnsemble {
     const { probs, preds, weights, confidence, classes } = this.scratch;
     const seats = this.lifecycle.seats;
     const lifecycle = this.lifecycle;
+    const forest = this.forest;
+    const walked = forest.walk(seats, row, offset);
     for (let m = 0; m < seats.length; m++) {
       const seat = seats[m]!;
       const k = this.sampler.sample(this.poisson[m]!);
       this.draws[m] = k;
       weights[m] = this.weight(seat);
       confidence[m] = seat.trust;
-      const predicted = seat.member.scoreTrain(row, offset, label, k, probs, m * classes);
+      const predicted = walked
+        ? forest.scoreTrain(m, row, offset, label, k, probs, m * classes)
+        : seat.member.scoreTrain(row, offset, label, k, probs, m * classes);
       preds[m] = predicted;
       seat.calibrate(label < classes ? probs[m * classes + label]! : 0, classes);
       lifecycle.coach(seat, row, offset, label, k);

@@ -24,7 +24,8 @@ class CollectedBytes extends AsyncByteQueue {
 /**
  * An Arrow IPC file writer (Apache Arrow, "IPC File Format"): record batches of `batchRows` rows
  * (10,000 by default), laid out by `ArrowLayout` (features, the label as class names or codes, the id;
- * the schema metadata records the features and classes, so reading the file back gives the same codes).
+ * the schema metadata records the features and classes, so reading the file back gives the same codes,
+ * and the stream's true change points when given).
  *
  * @example
  * const writer = await createArrowWriter('sea.arrow', { schema: gen.schema, classes: gen.classes });
@@ -39,6 +40,7 @@ export async function createArrowWriter(path: string, options: WriterOptions): P
     label: plan.label,
     classes: plan.classes,
     labelsAsCodes: plan.labelsAsCodes,
+    ...(options.changes === undefined ? {} : { changes: options.changes }),
   });
 
   const handle: FileHandle = await createFile(path);

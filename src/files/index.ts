@@ -1,3 +1,4 @@
+export { recordedChanges } from './arrow-footer.js';
 export { createArrowWriter } from './arrow-write.js';
 export type { FileStoreOptions } from './checkpoint-store.js';
 export { FileCheckpointStore, readCheckpointFile } from './checkpoint-store.js';

@@ -1,13 +1,10 @@
 import { open } from 'node:fs/promises';
 import { MessageHeader } from 'apache-arrow';
-import { Footer } from 'apache-arrow/ipc/metadata/file';
 import { Message, type RecordBatch } from 'apache-arrow/ipc/metadata/message';
 import type { FrameFormat } from '../frames/index.js';
+import { readFooter } from './arrow-footer.js';
 import { formatOf } from './formats.js';
 
-/** The Arrow IPC file format ends with the footer's length (int32) and the magic `ARROW1`. */
-const MAGIC = 'ARROW1';
-const TAIL = 4 + MAGIC.length;
 /** An encapsulated IPC message starts with a continuation marker and its metadata length. */
 const PREFIX = 8;
 const CHUNK = 1 << 20;
@@ -30,16 +27,10 @@ export async function countRows(path: string, format?: FrameFormat): Promise<num
 async function arrowFileRows(path: string): Promise<number | null> {
   const file = await open(path, 'r');
   try {
-    const { size } = await file.stat();
-    if (size < TAIL + MAGIC.length) return null;
-    const tail = Buffer.alloc(TAIL);
-    await file.read(tail, 0, TAIL, size - TAIL);
-    if (tail.toString('latin1', 4) !== MAGIC) return null;
-    const footerLength = tail.readInt32LE(0);
-    const footerBytes = Buffer.alloc(footerLength);
-    await file.read(footerBytes, 0, footerLength, size - TAIL - footerLength);
+    const footer = await readFooter(file);
+    if (footer === null) return null;
     let rows = 0;
-    for (const block of Footer.decode(footerBytes).recordBatches()) {
+    for (const block of footer.recordBatches()) {
       const meta = Buffer.alloc(block.metaDataLength);
       await file.read(meta, 0, block.metaDataLength, Number(block.offset));
       const message = Message.decode(meta.subarray(PREFIX));

@@ -1,4 +1,5 @@
 import { type Data, DataType, makeVector, Precision, type Schema, type Vector } from 'apache-arrow';
+import { type ChangePoints, readChangePoints } from '../core/index.js';
 import { type ColumnType, showCell } from './cells.js';
 import type { Binding, SourceColumn } from './columns.js';
 import type { DeclaredSchema, FrameDecoder } from './decoder.js';
@@ -16,6 +17,25 @@ import { describePosition, type Rejection } from './frame.js';
 /** Schema metadata keys under which Shoal's Arrow writer records the features and classes. */
 export const FEATURES_KEY = 'shoal.features';
 export const CLASSES_KEY = 'shoal.classes';
+/** The schema metadata key under which `shoal spawn` records a stream's true change points. */
+export const CHANGES_KEY = 'shoal.changes';
+
+/**
+ * The true change points an Arrow schema's metadata records (`CHANGES_KEY`, JSON of `ChangePoints`):
+ * null when it records none, a message when the entry is not what the writer writes.
+ */
+export function declaredChanges(metadata: ReadonlyMap<string, string>): ChangePoints | string | null {
+  const text = metadata.get(CHANGES_KEY);
+  if (text === undefined) return null;
+  let value: unknown;
+  try {
+    value = JSON.parse(text);
+  } catch (e) {
+    return `schema metadata ${CHANGES_KEY} is not valid JSON: ${(e as Error).message}`;
+  }
+  const read = readChangePoints(value);
+  return typeof read === 'string' ? `schema metadata ${CHANGES_KEY}: ${read}` : read;
+}
 
 function columnType(type: DataType): ColumnType {
   if (DataType.isDictionary(type)) return columnType(type.dictionary);

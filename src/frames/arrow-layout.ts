@@ -14,8 +14,8 @@ import {
   type Vector,
   vectorFromArray,
 } from 'apache-arrow';
-import type { FeatureSchema } from '../core/index.js';
-import { CLASSES_KEY, FEATURES_KEY } from './arrow-batch.js';
+import type { ChangePoints, FeatureSchema } from '../core/index.js';
+import { CHANGES_KEY, CLASSES_KEY, FEATURES_KEY } from './arrow-batch.js';
 
 /**
  * How Shoal lays rows out as Arrow record batches, for the file writer and for Kafka messages alike:
@@ -23,7 +23,8 @@ import { CLASSES_KEY, FEATURES_KEY } from './arrow-batch.js';
  * dictionary is the category names in code order), the label as a dictionary of class names or an
  * int32 code (or no label column at all), missing values as nulls (Apache Arrow Columnar Format,
  * "Validity bitmaps", LSB bit order). The schema metadata records the features and classes
- * (`shoal.features`, `shoal.classes`), so a reader gets the same codes back.
+ * (`shoal.features`, `shoal.classes`), so a reader gets the same codes back, and a generated stream's
+ * true change points when given (`shoal.changes`).
  *
  * @example
  * const layout = new ArrowLayout({ id: 'leg_id', schema, categories, label: null, classes, labelsAsCodes: false });
@@ -42,6 +43,8 @@ export interface ArrowLayoutOptions {
   readonly classes: readonly string[];
   /** Write labels as int32 codes instead of class names. */
   readonly labelsAsCodes: boolean;
+  /** The stream's true change points, recorded in the schema metadata (`shoal.changes`). */
+  readonly changes?: ChangePoints;
 }
 
 export class ArrowLayout {
@@ -93,6 +96,7 @@ export class ArrowLayout {
     const metadata = new Map<string, string>();
     if (specs.length > 0) metadata.set(FEATURES_KEY, JSON.stringify(specs));
     metadata.set(CLASSES_KEY, JSON.stringify(options.classes));
+    if (options.changes !== undefined) metadata.set(CHANGES_KEY, JSON.stringify(options.changes));
     this.schema = new Schema(this.fields, metadata);
   }
 

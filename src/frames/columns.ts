@@ -88,7 +88,9 @@ export function bindColumns(
   let bound: readonly Feature[];
   if (features === null) {
     const skip = new Set([options.label, options.id, ...options.exclude]);
-    const chosen = columns.filter((c) => !skip.has(c.name));
+    // A first column without a name is a row index: pandas' `to_csv` and R's `write.csv` write their
+    // row labels there by default. It counts rows, so as a feature it would only teach the row order.
+    const chosen = columns.filter((c, i) => !skip.has(c.name) && !(i === 0 && c.name === ''));
     const unreadable = chosen.find((c) => c.type === 'other');
     if (unreadable !== undefined) return notReadable(unreadable);
     bound = chosen.map((c) => inferFeature(c.name, c.type, options.vocabulary));

@@ -1,4 +1,4 @@
-export { CLASSES_KEY, FEATURES_KEY } from './arrow-batch.js';
+export { CHANGES_KEY, CLASSES_KEY, declaredChanges, FEATURES_KEY } from './arrow-batch.js';
 export type { ArrowLayoutOptions } from './arrow-layout.js';
 export { ArrowLayout, arrowStream } from './arrow-layout.js';
 export type { ArrowByteSource } from './arrow-read.js';

@@ -38,6 +38,8 @@ export interface ScoreRows {
   readonly probabilities: Float64Array;
   /** Predicted class code per row. */
   readonly predicted: Int32Array;
+  /** The number a regression predicted per row (NaN in a classification; not on the scores topic yet). */
+  readonly values: Float64Array;
   /** Share of voting members that agree with the prediction, per row. */
   readonly agreement: Float64Array;
   /** Members that voted, per row. */

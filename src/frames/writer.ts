@@ -1,4 +1,11 @@
-import { checkSchema, type FeatureSchema, integerAtLeast, oneOf, ShoalError } from '../core/index.js';
+import {
+  type ChangePoints,
+  checkSchema,
+  type FeatureSchema,
+  integerAtLeast,
+  oneOf,
+  ShoalError,
+} from '../core/index.js';
 import { DEFAULT_LABEL } from './options.js';
 
 /** The file formats Shoal reads and writes. */
@@ -28,6 +35,8 @@ export interface WriterOptions {
   readonly id?: string;
   /** Rows per Arrow record batch (default 10,000). */
   readonly batchRows?: number;
+  /** The stream's true change points, recorded in an Arrow file's schema metadata (`CHANGES_KEY`). */
+  readonly changes?: ChangePoints;
 }
 
 /**

@@ -1,4 +1,10 @@
-import { type Feature, type FeatureSchema, ShoalError } from '../core/index.js';
+import {
+  type ChangePoints,
+  type Feature,
+  type FeatureSchema,
+  readChangePoints,
+  ShoalError,
+} from '../core/index.js';
 import { Fields, isObject, show } from './fields.js';
 import {
   INPUT_DRIFT_CAUSES,
@@ -87,7 +93,15 @@ function readRun(f: Fields): RunRecord {
     config: f.object('config').value,
     schema: readSchema(f.object('schema')),
     seed: f.string('seed'),
+    ...(f.raw('changes') === undefined ? {} : { changes: readChanges(f) }),
   };
+}
+
+function readChanges(f: Fields): ChangePoints {
+  const changes = readChangePoints(f.raw('changes'));
+  return typeof changes === 'string'
+    ? f.fail('changes', `the stream's change points (${changes})`, f.raw('changes'))
+    : changes;
 }
 
 function readSchema(f: Fields): FeatureSchema {

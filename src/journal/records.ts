@@ -1,4 +1,4 @@
-import type { FeatureSchema } from '../core/index.js';
+import type { ChangePoints, FeatureSchema } from '../core/index.js';
 
 /**
  * The journal of a run: one JSON object per line (NDJSON), in the order things happened. It is the
@@ -35,6 +35,8 @@ export interface RunRecord {
   readonly config: Readonly<Record<string, unknown>>;
   readonly schema: FeatureSchema;
   readonly seed: string;
+  /** The stream's true change points, when the source records them (a file written by `shoal spawn`). */
+  readonly changes?: ChangePoints;
 }
 
 /** The states a member passes through (see `src/ensembles/lifecycle.ts`). */

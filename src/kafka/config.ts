@@ -1,4 +1,5 @@
-import { ConfigError, type ConfigIssue } from '../core/index.js';
+import { ConfigError, type ConfigIssue, checkOptions, defaultsOf, resolveOptions } from '../core/index.js';
+import { CHECKPOINT_CADENCE_OPTIONS, type CheckpointCadence } from '../pipeline/index.js';
 import { LOG_LEVELS, type LogLevelName } from './log.js';
 
 /**
@@ -17,6 +18,14 @@ import { LOG_LEVELS, type LogLevelName } from './log.js';
  */
 
 export type Scope = 'global' | 'partition';
+/**
+ * `at-least-once`: outputs are sent as each batch is handled and offsets committed after them (a crash
+ * can repeat outputs; scores carry id and model epoch so consumers can drop repeats). `exactly-once`:
+ * outputs, checkpoint and offsets go in one Kafka transaction per checkpoint; `read_committed`
+ * consumers see each output once.
+ */
+export type Delivery = 'at-least-once' | 'exactly-once';
+export const DELIVERIES: readonly Delivery[] = ['at-least-once', 'exactly-once'];
 export type EventFormat = 'arrow' | 'ndjson';
 export type SaslMechanism = 'plain' | 'scram-sha-256' | 'scram-sha-512';
 export const SCOPES: readonly Scope[] = ['global', 'partition'];
@@ -30,6 +39,7 @@ export interface KafkaSettings {
   readonly group: string;
   /** `global`: one model for every partition (one instance per group); `partition`: one per partition. */
   readonly scope: Scope;
+  readonly delivery: Delivery;
   readonly events: {
     readonly topics: readonly string[];
     /** The format of a message without a `content-type` header. */
@@ -44,8 +54,16 @@ export interface KafkaSettings {
   readonly scores: { readonly topic: string };
   readonly deadLetters: { readonly topic: string };
   readonly journal: { readonly topic: string | null; readonly file: string | null };
-  /** Where each session's run checkpoint is written when the service stops; null: none is written. */
-  readonly checkpoint: { readonly dir: string | null };
+  /**
+   * Where and how often each session's run checkpoint is written, with the offsets it covers: to files
+   * under `dir` (scope `global`: the directory itself; `partition`: a folder per partition in it) or to
+   * the compacted `topic`; neither: no checkpoints, the models live in memory only.
+   */
+  readonly checkpoint: {
+    readonly dir: string | null;
+    readonly topic: string | null;
+    readonly cadence: CheckpointCadence;
+  };
   /** How long SIGTERM may take: finish the batch in flight, flush, commit, exit (ms). */
   readonly shutdownMs: number;
   /** The longest the consumer waits for data in a fetch (ms); also how quickly it joins a rebalance. */
@@ -76,6 +94,7 @@ const TOP = [
   'clientId',
   'group',
   'scope',
+  'delivery',
   'events',
   'labels',
   'scores',
@@ -110,13 +129,27 @@ export function resolveKafkaSettings(raw: unknown, source: string, path = 'kafka
   const scores = c.mapping(at('scores'), top.scores, ['topic'], true);
   const dead = c.mapping(at('deadLetters'), top.deadLetters, ['topic'], true);
   const journal = c.mapping(at('journal'), top.journal, ['topic', 'file'], false);
-  const checkpoint = c.mapping(at('checkpoint'), top.checkpoint, ['dir'], false);
+  const checkpoint = c.mapping(
+    at('checkpoint'),
+    top.checkpoint,
+    ['dir', 'topic', ...Object.keys(CHECKPOINT_CADENCE_OPTIONS)],
+    false,
+  );
+  const { dir: _dir, topic: _topic, ...cadence } = checkpoint;
+  const cadenceIssues: ConfigIssue[] = [];
+  checkOptions(CHECKPOINT_CADENCE_OPTIONS, cadence, at('checkpoint'), cadenceIssues, []);
+  // Unknown keys were named by the mapping check already.
+  for (const i of cadenceIssues) if (i.code !== 'unknown-setting') c.issues.push(i);
+  if (checkpoint.dir !== undefined && checkpoint.topic !== undefined) {
+    c.fail(at('checkpoint'), 'choose one store: dir (files) or topic (a compacted Kafka topic)', 'conflict');
+  }
   const log = c.mapping(at('log'), top.log, ['level'], false);
   const settings: KafkaSettings = {
     brokers,
     clientId: c.text(at('clientId'), top.clientId, 'shoal'),
     group: c.text(at('group'), top.group, null),
     scope: c.choice(at('scope'), top.scope, SCOPES, 'global'),
+    delivery: c.choice(at('delivery'), top.delivery, DELIVERIES, 'at-least-once'),
     events: {
       topics: c.strings(`${at('events')}.topics`, events.topics, true),
       format: c.choice(`${at('events')}.format`, events.format, EVENT_FORMATS, 'arrow'),
@@ -132,6 +165,12 @@ export function resolveKafkaSettings(raw: unknown, source: string, path = 'kafka
     },
     checkpoint: {
       dir: checkpoint.dir === undefined ? null : c.text(`${at('checkpoint')}.dir`, checkpoint.dir, null),
+      topic:
+        checkpoint.topic === undefined ? null : c.text(`${at('checkpoint')}.topic`, checkpoint.topic, null),
+      cadence:
+        cadenceIssues.length > 0
+          ? defaultsOf(CHECKPOINT_CADENCE_OPTIONS)
+          : resolveOptions('kafka.checkpoint', CHECKPOINT_CADENCE_OPTIONS, cadence, []),
     },
     shutdownMs: c.count(at('shutdownMs'), top.shutdownMs, 30_000),
     maxWaitMs: c.count(at('maxWaitMs'), top.maxWaitMs, 500),
@@ -140,6 +179,19 @@ export function resolveKafkaSettings(raw: unknown, source: string, path = 'kafka
     sasl: sasl(c, at('sasl'), top.sasl),
     log: { level: c.choice(`${at('log')}.level`, log.level, LOG_LEVELS, 'info') },
   };
+  if (settings.delivery === 'exactly-once') {
+    // The checkpoint must commit in the same transaction as the outputs and offsets it covers.
+    if (settings.checkpoint.topic === null) {
+      c.fail(
+        at('delivery'),
+        'exactly-once needs the Kafka checkpoint store (kafka.checkpoint.topic): the checkpoint goes in the transaction with the outputs and offsets it covers',
+        'conflict',
+      );
+    }
+    if (settings.scope !== 'global') {
+      c.fail(at('delivery'), 'exactly-once is offered with scope global only', 'conflict');
+    }
+  }
   if (c.issues.length > 0) throw new ConfigError(source, c.issues);
   return settings;
 }

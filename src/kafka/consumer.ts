@@ -1,5 +1,6 @@
 import type { Admin, Consumer, EachBatchPayload, Kafka } from 'kafkajs';
 import type { Logger } from 'pino';
+import { persist } from './backoff.js';
 import type { KafkaSettings } from './config.js';
 import type { RawMessage } from './decode.js';
 
@@ -41,10 +42,39 @@ export interface Assignment {
   readonly memberId: string;
 }
 
+/**
+ * What the service decides the moment it joins, before the first fetch: where each assigned partition
+ * is read from (the sessions are the source of truth, so the group's committed offsets are overruled),
+ * and which topics wait (the labels, until the events on the topic at that moment were read).
+ */
+export interface JoinPlan {
+  /** The next offset to read of `topic/partition` streams; others start where the group committed. */
+  readonly seek: ReadonlyMap<string, bigint>;
+  /** Topics not fetched until `resume(topic)`, and `topic/partition` streams until `resume(stream)`. */
+  readonly hold: readonly string[];
+  readonly holdStreams: readonly string[];
+}
+
+export interface ConsumerOptions {
+  /** Told true when the consumer has joined its group, false on a rebalance, a crash or a stop. */
+  readonly onMembership?: (joined: boolean) => void;
+  /** Called synchronously on each join, before any fetch of the new assignment. */
+  readonly onJoin?: (streams: readonly string[]) => JoinPlan;
+  /** Told when a rebalance begins (before partitions may move to another member). */
+  readonly onRebalance?: () => void;
+  /**
+   * Commit each batch's offsets once its outputs are acknowledged (true, the default), or only through
+   * `commit` (a checkpointing service commits what a checkpoint covers).
+   */
+  readonly commitEachBatch?: boolean;
+}
+
 export class EventConsumer {
   private readonly consumer: Consumer;
   private readonly admin: Admin;
   private finish: (outcome: ConsumerOutcome) => void = () => {};
+  /** `topic/partition` streams of the last join. */
+  private assigned: readonly string[] = [];
   private stopping: Promise<void> | null = null;
   /** How the consumer ended: stopped on request, or crashed with a message. */
   readonly finished: Promise<ConsumerOutcome>;
@@ -54,8 +84,7 @@ export class EventConsumer {
     private readonly settings: KafkaSettings,
     private readonly log: Logger,
     private readonly onAssign: (assignment: Assignment) => Promise<void>,
-    /** Told true when the consumer has joined its group, false on a rebalance, a crash or a stop. */
-    private readonly onMembership: (joined: boolean) => void = () => {},
+    private readonly options: ConsumerOptions = {},
   ) {
     this.consumer = kafka.consumer({
       groupId: settings.group,
@@ -74,7 +103,10 @@ export class EventConsumer {
       this.finish = done;
     });
     const { CRASH, GROUP_JOIN, REBALANCING, STOP } = this.consumer.events;
-    this.consumer.on(REBALANCING, () => this.onMembership(false));
+    this.consumer.on(REBALANCING, () => {
+      this.onMembership(false);
+      this.options.onRebalance?.();
+    });
     this.consumer.on(STOP, () => this.onMembership(false));
     this.consumer.on(CRASH, ({ payload }) => {
       this.onMembership(false);
@@ -89,11 +121,74 @@ export class EventConsumer {
         parts.map((p) => `${topic}/${p}`),
       );
       this.log.info({ streams, leader: payload.isLeader }, 'joined the group');
+      this.assigned = streams;
+      if (this.options.onJoin !== undefined) this.plan(this.options.onJoin(streams));
       this.onMembership(true);
       this.onAssign({ streams, isLeader: payload.isLeader, memberId: payload.memberId }).catch((e: Error) =>
         this.finish({ crashed: true, message: e.message }),
       );
     });
+  }
+
+  private onMembership(joined: boolean): void {
+    this.options.onMembership?.(joined);
+  }
+
+  /** Seek and hold as the plan says; kafkajs applies seeks before its next fetch of each partition. */
+  private plan(plan: JoinPlan): void {
+    for (const [stream, offset] of plan.seek) this.seek(stream, offset);
+    for (const topic of plan.hold) this.consumer.pause([{ topic }]);
+    for (const stream of plan.holdStreams) {
+      const { topic, partition } = splitStream(stream);
+      this.consumer.pause([{ topic, partitions: [partition] }]);
+    }
+  }
+
+  /** Read `topic/partition` from `offset` next (kafkajs applies it before its next fetch of it). */
+  seek(stream: string, offset: bigint): void {
+    const { topic, partition } = splitStream(stream);
+    this.log.debug({ stream, offset: offset.toString() }, 'reading from the checkpointed offset');
+    this.consumer.seek({ topic, partition, offset: offset.toString() });
+  }
+
+  /** Fetch a topic, or a `topic/partition` stream, held by the join plan again. */
+  resume(held: string): void {
+    if (!held.includes('/')) {
+      this.consumer.resume([{ topic: held }]);
+      return;
+    }
+    const { topic, partition } = splitStream(held);
+    this.consumer.resume([{ topic, partitions: [partition] }]);
+  }
+
+  /**
+   * Commit these next offsets to the group (those of streams this member still holds): what a
+   * checkpoint covers. False when the commit failed (a rebalance took the partitions, the broker is
+   * away); the checkpoint stays the source of truth either way.
+   */
+  async commit(offsets: ReadonlyMap<string, bigint>): Promise<boolean> {
+    const held = [...offsets].filter(([stream]) => this.assigned.includes(stream));
+    if (held.length === 0) return true;
+    try {
+      await this.consumer.commitOffsets(
+        held.map(([stream, offset]) => ({ ...splitStream(stream), offset: offset.toString() })),
+      );
+      return true;
+    } catch (e) {
+      this.log.debug({ error: (e as Error).message }, 'could not commit the checkpointed offsets');
+      return false;
+    }
+  }
+
+  /** The high watermark (next offset to be written) of each `topic/partition` stream. */
+  async ends(streams: readonly string[]): Promise<Map<string, bigint>> {
+    const out = new Map<string, bigint>();
+    for (const [topic, partitions] of byTopic(streams)) {
+      for (const end of await this.admin.fetchTopicOffsets(topic)) {
+        if (partitions.includes(end.partition)) out.set(`${topic}/${end.partition}`, BigInt(end.high));
+      }
+    }
+    return out;
   }
 
   /** Members of the group now (for the check that a `global` scope instance is alone). */
@@ -109,13 +204,7 @@ export class EventConsumer {
    */
   async lag(streams: readonly string[]): Promise<{ topic: string; partition: number; lag: number }[]> {
     const out: { topic: string; partition: number; lag: number }[] = [];
-    const topics = new Map<string, number[]>();
-    for (const stream of streams) {
-      const at = stream.lastIndexOf('/');
-      const topic = stream.slice(0, at);
-      topics.set(topic, [...(topics.get(topic) ?? []), Number(stream.slice(at + 1))]);
-    }
-    for (const [topic, partitions] of topics) {
+    for (const [topic, partitions] of byTopic(streams)) {
       const ends = await this.admin.fetchTopicOffsets(topic);
       const [committed] = await this.admin.fetchOffsets({ groupId: this.settings.group, topics: [topic] });
       for (const partition of partitions) {
@@ -130,10 +219,11 @@ export class EventConsumer {
     return out;
   }
 
-  /** Connect (before `members()` or `start()`). */
+  /** Connect (before `members()` or `start()`), retrying while the broker cannot be reached. */
   async connect(): Promise<void> {
-    await this.admin.connect();
-    await this.consumer.connect();
+    const options = { log: this.log, stopped: () => this.stopping !== null };
+    await persist('connect the admin client', () => this.admin.connect(), options);
+    await persist('connect the consumer', () => this.consumer.connect(), options);
   }
 
   async start(handle: BatchHandler): Promise<void> {
@@ -174,6 +264,7 @@ export class EventConsumer {
     );
     if (!delivered) return;
     payload.resolveOffset(last);
+    if (this.options.commitEachBatch === false) return;
     await this.consumer.commitOffsets([{ topic, partition, offset: (BigInt(last) + 1n).toString() }]);
   }
 
@@ -202,4 +293,20 @@ function transient(e: Error): boolean {
   const { retriable, cause } = e as { retriable?: boolean; cause?: unknown };
   if (retriable === true) return true;
   return e.name === 'KafkaJSNumberOfRetriesExceeded' && cause instanceof Error && transient(cause);
+}
+
+/** `topic/partition` → its parts (topic names may not hold `/`, but split at the last one anyway). */
+function splitStream(stream: string): { topic: string; partition: number } {
+  const at = stream.lastIndexOf('/');
+  return { topic: stream.slice(0, at), partition: Number(stream.slice(at + 1)) };
+}
+
+/** Streams grouped by topic: topic → partitions. */
+function byTopic(streams: readonly string[]): Map<string, number[]> {
+  const topics = new Map<string, number[]>();
+  for (const stream of streams) {
+    const { topic, partition } = splitStream(stream);
+    topics.set(topic, [...(topics.get(topic) ?? []), partition]);
+  }
+  return topics;
 }

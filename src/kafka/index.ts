@@ -1,5 +1,7 @@
 /** Output messages and their topics, as the producer sends them. */
 export type { Message as OutputMessage, TopicMessages as TopicOutputs } from 'kafkajs';
+export type { KafkaStoreOptions } from './checkpoint-store.js';
+export { KafkaCheckpointStore } from './checkpoint-store.js';
 export { createKafka } from './client.js';
 export { registerCodecs } from './codecs.js';
 export type { KafkaSettings, SaslMechanism, Scope, Secrets } from './config.js';

@@ -1,5 +1,6 @@
-import kafkajs, { type Kafka, type Producer, type TopicMessages } from 'kafkajs';
+import kafkajs, { type Kafka, type Producer, type TopicMessages, type Transaction } from 'kafkajs';
 import type { Logger } from 'pino';
+import { persist } from './backoff.js';
 
 /**
  * The service's producer: every output of a fetched batch (scores, dead letters, journal records) goes
@@ -12,21 +13,71 @@ import type { Logger } from 'pino';
 export class OutputProducer {
   private readonly producer: Producer;
   private stopped = false;
+  /** With exactly-once delivery: the transaction outputs go into until the next checkpoint commits it. */
+  private transaction: Transaction | null = null;
 
   constructor(
     kafka: Kafka,
     private readonly log: Logger,
+    /** Set for exactly-once delivery: outputs, checkpoints and offsets then commit together. */
+    private readonly transactionalId: string | null = null,
   ) {
-    // Not idempotent: `deliver` re-sends a failed request itself, so a repeat after a failure is possible
-    // either way (at-least-once; scores carry id and epoch so that consumers can drop repeats).
+    // Not idempotent by default: `deliver` re-sends a failed request itself, so a repeat after a failure
+    // is possible either way (at-least-once; scores carry id and epoch so that consumers can drop
+    // repeats). A transactional producer is idempotent, as Kafka requires.
     this.producer = kafka.producer({
       createPartitioner: kafkajs.Partitioners.DefaultPartitioner,
       allowAutoTopicCreation: false,
+      ...(transactionalId === null ? {} : { transactionalId, idempotent: true, maxInFlightRequests: 1 }),
     });
   }
 
-  connect(): Promise<void> {
-    return this.producer.connect();
+  /**
+   * Connect, retrying while the broker cannot be reached (kafkajs does not retry a refused connection).
+   * A transactional producer's connection fences any older producer with its id (a killed instance) and
+   * aborts the transaction that one left open.
+   */
+  async connect(): Promise<void> {
+    await persist('connect the producer', () => this.producer.connect(), {
+      log: this.log,
+      stopped: () => this.stopped,
+    });
+  }
+
+  /**
+   * Commit the open transaction (exactly-once): with `more` (the checkpoint's records) and, when given,
+   * the group's next offsets of `topic/partition` streams. Throws when the transaction fails: what it held
+   * is then as if it never happened, and the last committed checkpoint is where to go on from.
+   */
+  async commit(
+    more: readonly TopicMessages[],
+    group: string,
+    offsets: ReadonlyMap<string, bigint> | null,
+  ): Promise<void> {
+    const transaction = await this.open();
+    for (const request of requests(more)) await transaction.sendBatch({ topicMessages: request, acks: -1 });
+    if (offsets !== null && offsets.size > 0) {
+      const topics = new Map<string, { partition: number; offset: string }[]>();
+      for (const [stream, next] of offsets) {
+        const at = stream.lastIndexOf('/');
+        const topic = stream.slice(0, at);
+        topics.set(topic, [
+          ...(topics.get(topic) ?? []),
+          { partition: Number(stream.slice(at + 1)), offset: next.toString() },
+        ]);
+      }
+      await transaction.sendOffsets({
+        consumerGroupId: group,
+        topics: [...topics].map(([topic, partitions]) => ({ topic, partitions })),
+      });
+    }
+    await transaction.commit();
+    this.transaction = null;
+  }
+
+  private async open(): Promise<Transaction> {
+    if (this.transaction === null) this.transaction = await this.producer.transaction();
+    return this.transaction;
   }
 
   /**
@@ -38,33 +89,28 @@ export class OutputProducer {
     topicMessages: TopicMessages[],
     waiting: (attempt: number) => Promise<void>,
   ): Promise<boolean> {
+    if (this.transactionalId !== null) {
+      // Into the open transaction, unseen by read_committed consumers until the next checkpoint commits.
+      const transaction = await this.open();
+      for (const request of requests(topicMessages)) {
+        await transaction.sendBatch({ topicMessages: request, acks: -1 });
+      }
+      return true;
+    }
     for (const request of requests(topicMessages)) {
       if (!(await this.send(request, waiting))) return false;
     }
     return true;
   }
 
-  private async send(
-    pending: TopicMessages[],
-    waiting: (attempt: number) => Promise<void>,
-  ): Promise<boolean> {
-    for (let attempt = 1; ; attempt++) {
-      try {
+  private send(pending: TopicMessages[], waiting: (attempt: number) => Promise<void>): Promise<boolean> {
+    return persist(
+      'deliver outputs',
+      async () => {
         await this.producer.sendBatch({ topicMessages: pending, acks: -1 });
-        if (attempt > 1) this.log.info({ attempts: attempt }, 'outputs delivered after retries');
-        return true;
-      } catch (e) {
-        if (this.stopped) return false;
-        const delay = Math.min(5_000, 100 * 2 ** Math.min(attempt, 6));
-        this.log[attempt === 1 ? 'warn' : 'debug'](
-          { attempt, retryInMs: delay, error: (e as Error).message },
-          'cannot deliver outputs; retrying',
-        );
-        await waiting(attempt);
-        await new Promise((done) => setTimeout(done, delay));
-        if (this.stopped) return false;
-      }
-    }
+      },
+      { log: this.log, stopped: () => this.stopped, waiting },
+    );
   }
 
   /** Give up on retries in progress (a shutdown past its deadline) and disconnect. */

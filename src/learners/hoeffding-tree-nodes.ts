@@ -98,6 +98,30 @@ export class TreeNodes {
     return n;
   }
 
+  /**
+   * Copy the hot records into a forest arena (see `TreeForest`) at node `base`: children shifted by
+   * `base`, and each leaf a record that points to itself and that no value leaves (threshold +∞, feature
+   * 0), so that a walk can take every step without testing for leaves. Returns false, copying nothing
+   * more, at the first nominal split: a forest walk compares numbers only.
+   */
+  copyInto(hotF: Float64Array, hotI: Int32Array, base: number, cardinality: Int32Array): boolean {
+    for (let n = 0; n < this.count; n++) {
+      const at = base + n;
+      const f = this.hotI[4 * n + I_FEATURE]!;
+      if (f < 0) {
+        hotF[HOT * at] = Number.POSITIVE_INFINITY;
+        hotI[4 * at + I_FEATURE] = 0;
+        hotI[4 * at + I_FIRST] = at;
+      } else {
+        if (cardinality[f] !== 0) return false;
+        hotF[HOT * at] = this.hotF[HOT * n]!;
+        hotI[4 * at + I_FEATURE] = f;
+        hotI[4 * at + I_FIRST] = base + this.hotI[4 * n + I_FIRST]!;
+      }
+    }
+    return true;
+  }
+
   /** The deepest leaf's depth. */
   maxDepth(): number {
     let depth = 0;

@@ -167,6 +167,8 @@ export class HoeffdingTree implements Classifier {
   /** Per-class scratch: a prediction nobody reads, and the shares a split's children inherit. */
   private probe = new Float64Array(1);
   private sinceMemoryCheck = 0;
+  /** Splits made so far: a forest that copied the nodes compares it to know when to copy them again. */
+  private splits = 0;
   private lastMajority = -1;
   private lastNb = -1;
 
@@ -242,6 +244,22 @@ export class HoeffdingTree implements Classifier {
     checkWeight(KIND, weight);
     checkOut(KIND, out, outOffset, this.leaves.c);
     const node = this.nodes.route(row, offset, this.leaves.cardinalities);
+    return this.scoreTrainAt(node, row, offset, label, weight, out, outOffset);
+  }
+
+  /**
+   * `scoreTrain` for a row a forest walk has already routed to leaf node `node`, unchecked: the caller
+   * checked the row and the label, and `weight` and `out` are its own.
+   */
+  scoreTrainAt(
+    node: number,
+    row: Float64Array,
+    offset: number,
+    label: number,
+    weight: number,
+    out: Float64Array,
+    outOffset: number,
+  ): number {
     const predicted = this.predictAt(this.nodes.leafOf[node]!, row, offset, out, outOffset, weight > 0);
     if (weight > 0) {
       const majority = this.lastMajority;
@@ -254,6 +272,33 @@ export class HoeffdingTree implements Classifier {
 
   sizeBytes(): number {
     return this.nodes.count * NODE_BYTES + this.leaves.sizeBytes();
+  }
+
+  /** Splits made so far (the nodes change only by splits). */
+  get structure(): number {
+    return this.splits;
+  }
+
+  /** Nodes, and the depth of the deepest leaf: what a forest walk needs to hold and walk this tree. */
+  get nodeCount(): number {
+    return this.nodes.count;
+  }
+
+  get depthReached(): number {
+    return this.nodes.maxDepth();
+  }
+
+  /** Copy the nodes into a forest arena at node `base` (see `TreeNodes.copyInto`); false if a split is nominal. */
+  copyNodesInto(hotF: Float64Array, hotI: Int32Array, base: number): boolean {
+    return this.nodes.copyInto(hotF, hotI, base, this.leaves.cardinalities);
+  }
+
+  /**
+   * `score` for a row a forest walk has already routed to leaf node `node`, unchecked: the forest's
+   * caller checked the row, and `out` has room for every member's classes.
+   */
+  scoreAt(node: number, row: Float64Array, offset: number, out: Float64Array, outOffset: number): number {
+    return this.predictAt(this.nodes.leafOf[node]!, row, offset, out, outOffset, false);
   }
 
   snapshot(): LearnerSnapshot {
@@ -348,8 +393,10 @@ export class HoeffdingTree implements Classifier {
       heads[head + H_LAST_ATTEMPT] = observed;
       if (this.nodes.depth[node]! < o.depthLimit) {
         const f = this.search.choose(leaves, leaf);
-        if (f >= 0)
+        if (f >= 0) {
           splitLeaf(this.nodes, leaves, node, leaf, f, this.search.threshold, o.checkInterval, this.probe);
+          this.splits++;
+        }
       }
     }
     this.sinceMemoryCheck += weight;

@@ -1,3 +1,4 @@
+export { TreeForest } from './hoeffding-forest.js';
 export type { HoeffdingRegressionTreeOptions, RegressionLeafKind } from './hoeffding-regression-tree.js';
 export { HOEFFDING_REGRESSION_TREE_DEFAULTS, HoeffdingRegressionTree } from './hoeffding-regression-tree.js';
 export type { HoeffdingTreeOptions, LeafModel } from './hoeffding-tree.js';

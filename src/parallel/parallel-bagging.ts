@@ -10,7 +10,8 @@ import { channelControl, runShard, ShardAnswers, ShardClient, shardReady } from 
  *
  * Work moves in batches of rows (a frame), not rows: each thread scores and trains its seats on the
  * whole batch, then the votes are combined row by row here. Rows and answers cross threads in shared
- * memory (see `shard-channel.ts`), so a batch costs no copies and no trip through the event loop.
+ * memory (see `shard-channel.ts`), so a batch costs no copies; while this thread waits for the other
+ * shards it never blocks (`Atomics.waitAsync`), so its event loop keeps serving.
  * The member lifecycle couples seats (the replacement cap, member ids), so this form runs with the
  * lifecycle switched off; the classes of a batch are announced before it is scored.
  *
@@ -62,6 +63,8 @@ export class ParallelBagging {
   /** The batch in shared memory, grown as needed. */
   private values = new Float64Array(new SharedArrayBuffer(0));
   private labels = new Float64Array(new SharedArrayBuffer(0));
+  /** A batch is out: its buffers are in use until its answers are in. */
+  private busy = false;
 
   private constructor(local: Bagging, remote: RemoteShard[], counts: number[]) {
     this.local = local;
@@ -144,7 +147,8 @@ export class ParallelBagging {
         worker.on('exit', (code) => {
           shard.lost ??= `exited with code ${code}`;
         });
-        // Work is only ever waited for synchronously, so an idle worker need not keep the process alive.
+        // An idle worker need not keep the process alive; while a batch is out, `run` refs it, since a
+        // pending Atomics.waitAsync does not.
         worker.unref();
         port1.unref();
         return shard;
@@ -170,12 +174,12 @@ export class ParallelBagging {
     for (let r = 0; r < rows; r++) if (labels[r]! + 1 > classes) classes = labels[r]! + 1;
     if (this.labels.length < rows) this.labels = new Float64Array(new SharedArrayBuffer(8 * rows));
     for (let r = 0; r < rows; r++) this.labels[r] = labels[r]!;
-    this.run(values, this.labels, rows, classes, out);
+    await this.run(values, this.labels, rows, classes, out);
   }
 
   /** Score every row of a batch. */
   async scoreBatch(values: Float64Array, rows: number, out: BatchVerdicts): Promise<void> {
-    this.run(values, null, rows, this.local.classes, out);
+    await this.run(values, null, rows, this.local.classes, out);
   }
 
   /** Stop the workers. */
@@ -184,13 +188,19 @@ export class ParallelBagging {
     await Promise.all(this.remote.map((r) => r.worker.terminate()));
   }
 
-  private run(
+  private async run(
     values: Float64Array,
     labels: Float64Array | null,
     rows: number,
     classes: number,
     out: BatchVerdicts,
-  ): void {
+  ): Promise<void> {
+    if (this.busy) {
+      throw new ShoalError(
+        'invalid-parameter',
+        'parallel bagging: a batch is still out; await it before sending the next',
+      );
+    }
     for (const r of this.remote) {
       if (r.lost !== null) {
         throw new ShoalError('worker-failure', `parallel bagging: a worker stopped: ${r.lost}`);
@@ -206,8 +216,24 @@ export class ParallelBagging {
     if (this.values.length < rows * width)
       this.values = new Float64Array(new SharedArrayBuffer(8 * rows * width));
     this.values.set(values.subarray(0, rows * width));
+    this.busy = true;
+    try {
+      await this.exchange(labels, rows, classes, out);
+    } finally {
+      this.busy = false;
+    }
+  }
+
+  /** Send the batch in shared memory to every shard, run the local one, collect and combine the votes. */
+  private async exchange(
+    labels: Float64Array | null,
+    rows: number,
+    classes: number,
+    out: BatchVerdicts,
+  ): Promise<void> {
     const c = Math.max(classes, this.local.classes);
     this.remote.forEach((r, j) => {
+      r.worker.ref();
       r.answers.fit(rows, this.counts[j + 1]!, c);
       r.client.post({
         stop: false,
@@ -230,9 +256,11 @@ export class ParallelBagging {
     }
     for (const r of this.remote) {
       try {
-        r.client.collect();
+        await r.client.collect();
       } catch (e) {
         failure ??= e;
+      } finally {
+        r.worker.unref();
       }
     }
     if (failure !== null) throw failure;

@@ -4,8 +4,9 @@ import { type Bagging, Verdict } from '../ensembles/index.js';
 
 /**
  * How a batch of rows reaches a shard of a bagging ensemble in another thread, and how its members'
- * answers come back, without copies or the event loop: rows, labels and answers live in shared memory,
- * and control words wake the sides with `Atomics.wait`/`Atomics.notify` — request number, number of
+ * answers come back, without copies: rows, labels and answers live in shared memory, and control words
+ * wake the sides — the worker blocks in `Atomics.wait`, the main thread awaits `Atomics.waitAsync`, so
+ * its event loop (Kafka heartbeats, scrapes) runs while a batch is out — request number, number of
  * requests done, status of the last (0 = answered, 1 = failed), a progress counter the shard bumps
  * every 256 rows, so that the waiting side can tell a long batch from a worker that stopped, and a
  * ready flag the worker raises once its shard is built. A request names its buffers in a message on
@@ -113,14 +114,29 @@ export function channelControl(): Int32Array {
   return new Int32Array(new SharedArrayBuffer(4 * 5));
 }
 
+// Atomics.waitAsync is in Node 16 and later, but not yet in TypeScript's ES2022 library.
+const atomics = Atomics as unknown as {
+  waitAsync(
+    array: Int32Array,
+    index: number,
+    value: number,
+    timeout?: number,
+  ): { async: boolean; value: string | Promise<string> };
+};
+
+/**
+ * Resolves with `ok`, `not-equal` or `timed-out` once `array[index]` is no longer `value` (or after
+ * `timeout` ms), without blocking the thread. A pending wait does not keep Node's event loop alive
+ * (nodejs/node#61941): the caller holds a ref'd handle meanwhile.
+ */
+async function waitAsync(array: Int32Array, index: number, value: number, timeout?: number): Promise<string> {
+  const wait = atomics.waitAsync(array, index, value, timeout);
+  return wait.async ? await wait.value : (wait.value as string);
+}
+
 /** Resolves when the worker behind `control` has built its shard and waits for requests. */
 export async function shardReady(control: Int32Array): Promise<void> {
-  // Atomics.waitAsync is in Node 16 and later, but not yet in TypeScript's ES2022 library.
-  const atomics = Atomics as unknown as {
-    waitAsync(array: Int32Array, index: number, value: number): { async: boolean; value: unknown };
-  };
-  const wait = atomics.waitAsync(control, C_READY, 0);
-  if (wait.async) await wait.value;
+  await waitAsync(control, C_READY, 0);
 }
 
 /** The main thread's end of a channel: post a request, later wait for its answer. */
@@ -155,13 +171,16 @@ export class ShardClient {
     });
   }
 
-  /** Block until the last request is answered; throws when the shard failed or went silent. */
-  collect(): void {
+  /**
+   * Resolves when the last request is answered, never blocking this thread; rejects when the shard
+   * failed or went silent.
+   */
+  async collect(): Promise<void> {
     const control = this.control;
     let progress = Atomics.load(control, C_PROGRESS);
     let silent = 0;
     while (Atomics.load(control, C_DONE) !== this.sent) {
-      if (Atomics.wait(control, C_DONE, this.sent - 1, WAIT_MS) !== 'timed-out') continue;
+      if ((await waitAsync(control, C_DONE, this.sent - 1, WAIT_MS)) !== 'timed-out') continue;
       const now = Atomics.load(control, C_PROGRESS);
       silent = now === progress ? silent + WAIT_MS : 0;
       progress = now;
@@ -178,6 +197,13 @@ export class ShardClient {
       throw new ShoalError(reason.code, reason.message);
     }
   }
+}
+
+/** Mark request number `done` answered (`failed`: with an error message posted first) and wake the waiter. */
+export function markAnswered(control: Int32Array, done: number, failed: boolean): void {
+  Atomics.store(control, C_STATUS, failed ? 1 : 0);
+  Atomics.store(control, C_DONE, done);
+  Atomics.notify(control, C_DONE);
 }
 
 /**
@@ -197,6 +223,7 @@ export function serveShard(shard: Bagging, port: MessagePort, control: Int32Arra
         port.close();
         return;
       }
+      let failed = false;
       try {
         const answers: AnswerArrays = {
           probs: new Float64Array(request.probs),
@@ -206,17 +233,15 @@ export function serveShard(shard: Bagging, port: MessagePort, control: Int32Arra
         const values = new Float64Array(request.values);
         const labels = request.labels === null ? null : new Float64Array(request.labels);
         runShard(shard, values, labels, request.rows, request.classes, answers, control);
-        Atomics.store(control, C_STATUS, 0);
       } catch (e) {
-        Atomics.store(control, C_STATUS, 1);
+        failed = true;
         port.postMessage(
           e instanceof ShoalError
             ? { code: e.code, message: e.message }
             : { code: 'worker-failure', message: `parallel bagging: a worker failed: ${String(e)}` },
         );
       }
-      Atomics.store(control, C_DONE, ++done);
-      Atomics.notify(control, C_DONE);
+      markAnswered(control, ++done, failed);
     }
   }
 }

@@ -149,6 +149,34 @@ export const EVALUATION_OPTIONS = {
   },
 } as const satisfies OptionTable;
 
+/**
+ * When a live service (`serve`) writes a checkpoint of its sessions and the offsets they cover: after
+ * `everyRows` rows read (events and labels) or `everySeconds` since the last one, whichever comes first,
+ * and always when partitions are taken away and on shutdown. `keep` checkpoints stay in the store.
+ */
+export const CHECKPOINT_CADENCE_OPTIONS = {
+  everyRows: {
+    type: 'integer',
+    atLeast: 1,
+    default: 10_000,
+    doc: 'rows read (events and labels) after which a checkpoint is written',
+  },
+  everySeconds: {
+    type: 'number',
+    above: 0,
+    default: 60,
+    doc: 'seconds after which a checkpoint is written when rows were read since the last one',
+  },
+  keep: {
+    type: 'integer',
+    atLeast: 1,
+    default: 3,
+    doc: 'checkpoints kept in the store; older ones are deleted after each save',
+  },
+} as const satisfies OptionTable;
+
+export type CheckpointCadence = OptionsOf<typeof CHECKPOINT_CADENCE_OPTIONS>;
+
 /** The label-join settings' scalar options (see `LabelsConfig`). */
 const LABEL_JOIN_OPTIONS = {
   pending: {
@@ -375,19 +403,26 @@ function checkRegressionEnsemble(c: Checker, value: unknown): RegressionEnsemble
       `must be bagging for task regression (boosting and stacking combine class votes), got ${describe(raw.kind)}`,
       'not-one-of',
     );
-  if (raw.lifecycle !== undefined)
-    c.fail(
-      join(path, 'lifecycle'),
-      'a regression has no member lifecycle (its monitors judge 0/1 errors); remove it',
-      'conflict',
-    );
+  if (raw.lifecycle !== undefined) {
+    // Each setting by its own path, so that one a command-line flag gave is named as that flag.
+    const lifecycle = c.object(join(path, 'lifecycle'), raw.lifecycle, null);
+    const keys = Object.keys(lifecycle);
+    for (const key of keys.length > 0
+      ? keys.map((k) => join(join(path, 'lifecycle'), k))
+      : [join(path, 'lifecycle')])
+      c.fail(
+        key,
+        'a regression has no member lifecycle (its monitors judge 0/1 errors); remove it',
+        'conflict',
+      );
+  }
   c.options(path, raw, REGRESSION_BAGGING_OPTIONS, ['kind', 'learners', 'lifecycle']);
   const learners = checkLearners(c, join(path, 'learners'), raw.learners, REGRESSORS);
   const { lifecycle: _, ...rest } = raw;
   return {
+    kind: 'bagging',
     ...REGRESSION_BAGGING_DEFAULTS,
     ...rest,
-    kind: 'bagging',
     learners: (learners ?? REGRESSION_BAGGING_DEFAULTS.learners).map((l) => filled(l, REGRESSOR_OPTIONS)),
   } as RegressionEnsembleSpec;
 }

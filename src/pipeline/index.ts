@@ -1,12 +1,13 @@
 export { EventClock, liveClock } from './clocks.js';
 export type {
+  CheckpointCadence,
   EvaluationConfig,
   InputsConfig,
   LabelsConfig,
   RegressionEnsembleSpec,
   RunConfig,
 } from './config.js';
-export { DEFAULT_SEED, LABELS_DEFAULTS, resolveConfig } from './config.js';
+export { CHECKPOINT_CADENCE_OPTIONS, DEFAULT_SEED, LABELS_DEFAULTS, resolveConfig } from './config.js';
 export type {
   CheckpointStore,
   Clock,

@@ -13,6 +13,7 @@ export class ScoreBuffers implements ScoreBatch {
   ids: readonly string[] | null = null;
   probabilities = new Float64Array(0);
   predicted = new Int32Array(0);
+  values = new Float64Array(0);
   agreement = new Float64Array(0);
   voters = new Int32Array(0);
   epoch = new Int32Array(0);
@@ -31,6 +32,7 @@ export class ScoreBuffers implements ScoreBatch {
     if (this.predicted.length < rows) {
       const size = grown(this.predicted.length, rows);
       this.predicted = new Int32Array(size);
+      this.values = new Float64Array(size);
       this.agreement = new Float64Array(size);
       this.voters = new Int32Array(size);
       this.epoch = new Int32Array(size);
@@ -54,6 +56,7 @@ export class ScoreBuffers implements ScoreBatch {
     const n = Math.min(verdict.classes, stride);
     for (let k = 0; k < stride; k++) this.probabilities[base + k] = k < n ? verdict.probabilities[k]! : 0;
     this.predicted[r] = verdict.predicted;
+    this.values[r] = verdict.value;
     this.agreement[r] = verdict.agreement;
     this.voters[r] = verdict.voters;
     this.epoch[r] = verdict.epoch;

@@ -1,4 +1,4 @@
-import { type FeatureSchema, ShoalError } from '../core/index.js';
+import { type ChangePoints, type FeatureSchema, ShoalError } from '../core/index.js';
 import {
   createInputMonitor,
   type InputMonitor,
@@ -46,6 +46,8 @@ export interface SessionOptions {
   readonly clock: Clock;
   /** Shoal's version, for the journal. */
   readonly version: string;
+  /** The stream's true change points, when the source records them (journaled in the run record). */
+  readonly changes?: ChangePoints | null;
 }
 
 /** Member drift signals the metrics surface keeps (the most recent ones). */
@@ -365,7 +367,7 @@ export class LearningSession {
   /** Build the ensemble, monitor and pending store on the first batch; announce classes as they appear. */
   private ensure(schema: FeatureSchema, classes: readonly string[]): SessionModel {
     if (this.ensemble === null) {
-      const { config, version, source, clock } = this.options;
+      const { config, version, source, clock, changes } = this.options;
       this.schema = schema;
       this.startedAt = clock.monotonic();
       this.options.journal.write({
@@ -377,6 +379,7 @@ export class LearningSession {
         config: config as unknown as Record<string, unknown>,
         schema,
         seed: config.seed,
+        ...(changes === undefined || changes === null ? {} : { changes }),
       });
       this.ensemble = createModel(config, schema, (c) => this.lifecycle(c));
       if (config.inputs.monitor) this.monitor = createInputMonitor(schema);

@@ -14,6 +14,7 @@ import {
   type EvaluatorSnapshot,
   orNull,
   RegressionEvaluator,
+  type RegressionFigures,
   type ViewOptions,
 } from '../evaluation/index.js';
 import type { SummaryRecord, Task, ViewFigures } from '../journal/index.js';
@@ -168,15 +169,15 @@ class RegressionScorecard implements Scorecard {
   ensureClasses(_n: number): void {}
 
   windowed(): ViewFigures {
-    return { ...NO_CLASS_FIGURES, ...this.evaluator.windowed.figures() };
+    return this.view(this.evaluator.summary().windowed);
   }
 
   cumulative(): ViewFigures {
-    return { ...NO_CLASS_FIGURES, ...this.evaluator.cumulative.figures() };
+    return this.view(this.evaluator.summary().cumulative);
   }
 
   summary(): SummaryFigures {
-    const { mae, rmse, r2 } = this.evaluator.cumulative.figures();
+    const { mae, rmse, r2 } = this.evaluator.summary().cumulative;
     return { task: this.task, ...NO_CLASS_FIGURES, macroF1: null, mae, rmse, r2, classes: [], confusion: [] };
   }
 
@@ -191,6 +192,10 @@ class RegressionScorecard implements Scorecard {
 
   snapshot(): EvaluatorSnapshot {
     return this.evaluator.snapshot();
+  }
+
+  private view({ rows, mae, rmse, r2 }: RegressionFigures): ViewFigures {
+    return { rows, ...NO_CLASS_FIGURES, mae, rmse, r2 };
   }
 }
 

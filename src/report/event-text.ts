@@ -1,6 +1,6 @@
 import type { InputDriftRecord, LifecycleRecord } from '../journal/index.js';
 import { fixed, grouped } from './format.js';
-import type { Placed, Replacement } from './timeline.js';
+import type { Placed, Replacement, TrueChange } from './timeline.js';
 
 /** Hover lines for the events on the rows axis: what happened, where and at which row. */
 
@@ -18,4 +18,17 @@ export function replacementText(r: Replacement, seat = true): string {
 
 export function inputDriftText(r: Placed<InputDriftRecord>): string {
   return `row ${grouped(r.row)}: ${r.feature} (${r.kind})`;
+}
+
+/** `+1,234 rows` after a change, or `none before the next change`. */
+export function delayText(change: TrueChange, at: number | null): string {
+  return at === null ? 'none before the next change' : `+${grouped(at - change.row)} rows`;
+}
+
+/** `row 25,000: 8 → 9; first drift signal +512 rows, first replacement +2,310 rows`. */
+export function changeText(c: TrueChange): string {
+  return (
+    `row ${grouped(c.row)}: the stream changed, ${c.from} → ${c.to}; ` +
+    `first drift signal ${delayText(c, c.firstSignal)}, first replacement ${delayText(c, c.firstReplacement)}`
+  );
 }

@@ -1,9 +1,9 @@
 import type { Task, ViewFigures } from '../journal/index.js';
 import { escapeHtml } from './escape.js';
-import { driftSignalText, inputDriftText, replacementText } from './event-text.js';
+import { changeText, driftSignalText, inputDriftText, replacementText } from './event-text.js';
 import { grouped } from './format.js';
 import { type LinearScale, linearScale, niceTicks } from './scale.js';
-import { EVENT_COLOURS, SERIES_COLOURS } from './styles.js';
+import { CHANGE_COLOUR, EVENT_COLOURS, SERIES_COLOURS } from './styles.js';
 import { px, svgElement, svgText, svgTitle } from './svg.js';
 import { type SeriesPoint, thinSeries } from './thin.js';
 import { byColumn, type ColumnGroup, listing, type TimeFrame, timeAxis } from './time-axis.js';
@@ -13,6 +13,8 @@ const TOP = 10;
 const PLOT_HEIGHT = 230;
 const RUG_GAP = 12;
 const RUG_ROW = 20;
+/** Where a mark's count label starts, right of the mark. */
+const LABEL_OFFSET = 5;
 /** Draw a guide through the plot at each replacement while there are at most this many marks. */
 const MOST_GUIDES = 60;
 
@@ -58,7 +60,8 @@ const CHART_PLANS: Readonly<Record<Task, ChartPlan>> = {
  * The windowed figures of the run over rows (from `window` records, thinned to at most `MOST_POINTS`
  * points per series) — accuracy and Cohen's κ of a classification, RMSE and MAE of a regression — with
  * rows of marks under the plot on the same axis: member warnings, drift signals and seat replacements
- * (a classification's member lifecycle) and input drifts. Each mark names its events on hover.
+ * (a classification's member lifecycle) and input drifts, and the stream's true change points (when the
+ * journal has them) as solid lines. Each mark names its events on hover.
  */
 export function metricChart(t: Timeline, frame: TimeFrame, task: Task = 'classification'): string {
   const plan = CHART_PLANS[task];
@@ -74,6 +77,18 @@ export function metricChart(t: Timeline, frame: TimeFrame, task: Task = 'classif
     for (const g of replacementMarks) {
       svg += svgElement('line', { x1: g.x, x2: g.x, y1: TOP, y2: bottom, class: 'guide' });
     }
+  }
+  // The stream's true change points: a solid line through the plot and the rugs, labelled at the top.
+  const rugsEnd = bottom + RUG_GAP + (plan.lifecycle ? 4 : 1) * RUG_ROW;
+  for (const c of t.changes ?? []) {
+    const at = frame.x(c.row);
+    svg += svgElement(
+      'g',
+      { class: 'true-change', 'data-row': c.row },
+      svgTitle(changeText(c)) +
+        svgElement('line', { x1: at, x2: at, y1: TOP, y2: rugsEnd, class: 'change' }) +
+        svgText(at + 3, TOP + 9, `${c.from} → ${c.to}`, 'change-label'),
+    );
   }
   // The headline figure is drawn last so that it stays on top where the lines meet.
   plan.lines.forEach((line, k) => {
@@ -106,6 +121,9 @@ export function metricChart(t: Timeline, frame: TimeFrame, task: Task = 'classif
     (plan.lifecycle
       ? `<span><svg width="10" height="10" viewBox="0 0 10 10" aria-hidden="true"><path d="M1 2H9L5 9Z" fill="${EVENT_COLOURS.replacement}"/></svg>replacement (dashed line through the plot)</span>`
       : '') +
+    (t.changes === null || t.changes.length === 0
+      ? ''
+      : `<span><i class="line-swatch" style="background:${CHANGE_COLOUR};width:3px;height:12px"></i>true change of the stream (solid line)</span>`) +
     `</div>`;
   const empty =
     t.windows.length === 0
@@ -189,6 +207,40 @@ const GLYPHS: Readonly<Record<string, (x: number, y: number) => string>> = {
   input: (x, y) => `M${px(x)} ${px(y - 5)}l4.5 5l-4.5 5l-4.5 -5Z`,
 };
 
+/** Width of a count label of `digits` characters at the rug's 9 px type, with a little air (common practice). */
+function labelWidth(text: string): number {
+  return 5.6 * text.length + 3;
+}
+
+/**
+ * Columns of marks whose count labels would overlap, gathered left to right: a cluster takes the next
+ * column while that column's mark sits under the cluster's label. Each cluster carries one count, the
+ * sum of its columns', so counts never print over each other and none is lost.
+ */
+function clusters<T extends { readonly row: number }>(groups: readonly ColumnGroup<T>[]): Cluster[] {
+  const out: Cluster[] = [];
+  for (const g of groups) {
+    const open = out.at(-1);
+    const n = g.items.length;
+    const rows = g.items.map((i) => i.row);
+    if (open !== undefined && g.x <= open.first + LABEL_OFFSET + labelWidth(grouped(open.count + n))) {
+      open.last = g.x;
+      open.count += n;
+      open.lastRow = Math.max(open.lastRow, ...rows);
+    } else
+      out.push({ first: g.x, last: g.x, count: n, firstRow: Math.min(...rows), lastRow: Math.max(...rows) });
+  }
+  return out;
+}
+
+interface Cluster {
+  first: number;
+  last: number;
+  count: number;
+  firstRow: number;
+  lastRow: number;
+}
+
 function rugRow<T extends { readonly row: number }>(
   frame: TimeFrame,
   y: number,
@@ -209,9 +261,25 @@ function rugRow<T extends { readonly row: number }>(
       'g',
       { class: `mark ${kind}`, 'data-rows': g.items.map((i) => i.row).join(' ') },
       svgTitle(listing(head, g.items.map(describe))) +
-        svgElement('path', { d: GLYPHS[kind]!(g.x, mid), class: `m-${kind}` }) +
-        // Marks that share a column are one glyph: its count says how many, so none is hidden.
-        (n > 1 ? svgText(g.x + 5, mid - 3, grouped(n), 'mark-count') : ''),
+        svgElement('path', { d: GLYPHS[kind]!(g.x, mid), class: `m-${kind}` }),
+    );
+  }
+  // Marks that share a column are one glyph, and neighbouring columns share one count: it says how
+  // many events lie under it, so none is hidden; a bracket under the marks shows the columns it spans.
+  for (const c of clusters(groups)) {
+    if (c.count === 1) continue;
+    const span = ` between rows ${grouped(c.firstRow)} and ${grouped(c.lastRow)}`;
+    out += svgElement(
+      'g',
+      { class: 'mark-cluster', 'data-count': c.count },
+      svgTitle(`${grouped(c.count)} ${label}${span}`) +
+        (c.last > c.first
+          ? svgElement('path', {
+              d: `M${px(c.first)} ${px(mid + 7)}V${px(mid + 8.5)}H${px(c.last)}V${px(mid + 7)}`,
+              class: 'cluster',
+            })
+          : '') +
+        svgText(c.first + LABEL_OFFSET, mid - 3, grouped(c.count), 'mark-count'),
     );
   }
   return out;

@@ -5,6 +5,7 @@ import {
   TASKS,
   type Task,
 } from '../journal/index.js';
+import { changeTable } from './change-table.js';
 import { configTable, schemaTable } from './config-table.js';
 import { confusionTables } from './confusion.js';
 import { escapeHtml } from './escape.js';
@@ -28,7 +29,7 @@ export const CAUTION =
 /**
  * The HTML report of a run, from its journal: one self-contained document (inline CSS and SVG, no
  * script, no font, no link to anything) with the headline figures, windowed accuracy and κ over rows
- * with drift signals and replacements marked, a lane per seat with its members' states, the confusion
+ * with drift signals and replacements marked, the stream's true change points and each one's detection delay (when the journal has them), a lane per seat with its members' states, the confusion
  * matrix with per-class scores, and the configuration and schema the run used. Every string read from
  * the journal is escaped.
  *
@@ -61,9 +62,15 @@ export function renderReport(records: readonly JournalRecord[], options: ReportO
               : confusionTables(summary),
           ),
         ];
+  const changes =
+    t.changes === null || run?.changes === undefined
+      ? []
+      : [section('True change points of the stream', changeTable(t.changes, run.changes))];
   const sections = [
     header(title, run, summary, t, task),
-    ...judged,
+    ...judged.slice(0, 1),
+    ...changes,
+    ...judged.slice(1),
     section(
       'Configuration',
       run === undefined ? '<p class="note">No run record.</p>' : configTable(run.config),

@@ -17,6 +17,8 @@ export const EVENT_COLOURS = {
   replacement: '#c0392b',
   input: '#00897b',
 } as const;
+/** The stream's true change points: black, apart from every event hue. */
+export const CHANGE_COLOUR = '#1d2330';
 /** The tick where a seat's member was replaced, dark on every state colour. */
 export const LANE_MARK_COLOUR = '#3a1512';
 export const STATE_COLOURS: Readonly<Record<MemberState, string>> = {
@@ -55,7 +57,8 @@ section{background:#fff;border:1px solid #e1e4ea;border-radius:8px;padding:14px 
 svg.chart{display:block;width:100%;height:auto;font-family:inherit}
 .legend svg{display:inline-block;flex:none}
 svg .tick{font-size:11px;fill:#5b6372;font-variant-numeric:tabular-nums}
-svg .mark-count{font-size:9px;font-weight:600;fill:#1d2330;font-variant-numeric:tabular-nums}
+svg .mark-count{font-size:9px;font-weight:600;fill:#1d2330;font-variant-numeric:tabular-nums;paint-order:stroke;stroke:#fff;stroke-width:2.5px;stroke-linejoin:round}
+svg .cluster{fill:none;stroke:#5b6372;stroke-width:.8}
 svg .axis-name{font-style:italic}
 svg .lane-label{font-size:11.5px;fill:#1d2330;font-variant-numeric:tabular-nums}
 svg .axis{stroke:#9aa1ad;stroke-width:1}
@@ -72,6 +75,8 @@ svg .m-drift{fill:${EVENT_COLOURS.drift}}
 svg .m-replacement{fill:${EVENT_COLOURS.replacement}}
 svg .m-input{fill:${EVENT_COLOURS.input}}
 svg .guide{stroke:${EVENT_COLOURS.replacement};stroke-width:1;stroke-dasharray:2 3;opacity:.45}
+svg .change{stroke:${CHANGE_COLOUR};stroke-width:1.4}
+svg .change-label{font-size:10.5px;font-weight:600;fill:${CHANGE_COLOUR}}
 svg .lane-mark{fill:${LANE_MARK_COLOUR}}
 svg.lanes rect{shape-rendering:crispEdges}
 ${stateRules}

@@ -1,9 +1,11 @@
+import type { ChangePoints } from '../core/index.js';
 import {
   type InputDriftRecord,
   isDriftSignal,
   type JournalRecord,
   type LifecycleRecord,
   type MemberState,
+  type RunRecord,
   type WindowRecord,
 } from '../journal/index.js';
 
@@ -60,6 +62,22 @@ export interface Timeline {
   readonly warnings: readonly Placed<LifecycleRecord>[];
   readonly replacements: readonly Replacement[];
   readonly inputDrifts: readonly Placed<InputDriftRecord>[];
+  /** The stream's true change points, when the run record carries them; null when it does not. */
+  readonly changes: readonly TrueChange[] | null;
+}
+
+/**
+ * A true change point of the stream (recorded by `shoal spawn`, journaled by the replay) and how the
+ * ensemble answered it: its first member drift signal and its first replacement at or after the change
+ * and before the next one (null: none). Delays are on the report's axis, rows trained: with labels
+ * inline, the rows after the change.
+ */
+export interface TrueChange {
+  readonly row: number;
+  readonly from: string;
+  readonly to: string;
+  readonly firstSignal: number | null;
+  readonly firstReplacement: number | null;
 }
 
 /**
@@ -73,7 +91,9 @@ export function timeline(records: readonly JournalRecord[]): Timeline {
   const inputDrifts: Placed<InputDriftRecord>[] = [];
   let rows = 1;
   let seats = 0;
+  let run: RunRecord | null = null;
   for (const r of records) {
+    if (r.type === 'run') run ??= r;
     if (r.type === 'lifecycle') {
       lifecycle.push(place(r));
       seats = Math.max(seats, r.seat + 1);
@@ -88,16 +108,39 @@ export function timeline(records: readonly JournalRecord[]): Timeline {
   windows.sort((a, b) => a.row - b.row);
   const bySeat: Placed<LifecycleRecord>[][] = Array.from({ length: seats }, () => []);
   for (const r of lifecycle) bySeat[r.seat]!.push(r);
+  const driftSignals = lifecycle.filter((r) => isDriftSignal(r.cause));
+  const replaced = bySeat.flatMap(replacements).sort((a, b) => a.row - b.row || a.seat - b.seat);
   return {
     rows,
     seats,
     lanes: bySeat.map((list) => segments(list, rows)),
     windows,
-    driftSignals: lifecycle.filter((r) => isDriftSignal(r.cause)),
+    driftSignals,
     warnings: lifecycle.filter((r) => r.cause === 'watched'),
-    replacements: bySeat.flatMap(replacements).sort((a, b) => a.row - b.row || a.seat - b.seat),
+    replacements: replaced,
     inputDrifts: [...inputDrifts].sort((a, b) => a.row - b.row),
+    changes: run?.changes === undefined ? null : trueChanges(run.changes, driftSignals, replaced),
   };
+}
+
+function trueChanges(
+  changes: ChangePoints,
+  signals: readonly { readonly row: number }[],
+  replaced: readonly { readonly row: number }[],
+): TrueChange[] {
+  const { rows, concepts } = changes;
+  return rows.map((row, i) => {
+    const next = rows[i + 1] ?? Number.POSITIVE_INFINITY;
+    const first = (list: readonly { readonly row: number }[]) =>
+      list.find((e) => e.row >= row && e.row < next)?.row ?? null;
+    return {
+      row,
+      from: concepts[i]!,
+      to: concepts[i + 1]!,
+      firstSignal: first(signals),
+      firstReplacement: first(replaced),
+    };
+  });
 }
 
 function segments(list: readonly Placed<LifecycleRecord>[], end: number): LaneSegment[] {

@@ -32,7 +32,9 @@ if (sectionAt >= 0) {
   const m = machine();
   const out: Record<string, unknown> = { machine: m, quick };
   if (!asJson)
-    console.log(`Shoal benchmarks${quick ? ' (quick)' : ''}: ${m.cores} cores (${m.cpu}), Node ${m.node}\n`);
+    console.log(
+      `Shoal benchmarks${quick ? ' (quick)' : ''}: ${m.cores} cores (${m.cpu}, L2 ${m.l2} per core), Node ${m.node}\n`,
+    );
   for (const name of Object.keys(SECTIONS)) {
     const child = spawnSync(
       process.execPath,

@@ -45,6 +45,51 @@ describe('schema inference a few stray values cannot tip', () => {
     expect(a.accuracy).toBeGreaterThan(0.8);
   });
 
+  it('a CSV written by pandas (row index, NaN as empty, labels as 1.0) scores exactly as the same data written plainly', async () => {
+    // Outside writer: pandas 2.3.3 (PyPI, pinned in .ci/run), DataFrame.to_csv with its defaults — the
+    // row index as a first column without a name, NaN written as an empty cell, and a label column of
+    // floats written as 1.0 and 0.0 (pandas API reference, DataFrame.to_csv: index=True, na_rep='').
+    // The same rows are written again by Python's csv module: no index, integer labels, empty cells.
+    const dir = await scratch();
+    const plain = join(dir, 'sea.csv');
+    expect((await shoal('spawn', 'sea', '--rows', '6000', '--seed', '3', '--out', plain)).code).toBe(0);
+    const written = join(dir, 'sea-pandas.csv');
+    const other = join(dir, 'sea-plain.csv');
+    const script = [
+      'import csv, math, sys, pandas as pd',
+      'assert pd.__version__ == "2.3.3", pd.__version__',
+      'd = pd.read_csv(sys.argv[1])',
+      'd.loc[d.index % 7 == 2, "f1"] = float("nan")',
+      'd.loc[d.index % 11 == 4, "f3"] = float("nan")',
+      'd["label"] = d["label"].astype(float)',
+      'd.to_csv(sys.argv[2])',
+      'f = open(sys.argv[3], "w", newline=""); w = csv.writer(f); w.writerow(list(d.columns))',
+      'for r in d.itertuples(index=False): w.writerow(["" if math.isnan(v) else int(v) if c == "label" else repr(v) for c, v in zip(d.columns, r)])',
+      'f.close()',
+    ].join('\n');
+    await run('python3', ['-c', script, plain, written, other]);
+    const lines = (await readFile(written, 'utf8')).split('\n');
+    expect(lines[0]).toBe(',f1,f2,f3,label');
+    expect(lines[3]).toMatch(/^2,,[^,]+,[^,]+,[01]\.0$/);
+    const a = await shoal('replay', written, '--json', '--members', '3');
+    const b = await shoal('replay', other, '--json', '--members', '3');
+    expect(a.code).toBe(0);
+    expect(a.err).toMatch(/^ {2}\(unnamed\)\s+row index \(the first column has no name\): not a feature$/m);
+    for (const f of ['f1', 'f2', 'f3']) expect(a.err).toMatch(new RegExp(`^ {2}${f}\\s+numeric$`, 'm'));
+    expect(a.err).toMatch(/^ {2}label\s+label, class codes 0, 1, …$/m);
+    const pandas = JSON.parse(a.out) as {
+      rows: number;
+      accuracy: number;
+      rejected: number;
+      classes: string[];
+    };
+    const csv = JSON.parse(b.out) as { rows: number; accuracy: number };
+    note(`pandas CSV: accuracy ${pandas.accuracy} vs ${csv.accuracy} for the same rows written plainly`);
+    expect(pandas).toMatchObject({ rows: 6000, rejected: 0, classes: ['0', '1'] });
+    expect(pandas.accuracy).toBe(csv.accuracy);
+    expect(pandas.accuracy).toBeGreaterThan(0.8);
+  });
+
   it('a typo, a "?" and a quoted number among numbers leave the column numeric; the typo is rejected by line', async () => {
     const dir = await scratch();
     const file = join(dir, 'legs.csv');

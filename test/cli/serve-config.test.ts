@@ -79,6 +79,60 @@ kafka:
     expect(run.err).toContain('kafka.labels: late labels need scope global');
   });
 
+  it('checks the checkpoint settings: one store, the cadence options by their table', async () => {
+    const path = await configFile(`
+kafka:
+  brokers: [127.0.0.1:9092]
+  group: legs
+  events: { topics: [legs] }
+  scores: { topic: legs-scores }
+  deadLetters: { topic: legs-dead }
+  checkpoint: { dir: run, topic: legs-checkpoints, everyRows: 0, everySeconds: -1, every: 5 }
+`);
+    const run = await shoal('serve', '--config', path, '--check');
+    expect(run.code).toBe(2);
+    for (const line of [
+      'kafka.checkpoint: choose one store: dir (files) or topic (a compacted Kafka topic)',
+      'kafka.checkpoint.everyRows: must be an integer ≥ 1, got 0',
+      'kafka.checkpoint.everySeconds: must be a number > 0, got -1',
+      'kafka.checkpoint.every: unknown setting',
+    ]) {
+      expect(run.err).toContain(line);
+    }
+    const files = await configFile(`
+kafka:
+  brokers: [127.0.0.1:9092]
+  group: legs
+  scope: partition
+  delivery: exactly-once
+  events: { topics: [legs] }
+  scores: { topic: legs-scores }
+  deadLetters: { topic: legs-dead }
+  checkpoint: { dir: run }
+`);
+    const refused = await shoal('serve', '--config', files, '--check');
+    expect(refused.code).toBe(2);
+    expect(refused.err).toContain('kafka.delivery: exactly-once needs the Kafka checkpoint store');
+    expect(refused.err).toContain('kafka.delivery: exactly-once is offered with scope global only');
+    const fine = await configFile(`
+kafka:
+  brokers: [127.0.0.1:9092]
+  group: legs
+  delivery: exactly-once
+  events: { topics: [legs] }
+  scores: { topic: legs-scores }
+  deadLetters: { topic: legs-dead }
+  checkpoint: { topic: legs-checkpoints, everyRows: 2000 }
+`);
+    const ok = await shoal('serve', '--config', fine, '--check');
+    expect(ok.code, ok.err).toBe(0);
+    expect((parse(ok.out) as { kafka: { checkpoint: unknown } }).kafka.checkpoint).toEqual({
+      dir: null,
+      topic: 'legs-checkpoints',
+      cadence: { everyRows: 2000, everySeconds: 60, keep: 3 },
+    });
+  });
+
   it('prints the effective configuration with its defaults', async () => {
     const path = await configFile(`
 kafka:
@@ -96,7 +150,7 @@ kafka:
       clientId: 'shoal',
       events: { topics: ['legs'], format: 'arrow', fromBeginning: true, maxMessageBytes: 1048576 },
       journal: { topic: null, file: null },
-      checkpoint: { dir: null },
+      checkpoint: { dir: null, topic: null, cadence: { everyRows: 10000, everySeconds: 60, keep: 3 } },
       shutdownMs: 30000,
       sasl: null,
       tls: null,

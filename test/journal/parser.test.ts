@@ -59,6 +59,11 @@ describe('parseJournal', () => {
     expect(failure('run.ndjson', bad({ seats: [0.9, '1'] })).message).toContain(
       'seats[1] must be a number or null',
     );
+    const first = JSON.parse(lines[0]!) as Record<string, unknown>;
+    const changes = { rows: [5, 3], concepts: ['a', 'b', 'c'], width: 0 };
+    expect(failure('x', withLine(1, JSON.stringify({ ...first, changes }))).message).toBe(
+      `x:1: run record: changes must be the stream's change points (rows must increase), got ${JSON.stringify(changes)}`,
+    );
     const life = run.records.findIndex((r) => r.type === 'lifecycle') + 1;
     const l = JSON.parse(lines[life - 1]!) as Record<string, unknown>;
     expect(failure('x', withLine(life, JSON.stringify({ ...l, to: 'asleep' }))).message).toBe(

@@ -1,8 +1,10 @@
 import { spawnSync } from 'node:child_process';
+import { MessageChannel } from 'node:worker_threads';
 import { describe, expect, it } from 'vitest';
 // Worker threads load compiled files, so this test uses the build in dist/ (npm test builds first).
 import { Bagging, Verdict } from '../../dist/ensembles/index.js';
 import { BatchVerdicts, ParallelBagging } from '../../dist/parallel/index.js';
+import { channelControl, markAnswered, ShardClient } from '../../src/parallel/shard-channel.js';
 import { sea, take } from '../../src/streams/index.js';
 
 describe('parallel bagging', () => {
@@ -102,6 +104,54 @@ describe('parallel bagging', () => {
     expect(child.stderr).toBe('');
     expect(child.stdout).toBe('scored');
     expect(child.status).toBe(0);
+  });
+
+  it('never blocks its thread while it waits for a shard, so the event loop keeps turning', async () => {
+    const { port1, port2 } = new MessageChannel();
+    const control = channelControl();
+    const client = new ShardClient(port1, control);
+    const none = new ArrayBuffer(0);
+    client.post({
+      stop: false,
+      rows: 0,
+      classes: 2,
+      values: none,
+      labels: null,
+      probs: none,
+      preds: none,
+      weights: none,
+    });
+    // The answer comes from a timer of this very thread: a blocking wait would never let it fire.
+    const timer = setTimeout(() => markAnswered(control, 1, false), 50);
+    try {
+      await expect(client.collect()).resolves.toBeUndefined();
+    } finally {
+      clearTimeout(timer);
+      port1.close();
+      port2.close();
+    }
+  });
+
+  it('refuses a second batch while one is out, and takes it once the first is in', async () => {
+    const gen = sea({}, 3);
+    const block = take(gen, 400);
+    const parallel = await ParallelBagging.start(
+      gen.schema,
+      { members: 2, lambda: 1, lifecycle: { enabled: false } },
+      1,
+      2,
+    );
+    try {
+      const first = parallel.scoreBatch(block.rows, 200, new BatchVerdicts());
+      await expect(parallel.scoreBatch(block.rows, 200, new BatchVerdicts())).rejects.toMatchObject({
+        code: 'invalid-parameter',
+        message: expect.stringMatching(/still out/),
+      });
+      await first;
+      await parallel.scoreBatch(block.rows, 200, new BatchVerdicts());
+    } finally {
+      await parallel.close();
+    }
   });
 
   it('refuses the member lifecycle, which couples seats', async () => {

@@ -2,7 +2,12 @@ import { describe, expect, it } from 'vitest';
 import { ConfigError } from '../../src/core/index.js';
 import { ADWIN_DEFAULTS, DDM_DEFAULTS } from '../../src/drift/index.js';
 import { BAGGING_DEFAULTS, LIFECYCLE_DEFAULTS } from '../../src/ensembles/index.js';
-import { HOEFFDING_TREE_DEFAULTS, MLP_DEFAULTS, NAIVE_BAYES_DEFAULTS } from '../../src/learners/index.js';
+import {
+  HOEFFDING_REGRESSION_TREE_DEFAULTS,
+  HOEFFDING_TREE_DEFAULTS,
+  MLP_DEFAULTS,
+  NAIVE_BAYES_DEFAULTS,
+} from '../../src/learners/index.js';
 import { resolveConfig } from '../../src/pipeline/index.js';
 
 function issuesOf(raw: unknown): string[] {
@@ -33,6 +38,47 @@ describe('resolveConfig', () => {
     ]);
     expect(config.evaluation).toEqual({ window: 1000, fading: 0.999, journalEvery: 1000 });
     expect(config.inputs).toMatchObject({ label: 'label', id: null, monitor: true });
+  });
+
+  it('a regression bags regressors with every default filled in; task and labelsAs imply each other', () => {
+    const byTask = resolveConfig({ task: 'regression' }, 'shoal.yaml');
+    expect(byTask.task).toBe('regression');
+    expect(byTask.inputs.labelsAs).toBe('regression');
+    expect(byTask.ensemble).toEqual({
+      kind: 'bagging',
+      members: 10,
+      lambda: 1,
+      learners: [{ kind: 'hoeffding-regression-tree', ...HOEFFDING_REGRESSION_TREE_DEFAULTS }],
+    });
+    const byLabels = resolveConfig({ inputs: { labelsAs: 'regression' } }, 'shoal.yaml');
+    expect(byLabels.task).toBe('regression');
+    expect(resolveConfig({}, 'shoal.yaml').task).toBe('classification');
+  });
+
+  it('reports every setting that does not fit a regression, by its path', () => {
+    expect(
+      issuesOf({
+        task: 'regression',
+        ensemble: {
+          kind: 'stacking',
+          members: 0,
+          learners: [{ kind: 'hoeffding-tree' }, { kind: 'linear-regression', learningRate: -1 }],
+          lifecycle: { detector: { kind: 'adwin' }, minAge: 10 },
+        },
+        inputs: { labelsAs: 'class-codes' },
+      }),
+    ).toEqual([
+      'ensemble.kind: must be bagging for task regression (boosting and stacking combine class votes), got "stacking"',
+      'ensemble.lifecycle.detector: a regression has no member lifecycle (its monitors judge 0/1 errors); remove it',
+      'ensemble.lifecycle.minAge: a regression has no member lifecycle (its monitors judge 0/1 errors); remove it',
+      'ensemble.members: must be an integer ≥ 1, got 0',
+      'ensemble.learners[0].kind: must be one of hoeffding-regression-tree, linear-regression, got "hoeffding-tree"',
+      'ensemble.learners[1].learningRate: must be a number > 0, got -1',
+      'inputs.labelsAs: "class-codes" does not fit task regression: a regression reads its labels as numbers (regression), a classification as class-codes or class-names',
+    ]);
+    expect(issuesOf({ task: 'guess' })).toEqual([
+      'task: must be one of classification, regression, got "guess"',
+    ]);
   });
 
   it('keeps what the file says', () => {

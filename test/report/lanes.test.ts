@@ -130,7 +130,44 @@ describe('seat lanes', () => {
     const marks = html.split('<g class="mark drift"').slice(1);
     expect(marks).toHaveLength(2);
     expect(marks[0]).toContain('data-rows="500000 500001 500002"');
-    expect(marks[0]).toMatch(/<text[^>]*class="mark-count"[^>]*>3<\/text>/);
-    expect(marks[1]).not.toContain('mark-count');
+    const counts = [...html.matchAll(/<g class="mark-cluster" data-count="(\d+)">.*?<\/g>/g)];
+    expect(counts.map((m) => m[1])).toEqual(['3']);
+    expect(counts[0]![0]).toMatch(/<text[^>]*class="mark-count"[^>]*>3<\/text>/);
+  });
+
+  it('crowded marks: neighbouring columns share one count, labels never overlap, and the counts add up', () => {
+    const signal = (row: number): JournalRecord => ({
+      type: 'lifecycle',
+      scored: row,
+      trained: row,
+      seat: row % 10,
+      member: row % 10,
+      learner: 'hoeffding-tree',
+      from: 'active',
+      to: 'active',
+      cause: 'drift-ignored-improving',
+      detector: 'adwin',
+      estimate: 0.1,
+      reason: 'r',
+    });
+    // 100,000 rows over about 900 pixels: two signals every 200 rows make a run of adjacent columns,
+    // whose counts would print over each other; a lone signal far away keeps no count.
+    const rows = [
+      ...Array.from({ length: 40 }, (_, i) => 40_000 + 200 * i),
+      ...Array.from({ length: 40 }, (_, i) => 40_001 + 200 * i),
+      99_000,
+    ];
+    const html = renderReport(rows.map(signal));
+    const driftRow = html.slice(html.indexOf('drift signals</text>'), html.indexOf('replacements</text>'));
+    const labels = [
+      ...driftRow.matchAll(
+        /<g class="mark-cluster" data-count="(\d+)">.*?<text x="([\d.]+)"[^>]*>([\d,]+)<\/text>/g,
+      ),
+    ];
+    expect(labels.reduce((n, m) => n + Number(m[1]), 0)).toBe(80);
+    for (let i = 1; i < labels.length; i++) {
+      const previousEnd = Number(labels[i - 1]![2]) + 5.6 * labels[i - 1]![3]!.length;
+      expect(Number(labels[i]![2])).toBeGreaterThan(previousEnd);
+    }
   });
 });

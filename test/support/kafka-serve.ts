@@ -1,8 +1,11 @@
 import { type ChildProcess, spawn } from 'node:child_process';
 import { dirname, join, resolve } from 'node:path';
+import { Writable } from 'node:stream';
 import { fileURLToPath } from 'node:url';
 import { tableFromIPC } from 'apache-arrow';
 import { Kafka, type KafkaMessage, logLevel, type Message } from 'kafkajs';
+import type { Logger } from 'pino';
+import { createLogger } from '../../src/kafka/index.js';
 import { uniqueName } from './kafka-names.js';
 
 /**
@@ -143,9 +146,13 @@ export class ServeProcess {
   }
 }
 
-/** A reader that stays subscribed and counts score rows, for tests that wait round after round. */
+/**
+ * A reader that stays subscribed and counts score rows and the distinct ids scored, for tests that wait
+ * round after round (a restarted service scores some events again: `rows` counts repeats, `ids` not).
+ */
 export class ScoreCounter {
   rows = 0;
+  readonly ids = new Set<string>();
   private readonly consumer;
 
   private constructor(brokers: string) {
@@ -158,7 +165,10 @@ export class ScoreCounter {
     await counter.consumer.subscribe({ topic, fromBeginning: true });
     void counter.consumer.run({
       eachMessage: async ({ message }) => {
-        counter.rows += tableFromIPC(message.value!).numRows;
+        const table = tableFromIPC(message.value!);
+        counter.rows += table.numRows;
+        const ids = table.getChild('id');
+        if (ids !== null) for (const id of ids) counter.ids.add(String(id));
       },
     });
     return counter;
@@ -172,7 +182,82 @@ export class ScoreCounter {
     }
   }
 
+  /** Resolves once `ids` distinct ids were scored, or as soon as `stop()` says true (checked often). */
+  async reachIds(ids: number, stop: () => boolean = () => false, timeoutMs = 120_000): Promise<void> {
+    const began = performance.now();
+    while (this.ids.size < ids && !stop()) {
+      if (performance.now() - began > timeoutMs)
+        throw new Error(`only ${this.ids.size} of ${ids} ids scored`);
+      await new Promise((d) => setTimeout(d, 20));
+    }
+  }
+
   stop(): Promise<void> {
     return this.consumer.disconnect();
   }
+}
+
+/**
+ * Wait until `group` has committed at least the given next offset of each topic: a number for partition
+ * 0, a list for partitions 0, 1, ….
+ */
+export async function waitCommitted(
+  brokers: string,
+  group: string,
+  want: Readonly<Record<string, number | readonly number[]>>,
+  timeoutMs = 120_000,
+): Promise<void> {
+  const admin = client(brokers).admin();
+  await admin.connect();
+  const began = performance.now();
+  try {
+    for (;;) {
+      const got: Record<string, number[]> = {};
+      for (const topic of Object.keys(want)) {
+        const [offsets] = await admin.fetchOffsets({ groupId: group, topics: [topic] });
+        got[topic] = [...(offsets?.partitions ?? [])]
+          .sort((a, b) => a.partition - b.partition)
+          .map((p) => Number(p.offset));
+      }
+      const reached = Object.entries(want).every(([topic, offsets]) =>
+        (typeof offsets === 'number' ? [offsets] : offsets).every((o, p) => (got[topic]![p] ?? -1) >= o),
+      );
+      if (reached) return;
+      if (performance.now() - began > timeoutMs) {
+        throw new Error(`${group} committed ${JSON.stringify(got)}, expected ${JSON.stringify(want)}`);
+      }
+      await new Promise((d) => setTimeout(d, 200));
+    }
+  } finally {
+    await admin.disconnect();
+  }
+}
+
+/** Wait until `group` has no members (a killed member leaves once its session times out). */
+export async function waitGroupEmpty(brokers: string, group: string, timeoutMs = 60_000): Promise<void> {
+  const admin = client(brokers).admin();
+  await admin.connect();
+  const began = performance.now();
+  try {
+    for (;;) {
+      const { groups } = await admin.describeGroups([group]);
+      if ((groups[0]?.members.length ?? 0) === 0) return;
+      if (performance.now() - began > timeoutMs) throw new Error(`${group} still has members`);
+      await new Promise((d) => setTimeout(d, 200));
+    }
+  } finally {
+    await admin.disconnect();
+  }
+}
+
+/** A logger for Shoal's Kafka adapters used in a test: its lines are kept in memory, never printed. */
+export function quietLogger(): Logger {
+  const lines: string[] = [];
+  const destination = new Writable({
+    write(chunk: Buffer, _encoding, done) {
+      lines.push(chunk.toString('utf8'));
+      done();
+    },
+  });
+  return createLogger({ level: 'warn', pretty: false, destination });
 }

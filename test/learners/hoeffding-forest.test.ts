@@ -1,0 +1,74 @@
+import { describe, expect, it } from 'vitest';
+import { Rng } from '../../src/core/index.js';
+import { HoeffdingTree, TreeForest } from '../../src/learners/index.js';
+import { sea, stagger } from '../../src/streams/index.js';
+
+/** Trees trained on the same stream with different seeded weights, so they grow apart. */
+function seatsOn(gen: ReturnType<typeof sea>, members: number, rows: number) {
+  const seats = Array.from({ length: members }, (_, m) => ({ member: new HoeffdingTree(gen.schema, {}, m) }));
+  const width = gen.schema.features.length;
+  const data = new Float64Array(rows * width);
+  const labels = new Int32Array(rows);
+  for (let i = 0; i < rows; i++) labels[i] = gen.next(data, i * width);
+  return { seats, data, labels, width };
+}
+
+describe('TreeForest', () => {
+  it('scores and trains every tree exactly as its own walk does, and follows the trees as they split', () => {
+    const gen = sea({ noise: 0.1 }, 5);
+    const { seats, data, labels, width } = seatsOn(gen, 4, 30_000);
+    const own = Array.from({ length: 4 }, (_, m) => new HoeffdingTree(gen.schema, {}, m));
+    for (const tree of [...own, ...seats.map((s) => s.member)]) tree.ensureClasses(2);
+    const forest = new TreeForest();
+    const rng = new Rng('forest');
+    const out = new Float64Array(4 * 2);
+    const mine = new Float64Array(2);
+    for (let i = 0; i < labels.length; i++) {
+      const at = i * width;
+      expect(forest.walk(seats, data, at)).toBe(true);
+      for (let m = 0; m < 4; m++) {
+        const weight = Math.floor(rng.next() * 3);
+        if (i % 7 === 0) {
+          expect(forest.score(m, data, at, out, 2 * m)).toBe(own[m]!.score(data, at, mine, 0));
+          expect(out.subarray(2 * m, 2 * m + 2)).toEqual(mine);
+        }
+        const predicted = forest.scoreTrain(m, data, at, labels[i]!, weight, out, 2 * m);
+        expect(predicted).toBe(own[m]!.scoreTrain(data, at, labels[i]!, weight, mine, 0));
+        expect(out.subarray(2 * m, 2 * m + 2)).toEqual(mine);
+      }
+    }
+    for (const [m, { member }] of seats.entries()) expect(member.snapshot()).toEqual(own[m]!.snapshot());
+    expect(seats.every(({ member }) => member.shape.nodes > 5)).toBe(true);
+  });
+
+  it('takes in a learner that replaced another in a seat', () => {
+    const { seats, data, labels, width } = seatsOn(sea({ noise: 0.1 }, 6), 3, 5000);
+    for (let i = 0; i < labels.length; i++)
+      for (const s of seats) s.member.train(data, i * width, labels[i]!, 1);
+    const forest = new TreeForest();
+    const out = new Float64Array(3 * 2);
+    expect(forest.walk(seats, data, 0)).toBe(true);
+    const fresh = new HoeffdingTree(seats[0]!.member.schema, {}, 9);
+    fresh.ensureClasses(2);
+    seats[1] = { member: fresh };
+    expect(forest.walk(seats, data, 0)).toBe(true);
+    forest.score(1, data, 0, out, 2);
+    expect(Array.from(out.subarray(2, 4))).toEqual([0.5, 0.5]);
+  });
+
+  it('leaves rows with a missing value, and trees with a nominal split, to the trees own walks', () => {
+    const { seats, data, labels, width } = seatsOn(sea({ noise: 0.1 }, 7), 2, 5000);
+    for (let i = 0; i < labels.length; i++)
+      for (const s of seats) s.member.train(data, i * width, labels[i]!, 1);
+    const forest = new TreeForest();
+    const row = Float64Array.from(data.subarray(0, width));
+    row[1] = Number.NaN;
+    expect(forest.walk(seats, row, 0)).toBe(false);
+    const gen = stagger({ concept: 'a' }, 8);
+    const nominal = [{ member: new HoeffdingTree(gen.schema, {}, 1) }];
+    const r = new Float64Array(gen.schema.features.length);
+    for (let i = 0; i < 10_000; i++) nominal[0]!.member.train(r, 0, gen.next(r, 0), 1);
+    expect(nominal[0]!.member.shape.nodes).toBeGreaterThan(1);
+    expect(forest.walk(nominal, r, 0)).toBe(false);
+  });
+});
