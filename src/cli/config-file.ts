@@ -1,6 +1,6 @@
 import { readFile } from 'node:fs/promises';
 import { parse, YAMLParseError } from 'yaml';
-import { ShoalError } from '../core/index.js';
+import { ConfigError, type ConfigIssue, ShoalError } from '../core/index.js';
 
 /**
  * Read a `shoal.yaml` into plain data. A missing file or a YAML syntax error is one message naming the
@@ -25,5 +25,29 @@ export async function readConfigFile(path: string): Promise<unknown> {
       throw new ShoalError('invalid-config', `${path}${where}: ${e.message.split('\n')[0]}`, { cause: e });
     }
     throw e;
+  }
+}
+
+/**
+ * Checks that each throw a `ConfigError`, run so that every problem of a file is reported at once
+ * rather than the first alone.
+ *
+ * @example
+ * const found = new IssueList();
+ * const run = found.collect(() => resolveConfig(rest, path)); // null when it had problems
+ * if (found.issues.length > 0) throw new ConfigError(path, found.issues);
+ */
+export class IssueList {
+  readonly issues: ConfigIssue[] = [];
+
+  /** The check's result, or null after keeping its issues. */
+  collect<T>(check: () => T): T | null {
+    try {
+      return check();
+    } catch (e) {
+      if (!(e instanceof ConfigError)) throw e;
+      this.issues.push(...e.issues);
+      return null;
+    }
   }
 }

@@ -1,5 +1,5 @@
 import { setTimeout as sleep } from 'node:timers/promises';
-import { ConfigError, type ConfigIssue } from '../core/index.js';
+import { ConfigError } from '../core/index.js';
 import { ArrowLayout, arrowStream, SCORES_CONTENT_TYPE } from '../frames/index.js';
 import {
   createKafka,
@@ -12,18 +12,12 @@ import {
   type Secrets,
 } from '../kafka/index.js';
 import { resolveConfig } from '../pipeline/index.js';
-import {
-  CLASSES,
-  FREIGHT_DEFAULTS,
-  FREIGHT_SCHEMA,
-  FreightScenario,
-  OPERATOR,
-  SCRIPT,
-} from '../scenario/index.js';
+import { CLASSES, FREIGHT_DEFAULTS, FREIGHT_SCHEMA, FreightScenario, OPERATOR } from '../scenario/index.js';
 import { decimal, parse, positionals, text, whole } from './args.js';
-import { readConfigFile } from './config-file.js';
+import { IssueList, readConfigFile } from './config-file.js';
 import { DEMO_CAUTION } from './demo.js';
 import { LabelQueue } from './label-queue.js';
+import { LegBatches } from './leg-batches.js';
 import { count, type Terminal } from './terminal.js';
 
 /** Topic and column names when no configuration names them (those of `deploy/shoal.yaml`). */
@@ -169,7 +163,7 @@ export async function demoStream(args: readonly string[], terminal: Terminal): P
   const inspections = new LabelQueue('inspection results');
   const dueIds: string[] = [];
   let dueLabels = new Float64Array(step);
-  const script = SCRIPT.map((d) => ({ ...d, shown: false }));
+  const legs = new LegBatches(scenario, (index, what) => terminal.out(`  leg ${count(index)}: ${what}\n`));
   const every = total === null ? 10 * step * STEPS_PER_SECOND : Math.max(1000, Math.round(total / 10));
 
   let stop = false;
@@ -221,18 +215,7 @@ export async function demoStream(args: readonly string[], terminal: Terminal): P
   try {
     while (!stop && (total === null || sent < total)) {
       const rows = total === null ? step : Math.min(step, total - sent);
-      for (let r = 0; r < rows; r++) {
-        const label = scenario.next(values, r * width);
-        const leg = scenario.leg;
-        for (const d of script) {
-          if (!d.shown && scenario.begun(d.name, leg.index)) {
-            d.shown = true;
-            terminal.out(`  leg ${count(leg.index)}: ${d.what}\n`);
-          }
-        }
-        ids[r] = leg.id;
-        inspections.push(leg.labelTime, leg.id, label);
-      }
+      legs.fill(rows, values, ids, inspections);
       await deliver(producer, target.events, arrowStream(events.batch(rows, values, null, ids)));
       sent += rows;
       acked.push({ wall: terminal.now(), time: scenario.leg.time });
@@ -320,16 +303,9 @@ async function resolveTarget(
   }
   const raw = ((await readConfigFile(configPath)) ?? {}) as Record<string, unknown>;
   const { kafka: section, telemetry: _telemetry, ...rest } = raw;
-  const issues: ConfigIssue[] = [];
-  const collect = <T>(f: () => T): T | null => {
-    try {
-      return f();
-    } catch (e) {
-      if (!(e instanceof ConfigError)) throw e;
-      issues.push(...e.issues);
-      return null;
-    }
-  };
+  const found = new IssueList();
+  const issues = found.issues;
+  const collect = <T>(f: () => T): T | null => found.collect(f);
   const run = collect(() => resolveConfig(rest, configPath));
   const settings = collect(() => resolveKafkaSettings(section, configPath));
   if (settings !== null && settings.labels === null && labels === undefined) {

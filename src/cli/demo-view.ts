@@ -120,6 +120,9 @@ export class DemoView {
     }
     const of = state.total === null ? '' : ` / ${count(state.total)}`;
     const labels = metrics.labels();
+    // A line wider than the terminal would wrap, and the redraw would climb too few lines.
+    const width =
+      this.terminal.columns !== undefined && this.terminal.columns > 0 ? this.terminal.columns : 0;
     const lines = [
       this.title,
       '',
@@ -127,14 +130,15 @@ export class DemoView {
       `accuracy ${figure(metrics.windowAccuracy, 3)}  kappa ${figure(metrics.windowKappa, 3)}  (last ${count(this.window)} judged)   ${sparkline(this.history)}`,
       `inspections joined ${count(labels.joined)}   still out ${count(state.labelsOut)}   drift signals ${count(sum(metrics.lifecycleCounts(), ['drift', 'drift-on-trial', 'drift-deferred']))}   replacements ${count(metrics.epoch)}`,
       '',
-      ...seatLines(metrics.seats()),
+      ...seatLines(metrics.seats(), width),
       '',
       'latest events:',
       ...this.events.map((e) => `  ${e}`),
       ...Array.from({ length: EVENTS - this.events.length }, () => ''),
     ];
     const up = this.drawnLines > 0 ? `\x1b[${this.drawnLines}F` : '';
-    this.terminal.err(`${up}${lines.map((l) => `\x1b[2K${l}`).join('\n')}\n`);
+    const clip = (l: string): string => (width > 0 && l.length >= width ? `${l.slice(0, width - 2)}…` : l);
+    this.terminal.err(`${up}${lines.map((l) => `\x1b[2K${clip(l)}`).join('\n')}\n`);
     this.drawnLines = lines.length;
   }
 }
@@ -147,13 +151,16 @@ function tally(seats: readonly SeatView[]): string {
 }
 
 /** Five seats a line: `#3 active   0.912 ·u` (·u: an understudy is training). */
-function seatLines(seats: readonly SeatView[]): string[] {
+/** The seats, as many to a line as fit in `width` characters (5 when the width is not known). */
+function seatLines(seats: readonly SeatView[], width: number): string[] {
   const cells = seats.map(
     (s) =>
       `#${String(s.seat).padEnd(2)} ${s.state.padEnd(8)} ${figure(s.recentAccuracy, 3)}${s.understudy ? ' +u' : '   '}`,
   );
   const lines = ['seats (state, recent accuracy, +u = understudy training):'];
-  for (let i = 0; i < cells.length; i += 5) lines.push(`  ${cells.slice(i, i + 5).join('   ')}`);
+  const cell = cells[0]?.length ?? 1;
+  const perLine = width > 0 ? Math.max(1, Math.min(5, Math.floor((width - 2 + 3) / (cell + 3)))) : 5;
+  for (let i = 0; i < cells.length; i += perLine) lines.push(`  ${cells.slice(i, i + perLine).join('   ')}`);
   return lines;
 }
 

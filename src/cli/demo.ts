@@ -14,7 +14,6 @@ import {
   FREIGHT_SCHEMA,
   FreightScenario,
   OPERATOR,
-  SCRIPT,
   SITES,
 } from '../scenario/index.js';
 import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
@@ -22,6 +21,7 @@ import { decimal, parse, text, whole } from './args.js';
 import { DemoView } from './demo-view.js';
 import { JournalOut } from './journal-out.js';
 import { LabelQueue } from './label-queue.js';
+import { LegBatches } from './leg-batches.js';
 import { count, figure, type Terminal, table } from './terminal.js';
 import { shoalVersion } from './version.js';
 
@@ -40,7 +40,7 @@ Run the invented refrigerated-freight scenario in-process through the live code 
 is scored at the arrival gate for the risk that its load is rejected at inspection; the inspection
 result arrives 2–8 hours later (scenario time) and is joined by leg id to the prediction served for it;
 the ensemble learns from it, its members' drift monitors watch, and drifting members are replaced.
-The script: a stricter seafood rule, a slow heat wave, a sensor firmware update that reads 3–7 °C low,
+The script: a stricter seafood rule, a slow heat wave, a sensor firmware update that reads 5–9 °C low,
 a new carrier. Writes the run's journal, a checkpoint and an HTML report, and prints their paths.
 No broker is needed.
 
@@ -142,7 +142,7 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
   const values = new Float64Array(BATCH * width);
   const ids = new Array<string>(BATCH).fill('');
   const positions = new Int32Array(BATCH);
-  const script = SCRIPT.map((d) => ({ ...d, shown: false }));
+  const legs = new LegBatches(scenario, (index, what) => view.scripted(index, what));
 
   let stop = false;
   const interrupt = (): void => {
@@ -160,19 +160,7 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
   try {
     while (!stop && (total === null || produced < total)) {
       const rows = total === null ? BATCH : Math.min(BATCH, total - produced);
-      for (let r = 0; r < rows; r++) {
-        const label = scenario.next(values, r * width);
-        const leg = scenario.leg;
-        for (const d of script) {
-          if (!d.shown && scenario.begun(d.name, leg.index)) {
-            d.shown = true;
-            view.scripted(leg.index, d.what);
-          }
-        }
-        ids[r] = leg.id;
-        positions[r] = leg.index;
-        inspections.push(leg.labelTime, leg.id, label);
-      }
+      legs.fill(rows, values, ids, inspections, positions);
       scenarioNow = scenario.leg.time;
       const frame: Frame = {
         schema: FREIGHT_SCHEMA,

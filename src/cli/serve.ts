@@ -16,7 +16,7 @@ import {
 import { type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { parseListen, TelemetryServer } from '../telemetry/index.js';
 import { parse, positionals, text } from './args.js';
-import { readConfigFile } from './config-file.js';
+import { IssueList, readConfigFile } from './config-file.js';
 import { LabelHold } from './label-hold.js';
 import { frameOptions } from './replay.js';
 import { checkpointing, ServeCheckpoints } from './serve-checkpoints.js';
@@ -114,16 +114,9 @@ function telemetrySettings(raw: unknown): ServeConfig['telemetry'] {
 
 /** Check the run settings, the kafka section and the secrets it names, collecting every problem. */
 function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues: ConfigIssue[] } {
-  const issues: ConfigIssue[] = [];
-  const collect = <T>(f: () => T): T | null => {
-    try {
-      return f();
-    } catch (e) {
-      if (!(e instanceof ConfigError)) throw e;
-      issues.push(...e.issues);
-      return null;
-    }
-  };
+  const found = new IssueList();
+  const issues = found.issues;
+  const collect = <T>(f: () => T): T | null => found.collect(f);
   const { kafka: section, telemetry: telemetrySection, ...rest } = (raw ?? {}) as Record<string, unknown>;
   const run = collect(() => resolveConfig(rest, source));
   const kafka = collect(() => resolveKafkaSettings(section, source));

@@ -7,6 +7,8 @@ export interface Terminal {
   err(text: string): void;
   /** True when stderr is an interactive terminal (then a progress bar is drawn). */
   readonly interactive: boolean;
+  /** Width of the interactive terminal in characters, when known (a redrawn view must not wrap). */
+  readonly columns?: number;
   /** Milliseconds from a fixed origin. */
   now(): number;
 }
@@ -15,6 +17,9 @@ export const processTerminal: Terminal = {
   out: (text) => process.stdout.write(text),
   err: (text) => process.stderr.write(text),
   interactive: process.stderr.isTTY === true,
+  get columns() {
+    return process.stderr.columns;
+  },
   now: () => performance.now(),
 };
 

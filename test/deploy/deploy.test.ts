@@ -38,12 +38,23 @@ describe('deploy kit', () => {
     }
   });
 
-  it('compose: Kafka in KRaft mode, shoal serve, the demo-stream producer, Prometheus; every file it names exists', async () => {
+  it('compose: Kafka in KRaft mode, its topics, shoal serve, the demo-stream producer, Prometheus; every file it names exists', async () => {
     const compose = await load(join(DEPLOY, 'compose.yaml'));
     const services = compose.services as Record<string, Doc>;
-    expect(Object.keys(services).sort()).toEqual(['demo-stream', 'kafka', 'prometheus', 'shoal']);
+    expect(Object.keys(services).sort()).toEqual(['demo-stream', 'kafka', 'prometheus', 'shoal', 'topics']);
     expect(services.kafka!.environment.KAFKA_PROCESS_ROLES).toBe('broker,controller');
     expect(services.shoal!.command[0]).toBe('serve');
+    // The producer is the npm script the README names, and serve starts only once its topics exist.
+    expect(services['demo-stream']!.entrypoint).toEqual(['npm', 'run', 'demo:stream', '--']);
+    const scripts = JSON.parse(await readFile(join(DEPLOY, '..', 'package.json'), 'utf8')).scripts;
+    expect(scripts['demo:stream']).toBe('node bin/shoal.js demo-stream');
+    expect(services.topics!.command).toEqual([
+      'demo-stream',
+      '--config',
+      '/etc/shoal/shoal.yaml',
+      '--create-only',
+    ]);
+    expect(services.shoal!.depends_on.topics.condition).toBe('service_completed_successfully');
     const paths: string[] = [];
     for (const s of Object.values(services)) {
       if (s.build !== undefined) {
