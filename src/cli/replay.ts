@@ -278,7 +278,10 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     checkpoints !== null && text(parsed, 'resume') !== undefined
       ? await checkpoints.resume(file!, ports, terminal)
       : null;
-  const decoder = resumed?.decoder ?? new FrameDecoder(frameOptions(config), source);
+  // With --labels the events need no label column (a live stream's events carry none either).
+  const events =
+    timing.kind === 'file' ? { ...frameOptions(config), labelOptional: true } : frameOptions(config);
+  const decoder = resumed?.decoder ?? new FrameDecoder(events, source);
   const session = resumed?.session ?? new LearningSession({ ...ports, config });
   let endpoint: TelemetryServer | null = null;
   if (listen !== undefined) {

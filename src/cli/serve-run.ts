@@ -56,7 +56,7 @@ export class ServeModels {
 
   /** The output messages for one batch (its scores, dead letters and journal records). */
   handle(batch: FetchedBatch): { outputs: TopicOutputs[]; scored: number; rows: number; dead: DeadLetter[] } {
-    const key = this.settings.scope === 'global' ? 'global' : `${batch.topic}/${batch.partition}`;
+    const key = this.key(`${batch.topic}/${batch.partition}`);
     const state = this.state(key);
     const dead: DeadLetter[] = [];
     const scores: OutputMessage[] = [];
@@ -103,9 +103,14 @@ export class ServeModels {
     );
   }
 
-  /** The scope key of a `topic/partition` stream: `global`, or the stream itself. */
+  /**
+   * The scope key of a `topic/partition` stream: `global`, or the events stream itself; with scope
+   * `partition` labels partition p belongs to events partition p (the topics are co-partitioned).
+   */
   key(stream: string): string {
-    return this.settings.scope === 'global' ? 'global' : stream;
+    if (this.settings.scope === 'global') return 'global';
+    if (!this.isLabels(stream)) return stream;
+    return `${this.settings.events.topics[0]!}/${stream.slice(this.settings.labels!.topic.length + 1)}`;
   }
 
   /** The scope keys that hold a session now. */

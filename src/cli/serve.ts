@@ -146,12 +146,11 @@ function checkServeConfig(raw: unknown, source: string): ServeConfig | { issues:
         message: 'late labels (kafka.labels) are joined by id: name the id column',
       });
     }
-    if (kafka.scope === 'partition') {
+    if (kafka.scope === 'partition' && kafka.events.topics.length !== 1) {
       issues.push({
-        path: 'kafka.labels',
+        path: 'kafka.events.topics',
         code: 'conflict',
-        message:
-          'late labels need scope global: with scope partition a label could reach an instance that does not hold its prediction',
+        message: `late labels with scope partition are routed by partition number to the session of one events topic: name one topic, not ${kafka.events.topics.length}`,
       });
     }
   }
@@ -251,6 +250,17 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     log,
     async (assignment) => {
       const coming = arriving;
+      // State follows partitions: each newly assigned partition's session is taken up from the store
+      // before its events (and its labels partition) are fetched. First, while the labels hold has no
+      // targets yet and cannot release the labels topic; labels partitions resume with that topic.
+      for (const key of new Set(coming.map((s) => models.key(s)))) {
+        if (!models.keys().includes(key)) await takeUp(key);
+      }
+      for (const stream of coming) {
+        const at = models.positions(models.key(stream)).get(stream);
+        if (at !== undefined) consumer.seek(stream, at);
+        if (!models.isLabels(stream)) consumer.resume(stream);
+      }
       models.telemetry.keepLag(assignment.streams);
       const events = assignment.streams.filter((s) => !models.isLabels(s));
       try {
@@ -276,16 +286,14 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         checkpoints?.drop(stream);
         log.info({ stream }, 'partition revoked; its session is dropped');
       }
-      // State follows partitions: each newly assigned partition's session is taken up from the store
-      // before the partition is fetched.
-      for (const stream of coming) {
-        await takeUp(stream);
-        const at = models.positions(stream).get(stream);
-        if (at !== undefined) consumer.seek(stream, at);
-        consumer.resume(stream);
-      }
       if (settings.scope === 'global' && !assignment.isLeader && (await consumer.members()) > 1) {
         refusal = refuseSecond(settings);
+        void consumer.stop();
+      }
+      // Partitions added to one topic while running (a rebalance follows) break the co-partitioning.
+      const unpaired = await notCoPartitioned(settings, consumer);
+      if (unpaired !== null) {
+        refusal = unpaired;
         void consumer.stop();
       }
     },
@@ -301,7 +309,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         arriving =
           checkpoints === null || settings.scope === 'global'
             ? []
-            : streams.filter((s) => !models.isLabels(s) && !models.keys().includes(s));
+            : streams.filter((s) => !models.keys().includes(models.key(s)));
         return { seek, hold: hold.join(streams), holdStreams: arriving };
       },
       onRebalance: () => {
@@ -372,8 +380,12 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     if (settings.scope === 'global') await takeUp('global');
   }
   await consumer.connect();
-  if (settings.scope === 'global' && !(await alone(consumer, settings))) {
-    terminal.err(`shoal serve: ${refuseSecond(settings)}\n`);
+  const refused =
+    settings.scope === 'global' && !(await alone(consumer, settings))
+      ? refuseSecond(settings)
+      : await notCoPartitioned(settings, consumer);
+  if (refused !== null) {
+    terminal.err(`shoal serve: ${refused}\n`);
     await Promise.all([consumer.stop(), producer.stop(), endpoint?.close()]);
     return 2;
   }
@@ -519,6 +531,28 @@ function eventOptions(config: RunConfig, settings: KafkaSettings): FrameOptions 
   const { label, ...rest } = frameOptions(config);
   if (label === DEFAULT_LABEL || label === undefined) return rest;
   return settings.labels === null ? { label, ...rest } : { label, labelOptional: true, ...rest };
+}
+
+/**
+ * With scope `partition` and a labels topic, the labels of events partition p are read from labels
+ * partition p, by the instance that holds p's session: the labels topic must have as many partitions as
+ * the events topic (and each label be written to its event's partition number — by the same key and
+ * partitioner, or explicitly). Returns the refusal, or null when they match or the check does not apply.
+ */
+async function notCoPartitioned(settings: KafkaSettings, consumer: EventConsumer): Promise<string | null> {
+  if (settings.scope !== 'partition' || settings.labels === null) return null;
+  const events = settings.events.topics[0]!;
+  const labels = settings.labels.topic;
+  let counts: Map<string, number>;
+  try {
+    counts = await consumer.partitionCounts([events, labels]);
+  } catch (e) {
+    return `cannot read the partition counts of ${JSON.stringify(events)} and ${JSON.stringify(labels)} (${(e as Error).message}); create both topics, with the same partition count`;
+  }
+  const e = counts.get(events);
+  const l = counts.get(labels);
+  if (e === l) return null;
+  return `kafka.labels.topic ${JSON.stringify(labels)} has ${l ?? 'no'} partitions and the events topic ${JSON.stringify(events)} has ${e ?? 'no'}: with scope partition, labels are joined in the session of the events partition with the same number, so the two topics must have the same partition count (and each label be written to its event's partition number). Repartition one, or use scope global.`;
 }
 
 function refuseSecond(settings: KafkaSettings): string {

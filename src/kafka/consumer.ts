@@ -1,5 +1,6 @@
 import type { Admin, Consumer, EachBatchPayload, Kafka } from 'kafkajs';
 import type { Logger } from 'pino';
+import { samePartitionAssigner } from './assigner.js';
 import { persist } from './backoff.js';
 import type { KafkaSettings } from './config.js';
 import type { RawMessage } from './decode.js';
@@ -97,6 +98,8 @@ export class EventConsumer {
   ) {
     this.consumer = kafka.consumer({
       groupId: settings.group,
+      // Partition p of the events and of the labels topic go to one instance (scope partition's labels).
+      partitionAssigners: [samePartitionAssigner],
       maxWaitTimeInMs: settings.maxWaitMs,
       sessionTimeout: settings.sessionTimeoutMs,
       heartbeatInterval: Math.max(100, Math.floor(settings.sessionTimeoutMs / 5)),
@@ -240,6 +243,12 @@ export class EventConsumer {
       }
     }
     return out;
+  }
+
+  /** The partition count of each topic (for the check that labels are co-partitioned with events). */
+  async partitionCounts(topics: readonly string[]): Promise<Map<string, number>> {
+    const { topics: found } = await this.admin.fetchTopicMetadata({ topics: [...topics] });
+    return new Map(found.map((t) => [t.name, t.partitions.length]));
   }
 
   /** Connect (before `members()` or `start()`), retrying while the broker cannot be reached. */

@@ -1,5 +1,6 @@
 /** Output messages and their topics, as the producer sends them. */
 export type { Message as OutputMessage, TopicMessages as TopicOutputs } from 'kafkajs';
+export { samePartitionAssigner } from './assigner.js';
 export type { KafkaStoreOptions } from './checkpoint-store.js';
 export { KafkaCheckpointStore } from './checkpoint-store.js';
 export { createKafka } from './client.js';

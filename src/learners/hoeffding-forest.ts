@@ -11,12 +11,16 @@ import type { Classifier } from './learner.js';
  *
  * The copy is made again when a member changes: another learner in a seat, or a tree that split since.
  * Forests with a nominal split, seats held by other learners, and rows with a missing value are left to
- * the members' own walks (`score` returns false).
+ * the members' own walks (`walk` returns false).
+ *
+ * Training takes the same walk: a member's leaf stays right until that member itself learns from the
+ * row, so every member can be walked before any of them trains, and the members' own argument checks
+ * (the ensemble checked the row and the label once) are skipped.
  *
  * @example
- * const forest = new TreeForest();
- * if (!forest.score(seats, rows, i * width, probs, classes, preds))
- *   for (let m = 0; m < seats.length; m++) preds[m] = seats[m].member.score(rows, i * width, probs, m * classes);
+ * const walked = forest.walk(seats, rows, i * width);
+ * for (let m = 0; m < seats.length; m++)
+ *   preds[m] = walked ? forest.score(m, rows, i * width, probs, m * classes) : seats[m].member.score(rows, i * width, probs, m * classes);
  */
 export class TreeForest {
   private trees: HoeffdingTree[] = [];
@@ -33,18 +37,12 @@ export class TreeForest {
   private usable = false;
 
   /**
-   * Score every seat's member on the row at `offset` — probabilities of member m at `probs[m × classes]`,
-   * its predicted class in `preds[m]` — and return true; or return false, writing nothing, when the walk
-   * is not for these members or this row. The row must have been checked by the caller.
+   * Walk every seat's tree to its leaf for the row at `offset` and return true; or return false when the
+   * walk is not for these members or this row (then the members walk on their own). The row must have
+   * been checked by the caller. The leaves reached are read with `score` and `scoreTrain`, and stay
+   * right for a member until that member itself learns.
    */
-  score(
-    seats: readonly { readonly member: Classifier }[],
-    row: Float64Array,
-    offset: number,
-    probs: Float64Array,
-    classes: number,
-    preds: Int32Array,
-  ): boolean {
+  walk(seats: readonly { readonly member: Classifier }[], row: Float64Array, offset: number): boolean {
     const count = seats.length;
     if (count !== this.members.length) this.build(seats);
     else {
@@ -71,17 +69,39 @@ export class TreeForest {
         at[m] = hotI[4 * n + 3]! + Number(row[offset + hotI[4 * n + 2]!]! > hotF[2 * n]!);
       }
     }
-    const trees = this.trees;
-    for (let m = 0; m < count; m++) {
-      preds[m] = trees[m]!.scoreAt(at[m]! - this.starts[m]!, row, offset, probs, m * classes);
-    }
     return true;
+  }
+
+  /** Member `m`'s `score` at the leaf the last `walk` reached. */
+  score(m: number, row: Float64Array, offset: number, out: Float64Array, outOffset: number): number {
+    return this.trees[m]!.scoreAt(this.at[m]! - this.starts[m]!, row, offset, out, outOffset);
+  }
+
+  /** Member `m`'s `scoreTrain` at the leaf the last `walk` reached, unchecked (see `scoreTrainAt`). */
+  scoreTrain(
+    m: number,
+    row: Float64Array,
+    offset: number,
+    label: number,
+    weight: number,
+    out: Float64Array,
+    outOffset: number,
+  ): number {
+    return this.trees[m]!.scoreTrainAt(
+      this.at[m]! - this.starts[m]!,
+      row,
+      offset,
+      label,
+      weight,
+      out,
+      outOffset,
+    );
   }
 
   private build(seats: readonly { readonly member: Classifier }[]): void {
     const count = seats.length;
     this.members = seats.map((s) => s.member);
-    this.structures = new Float64Array(count);
+    this.structures = Float64Array.from(this.members, (m) => (m instanceof HoeffdingTree ? m.structure : 0));
     this.usable = this.members.every((m) => m instanceof HoeffdingTree);
     if (!this.usable) return;
     const trees = this.members as HoeffdingTree[];
@@ -92,7 +112,6 @@ export class TreeForest {
     this.levels = 0;
     for (let m = 0; m < count; m++) {
       const tree = trees[m]!;
-      this.structures[m] = tree.structure;
       this.starts[m] = total;
       total += tree.nodeCount;
       this.levels = Math.max(this.levels, tree.depthReached);

@@ -244,6 +244,22 @@ export class HoeffdingTree implements Classifier {
     checkWeight(KIND, weight);
     checkOut(KIND, out, outOffset, this.leaves.c);
     const node = this.nodes.route(row, offset, this.leaves.cardinalities);
+    return this.scoreTrainAt(node, row, offset, label, weight, out, outOffset);
+  }
+
+  /**
+   * `scoreTrain` for a row a forest walk has already routed to leaf node `node`, unchecked: the caller
+   * checked the row and the label, and `weight` and `out` are its own.
+   */
+  scoreTrainAt(
+    node: number,
+    row: Float64Array,
+    offset: number,
+    label: number,
+    weight: number,
+    out: Float64Array,
+    outOffset: number,
+  ): number {
     const predicted = this.predictAt(this.nodes.leafOf[node]!, row, offset, out, outOffset, weight > 0);
     if (weight > 0) {
       const majority = this.lastMajority;

@@ -103,7 +103,10 @@ describe('shoal spawn → shoal replay', () => {
     // The run record holds exactly what ran: every learner and detector option, defaults filled in.
     const ensemble = (records[0] as unknown as { config: { ensemble: Record<string, unknown> } }).config
       .ensemble;
-    expect(ensemble.learners).toEqual([{ kind: 'hoeffding-tree', ...HOEFFDING_TREE_DEFAULTS }]);
+    // The default ensemble's members split with δ = 0.01 (src/ensembles/bagging.ts); the rest are the tree's own defaults.
+    expect(ensemble.learners).toEqual([
+      { kind: 'hoeffding-tree', ...HOEFFDING_TREE_DEFAULTS, hoeffdingDelta: 0.01 },
+    ]);
     expect((ensemble.lifecycle as { detector: unknown }).detector).toEqual({
       kind: 'adwin',
       ...ADWIN_DEFAULTS,

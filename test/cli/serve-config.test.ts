@@ -61,9 +61,29 @@ kafka:
     );
   });
 
-  it('refuses late labels with scope partition, and without an id column', async () => {
+  it('refuses late labels without an id column, and with scope partition over two events topics', async () => {
     const path = await configFile(`
 inputs: { id: null }
+kafka:
+  brokers: [127.0.0.1:9092]
+  group: legs
+  scope: partition
+  events: { topics: [legs, legs-south] }
+  labels: { topic: legs-labels }
+  scores: { topic: legs-scores }
+  deadLetters: { topic: legs-dead }
+`);
+    const run = await shoal('serve', '--config', path, '--check');
+    expect(run.code).toBe(2);
+    expect(run.err).toContain('inputs.id: late labels (kafka.labels) are joined by id');
+    expect(run.err).toContain(
+      'kafka.events.topics: late labels with scope partition are routed by partition number to the session of one events topic: name one topic, not 2',
+    );
+  });
+
+  it('takes late labels with scope partition over one events topic', async () => {
+    const path = await configFile(`
+inputs: { id: leg_id }
 kafka:
   brokers: [127.0.0.1:9092]
   group: legs
@@ -74,9 +94,8 @@ kafka:
   deadLetters: { topic: legs-dead }
 `);
     const run = await shoal('serve', '--config', path, '--check');
-    expect(run.code).toBe(2);
-    expect(run.err).toContain('inputs.id: late labels (kafka.labels) are joined by id');
-    expect(run.err).toContain('kafka.labels: late labels need scope global');
+    expect(run.code, run.err).toBe(0);
+    expect(run.out).toContain('scope: partition');
   });
 
   it('checks the checkpoint settings: one store, the cadence options by their table', async () => {

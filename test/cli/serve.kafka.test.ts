@@ -1,6 +1,6 @@
 import { readdir, readFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import { tableToIPC } from 'apache-arrow';
+import { makeVector, Table, tableToIPC } from 'apache-arrow';
 import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import { canonicalJson, decodeCheckpoint, type RunCheckpoint } from '../../src/checkpoint/index.js';
@@ -21,8 +21,11 @@ import {
   scoreRows,
 } from '../support/kafka-serve.js';
 import { note } from '../support/note.js';
+import { eventually, freePort } from '../support/prometheus.js';
 
 const RUN = { seed: 11, ensemble: { kind: 'bagging', members: 5 }, inputs: { label: 'label', id: 'id' } };
+/** Labels as class codes: class 0 is "0" however the labels arrive (names take codes as they appear). */
+const CODED = { ...RUN, inputs: { ...RUN.inputs, labelsAs: 'class-codes' } };
 
 describe('shoal serve on a real broker', () => {
   afterEach(killServes);
@@ -62,9 +65,9 @@ describe('shoal serve on a real broker', () => {
 
     const admin = client(brokers).admin();
     await admin.connect();
-    const [committed] = await admin.fetchOffsets({ groupId: t.group, topics: [t.events] });
+    const [done] = await admin.fetchOffsets({ groupId: t.group, topics: [t.events] });
     await admin.disconnect();
-    expect(committed!.partitions[0]!.offset).toBe(String(messages.length));
+    expect(done!.partitions[0]!.offset).toBe(String(messages.length));
 
     const file = join(dir, 'events.arrow');
     await writeFile(file, tableToIPC(eventTable(events, 0, rows, true), 'file'));
@@ -117,27 +120,53 @@ describe('shoal serve on a real broker', () => {
     const round = 2_000;
     const events = seaEvents(rows, 9);
     const dir = await scratch();
+    const port = await freePort();
+    /** Labels the service has taken (joined, or matching no prediction), read from its /metrics. */
+    const taken = async (): Promise<number> => {
+      const text = await (await fetch(`http://127.0.0.1:${port}/metrics`)).text();
+      let n = 0;
+      for (const m of text.matchAll(/^shoal_labels_total\{outcome="(joined|orphaned)"\} (\d+)/gm))
+        n += Number(m[2]);
+      return n;
+    };
+    let labelsSent = 0;
     const journal = join(dir, 'journal.ndjson');
     const config = join(dir, 'shoal.yaml');
     await writeFile(
       config,
       stringify({
-        ...RUN,
+        ...CODED,
         kafka: kafkaSection(brokers, t, {
           labels: { topic: labelsTopic },
           journal: { topic: t.journal, file: journal },
+          checkpoint: { dir: join(dir, 'serve-checkpoints') },
         }),
+        telemetry: { listen: `127.0.0.1:${port}` },
       }),
     );
     const serve = new ServeProcess(config);
     const counter = await ScoreCounter.start(brokers, t.scores);
     const rng = new Rng(17);
-    let labelMessages = 0;
+    /** The labels in the order they were sent, each with the last event of its round (when it became known). */
+    const sent: string[] = [];
     try {
+      // The first event alone, then two labels for ids never served (counted unknown), then the rest:
+      // replay reads the labels file one label ahead once it has scored its first event, and a class it
+      // has read is known; so in both runs the first event is scored knowing no class, the others
+      // knowing both.
+      await produce(brokers, t.events, [{ value: arrowMessage(events, 0, 1, false) }]);
+      await counter.reach(1);
+      const classes = [0, 1].map((label) => JSON.stringify({ id: `before-${label}`, label }));
+      await produce(brokers, labelsTopic, [
+        { value: classes.join('\n'), headers: { 'content-type': 'application/x-ndjson' } },
+      ]);
+      labelsSent += 2;
+      sent.push(...[0, 1].map((label) => JSON.stringify({ id: `before-${label}`, label, t: 0 })));
+      await eventually(async () => (await taken()) >= labelsSent, 'the first labels taken', 60_000, 50);
       for (let from = 0; from < rows; from += round) {
         const messages = [];
-        for (let i = from; i < from + round; i += 500)
-          messages.push({ value: arrowMessage(events, i, i + 500, false) });
+        for (let i = Math.max(1, from); i < from + round; i = (Math.floor(i / 500) + 1) * 500)
+          messages.push({ value: arrowMessage(events, i, (Math.floor(i / 500) + 1) * 500, false) });
         await produce(brokers, t.events, messages);
         await counter.reach(from + round);
         // This round's labels, in a seeded shuffle (Fisher–Yates), after every event of the round was
@@ -151,13 +180,24 @@ describe('shoal serve on a real broker', () => {
         for (let i = 0; i < round; i += 100) {
           const lines = order
             .slice(i, i + 100)
-            .map((k) => JSON.stringify({ id: events.ids[k], label: events.labels[k] }));
+            .map((k) => JSON.stringify({ id: events.ids[k], label: Number(events.labels[k]) }));
+          for (const k of order.slice(i, i + 100))
+            sent.push(
+              JSON.stringify({ id: events.ids[k], label: Number(events.labels[k]), t: from + round - 1 }),
+            );
           labels.push({ value: lines.join('\n'), headers: { 'content-type': 'application/x-ndjson' } });
         }
         await produce(brokers, labelsTopic, labels);
-        labelMessages += labels.length;
+        labelsSent += round;
+        // The next round's events only once these labels were joined: Kafka does not order two topics,
+        // and the replay below needs the order known.
+        await eventually(
+          async () => (await taken()) >= labelsSent,
+          'the labels of the round taken',
+          60_000,
+          50,
+        );
       }
-      await committed(brokers, t.group, labelsTopic, labelMessages);
     } finally {
       await counter.stop();
     }
@@ -176,7 +216,37 @@ describe('shoal serve on a real broker', () => {
       `late labels: ${summary.rows} judged, accuracy ${summary.accuracy}, outcomes ${JSON.stringify(summary.labels)}`,
     );
     expect(summary.rows).toBe(rows);
-    expect(summary.labels).toMatchObject({ joined: rows, duplicate: 0, late: 0, evicted: 0, unknown: 0 });
+    expect(summary.labels).toMatchObject({ joined: rows, duplicate: 0, late: 0, evicted: 0, unknown: 2 });
+
+    // The same events and labels replayed with the same timing: event i at time i, each round's labels
+    // known once its last event was scored, in the order sent. The final model is serve's, byte for
+    // byte, and so are the evaluation (judged on the predictions served), the input monitor and the
+    // counts. What differs is time itself (serve's clock is the wall clock, replay's the events' time):
+    // the label delays and the pending store's ring of ids that left; and the source (stream positions,
+    // replay's time column among the excluded inputs).
+    const file = join(dir, 'events.arrow');
+    const times = Float64Array.from({ length: rows }, (_, i) => i);
+    const columns = new Table({ t: makeVector(times) });
+    await writeFile(file, tableToIPC(eventTable(events, 0, rows, false).assign(columns), 'file'));
+    const labelsFile = join(dir, 'labels.ndjson');
+    await writeFile(labelsFile, `${sent.join('\n')}\n`);
+    await writeFile(join(dir, 'run.yaml'), stringify(CODED));
+    const replay = await shoal(
+      'replay',
+      file,
+      ...['--config', join(dir, 'run.yaml'), '--json', '--time', 't'],
+      ...['--labels', labelsFile, '--label-time', 't', '--checkpoint', join(dir, 'replay-checkpoints')],
+    );
+    expect(replay.code, replay.err).toBe(0);
+    const served = (await newest(join(dir, 'serve-checkpoints'))).state.session;
+    const replayed = (await newest(join(dir, 'replay-checkpoints'))).state.session;
+    expect(served.ensemble).not.toBeNull();
+    expect(canonicalJson(served.ensemble)).toBe(canonicalJson(replayed.ensemble));
+    expect(canonicalJson(served.evaluator)).toBe(canonicalJson(replayed.evaluator));
+    expect(canonicalJson(served.monitor)).toBe(canonicalJson(replayed.monitor));
+    const { delaySeconds: _s, ...servedCounts } = served.counts;
+    const { delaySeconds: _r, ...replayedCounts } = replayed.counts;
+    expect(servedCounts).toEqual(replayedCounts);
     // SEA with 10% of labels flipped cannot be predicted better than 90% (Street & Kim, KDD 2001;
     // PUBLISHED.md): an accuracy near it shows the served predictions were judged, not re-scores.
     expect(summary.accuracy).toBeLessThan(0.9);
@@ -207,20 +277,4 @@ function model(c: RunCheckpoint<FrameDecoderSnapshot, SessionSnapshot>): {
   const { positions, ...session } = c.state.session;
   const { options: _, ...decoder } = c.state.decoder.state;
   return { session: canonicalJson(session), decoder: canonicalJson(decoder), positions };
-}
-
-/** Wait until the group has committed `offset` on partition 0 of `topic`. */
-async function committed(brokers: string, group: string, topic: string, offset: number): Promise<void> {
-  const admin = client(brokers).admin();
-  await admin.connect();
-  try {
-    for (let i = 0; i < 600; i++) {
-      const [got] = await admin.fetchOffsets({ groupId: group, topics: [topic] });
-      if (Number(got!.partitions[0]!.offset) >= offset) return;
-      await new Promise((d) => setTimeout(d, 100));
-    }
-    throw new Error(`${group} never committed offset ${offset} on ${topic}`);
-  } finally {
-    await admin.disconnect();
-  }
 }

@@ -38,8 +38,8 @@ interface Case {
  *
  * SEA (Street & Kim 2001, concepts θ = 8, 9, 7, 9.5). The first change (θ 8 → 9) moves only the 8.5% of
  * rows with 8 < f₁ + f₂ ≤ 9 (an area of (81 − 64)/200, derived), and a member that keeps learning loses
- * little to a new tree: over the trials measured, g ≈ 0.02 and v ≈ 0.06 (the journal's proof records:
- * 203 gains, 99 losses over 5,147 rows), so r ≈ 2 · 0.06 · 18 / 0.02² ≈ 5,400 rows: 6,000 with the
+ * little to a new tree: over the trials measured, g ≈ 0.02 and v ≈ 0.06 (the journal's proof records
+ * with trees of δ = 1e-7: 203 gains, 99 losses over 5,147 rows), so r ≈ 2 · 0.06 · 18 / 0.02² ≈ 5,400 rows: 6,000 with the
  * warm-up. The later changes move 16% and 21% of the plane ((81 − 49)/200, (90.25 − 49)/200): the
  * member's error rises by 0.13 or more and a new tree is back near 0.10 within a few hundred rows,
  * g ≥ 0.08, v ≈ 0.12, r ≈ 2 · 0.12 · 17 / 0.08² ≈ 640: 1,000 with the warm-up.

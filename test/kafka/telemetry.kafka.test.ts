@@ -3,6 +3,7 @@ import { join } from 'node:path';
 import type { Message } from 'kafkajs';
 import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
+import { samePartitionAssigner } from '../../src/kafka/index.js';
 import { scratch } from '../support/cli.js';
 import { createServeTopics, kafkaSection, serveTopics } from '../support/kafka-config.js';
 import { arrowMessage, seaEvents } from '../support/kafka-events.js';
@@ -43,12 +44,14 @@ describe('serve telemetry', () => {
 
     // A member of the same group that stays inside its batch handler (no heartbeat, no rejoin) and
     // commits nothing: the group cannot finish a rebalance while it holds out, so the service cannot
-    // join until it is let go. It holds on the one malformed message.
+    // join until it is let go. It holds on the one malformed message. It offers serve's assigner: a group
+    // takes only members that share a protocol.
     await produce(brokers, t.events, [{ value: Buffer.from('not an Arrow stream'), partition: 1 }]);
     const blocker = client(brokers).consumer({
       groupId: t.group,
       maxWaitTimeInMs: 200,
       sessionTimeout: 30_000,
+      partitionAssigners: [samePartitionAssigner],
     });
     let release = () => {};
     const released = new Promise<void>((done) => {

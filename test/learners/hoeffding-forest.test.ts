@@ -14,27 +14,33 @@ function seatsOn(gen: ReturnType<typeof sea>, members: number, rows: number) {
 }
 
 describe('TreeForest', () => {
-  it('scores every tree exactly as its own walk does, and follows the trees as they split', () => {
-    const { seats, data, labels, width } = seatsOn(sea({ noise: 0.1 }, 5), 4, 30_000);
+  it('scores and trains every tree exactly as its own walk does, and follows the trees as they split', () => {
+    const gen = sea({ noise: 0.1 }, 5);
+    const { seats, data, labels, width } = seatsOn(gen, 4, 15_000);
+    const own = Array.from({ length: 4 }, (_, m) => new HoeffdingTree(gen.schema, {}, m));
+    for (const tree of [...own, ...seats.map((s) => s.member)]) tree.ensureClasses(2);
     const forest = new TreeForest();
     const rng = new Rng('forest');
     const out = new Float64Array(4 * 2);
-    const own = new Float64Array(2);
-    const preds = new Int32Array(4);
-    let compared = 0;
+    const mine = new Float64Array(2);
+    let walked = 0;
+    let differ = 0;
+    const compare = (a: number, b: number, m: number) => {
+      if (a !== b || out[2 * m] !== mine[0] || out[2 * m + 1] !== mine[1]) differ++;
+    };
     for (let i = 0; i < labels.length; i++) {
       const at = i * width;
-      if (i % 7 === 0) {
-        expect(forest.score(seats, data, at, out, 2, preds)).toBe(true);
-        seats.forEach(({ member }, m) => {
-          expect(preds[m]).toBe(member.score(data, at, own, 0));
-          expect(out.subarray(2 * m, 2 * m + 2)).toEqual(own);
-        });
-        compared++;
+      if (forest.walk(seats, data, at)) walked++;
+      for (let m = 0; m < 4; m++) {
+        const weight = Math.floor(rng.next() * 3);
+        if (i % 7 === 0) compare(forest.score(m, data, at, out, 2 * m), own[m]!.score(data, at, mine, 0), m);
+        const predicted = forest.scoreTrain(m, data, at, labels[i]!, weight, out, 2 * m);
+        compare(predicted, own[m]!.scoreTrain(data, at, labels[i]!, weight, mine, 0), m);
       }
-      for (const { member } of seats) member.train(data, at, labels[i]!, Math.floor(rng.next() * 3));
     }
-    expect(compared).toBeGreaterThan(4000);
+    expect(walked).toBe(labels.length);
+    expect(differ).toBe(0);
+    for (const [m, { member }] of seats.entries()) expect(member.snapshot()).toEqual(own[m]!.snapshot());
     expect(seats.every(({ member }) => member.shape.nodes > 5)).toBe(true);
   });
 
@@ -44,12 +50,12 @@ describe('TreeForest', () => {
       for (const s of seats) s.member.train(data, i * width, labels[i]!, 1);
     const forest = new TreeForest();
     const out = new Float64Array(3 * 2);
-    const preds = new Int32Array(3);
-    expect(forest.score(seats, data, 0, out, 2, preds)).toBe(true);
+    expect(forest.walk(seats, data, 0)).toBe(true);
     const fresh = new HoeffdingTree(seats[0]!.member.schema, {}, 9);
     fresh.ensureClasses(2);
     seats[1] = { member: fresh };
-    expect(forest.score(seats, data, 0, out, 2, preds)).toBe(true);
+    expect(forest.walk(seats, data, 0)).toBe(true);
+    forest.score(1, data, 0, out, 2);
     expect(Array.from(out.subarray(2, 4))).toEqual([0.5, 0.5]);
   });
 
@@ -58,16 +64,14 @@ describe('TreeForest', () => {
     for (let i = 0; i < labels.length; i++)
       for (const s of seats) s.member.train(data, i * width, labels[i]!, 1);
     const forest = new TreeForest();
-    const out = new Float64Array(4);
-    const preds = new Int32Array(2);
     const row = Float64Array.from(data.subarray(0, width));
     row[1] = Number.NaN;
-    expect(forest.score(seats, row, 0, out, 2, preds)).toBe(false);
+    expect(forest.walk(seats, row, 0)).toBe(false);
     const gen = stagger({ concept: 'a' }, 8);
     const nominal = [{ member: new HoeffdingTree(gen.schema, {}, 1) }];
     const r = new Float64Array(gen.schema.features.length);
     for (let i = 0; i < 10_000; i++) nominal[0]!.member.train(r, 0, gen.next(r, 0), 1);
     expect(nominal[0]!.member.shape.nodes).toBeGreaterThan(1);
-    expect(forest.score(nominal, r, 0, out, 2, preds)).toBe(false);
+    expect(forest.walk(nominal, r, 0)).toBe(false);
   });
 });

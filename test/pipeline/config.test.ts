@@ -34,7 +34,7 @@ describe('resolveConfig', () => {
       detector: { kind: 'adwin', ...ADWIN_DEFAULTS },
     });
     expect((config.ensemble as { learners: unknown }).learners).toEqual([
-      { kind: 'hoeffding-tree', ...HOEFFDING_TREE_DEFAULTS },
+      { kind: 'hoeffding-tree', ...HOEFFDING_TREE_DEFAULTS, hoeffdingDelta: 0.01 },
     ]);
     expect(config.evaluation).toEqual({ window: 1000, fading: 0.999, journalEvery: 1000 });
     expect(config.inputs).toMatchObject({ label: 'label', id: null, monitor: true });

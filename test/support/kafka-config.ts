@@ -41,12 +41,15 @@ export function kafkaSection(
   };
 }
 
-/** Create one serve test's topics: events (with `partitions`), scores, dead letters, journal, and `more`. */
+/**
+ * Create one serve test's topics: events (with `partitions`), scores, dead letters, journal, and `more`
+ * (names of one-partition topics, or a mapping from name to partition count).
+ */
 export async function createServeTopics(
   brokers: string,
   t: ServeTopics,
   partitions = 1,
-  more: readonly string[] = [],
+  more: readonly string[] | Readonly<Record<string, number>> = [],
 ): Promise<void> {
   const topics: Record<string, number> = {
     [t.events]: partitions,
@@ -54,6 +57,7 @@ export async function createServeTopics(
     [t.dead]: 1,
     [t.journal]: 1,
   };
-  for (const topic of more) topics[topic] = 1;
+  if (Array.isArray(more)) for (const topic of more) topics[topic] = 1;
+  else Object.assign(topics, more);
   await createTopics(brokers, topics);
 }
