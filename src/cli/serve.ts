@@ -243,6 +243,17 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     log,
     async (assignment) => {
       const coming = arriving;
+      // State follows partitions: each newly assigned partition's session is taken up from the store
+      // before its events (and its labels partition) are fetched. First, while the labels hold has no
+      // targets yet and cannot release the labels topic; labels partitions resume with that topic.
+      for (const key of new Set(coming.map((s) => models.key(s)))) {
+        if (!models.keys().includes(key)) await takeUp(key);
+      }
+      for (const stream of coming) {
+        const at = models.positions(models.key(stream)).get(stream);
+        if (at !== undefined) consumer.seek(stream, at);
+        if (!models.isLabels(stream)) consumer.resume(stream);
+      }
       models.telemetry.keepLag(assignment.streams);
       const events = assignment.streams.filter((s) => !models.isLabels(s));
       try {
@@ -268,14 +279,6 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         checkpoints?.drop(stream);
         log.info({ stream }, 'partition revoked; its session is dropped');
       }
-      // State follows partitions: each newly assigned partition's session is taken up from the store
-      // before the partition is fetched.
-      for (const stream of coming) {
-        await takeUp(stream);
-        const at = models.positions(stream).get(stream);
-        if (at !== undefined) consumer.seek(stream, at);
-        consumer.resume(stream);
-      }
       if (settings.scope === 'global' && !assignment.isLeader && (await consumer.members()) > 1) {
         refusal = refuseSecond(settings);
         void consumer.stop();
@@ -299,7 +302,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
         arriving =
           checkpoints === null || settings.scope === 'global'
             ? []
-            : streams.filter((s) => !models.isLabels(s) && !models.keys().includes(s));
+            : streams.filter((s) => !models.keys().includes(models.key(s)));
         return { seek, hold: hold.join(streams), holdStreams: arriving };
       },
       onRebalance: () => {

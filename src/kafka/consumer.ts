@@ -57,7 +57,11 @@ export interface JoinPlan {
 }
 
 export interface ConsumerOptions {
-  /** Told true when the consumer has joined its group, false on a rebalance, a crash or a stop. */
+  /**
+   * Told true when the consumer has joined its group, false on a rebalance, a crash, a stop — and when
+   * no heartbeat has reached the group's coordinator for a session timeout (the broker is away: the
+   * group has let the member go, even if kafkajs has not given up yet).
+   */
   readonly onMembership?: (joined: boolean) => void;
   /** Called synchronously on each join, before any fetch of the new assignment. */
   readonly onJoin?: (streams: readonly string[]) => JoinPlan;
@@ -76,6 +80,11 @@ export class EventConsumer {
   private finish: (outcome: ConsumerOutcome) => void = () => {};
   /** `topic/partition` streams of the last join. */
   private assigned: readonly string[] = [];
+  private joined = false;
+  /** When the last heartbeat was acknowledged (`performance.now()`), and the membership last told. */
+  private beat = 0;
+  private told: boolean | null = null;
+  private watchdog: NodeJS.Timeout | null = null;
   private stopping: Promise<void> | null = null;
   /** How the consumer ended: stopped on request, or crashed with a message. */
   readonly finished: Promise<ConsumerOutcome>;
@@ -105,7 +114,11 @@ export class EventConsumer {
     this.finished = new Promise((done) => {
       this.finish = done;
     });
-    const { CRASH, GROUP_JOIN, REBALANCING, STOP } = this.consumer.events;
+    const { CRASH, GROUP_JOIN, HEARTBEAT, REBALANCING, STOP } = this.consumer.events;
+    this.consumer.on(HEARTBEAT, () => {
+      this.beat = performance.now();
+      this.report();
+    });
     this.consumer.on(REBALANCING, () => {
       this.onMembership(false);
       this.options.onRebalance?.();
@@ -134,7 +147,17 @@ export class EventConsumer {
   }
 
   private onMembership(joined: boolean): void {
-    this.options.onMembership?.(joined);
+    this.joined = joined;
+    if (joined) this.beat = performance.now();
+    this.report();
+  }
+
+  /** Tell the membership as it stands: joined, and heard from the coordinator within a session. */
+  private report(): void {
+    const member = this.joined && performance.now() - this.beat <= this.settings.sessionTimeoutMs;
+    if (member === this.told) return;
+    this.told = member;
+    this.options.onMembership?.(member);
   }
 
   /** Seek and hold as the plan says; kafkajs applies seeks before its next fetch of each partition. */
@@ -236,6 +259,8 @@ export class EventConsumer {
   }
 
   async start(handle: BatchHandler): Promise<void> {
+    this.watchdog = setInterval(() => this.report(), 500);
+    this.watchdog.unref();
     await this.consumer.subscribe({
       topics: [
         ...this.settings.events.topics,
@@ -285,6 +310,7 @@ export class EventConsumer {
   }
 
   private async leave(): Promise<void> {
+    if (this.watchdog !== null) clearInterval(this.watchdog);
     await this.consumer.stop();
     await this.consumer.disconnect();
     await this.admin.disconnect();
@@ -297,11 +323,27 @@ export interface ConsumerOutcome {
   readonly message: string;
 }
 
-/** Whether kafkajs marks the error (or, after its retries ran out, the error they ended on) retriable. */
+/**
+ * Whether a crash is transient, so that the consumer restarts: some error on its chain of causes is
+ * retriable or a lost connection (kafkajs wraps a refused connection in errors it marks non-retriable
+ * once its own retries ran out), and none says a codec is missing (that batch would fail again forever).
+ */
 function transient(e: Error): boolean {
-  const { retriable, cause } = e as { retriable?: boolean; cause?: unknown };
-  if (retriable === true) return true;
-  return e.name === 'KafkaJSNumberOfRetriesExceeded' && cause instanceof Error && transient(cause);
+  const chain: Error[] = [];
+  for (
+    let at: unknown = e;
+    at instanceof Error && chain.length < 16;
+    at = (at as { cause?: unknown }).cause
+  ) {
+    chain.push(at);
+  }
+  if (chain.some((x) => x.name === 'KafkaJSNotImplemented')) return false;
+  return chain.some(
+    (x) =>
+      (x as { retriable?: boolean }).retriable === true ||
+      /Connection|NoBrokerAvailable|BrokerNotFound/.test(x.name) ||
+      /connection|ECONNREFUSED|ECONNRESET|ETIMEDOUT|not connected/i.test(x.message),
+  );
 }
 
 /** `topic/partition` → its parts (topic names may not hold `/`, but split at the last one anyway). */
