@@ -1,5 +1,5 @@
-import { Bagging, Verdict } from '../../dist/ensembles/index.js';
-import { BatchVerdicts, ParallelBagging } from '../../dist/parallel/index.js';
+import { Bagging, BatchVerdicts, Verdict } from '../../dist/ensembles/index.js';
+import { ParallelBagging } from '../../dist/parallel/index.js';
 import { numericSchema } from '../../src/core/index.js';
 import { type BenchFn, type BenchRow, machine, median } from './harness.js';
 import { benchStream } from './stream.js';
@@ -66,7 +66,12 @@ export const bench: BenchFn = async ({ quick }) => {
       unit: 'rows/s',
       note: `speed-up ${speedup.toFixed(2)}×, verdicts ${identical ? 'identical' : 'DIFFERENT'} to one thread`,
     });
-    json[`bagging${members}${lifecycle ? 'Lifecycle' : ''}`] = { oneThread: median(one), twoThreads: median(two), speedup, identical };
+    json[`bagging${members}${lifecycle ? 'Lifecycle' : ''}`] = {
+      oneThread: median(one),
+      twoThreads: median(two),
+      speedup,
+      identical,
+    };
   }
   return { title: 'Parallel members (two threads)', rows, json };
 };
