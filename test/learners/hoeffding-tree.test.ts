@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { decodeF64, decodeI32 } from '../../src/core/index.js';
+import { decodeF64, decodeI32, nominal, Rng } from '../../src/core/index.js';
 import { HoeffdingTree } from '../../src/learners/hoeffding-tree.js';
 import type { LearnerSnapshot } from '../../src/learners/learner.js';
-import { led, type StreamGenerator, sea, stagger } from '../../src/streams/index.js';
+import { led, rbf, type StreamGenerator, sea, stagger } from '../../src/streams/index.js';
 import { describeLearnerContract } from '../support/learner-contract.js';
 import { note } from '../support/note.js';
 
@@ -130,6 +130,45 @@ describe('hoeffding-tree mechanics', () => {
     const blind = new HoeffdingTree(gen.schema, { checkInterval: 10 }, 1);
     for (let i = 0; i < 2000; i++) blind.train(missing, 0, i % 2, 1);
     expect(blind.shape.nodes).toBe(1);
+  });
+
+  it('answers and learns bit for bit alike through its numeric-only loops and through the general ones', () => {
+    // An all-numeric schema takes the loops without plans; the same columns plus a nominal column that is
+    // always missing take the general loops (the nominal column adds nothing to any statistic or product).
+    for (const [classes, leafModel] of [
+      [2, 'adaptive'],
+      [3, 'adaptive'],
+      [2, 'naive-bayes'],
+    ] as const) {
+      const gen = rbf({ classes, features: 6 }, 40 + classes);
+      const width = gen.schema.features.length;
+      const mixed = { features: [...gen.schema.features, nominal('never', 4)] };
+      const options = { leafModel, checkInterval: 50 } as const;
+      const numericTree = new HoeffdingTree(gen.schema, options, 1);
+      const generalTree = new HoeffdingTree(mixed, options, 1);
+      for (const tree of [numericTree, generalTree]) tree.ensureClasses(classes);
+      const row = new Float64Array(width + 1);
+      const a = new Float64Array(classes);
+      const b = new Float64Array(classes);
+      const rng = new Rng('numeric-loops');
+      let differ = 0;
+      for (let i = 0; i < 20_000; i++) {
+        const label = gen.next(row, 0);
+        if (rng.next() < 0.05) row[Math.floor(rng.next() * width)] = Number.NaN;
+        row[width] = Number.NaN;
+        const weight = Math.floor(rng.next() * 3);
+        const p = numericTree.scoreTrain(row, 0, label, weight, a, 0);
+        const q = generalTree.scoreTrain(row, 0, label, weight, b, 0);
+        if (p !== q || a.some((v, k) => v !== b[k])) differ++;
+        if (i % 5 === 0) {
+          numericTree.train(row, 0, label, 1);
+          generalTree.train(row, 0, label, 1);
+        }
+      }
+      expect(differ).toBe(0);
+      expect(numericTree.shape).toEqual(generalTree.shape);
+      expect(numericTree.shape.nodes).toBeGreaterThan(5);
+    }
   });
 
   it('refuses a snapshot of the former format (version 4, a weight per node), saying which versions', () => {
