@@ -129,8 +129,12 @@ export type LeafModel = HoeffdingTreeOptions['leafModel'];
 export const HOEFFDING_TREE_DEFAULTS: HoeffdingTreeOptions = defaultsOf(HOEFFDING_TREE_OPTIONS);
 
 const KIND = 'hoeffding-tree';
-/** Version 5: nodes are 16-byte records with a missing-value branch and no weight (version 4 counted one). */
-const VERSION = 5;
+/**
+ * Version 6 keeps the weight trained since the memory cap was last checked (version 5 dropped it, so a
+ * restored tree checked its cap at other rows than the original); version 5 made nodes 16-byte records
+ * with a missing-value branch and no weight (version 4 counted one).
+ */
+const VERSION = 6;
 
 const PREDICT_MAJORITY = 0;
 const PREDICT_NB = 1;
@@ -152,6 +156,7 @@ function validate(options: Partial<HoeffdingTreeOptions>, width: number): Hoeffd
 
 interface TreeState extends NodesState, LeavesState {
   readonly classes: number;
+  readonly sinceMemoryCheck: number;
 }
 
 export class HoeffdingTree implements Classifier {
@@ -326,6 +331,7 @@ export class HoeffdingTree implements Classifier {
   snapshot(): LearnerSnapshot {
     const state: TreeState = {
       classes: this.leaves.c,
+      sinceMemoryCheck: this.sinceMemoryCheck,
       ...this.nodes.snapshot(),
       ...this.leaves.snapshot(),
     };
@@ -339,6 +345,7 @@ export class HoeffdingTree implements Classifier {
     tree.ensureClasses(s.classes);
     tree.nodes.restore(s, KIND);
     tree.leaves.restore(s, KIND);
+    tree.sinceMemoryCheck = s.sinceMemoryCheck;
     return tree;
   }
 

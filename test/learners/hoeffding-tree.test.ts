@@ -171,10 +171,37 @@ describe('hoeffding-tree mechanics', () => {
     }
   });
 
-  it('refuses a snapshot of the former format (version 4, a weight per node), saying which versions', () => {
+  it('refuses snapshots of former formats (version 5 without the memory-cap clock, version 4 with a weight per node), saying which versions', () => {
     const tree = new HoeffdingTree(sea().schema, {}, 1);
-    const old = { ...tree.snapshot(), version: 4 };
-    expect(() => HoeffdingTree.restore(old)).toThrow(/format version 4; this build reads version 5/);
+    for (const version of [4, 5]) {
+      const old = { ...tree.snapshot(), version };
+      expect(() => HoeffdingTree.restore(old)).toThrow(
+        new RegExp(`format version ${version}; this build reads version 6`),
+      );
+    }
+  });
+
+  it('continues bit for bit after a snapshot round trip while the memory cap deactivates leaves', () => {
+    const gen = sea({ noise: 0.1 }, 33);
+    const width = gen.schema.features.length;
+    const options = { byteLimit: 6 * 1024, checkInterval: 50 } as const;
+    const original = new HoeffdingTree(gen.schema, options, 1);
+    original.ensureClasses(2);
+    const row = new Float64Array(width);
+    const out = new Float64Array(2);
+    const mine = new Float64Array(2);
+    // 2,030 rows: the cap is checked every 500 units of weight, so the clock stands between two checks.
+    for (let i = 0; i < 2030; i++) original.scoreTrain(row, 0, gen.next(row, 0), 1, out, 0);
+    const copy = HoeffdingTree.restore(JSON.parse(JSON.stringify(original.snapshot())));
+    let differ = 0;
+    for (let i = 0; i < 30_000; i++) {
+      const label = gen.next(row, 0);
+      const p = original.scoreTrain(row, 0, label, 1 + (i % 3), out, 0);
+      if (copy.scoreTrain(row, 0, label, 1 + (i % 3), mine, 0) !== p || out[1] !== mine[1]) differ++;
+    }
+    expect(original.shape.activeLeaves).toBeLessThan(original.shape.leaves);
+    expect(differ).toBe(0);
+    expect(copy.snapshot()).toEqual(original.snapshot());
   });
 
   it('refuses bad options, naming the parameter', () => {
