@@ -1,0 +1,433 @@
+import { mkdtemp, rm, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { tableFromIPC } from 'apache-arrow';
+import type { KafkaMessage } from 'kafkajs';
+import { stringify } from 'yaml';
+import { eventOptions } from '../../src/cli/serve.js';
+import { ServeModels } from '../../src/cli/serve-run.js';
+import { numericSchema } from '../../src/core/index.js';
+import { createEnsemble, Verdict } from '../../src/ensembles/index.js';
+import { encodeScores, FrameDecoder, SCORES_CONTENT_TYPE } from '../../src/frames/index.js';
+import {
+  BatchDecoder,
+  createKafka,
+  type DeadLetter,
+  type EventBatch,
+  EventConsumer,
+  type KafkaSettings,
+  OutputProducer,
+  readSecrets,
+  resolveKafkaSettings,
+  scoresMessage,
+  type TopicOutputs,
+} from '../../src/kafka/index.js';
+import { type RunConfig, resolveConfig } from '../../src/pipeline/index.js';
+import { KafkaBroker } from '../support/kafka-broker.js';
+import { uniqueName } from '../support/kafka-names.js';
+import {
+  client,
+  produce,
+  quietLogger,
+  readTopic,
+  ServeProcess,
+  waitCommitted,
+} from '../support/kafka-serve.js';
+import { eventMessages, ROWS_PER_MESSAGE, rawBatch } from './events.js';
+import { type BenchFn, type BenchRow, machine, medianRate } from './harness.js';
+
+/**
+ * End to end over a real broker: events/s from an events topic to a scores topic through `shoal serve`
+ * (the binary, a child process) with bagging ×10 (λ = 1, no lifecycle) and inline labels, the events in
+ * 1,000-row Arrow IPC messages of the 10-feature stream of `stream.ts`; beside it, in the same run, the
+ * learning core on the same rows in this process (no Kafka, no decoding), the service's model side on the
+ * same messages in this process (decode, session, encode: `ServeModels.handle`, no broker), and a
+ * pass-through over the broker (the service's consumer, decoder, scores encoder and producer, no model).
+ *
+ * The broker is the test harness's (`test/support/kafka-broker.ts`: Apache Kafka 4.1.1, one KRaft node on
+ * 127.0.0.1), or the cluster `KAFKA_BROKERS` names. The scores topics are created with
+ * `message.timestamp.type=LogAppendTime`, so each scores record carries the moment the broker appended it.
+ *
+ * - Throughput: every event is on the topic before the service starts; the rate is the rows after the
+ *   first scores record over the time from the first scores record's append to the last one's, so the
+ *   service's start and group join are not counted.
+ * - Latency, at a fixed offered load of half the measured serve rate: events are produced one 1,000-row
+ *   message at a time on a fixed schedule for a bounded time and count. *Produce time* is the events
+ *   record's timestamp, set by the producer to the wall clock just before it sends (CreateTime); the
+ *   service copies it into each score row's `event_time`. *Score time* is the broker's append time of the
+ *   scores record that holds the row (LogAppendTime): the score is on the topic, readable. Latency is
+ *   their difference, per row; `latency_ms` in the scores (produce time to the moment of scoring, before
+ *   the scores are sent) is printed beside it. Both clocks are this machine's.
+ */
+const SPEC = { kind: 'bagging', members: 10, lambda: 1, lifecycle: { enabled: false } } as const;
+const RUN = { seed: 'bench-serve', ensemble: SPEC, inputs: { id: 'id', label: 'label' } };
+/** Messages per in-process batch: about what one kafkajs fetch of 1 MiB per partition holds. */
+const FETCH_MESSAGES = 8;
+
+interface Topics {
+  readonly events: string;
+  readonly scores: string;
+  readonly passScores: string;
+  readonly dead: string;
+  readonly group: string;
+  readonly passGroup: string;
+}
+
+export const bench: BenchFn = async ({ quick }) => {
+  const rows = quick ? 20_000 : 200_000;
+  const latencySeconds = quick ? 3 : 10;
+  const latencyMessages = quick ? 60 : 400;
+  const stream = eventMessages(rows + latencyMessages * ROWS_PER_MESSAGE, 'bench-serve');
+  const messages = stream.messages.slice(0, rows / ROWS_PER_MESSAGE);
+  const paced = stream.messages.slice(rows / ROWS_PER_MESSAGE);
+  const runs = quick ? 1 : 3;
+
+  const core = coreRate(stream.rows, stream.labels, rows, stream.width, runs);
+  const inProcess = modelSideRate(messages, rows, runs);
+
+  const external = process.env.KAFKA_BROKERS?.trim();
+  const broker = external ? null : await KafkaBroker.start();
+  const brokers = external || broker!.bootstrap;
+  const dir = await mkdtemp(join(tmpdir(), 'shoal-bench-serve-'));
+  try {
+    const base = uniqueName('bench-serve');
+    const t: Topics = {
+      events: `${base}-events`,
+      scores: `${base}-scores`,
+      passScores: `${base}-pass-scores`,
+      dead: `${base}-dead`,
+      group: `${base}-group`,
+      passGroup: `${base}-pass-group`,
+    };
+    await createTopics(brokers, t);
+    await produce(
+      brokers,
+      t.events,
+      messages.map((value) => ({ value })),
+    );
+
+    await passThrough(brokers, t, messages.length);
+    const passScores = await readAll(brokers, t.passScores);
+    const pass = spanRate(passScores);
+
+    const config = join(dir, 'serve.yaml');
+    await writeFile(config, stringify({ ...RUN, kafka: kafkaSection(brokers, t, t.group, t.scores) }));
+    const serve = new ServeProcess(config);
+    let latency: Latency;
+    let served: number;
+    try {
+      await waitCommitted(brokers, t.group, { [t.events]: messages.length }, 600_000);
+      const scoresBefore = await readAll(brokers, t.scores);
+      served = spanRate(scoresBefore);
+      // Half the measured maximum, one message at a time, for a bounded time and count.
+      const offered = served / 2;
+      const count = Math.max(
+        5,
+        Math.min(paced.length, Math.floor((offered * latencySeconds) / ROWS_PER_MESSAGE)),
+      );
+      await pace(brokers, t.events, paced.slice(0, count), offered);
+      await waitCommitted(brokers, t.group, { [t.events]: messages.length + count }, 120_000);
+      const all = await readAll(brokers, t.scores);
+      latency = { offered, ...latencies(all.slice(scoresBefore.length)), messages: count };
+      serve.signal('SIGTERM');
+      const code = await serve.exited;
+      if (code !== 0) throw new Error(`shoal serve exited ${code}: ${serve.stderr}`);
+    } finally {
+      serve.signal('SIGKILL');
+    }
+
+    const ofCore = served / core;
+    const rowsOut: BenchRow[] = [
+      { name: 'core: bagging ×10 in process, no Kafka', rate: core, unit: 'rows/s' },
+      {
+        name: 'model side in process (decode, session, encode)',
+        rate: inProcess,
+        unit: 'rows/s',
+        note: `${(inProcess / core).toFixed(2)}× core`,
+      },
+      {
+        name: 'pass-through over the broker (no model)',
+        rate: pass,
+        unit: 'rows/s',
+        note: 'decode + encode only: the in-run reference',
+      },
+      {
+        name: 'shoal serve over the broker, bagging ×10',
+        rate: served,
+        unit: 'rows/s',
+        note: `${ofCore.toFixed(2)}× core (target ≥ 0.7×), ${(served / pass).toFixed(2)}× pass-through`,
+      },
+      { name: 'serve ÷ core', rate: ofCore, unit: '×', note: 'target ≥ 0.7' },
+      {
+        name: `latency at ${Math.round(latency.offered).toLocaleString('en-US')} rows/s offered, p50`,
+        rate: latency.p50,
+        unit: 'ms',
+        note: `produce → score on topic; to scoring ${latency.scoredP50.toFixed(1)} ms`,
+      },
+      {
+        name: `latency at ${Math.round(latency.offered).toLocaleString('en-US')} rows/s offered, p99`,
+        rate: latency.p99,
+        unit: 'ms',
+        note: `target ≤ 50 ms; to scoring ${latency.scoredP99.toFixed(1)} ms; ${latency.rows} rows in ${latency.messages} messages`,
+      },
+    ];
+    return {
+      title: `End to end over a real broker (${external ? `KAFKA_BROKERS ${external}` : 'Apache Kafka 4.1.1, one KRaft node'}): ${rows.toLocaleString('en-US')} rows in ${ROWS_PER_MESSAGE}-row Arrow messages, inline labels`,
+      rows: rowsOut,
+      json: {
+        machine: machine(),
+        rows,
+        rowsPerMessage: ROWS_PER_MESSAGE,
+        ensemble: SPEC,
+        core: { rowsPerSecond: core },
+        modelSide: { rowsPerSecond: inProcess },
+        passThrough: { rowsPerSecond: pass },
+        serve: { rowsPerSecond: served, ofCore, ofPassThrough: served / pass },
+        latency,
+      },
+    };
+  } finally {
+    await rm(dir, { recursive: true, force: true });
+    await broker?.destroy();
+  }
+};
+
+/** The learning core: prequential rows/s of the same ensemble on the same rows, one thread. */
+function coreRate(
+  values: Float64Array,
+  labels: Int32Array,
+  rows: number,
+  width: number,
+  runs: number,
+): number {
+  const schema = numericSchema(width);
+  const verdict = new Verdict();
+  return medianRate(
+    rows,
+    () => {
+      const ensemble = createEnsemble(SPEC, schema, 'bench-serve-core');
+      ensemble.ensureClasses(2);
+      let correct = 0;
+      for (let i = 0; i < rows; i++) {
+        ensemble.scoreTrain(values, i * width, labels[i]!, verdict);
+        if (verdict.predicted === labels[i]) correct++;
+      }
+      return correct;
+    },
+    runs,
+    runs > 1 ? 1 : 0,
+  );
+}
+
+/** `shoal serve`'s model side on the same messages without a broker: decode, session, encode. */
+function modelSideRate(messages: readonly Buffer[], rows: number, runs: number): number {
+  const { config, settings } = serveSettings('127.0.0.1:9', {
+    events: 'bench-events',
+    scores: 'bench-scores',
+    dead: 'bench-dead',
+    group: 'bench',
+  });
+  const now = Date.now();
+  const batches: ReturnType<typeof rawBatch>[] = [];
+  for (let i = 0; i < messages.length; i += FETCH_MESSAGES)
+    batches.push(rawBatch(messages, i, Math.min(messages.length, i + FETCH_MESSAGES), now));
+  return medianRate(
+    rows,
+    () => {
+      const models = new ServeModels(config, settings, eventOptions(config, settings), 'bench', null, false);
+      let n = 0;
+      for (const batch of batches)
+        n += models.handle({ topic: 'bench-events', partition: 0, messages: batch, lag: 0 }).scored;
+      return n;
+    },
+    runs,
+    runs > 1 ? 1 : 0,
+  );
+}
+
+function kafkaSection(
+  brokers: string,
+  t: Pick<Topics, 'events' | 'dead'>,
+  group: string,
+  scores: string,
+): Record<string, unknown> {
+  return {
+    brokers: brokers.split(','),
+    group,
+    events: { topics: [t.events] },
+    scores: { topic: scores },
+    deadLetters: { topic: t.dead },
+    log: { level: 'warn' },
+  };
+}
+
+function serveSettings(
+  brokers: string,
+  t: { events: string; scores: string; dead: string; group: string },
+): { config: RunConfig; settings: KafkaSettings } {
+  return {
+    config: resolveConfig(RUN, 'bench'),
+    settings: resolveKafkaSettings(kafkaSection(brokers, t, t.group, t.scores), 'bench'),
+  };
+}
+
+async function createTopics(brokers: string, t: Topics): Promise<void> {
+  const admin = client(brokers).admin();
+  await admin.connect();
+  // The broker's append time on each scores record: the moment the score is on the topic.
+  const appendTime = [{ name: 'message.timestamp.type', value: 'LogAppendTime' }];
+  await admin.createTopics({
+    topics: [
+      { topic: t.events, numPartitions: 1 },
+      { topic: t.dead, numPartitions: 1 },
+      { topic: t.scores, numPartitions: 1, configEntries: appendTime },
+      { topic: t.passScores, numPartitions: 1, configEntries: appendTime },
+    ],
+    waitForLeaders: true,
+  });
+  await admin.disconnect();
+}
+
+/**
+ * The pass-through: the service's consumer, batch decoder, scores encoder and output producer, with no
+ * model (every row gets zero probabilities), until `messages` events messages were handled.
+ */
+async function passThrough(brokers: string, t: Topics, messages: number): Promise<void> {
+  const { config, settings } = serveSettings(brokers, {
+    events: t.events,
+    scores: t.passScores,
+    dead: t.dead,
+    group: t.passGroup,
+  });
+  const log = quietLogger();
+  const kafka = createKafka(settings, readSecrets(settings, {}, 'bench'), log);
+  const producer = new OutputProducer(kafka, log);
+  const frames = new FrameDecoder(eventOptions(config, settings), 'inputs');
+  const decoder = new BatchDecoder(frames, 'arrow', settings.events.maxMessageBytes);
+  const consumer = new EventConsumer(kafka, settings, log, async () => undefined);
+  let handled = 0;
+  let finish: () => void = () => undefined;
+  const finished = new Promise<void>((done) => {
+    finish = done;
+  });
+  await producer.connect();
+  await consumer.connect();
+  await consumer.start(async (batch) => {
+    const dead: DeadLetter[] = [];
+    const events = decoder.decode(batch.topic, batch.partition, batch.messages, dead);
+    const outputs: TopicOutputs[] =
+      events === null ? [] : [{ topic: t.passScores, messages: noModelScores(events, frames.classes) }];
+    const delivered = await producer.deliver(outputs, async () => undefined);
+    handled += batch.messages.length;
+    if (handled >= messages) finish();
+    return delivered;
+  });
+  await finished;
+  await consumer.stop();
+  await producer.stop();
+}
+
+/** Scores messages of a frame with no model: zero probabilities, the first class, no voters. */
+function noModelScores(events: EventBatch, classes: readonly string[]): TopicOutputs['messages'] {
+  const n = events.frame.rows;
+  const scores = {
+    first: 0,
+    rows: n,
+    classes,
+    ids: events.frame.ids,
+    probabilities: new Float64Array(n * Math.max(1, classes.length)),
+    predicted: new Int32Array(n),
+    values: new Float64Array(n),
+    agreement: new Float64Array(n),
+    voters: new Int32Array(n),
+    epoch: new Int32Array(n),
+    scoredAt: Date.now(),
+  };
+  return [scoresMessage(events.stream, encodeScores(scores, events.eventTimes), SCORES_CONTENT_TYPE)];
+}
+
+/** Every record of a one-partition topic, up to its end now. */
+async function readAll(brokers: string, topic: string): Promise<KafkaMessage[]> {
+  const admin = client(brokers).admin();
+  await admin.connect();
+  const [end] = await admin.fetchTopicOffsets(topic);
+  await admin.disconnect();
+  const high = Number(end?.high ?? 0);
+  return high === 0 ? [] : readTopic(brokers, topic, (seen) => seen.length >= high);
+}
+
+/** Rows per second from the first record's append time to the last's, counting the rows after the first. */
+function spanRate(records: readonly KafkaMessage[]): number {
+  const rows = records.map((m) => tableFromIPC(m.value!).numRows);
+  const first = Number(records[0]!.timestamp);
+  const last = Number(records[records.length - 1]!.timestamp);
+  const after = rows.slice(1).reduce((a, b) => a + b, 0);
+  return after / (Math.max(1, last - first) / 1000);
+}
+
+/**
+ * Send one message every `1000 · ROWS_PER_MESSAGE / offered` ms on a fixed schedule (not waiting for the
+ * previous acknowledgement), each stamped with the wall clock just before it goes.
+ */
+async function pace(
+  brokers: string,
+  topic: string,
+  values: readonly Buffer[],
+  offered: number,
+): Promise<void> {
+  const producer = client(brokers).producer();
+  await producer.connect();
+  const every = (1000 * ROWS_PER_MESSAGE) / offered;
+  const began = performance.now();
+  const sends: Promise<unknown>[] = [];
+  for (let i = 0; i < values.length; i++) {
+    const wait = began + i * every - performance.now();
+    if (wait > 0) await new Promise((done) => setTimeout(done, wait));
+    sends.push(
+      producer.send({ topic, acks: -1, messages: [{ value: values[i]!, timestamp: String(Date.now()) }] }),
+    );
+  }
+  await Promise.all(sends);
+  await producer.disconnect();
+}
+
+interface Latency {
+  readonly offered: number;
+  readonly messages: number;
+  readonly rows: number;
+  /** Produce time → the scores record's append time (ms). */
+  readonly p50: number;
+  readonly p99: number;
+  /** Produce time → the moment of scoring (`latency_ms` of the scores, ms). */
+  readonly scoredP50: number;
+  readonly scoredP99: number;
+}
+
+function latencies(records: readonly KafkaMessage[]): Omit<Latency, 'offered' | 'messages'> {
+  const onTopic: number[] = [];
+  const scored: number[] = [];
+  for (const m of records) {
+    const table = tableFromIPC(m.value!);
+    const appended = Number(m.timestamp);
+    const times = table.getChild('event_time')!;
+    const toScore = table.getChild('latency_ms')!;
+    for (let r = 0; r < table.numRows; r++) {
+      onTopic.push(appended - Number(times.get(r)));
+      scored.push(Number(toScore.get(r)));
+    }
+  }
+  return {
+    rows: onTopic.length,
+    p50: percentile(onTopic, 0.5),
+    p99: percentile(onTopic, 0.99),
+    scoredP50: percentile(scored, 0.5),
+    scoredP99: percentile(scored, 0.99),
+  };
+}
+
+/** The nearest-rank percentile (the smallest value with at least a share `q` of the values ≤ it). */
+function percentile(values: readonly number[], q: number): number {
+  if (values.length === 0) return Number.NaN;
+  const s = [...values].sort((a, b) => a - b);
+  return s[Math.min(s.length - 1, Math.ceil(q * s.length) - 1)]!;
+}
