@@ -20,6 +20,7 @@ import {
   type LifecycleOptions,
   type LifecycleSink,
   type Seat,
+  type SeatLedger,
 } from './lifecycle.js';
 
 import { SeatedEnsemble } from './seated-ensemble.js';
@@ -120,7 +121,8 @@ export class Bagging extends SeatedEnsemble {
 
   /**
    * `firstSeat` > 0 builds seats `firstSeat` … `firstSeat + members − 1` of a larger ensemble (a shard
-   * for another thread): their members and Poisson generators are seeded as in the whole ensemble.
+   * for another thread): their members and Poisson generators are seeded as in the whole ensemble, and
+   * the shards share a `ledger` of member ids and replacements (see `SeatLedger`).
    */
   constructor(
     schema: FeatureSchema,
@@ -129,6 +131,7 @@ export class Bagging extends SeatedEnsemble {
     journal: LifecycleSink = () => {},
     restored?: EnsembleSnapshot,
     firstSeat = 0,
+    ledger?: SeatLedger,
   ) {
     const options = resolve(spec);
     const root = String(seed);
@@ -137,14 +140,11 @@ export class Bagging extends SeatedEnsemble {
       options.lifecycle,
       members,
       (seat, id) =>
-        createClassifier(
-          learners[(firstSeat + seat) % learners.length]!,
-          schema,
-          deriveSeed(root, 'member', id),
-        ),
+        createClassifier(learners[seat % learners.length]!, schema, deriveSeed(root, 'member', id)),
       journal,
       restored?.lifecycle,
       firstSeat,
+      ledger,
     );
     super(schema, root, lifecycle, VERSION, restored);
     this.options = options;

@@ -4,8 +4,14 @@ export type { BoostingOptions, BoostingSpec } from './boosting.js';
 export { BOOSTING_DEFAULTS, Boosting } from './boosting.js';
 export type { Ensemble, EnsembleKind, EnsembleSnapshot } from './ensemble.js';
 export { ENSEMBLE_KINDS } from './ensemble.js';
-export type { LifecycleOptions, LifecycleSink, SeatView } from './lifecycle.js';
-export { LIFECYCLE_DEFAULTS, LIFECYCLE_OPTIONS } from './lifecycle.js';
+export type {
+  LifecycleOptions,
+  LifecycleSink,
+  LifecycleSnapshot,
+  SeatLedger,
+  SeatView,
+} from './lifecycle.js';
+export { inWindow, LIFECYCLE_DEFAULTS, LIFECYCLE_OPTIONS } from './lifecycle.js';
 export { proofMargin, provenBetter } from './proof.js';
 export type { EnsembleSpec } from './registry.js';
 export { createEnsemble, ENSEMBLE_OPTIONS, restoreEnsemble } from './registry.js';

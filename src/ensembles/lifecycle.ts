@@ -111,6 +111,67 @@ export type LifecycleSink = (change: LifecycleChange) => void;
 export type MemberFactory = (seat: number, memberId: number) => Classifier;
 
 /**
+ * What couples the seats of one ensemble: the member ids handed out (an id seeds its member) and the
+ * replacement cap. One thread keeps both in a `LocalLedger`; the shards of an ensemble split over
+ * threads keep one between them (src/parallel), handing out the same ids and reaching the cap on the same
+ * rows. `row` is the ensemble's row count when the lifecycle asks.
+ */
+export interface SeatLedger {
+  /** The next member id. */
+  nextId(row: number): number;
+  /** Whether `maxReplacements` replacements already happened within the window ending at `row`. */
+  capReached(row: number): boolean;
+  /** Count a replacement at `row`. */
+  replaced(row: number): void;
+  /** The ids handed out so far and the replacements still in the window at `row` and after. */
+  snapshot(row: number): Pick<LifecycleSnapshot, 'nextMemberId' | 'replacements'>;
+}
+
+/** The ledger of an ensemble in one thread. */
+export class LocalLedger implements SeatLedger {
+  private readonly options: LifecycleOptions;
+  private next: number;
+  private replacements: number[];
+
+  constructor(options: LifecycleOptions, next: number, replacements: readonly number[] = []) {
+    this.options = options;
+    this.next = next;
+    this.replacements = [...replacements];
+  }
+
+  nextId(_row: number): number {
+    return this.next++;
+  }
+
+  capReached(row: number): boolean {
+    return inWindow(this.replacements, row, this.options.replacementWindow) >= this.options.maxReplacements;
+  }
+
+  replaced(row: number): void {
+    const window = this.options.replacementWindow;
+    // Rows only grow: a replacement out of this row's window is out of every later one.
+    while (this.replacements.length > 0 && this.replacements[0]! <= row - window) this.replacements.shift();
+    this.replacements.push(row);
+  }
+
+  /**
+   * Only the replacements that can still count: a row at or before `row − replacementWindow` never
+   * counts again (later rows are larger), so the snapshot is the same however often the cap was asked.
+   */
+  snapshot(row: number): Pick<LifecycleSnapshot, 'nextMemberId' | 'replacements'> {
+    const window = this.options.replacementWindow;
+    return { nextMemberId: this.next, replacements: this.replacements.filter((r) => r > row - window) };
+  }
+}
+
+/** How many of `rows` (replacement rows, ascending) fall within the window ending at `row`. */
+export function inWindow(rows: readonly number[], row: number, window: number): number {
+  let n = 0;
+  for (let i = rows.length - 1; i >= 0 && rows[i]! > row - window; i--) n++;
+  return n;
+}
+
+/**
  * The trust of a member with no record: half its answer, half uniform, worth `TRUST_PRIOR_ROWS` rows, so
  * that a new member's first few answers cannot move it to either end. The EM fit moves it from there.
  */
@@ -331,15 +392,15 @@ export class Lifecycle {
   readonly seats: Seat[];
   private readonly make: MemberFactory;
   private readonly journal: LifecycleSink;
-  private nextMemberId = 0;
+  private readonly ledger: SeatLedger;
   /** Seat replacements so far: the model epoch. */
   epoch = 0;
-  private replacements: number[] = [];
   private classes = 0;
 
   /**
-   * `firstId` is the member id of seat 0: a shard of a larger ensemble (seats `firstId` … of it, run in
-   * another thread) gives its members the ids, and so the seeds, they have in the whole ensemble.
+   * A shard of a larger ensemble (its seats `firstSeat` … run in another thread) passes `firstSeat`, so
+   * that its seats carry their numbers, and its members the ids and seeds, they have in the whole
+   * ensemble, and the `ledger` the shards share.
    */
   constructor(
     options: LifecycleOptions,
@@ -347,26 +408,26 @@ export class Lifecycle {
     make: MemberFactory,
     journal: LifecycleSink,
     restored?: LifecycleSnapshot,
-    firstId = 0,
+    firstSeat = 0,
+    ledger?: SeatLedger,
   ) {
     this.options = checkLifecycleOptions(options);
     this.make = make;
     this.journal = journal;
     if (restored !== undefined) {
-      this.seats = restored.seats.map((s, i) => Seat.restore(i, s, options.accuracyWindow));
-      this.nextMemberId = restored.nextMemberId;
+      this.seats = restored.seats.map((s, i) => Seat.restore(firstSeat + i, s, options.accuracyWindow));
+      this.ledger = ledger ?? new LocalLedger(options, restored.nextMemberId, restored.replacements);
       this.epoch = restored.epoch;
-      this.replacements = [...restored.replacements];
       this.classes = restored.classes;
       return;
     }
     this.seats = [];
-    this.nextMemberId = firstId;
+    this.ledger = ledger ?? new LocalLedger(options, firstSeat + seats);
     const first: MemberState = options.enabled && options.warmup > 0 ? 'warming' : 'active';
     for (let i = 0; i < seats; i++) {
-      const id = this.nextMemberId++;
+      const id = firstSeat + i;
       const seat = new Seat(
-        i,
+        firstSeat + i,
         make(i, id),
         id,
         first,
@@ -477,23 +538,23 @@ export class Lifecycle {
     }));
   }
 
-  snapshot(): LifecycleSnapshot {
+  /** The lifecycle's state; `row` is the ensemble's row count (see `SeatLedger.snapshot`). */
+  snapshot(row: number): LifecycleSnapshot {
     return {
       seats: this.seats.map((s) => s.snapshot()),
-      nextMemberId: this.nextMemberId,
+      ...this.ledger.snapshot(row),
       epoch: this.epoch,
-      replacements: [...this.replacements],
       classes: this.classes,
     };
   }
 
   private watch(seat: Seat, row: number): void {
-    const id = this.startUnderstudy(seat);
+    const id = this.startUnderstudy(seat, row);
     this.move(row, seat, 'watched', 'watched', `warning; understudy ${id} started`);
   }
 
-  private startUnderstudy(seat: Seat): number {
-    const id = this.nextMemberId++;
+  private startUnderstudy(seat: Seat, row: number): number {
+    const id = this.ledger.nextId(row);
     const understudy = this.make(seat.index, id);
     understudy.ensureClasses(this.classes);
     seat.understudy = understudy;
@@ -526,13 +587,6 @@ export class Lifecycle {
     return seat.understudy !== null && provenBetter(seat.gains, seat.losses, this.options.proofDelta);
   }
 
-  private capReached(row: number): boolean {
-    const o = this.options;
-    while (this.replacements.length > 0 && this.replacements[0]! <= row - o.replacementWindow)
-      this.replacements.shift();
-    return this.replacements.length >= o.maxReplacements;
-  }
-
   /**
    * A drift signal towards more errors: the understudy takes the seat at once when it is already
    * measurably better and the cap allows; otherwise it goes on trial (started now if there was none).
@@ -540,7 +594,7 @@ export class Lifecycle {
   private alarm(seat: Seat, row: number): boolean {
     const o = this.options;
     const estimate = seat.monitor.alarmEstimate;
-    if (this.proven(seat) && !this.capReached(row)) return this.replace(seat, row, 'drift', estimate);
+    if (this.proven(seat) && !this.ledger.capReached(row)) return this.replace(seat, row, 'drift', estimate);
     const from = seat.state;
     let reason: string;
     let cause: LifecycleCause = 'drift-on-trial';
@@ -548,7 +602,7 @@ export class Lifecycle {
       cause = 'drift-deferred';
       reason = `drift; understudy ${seat.understudyId} measurably better, replacement deferred (cap of ${o.maxReplacements} per ${o.replacementWindow} rows)`;
     } else if (seat.understudy === null) {
-      const id = this.startUnderstudy(seat);
+      const id = this.startUnderstudy(seat, row);
       reason = `drift; understudy ${id} started, on trial for ${o.trialRows} rows`;
     } else {
       reason = `drift; understudy ${seat.understudyId} on trial for ${o.trialRows} rows`;
@@ -567,7 +621,7 @@ export class Lifecycle {
    */
   private trial(seat: Seat, level: DriftLevel, row: number): boolean {
     if (this.proven(seat)) {
-      if (!this.capReached(row)) return this.replace(seat, row, 'outperformed', seat.trialEstimate);
+      if (!this.ledger.capReached(row)) return this.replace(seat, row, 'outperformed', seat.trialEstimate);
       return false;
     }
     if (level === 'drift') {
@@ -639,7 +693,7 @@ export class Lifecycle {
       seat.monitor.estimate,
       proof,
     );
-    this.replacements.push(row);
+    this.ledger.replaced(row);
     this.epoch++;
     return true;
   }

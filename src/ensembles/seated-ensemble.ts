@@ -97,7 +97,7 @@ export abstract class SeatedEnsemble implements Ensemble {
       options: { ...this.options } as Record<string, unknown>,
       seed: this.seed,
       rows: this.rows,
-      lifecycle: this.lifecycle.snapshot(),
+      lifecycle: this.lifecycle.snapshot(this.rows),
       state: this.state(),
     };
   }

@@ -9,7 +9,9 @@ import type { Classifier } from './learner.js';
  * waiting on them one tree after another. After as many levels as the deepest tree has, every walk
  * stands on its leaf, and each tree scores the row there.
  *
- * The copy is made again when a member changes: another learner in a seat, or a tree that split since.
+ * A tree that split since is copied again into its own region of the arena (each has room for twice
+ * the nodes it had when the arena was built), so a split costs a copy of that tree alone; the whole
+ * arena is built again when a tree outgrows its region or another learner takes a seat.
  * Forests with a nominal split, seats held by other learners, and rows with a missing value are left to
  * the members' own walks (`walk` returns false).
  *
@@ -29,6 +31,9 @@ export class TreeForest {
   private structures = new Float64Array(0);
   /** Where each tree's nodes start in the arena, and the node each walk stands on. */
   private starts = new Int32Array(0);
+  /** Nodes each tree's region has room for, and the depth of its deepest leaf. */
+  private room = new Int32Array(0);
+  private depths = new Int32Array(0);
   private at = new Int32Array(0);
   private hotF = new Float64Array(0);
   private hotI = new Int32Array(0);
@@ -48,10 +53,11 @@ export class TreeForest {
     else {
       for (let m = 0; m < count; m++) {
         const member = seats[m]!.member;
-        if (
-          member !== this.members[m] ||
-          (member instanceof HoeffdingTree && member.structure !== this.structures[m])
-        ) {
+        if (member !== this.members[m]) {
+          this.build(seats);
+          break;
+        }
+        if (member instanceof HoeffdingTree && member.structure !== this.structures[m] && !this.refresh(m)) {
           this.build(seats);
           break;
         }
@@ -98,6 +104,10 @@ export class TreeForest {
     );
   }
 
+  /**
+   * Copy every tree into a fresh arena, each in a region of twice its nodes, so that a tree that splits
+   * is copied again into its own region (`refresh`) until it outgrows it.
+   */
   private build(seats: readonly { readonly member: Classifier }[]): void {
     const count = seats.length;
     this.members = seats.map((s) => s.member);
@@ -107,21 +117,38 @@ export class TreeForest {
     const trees = this.members as HoeffdingTree[];
     this.trees = trees;
     this.starts = new Int32Array(count);
+    this.room = new Int32Array(count);
+    this.depths = new Int32Array(count);
     this.at = new Int32Array(count);
     let total = 0;
-    this.levels = 0;
     for (let m = 0; m < count; m++) {
-      const tree = trees[m]!;
       this.starts[m] = total;
-      total += tree.nodeCount;
-      this.levels = Math.max(this.levels, tree.depthReached);
+      this.room[m] = Math.max(16, 2 * trees[m]!.nodeCount);
+      total += this.room[m]!;
     }
     if (this.hotF.length < 2 * total) {
       this.hotF = new Float64Array(Math.max(2 * total, 2 * this.hotF.length));
       this.hotI = new Int32Array(this.hotF.buffer);
     }
     this.width = trees[0]?.schema.features.length ?? 0;
-    for (let m = 0; m < count && this.usable; m++)
-      this.usable = trees[m]!.copyNodesInto(this.hotF, this.hotI, this.starts[m]!);
+    for (let m = 0; m < count && this.usable; m++) this.usable = this.copy(m);
+  }
+
+  /** Copy tree `m` again after it split, into its own region; false when it no longer fits there. */
+  private refresh(m: number): boolean {
+    const tree = this.trees[m]!;
+    if (tree.nodeCount > this.room[m]!) return false;
+    this.structures[m] = tree.structure;
+    if (this.usable) this.usable = this.copy(m);
+    return true;
+  }
+
+  private copy(m: number): boolean {
+    const tree = this.trees[m]!;
+    this.depths[m] = tree.depthReached;
+    let levels = 0;
+    for (const d of this.depths) levels = Math.max(levels, d);
+    this.levels = levels;
+    return tree.copyNodesInto(this.hotF, this.hotI, this.starts[m]!);
   }
 }

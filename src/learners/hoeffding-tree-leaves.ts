@@ -73,6 +73,11 @@ export class TreeLeaves {
   numericSize = 0;
   /** Room in a slot for this many numeric attributes. */
   readonly numericCap: number;
+  /**
+   * Every feature numeric and considered by every leaf: each plan is 0 … width − 1, so the leaf models
+   * take their numeric-only loops, which read feature j of the row for attribute j of the slot.
+   */
+  readonly allNumeric: boolean;
   /** Features a leaf considers. */
   readonly perLeaf: number;
   /** Each leaf's plan (see the class comment) at `leaf × planStride`: 0 when all leaves share one. */
@@ -110,6 +115,7 @@ export class TreeLeaves {
     this.rng = new Rng(seed);
     const numericFeatures = this.width - nominal.reduce((a, b) => a + b, 0);
     this.numericCap = Math.min(this.perLeaf, numericFeatures);
+    this.allNumeric = this.subsets === null && numericFeatures === this.width;
     this.layOut(1);
   }
 

@@ -1,40 +1,76 @@
 import { MessageChannel, Worker } from 'node:worker_threads';
 import { type FeatureSchema, integerAtLeast, type Seed, ShoalError } from '../core/index.js';
-import { Bagging, type BaggingSpec, combineVotes, Verdict } from '../ensembles/index.js';
-import { channelControl, runShard, ShardAnswers, ShardClient, shardReady } from './shard-channel.js';
+import {
+  Bagging,
+  type BaggingOptions,
+  type BaggingSpec,
+  combineVotes,
+  type EnsembleSnapshot,
+  type LifecycleSink,
+  type LifecycleSnapshot,
+  type SeatView,
+  Verdict,
+} from '../ensembles/index.js';
+import type { LifecycleChange } from '../journal/index.js';
+import { channelControl, ShardAnswers, ShardClient, type ShardReply, shardReady } from './shard-channel.js';
+import { LedgerHost } from './shard-ledger.js';
 
 /**
- * Online bagging with its members split over threads. Members of online bagging are independent —
- * each has its own learner and its own Poisson generator — so seats `0 … k−1` can run in this thread
- * and the rest in worker threads, and the votes come out exactly as in one thread for the same seed.
+ * Online bagging with its members split over worker threads, member lifecycle and all. Members of
+ * online bagging are independent — each has its own learner and its own Poisson generator — and what
+ * couples them under the lifecycle (member ids, the replacement cap) is kept exactly by a ledger the
+ * shards share (shard-ledger.ts), so verdicts, lifecycle changes and snapshots are those of one thread
+ * for the same seed, whatever the number of threads.
  *
- * Work moves in batches of rows (a frame), not rows: each thread scores and trains its seats on the
+ * Work moves in batches of rows (a frame), not rows: each worker scores (and trains) its seats on the
  * whole batch, then the votes are combined row by row here. Rows and answers cross threads in shared
- * memory (see `shard-channel.ts`), so a batch costs no copies; while this thread waits for the other
- * shards it never blocks (`Atomics.waitAsync`), so its event loop keeps serving.
- * The member lifecycle couples seats (the replacement cap, member ids), so this form runs with the
- * lifecycle switched off; the classes of a batch are announced before it is scored.
+ * memory (see `shard-channel.ts`), so a batch costs no copies; this thread holds no seats and, while the
+ * workers run, never blocks (`Atomics.waitAsync`), so its event loop keeps serving.
  *
  * @example
- * const bag = await ParallelBagging.start(schema, { members: 10, lambda: 1, lifecycle: { enabled: false } }, 7, 2);
+ * const bag = await ParallelBagging.start(schema, { members: 10 }, 7, 2);
  * await bag.scoreTrainBatch(frame.values, frame.labels, frame.rows, verdicts);
+ * const snapshot = await bag.snapshot(); // equal to one thread's: `Bagging.restore(snapshot)` goes on
  * await bag.close();
  */
 export class BatchVerdicts {
+  /** Classes a row takes in `probabilities` (the most any row of the batch covers). */
   classes = 0;
   probabilities = new Float64Array(0);
   predicted = new Int32Array(0);
   agreement = new Float64Array(0);
   voters = new Int32Array(0);
+  /** The model epoch that served each row. */
+  epochs = new Int32Array(0);
+  /** Classes each row's probabilities cover (the rest are 0): they grow as labels of new classes come. */
+  spans = new Int32Array(0);
+  /** Lifecycle changes of the batch, in order, and the row of the batch each happened on. */
+  changes: LifecycleChange[] = [];
+  rows: number[] = [];
 
   fit(rows: number, classes: number): void {
     this.classes = classes;
-    if (this.predicted.length < rows || this.probabilities.length < rows * classes) {
-      this.probabilities = new Float64Array(rows * classes);
+    this.changes = [];
+    this.rows = [];
+    if (this.probabilities.length < rows * classes) this.probabilities = new Float64Array(rows * classes);
+    if (this.predicted.length < rows) {
       this.predicted = new Int32Array(rows);
       this.agreement = new Float64Array(rows);
       this.voters = new Int32Array(rows);
+      this.epochs = new Int32Array(rows);
+      this.spans = new Int32Array(rows);
     }
+  }
+
+  /** Row `r`'s verdict into `verdict`. */
+  verdictAt(r: number, verdict: Verdict): void {
+    const span = this.spans[r]!;
+    const out = verdict.fit(span);
+    for (let k = 0, at = r * this.classes; k < span; k++) out[k] = this.probabilities[at + k]!;
+    verdict.predicted = this.predicted[r]!;
+    verdict.agreement = this.agreement[r]!;
+    verdict.voters = this.voters[r]!;
+    verdict.epoch = this.epochs[r]!;
   }
 }
 
@@ -48,12 +84,15 @@ interface RemoteShard {
 }
 
 export class ParallelBagging {
+  readonly kind = 'bagging';
+  readonly schema: FeatureSchema;
+  readonly options: BaggingOptions;
   readonly members: number;
-  private readonly local: Bagging;
-  private readonly localAnswers = new ShardAnswers(false);
-  private readonly remote: RemoteShard[];
-  /** Seats held by each shard, local first. */
+  private readonly seed: string;
+  private readonly shards: RemoteShard[];
+  /** Seats held by each shard. */
   private readonly counts: number[];
+  private readonly ledger: LedgerHost;
   private readonly verdict = new Verdict();
   private probs = new Float64Array(0);
   private readonly preds: Int32Array;
@@ -63,101 +102,109 @@ export class ParallelBagging {
   /** The batch in shared memory, grown as needed. */
   private values = new Float64Array(new SharedArrayBuffer(0));
   private labels = new Float64Array(new SharedArrayBuffer(0));
-  /** A batch is out: its buffers are in use until its answers are in. */
+  /** A request is out: its buffers are in use until its replies are in. */
   private busy = false;
+  private trained: number;
+  private known: number;
+  private announced: number;
+  private views: SeatView[];
+  private bytes: number;
 
-  private constructor(local: Bagging, remote: RemoteShard[], counts: number[]) {
-    this.local = local;
-    this.remote = remote;
+  private constructor(whole: Bagging, snapshot: EnsembleSnapshot, shards: RemoteShard[], counts: number[]) {
+    const ledger = snapshot.lifecycle;
+    this.schema = whole.schema;
+    this.options = whole.options;
+    this.seed = snapshot.seed;
+    this.shards = shards;
     this.counts = counts;
-    this.members = counts.reduce((a, b) => a + b, 0);
+    this.members = whole.options.members;
+    this.ledger = new LedgerHost(
+      shards.length,
+      whole.options.lifecycle.replacementWindow,
+      ledger.nextMemberId,
+      ledger.replacements,
+      ledger.epoch,
+    );
     this.preds = new Int32Array(this.members);
     this.weights = new Float64Array(this.members);
     this.confidence = new Float64Array(this.members);
-    this.hard = local.options.vote === 'hard';
+    this.hard = whole.options.vote === 'hard';
+    this.trained = whole.rows;
+    this.known = whole.classes;
+    this.announced = whole.classes;
+    this.views = whole.seats();
+    this.bytes = whole.sizeBytes();
   }
 
-  /** Start `threads` shards (this thread counts as one) of a bagging ensemble. */
-  static async start(
+  /**
+   * Start a bagging ensemble with its seats over `threads` worker threads (as evenly as they go);
+   * `journal` hears the seats' creation, as from `new Bagging`.
+   */
+  static start(
     schema: FeatureSchema,
     spec: BaggingSpec,
     seed: Seed,
     threads: number,
+    journal: LifecycleSink = () => {},
   ): Promise<ParallelBagging> {
-    const whole = new Bagging(schema, spec, seed);
-    if (whole.options.lifecycle.enabled) {
-      throw new ShoalError(
-        'invalid-parameter',
-        'parallel bagging: the member lifecycle couples seats (replacement cap, member ids); set lifecycle.enabled to false',
-      );
-    }
-    const members = whole.options.members;
-    integerAtLeast('parallel bagging', 'threads', threads, 1);
-    const shards = Math.min(threads, members);
-    const counts = Array.from(
-      { length: shards },
-      (_, i) => Math.floor(((i + 1) * members) / shards) - Math.floor((i * members) / shards),
-    );
-    const firsts = counts.map((_, i) => counts.slice(0, i).reduce((a, b) => a + b, 0));
-    const shardSpec = (i: number): BaggingSpec => ({ ...whole.options, members: counts[i]! });
-    const local = new Bagging(schema, shardSpec(0), seed, undefined, undefined, 0);
-    const remote = await Promise.all(
-      counts.slice(1).map(async (_, j): Promise<RemoteShard> => {
-        const i = j + 1;
-        const { port1, port2 } = new MessageChannel();
-        const control = channelControl();
-        // Started from a string that imports the entry file: a worker started from a file refuses the
-        // caller's --input-type (set by `node --input-type=module -e …`), which it inherits.
-        const entry = JSON.stringify(new URL('./bagging-worker.js', import.meta.url).href);
-        const worker = new Worker(`import(${entry})`, {
-          eval: true,
-          workerData: {
-            schema,
-            spec: shardSpec(i),
-            seed: String(seed),
-            first: firsts[i],
-            port: port2,
-            control,
-          },
-          transferList: [port2],
-        });
-        const shard: RemoteShard = {
-          worker,
-          client: new ShardClient(port1, control),
-          answers: new ShardAnswers(true),
-          lost: null,
-        };
-        await new Promise<void>((resolve, reject) => {
-          const failed = (e: unknown) =>
-            reject(
-              new ShoalError('worker-failure', `parallel bagging: a worker did not start: ${reason(e)}`),
-            );
-          const exited = (code: number) => failed(`exited with code ${code}`);
-          worker.once('error', failed);
-          worker.once('exit', exited);
-          shardReady(control).then(() => {
-            worker.off('error', failed);
-            worker.off('exit', exited);
-            resolve();
-          }, failed);
-        });
-        worker.on('error', (e) => {
-          shard.lost ??= reason(e);
-        });
-        worker.on('exit', (code) => {
-          shard.lost ??= `exited with code ${code}`;
-        });
-        // An idle worker need not keep the process alive; while a batch is out, `run` refs it, since a
-        // pending Atomics.waitAsync does not.
-        worker.unref();
-        port1.unref();
-        return shard;
-      }),
-    );
-    return new ParallelBagging(local, remote, counts);
+    return ParallelBagging.launch(new Bagging(schema, spec, seed, journal), threads);
   }
 
-  /** Score every row of a batch, then train on it (the prequential step), row by row. */
+  /** Go on from a bagging snapshot (of one thread or of any number of threads) over `threads` threads. */
+  static restore(snapshot: EnsembleSnapshot, threads: number): Promise<ParallelBagging> {
+    return ParallelBagging.launch(Bagging.restore(snapshot), threads);
+  }
+
+  private static async launch(whole: Bagging, threads: number): Promise<ParallelBagging> {
+    integerAtLeast('parallel bagging', 'threads', threads, 1);
+    const snapshot = whole.snapshot();
+    const members = whole.options.members;
+    const count = Math.min(threads, members);
+    const counts = Array.from(
+      { length: count },
+      (_, i) => Math.floor(((i + 1) * members) / count) - Math.floor((i * members) / count),
+    );
+    const firsts = counts.map((_, i) => counts.slice(0, i).reduce((a, b) => a + b, 0));
+    const shards = await Promise.all(
+      counts.map((n, i) => startShard(snapshot, whole.options, i, count, firsts[i]!, n)),
+    );
+    return new ParallelBagging(whole, snapshot, shards, counts);
+  }
+
+  /** Classes known so far. */
+  get classes(): number {
+    return this.known;
+  }
+
+  /** Rows trained on so far. */
+  get rows(): number {
+    return this.trained;
+  }
+
+  /** Seat replacements so far. */
+  get epoch(): number {
+    return this.ledger.epoch;
+  }
+
+  /** Announce that labels 0 … n−1 exist (sent with the next batch). */
+  ensureClasses(n: number): void {
+    if (n > this.announced) this.announced = n;
+  }
+
+  /** The seats as they were after the last batch. */
+  seats(): SeatView[] {
+    return this.views;
+  }
+
+  /** The members' size after the last batch. */
+  sizeBytes(): number {
+    return this.bytes;
+  }
+
+  /**
+   * Score every row of a batch, and train on each row whose label is not NaN (the prequential step),
+   * row by row exactly as one thread's `scoreTrain` (or `score`, for a NaN label) would.
+   */
   async scoreTrainBatch(
     values: Float64Array,
     labels: ArrayLike<number>,
@@ -170,126 +217,251 @@ export class ParallelBagging {
         `parallel bagging: a batch of ${rows} rows needs ${rows} labels, got ${labels.length}`,
       );
     }
-    let classes = this.local.classes;
-    for (let r = 0; r < rows; r++) if (labels[r]! + 1 > classes) classes = labels[r]! + 1;
     if (this.labels.length < rows) this.labels = new Float64Array(new SharedArrayBuffer(8 * rows));
-    for (let r = 0; r < rows; r++) this.labels[r] = labels[r]!;
+    let classes = Math.max(this.known, this.announced);
+    for (let r = 0; r < rows; r++) {
+      const label = labels[r]!;
+      this.labels[r] = label;
+      if (label + 1 > classes) classes = label + 1;
+    }
     await this.run(values, this.labels, rows, classes, out);
   }
 
-  /** Score every row of a batch. */
+  /** Score every row of a batch (`classes` is the most classes a row's answers may cover). */
   async scoreBatch(values: Float64Array, rows: number, out: BatchVerdicts): Promise<void> {
-    await this.run(values, null, rows, this.local.classes, out);
+    await this.run(values, null, rows, Math.max(this.known, this.announced), out);
+  }
+
+  /** The ensemble's snapshot, as one thread's `Bagging.snapshot()` would give it. */
+  async snapshot(): Promise<EnsembleSnapshot> {
+    const parts = (await this.ask(() => ({ kind: 'snapshot' }))).map((r) => r.snapshot!);
+    const first = parts[0]!;
+    const ledger = this.ledger;
+    const lifecycle: LifecycleSnapshot = {
+      seats: parts.flatMap((p) => p.lifecycle.seats),
+      nextMemberId: ledger.nextId,
+      replacements: [...ledger.history],
+      epoch: ledger.epoch,
+      classes: first.lifecycle.classes,
+    };
+    return {
+      kind: first.kind,
+      version: first.version,
+      schema: first.schema,
+      options: { ...this.options },
+      seed: this.seed,
+      rows: first.rows,
+      lifecycle,
+      state: { poisson: parts.flatMap((p) => (p.state as { poisson: unknown[] }).poisson) },
+    };
   }
 
   /** Stop the workers. */
   async close(): Promise<void> {
-    for (const r of this.remote) r.client.stop();
-    await Promise.all(this.remote.map((r) => r.worker.terminate()));
+    for (const s of this.shards) s.client.post({ kind: 'stop' });
+    await Promise.all(this.shards.map((s) => s.worker.terminate()));
   }
 
   private async run(
     values: Float64Array,
-    labels: Float64Array | null,
+    labels: Float64Array<SharedArrayBuffer> | null,
     rows: number,
     classes: number,
     out: BatchVerdicts,
   ): Promise<void> {
-    if (this.busy) {
-      throw new ShoalError(
-        'invalid-parameter',
-        'parallel bagging: a batch is still out; await it before sending the next',
-      );
-    }
-    for (const r of this.remote) {
-      if (r.lost !== null) {
-        throw new ShoalError('worker-failure', `parallel bagging: a worker stopped: ${r.lost}`);
-      }
-    }
-    const width = this.local.schema.features.length;
+    const width = this.schema.features.length;
     if (!(Number.isInteger(rows) && rows >= 0 && values.length >= rows * width)) {
       throw new ShoalError(
         'invalid-row',
         `parallel bagging: a batch of ${rows} rows needs ${rows * width} values, the buffer holds ${values.length}`,
       );
     }
+    this.ready();
     if (this.values.length < rows * width)
       this.values = new Float64Array(new SharedArrayBuffer(8 * rows * width));
     this.values.set(values.subarray(0, rows * width));
-    this.busy = true;
-    try {
-      await this.exchange(labels, rows, classes, out);
-    } finally {
-      this.busy = false;
-    }
+    const ledger = this.ledger;
+    ledger.prepare(rows, Math.max(...this.counts));
+    const replies = await this.ask((s, i) => ({
+      kind: 'batch',
+      rows,
+      classes: this.announced,
+      values: this.values.buffer,
+      labels: labels === null ? null : labels.buffer,
+      answers: s.answers.fit(rows, this.counts[i]!, Math.max(classes, 1)),
+      ledger: ledger.words.buffer,
+      cap: ledger.cap,
+      nextId: ledger.nextId,
+      history: ledger.history,
+    }));
+    const first = replies[0]!;
+    this.trained = first.rows;
+    this.known = first.classes;
+    this.views = replies.flatMap((r) => r.seats);
+    this.bytes = replies.reduce((sum, r) => sum + r.bytes, 0);
+    out.fit(rows, Math.max(classes, 1));
+    ledger.settle(rows, out.epochs, this.trained);
+    mergeChanges(replies, out);
+    // Every shard stops at the same bad row: its error is the batch's.
+    const failed = replies.find((r) => r.error !== null);
+    if (failed !== undefined) throw new ShoalError(failed.error!.code, failed.error!.message);
+    this.combine(rows, out);
   }
 
-  /** Send the batch in shared memory to every shard, run the local one, collect and combine the votes. */
-  private async exchange(
-    labels: Float64Array | null,
-    rows: number,
-    classes: number,
-    out: BatchVerdicts,
-  ): Promise<void> {
-    const c = Math.max(classes, this.local.classes);
-    this.remote.forEach((r, j) => {
-      r.worker.ref();
-      r.answers.fit(rows, this.counts[j + 1]!, c);
-      r.client.post({
-        stop: false,
-        rows,
-        classes,
-        values: this.values.buffer,
-        labels: labels === null ? null : labels.buffer,
-        probs: r.answers.probs.buffer,
-        preds: r.answers.preds.buffer,
-        weights: r.answers.weights.buffer,
-      });
-    });
-    this.localAnswers.fit(rows, this.counts[0]!, c);
-    // Every shard gets to the end of the batch, or to the same bad row, before an error is raised.
-    let failure: unknown = null;
-    try {
-      runShard(this.local, this.values, labels, rows, classes, this.localAnswers, null);
-    } catch (e) {
-      failure = e;
-    }
-    for (const r of this.remote) {
-      try {
-        await r.client.collect();
-      } catch (e) {
-        failure ??= e;
-      } finally {
-        r.worker.unref();
-      }
-    }
-    if (failure !== null) throw failure;
-    const answers = [this.localAnswers, ...this.remote.map((r) => r.answers)];
-    out.fit(rows, c);
-    if (this.probs.length !== this.members * c) this.probs = new Float64Array(this.members * c);
-    const { probs, preds, weights, confidence, verdict } = this;
+  /** Combine the shards' answers row by row into `out`, as one thread's vote. */
+  private combine(rows: number, out: BatchVerdicts): void {
+    const stride = out.classes;
+    if (this.probs.length < this.members * stride) this.probs = new Float64Array(this.members * stride);
+    const { probs, preds, weights, confidence, verdict, counts } = this;
+    const answers = this.shards.map((s) => s.answers);
+    const spans = answers[0]!.classes;
     for (let r = 0; r < rows; r++) {
+      const c = spans[r]!;
       let seat = 0;
       for (let s = 0; s < answers.length; s++) {
         const shard = answers[s]!;
-        const n = this.counts[s]!;
+        const n = counts[s]!;
         const from = r * n;
         for (let m = 0; m < n; m++) {
           preds[seat + m] = shard.preds[from + m]!;
           weights[seat + m] = shard.weights[2 * (from + m)]!;
           confidence[seat + m] = shard.weights[2 * (from + m) + 1]!;
+          for (let k = 0, at = (from + m) * stride, to = (seat + m) * c; k < c; k++)
+            probs[to + k] = shard.probs[at + k]!;
         }
-        const span = n * c;
-        for (let i = 0, at = from * c, to = seat * c; i < span; i++) probs[to + i] = shard.probs[at + i]!;
         seat += n;
       }
       combineVotes(this.hard, probs, preds, weights, confidence, this.members, c, verdict);
-      for (let k = 0; k < c; k++) out.probabilities[r * c + k] = verdict.probabilities[k]!;
+      const at = r * stride;
+      for (let k = 0; k < stride; k++) out.probabilities[at + k] = k < c ? verdict.probabilities[k]! : 0;
+      out.spans[r] = c;
       out.predicted[r] = verdict.predicted;
       out.agreement[r] = verdict.agreement;
       out.voters[r] = verdict.voters;
     }
   }
+
+  /** Refuse a request while one is out (its shared buffers are in use), or when a worker stopped. */
+  private ready(): void {
+    if (this.busy) {
+      throw new ShoalError(
+        'invalid-parameter',
+        'parallel bagging: a batch is still out; await it before sending the next',
+      );
+    }
+    for (const s of this.shards) {
+      if (s.lost !== null)
+        throw new ShoalError('worker-failure', `parallel bagging: a worker stopped: ${s.lost}`);
+    }
+  }
+
+  /** Send every shard its request, and collect every reply (a request is refused while one is out). */
+  private async ask(
+    request: (shard: RemoteShard, i: number) => Parameters<ShardClient['post']>[0],
+  ): Promise<ShardReply[]> {
+    this.ready();
+    this.busy = true;
+    try {
+      this.shards.forEach((s, i) => {
+        // A pending Atomics.waitAsync does not keep the process alive; a ref'd worker does.
+        s.worker.ref();
+        s.client.post(request(s, i));
+      });
+      const replies: ShardReply[] = [];
+      let failure: unknown = null;
+      for (const s of this.shards) {
+        try {
+          replies.push(await s.client.collect());
+        } catch (e) {
+          failure ??= e;
+        } finally {
+          s.worker.unref();
+        }
+      }
+      if (failure !== null) throw failure;
+      return replies;
+    } finally {
+      this.busy = false;
+    }
+  }
+}
+
+/** The changes of every shard in the order one thread makes them: by row, then by seat. */
+function mergeChanges(replies: readonly ShardReply[], out: BatchVerdicts): void {
+  const all = replies.flatMap((r, shard) =>
+    r.changes.map((change, i) => ({ change, row: r.steps[i]!, shard })),
+  );
+  all.sort((a, b) => a.row - b.row || a.shard - b.shard);
+  for (const { change, row } of all) {
+    out.changes.push(change);
+    out.rows.push(row);
+  }
+}
+
+/** Start the worker of shard `i`: seats `first` … `first + n − 1` of the ensemble in `snapshot`. */
+async function startShard(
+  snapshot: EnsembleSnapshot,
+  options: BaggingOptions,
+  i: number,
+  shards: number,
+  first: number,
+  n: number,
+): Promise<RemoteShard> {
+  const { port1, port2 } = new MessageChannel();
+  const control = channelControl();
+  const state = snapshot.state as { poisson: unknown[] };
+  const part: EnsembleSnapshot = {
+    ...snapshot,
+    options: { ...options, members: n },
+    lifecycle: { ...snapshot.lifecycle, seats: snapshot.lifecycle.seats.slice(first, first + n) },
+    state: { poisson: state.poisson.slice(first, first + n) },
+  };
+  // Started from a string that imports the entry file: a worker started from a file refuses the
+  // caller's --input-type (set by `node --input-type=module -e …`), which it inherits.
+  const entry = JSON.stringify(new URL('./bagging-worker.js', import.meta.url).href);
+  const worker = new Worker(`import(${entry})`, {
+    eval: true,
+    workerData: {
+      schema: snapshot.schema,
+      spec: part.options,
+      seed: snapshot.seed,
+      first,
+      shard: i,
+      shards,
+      restored: part,
+      port: port2,
+      control,
+    },
+    transferList: [port2],
+  });
+  const shard: RemoteShard = {
+    worker,
+    client: new ShardClient(port1, control),
+    answers: new ShardAnswers(),
+    lost: null,
+  };
+  await new Promise<void>((resolve, reject) => {
+    const failed = (e: unknown) =>
+      reject(new ShoalError('worker-failure', `parallel bagging: a worker did not start: ${reason(e)}`));
+    const exited = (code: number) => failed(`exited with code ${code}`);
+    worker.once('error', failed);
+    worker.once('exit', exited);
+    shardReady(control).then(() => {
+      worker.off('error', failed);
+      worker.off('exit', exited);
+      resolve();
+    }, failed);
+  });
+  worker.on('error', (e) => {
+    shard.lost ??= reason(e);
+  });
+  worker.on('exit', (code) => {
+    shard.lost ??= `exited with code ${code}`;
+  });
+  // An idle worker need not keep the process alive; while a request is out, `ask` refs it.
+  worker.unref();
+  port1.unref();
+  return shard;
 }
 
 function reason(e: unknown): string {

@@ -1,117 +1,142 @@
 import { type MessagePort, receiveMessageOnPort } from 'node:worker_threads';
 import { ShoalError, type ShoalErrorCode } from '../core/index.js';
-import { type Bagging, Verdict } from '../ensembles/index.js';
+import { type Bagging, type EnsembleSnapshot, type SeatView, Verdict } from '../ensembles/index.js';
+import type { LifecycleChange } from '../journal/index.js';
+import { FAILED, type ShardLedger } from './shard-ledger.js';
 
 /**
  * How a batch of rows reaches a shard of a bagging ensemble in another thread, and how its members'
- * answers come back, without copies: rows, labels and answers live in shared memory, and control words
- * wake the sides — the worker blocks in `Atomics.wait`, the main thread awaits `Atomics.waitAsync`, so
- * its event loop (Kafka heartbeats, scrapes) runs while a batch is out — request number, number of
- * requests done, status of the last (0 = answered, 1 = failed), a progress counter the shard bumps
- * every 256 rows, so that the waiting side can tell a long batch from a worker that stopped, and a
- * ready flag the worker raises once its shard is built. A request names its buffers in a message on
- * a port that the worker reads synchronously when woken.
+ * answers come back, without copies: rows, labels, answers and the ledger (shard-ledger.ts) live in
+ * shared memory, and control words wake the sides — the worker blocks in `Atomics.wait`, the main
+ * thread awaits `Atomics.waitAsync`, so its event loop (Kafka heartbeats, scrapes) runs while a batch
+ * is out — request number, number of requests done, a progress counter the shard bumps every 256 rows,
+ * so that the waiting side can tell a long batch from a worker that stopped, and a ready flag the worker
+ * raises once its shard is built. A request names its buffers in a message on a port that the worker
+ * reads synchronously when woken; its reply (the lifecycle changes of the batch, the seats after it,
+ * or an error; a snapshot when asked) comes back the same way before the request is marked done.
  */
 const C_REQUEST = 0;
 const C_DONE = 1;
-const C_STATUS = 2;
-const C_PROGRESS = 3;
-const C_READY = 4;
+const C_PROGRESS = 2;
+const C_READY = 3;
 const PROGRESS_EVERY = 256;
 /** A worker that makes no progress for this long is declared lost. */
 const SILENCE_MS = 30_000;
 const WAIT_MS = 1000;
 
-/** A batch for a shard: shared rows (and labels when training), and where the answers go. */
-export interface ShardRequest {
-  readonly stop: boolean;
+/** A batch for a shard: shared rows and labels (NaN: score only), the ledger, and where answers go. */
+export interface BatchRequest {
+  readonly kind: 'batch';
   readonly rows: number;
   readonly classes: number;
-  readonly values: SharedArrayBuffer | ArrayBuffer;
-  readonly labels: SharedArrayBuffer | ArrayBuffer | null;
-  readonly probs: SharedArrayBuffer | ArrayBuffer;
-  readonly preds: SharedArrayBuffer | ArrayBuffer;
-  readonly weights: SharedArrayBuffer | ArrayBuffer;
+  readonly values: SharedArrayBuffer;
+  readonly labels: SharedArrayBuffer | null;
+  readonly answers: AnswerBuffers;
+  readonly ledger: SharedArrayBuffer;
+  readonly cap: number;
+  readonly nextId: number;
+  readonly history: readonly number[];
+}
+
+export type ShardRequest = BatchRequest | { readonly kind: 'snapshot' } | { readonly kind: 'stop' };
+
+/** What a shard says after a request. */
+export interface ShardReply {
+  readonly error: { readonly code: ShoalErrorCode; readonly message: string } | null;
+  /** Lifecycle changes of the batch, in order, and the step of each. */
+  readonly changes: readonly LifecycleChange[];
+  readonly steps: readonly number[];
+  readonly seats: readonly SeatView[];
+  readonly rows: number;
+  readonly classes: number;
+  readonly bytes: number;
+  readonly snapshot: EnsembleSnapshot | null;
 }
 
 /**
- * Where one shard writes its members' answers, row-major: probabilities, classes, and each member's
- * vote weight and confidence side by side in `weights`.
+ * Where one shard writes its members' answers, row-major with `stride` classes a member: probabilities,
+ * classes, each member's vote weight and confidence side by side in `weights`, and the classes each
+ * row's answers cover (they grow when a label of a new class is learnt).
  */
-export interface AnswerArrays {
-  readonly probs: Float64Array;
-  readonly preds: Int32Array;
-  readonly weights: Float64Array;
+export interface AnswerBuffers {
+  readonly stride: number;
+  readonly probs: SharedArrayBuffer;
+  readonly preds: SharedArrayBuffer;
+  readonly weights: SharedArrayBuffer;
+  readonly classes: SharedArrayBuffer;
 }
 
-/** Answer arrays that grow with the batch, in shared memory when another thread writes them. */
-export class ShardAnswers implements AnswerArrays {
-  probs: Float64Array;
-  preds: Int32Array;
-  weights: Float64Array;
-  private readonly shared: boolean;
+/** Answer arrays in shared memory that grow with the batch. */
+export class ShardAnswers {
+  stride = 0;
+  probs = new Float64Array(new SharedArrayBuffer(0));
+  preds = new Int32Array(new SharedArrayBuffer(0));
+  weights = new Float64Array(new SharedArrayBuffer(0));
+  classes = new Int32Array(new SharedArrayBuffer(0));
 
-  constructor(shared: boolean) {
-    this.shared = shared;
-    this.probs = new Float64Array(this.buffer(0));
-    this.preds = new Int32Array(this.buffer(0));
-    this.weights = new Float64Array(this.buffer(0));
-  }
-
-  /** Make room for `rows` rows of `members` answers over `classes` classes. */
-  fit(rows: number, members: number, classes: number): void {
-    if (this.probs.length < rows * members * classes) {
-      this.probs = new Float64Array(this.buffer(8 * rows * members * classes));
+  /** Make room for `rows` rows of `members` answers over `stride` classes. */
+  fit(rows: number, members: number, stride: number): AnswerBuffers {
+    this.stride = stride;
+    if (this.probs.length < rows * members * stride) {
+      this.probs = new Float64Array(new SharedArrayBuffer(8 * rows * members * stride));
     }
     if (this.preds.length < rows * members) {
-      this.preds = new Int32Array(this.buffer(4 * rows * members));
-      this.weights = new Float64Array(this.buffer(16 * rows * members));
+      this.preds = new Int32Array(new SharedArrayBuffer(4 * rows * members));
+      this.weights = new Float64Array(new SharedArrayBuffer(16 * rows * members));
     }
-  }
-
-  private buffer(bytes: number): SharedArrayBuffer | ArrayBuffer {
-    return this.shared ? new SharedArrayBuffer(bytes) : new ArrayBuffer(bytes);
+    if (this.classes.length < rows) this.classes = new Int32Array(new SharedArrayBuffer(4 * rows));
+    return {
+      stride,
+      probs: this.probs.buffer,
+      preds: this.preds.buffer,
+      weights: this.weights.buffer,
+      classes: this.classes.buffer,
+    };
   }
 }
 
 /**
- * Score (no labels) or score and train a shard on a batch, writing every member's answers row by row
- * into `answers` (sized by the caller); bumps `control`'s progress counter when given.
+ * Score (label NaN) or score and train a shard on each row of a batch, writing every member's answers
+ * row by row; the ledger is told each step and each step done.
  */
-export function runShard(
-  shard: Bagging,
-  values: Float64Array,
-  labels: Float64Array | null,
-  rows: number,
-  classes: number,
-  answers: AnswerArrays,
-  control: Int32Array | null,
-): void {
+function runShard(shard: Bagging, ledger: ShardLedger, request: BatchRequest, control: Int32Array): void {
+  const { rows, answers } = request;
+  const values = new Float64Array(request.values);
+  const labels = request.labels === null ? null : new Float64Array(request.labels);
+  const probs = new Float64Array(answers.probs);
+  const preds = new Int32Array(answers.preds);
+  const weights = new Float64Array(answers.weights);
+  const classes = new Int32Array(answers.classes);
+  const stride = answers.stride;
   const width = shard.schema.features.length;
-  shard.ensureClasses(classes);
+  shard.ensureClasses(request.classes);
   const members = shard.options.members;
-  const c = shard.classes;
-  const { probs, preds, weights } = answers;
   const verdict = new Verdict();
   for (let r = 0; r < rows; r++) {
-    if (labels === null) shard.score(values, r * width, verdict);
-    else shard.train(values, r * width, labels[r]!);
+    ledger.step = r;
     const m = shard.members;
+    // A label of a new class grows the scratch after the row, into new arrays: answers are in these.
+    const c = m.classes;
+    const answered = m.probs;
+    const label = labels === null ? Number.NaN : labels[r]!;
+    if (Number.isNaN(label)) shard.score(values, r * width, verdict);
+    else shard.train(values, r * width, label);
     const at = r * members;
+    classes[r] = c;
     for (let i = 0; i < members; i++) {
       preds[at + i] = m.preds[i]!;
       weights[2 * (at + i)] = m.weights[i]!;
       weights[2 * (at + i) + 1] = m.confidence[i]!;
+      for (let k = 0, from = i * c, to = (at + i) * stride; k < c; k++) probs[to + k] = answered[from + k]!;
     }
-    const span = members * c;
-    for (let i = 0, to = at * c; i < span; i++) probs[to + i] = m.probs[i]!;
-    if (control !== null && r % PROGRESS_EVERY === 0) Atomics.add(control, C_PROGRESS, 1);
+    ledger.done(r + 1);
+    if (r % PROGRESS_EVERY === 0) Atomics.add(control, C_PROGRESS, 1);
   }
 }
 
 /** The control words of a channel, in shared memory. */
 export function channelControl(): Int32Array {
-  return new Int32Array(new SharedArrayBuffer(4 * 5));
+  return new Int32Array(new SharedArrayBuffer(4 * 4));
 }
 
 // Atomics.waitAsync is in Node 16 and later, but not yet in TypeScript's ES2022 library.
@@ -139,7 +164,7 @@ export async function shardReady(control: Int32Array): Promise<void> {
   await waitAsync(control, C_READY, 0);
 }
 
-/** The main thread's end of a channel: post a request, later wait for its answer. */
+/** The main thread's end of a channel: post a request, later wait for its reply. */
 export class ShardClient {
   private readonly port: MessagePort;
   private readonly control: Int32Array;
@@ -156,26 +181,11 @@ export class ShardClient {
     Atomics.notify(this.control, C_REQUEST);
   }
 
-  /** Ask the worker to leave its loop. */
-  stop(): void {
-    const none = new ArrayBuffer(0);
-    this.post({
-      stop: true,
-      rows: 0,
-      classes: 0,
-      values: none,
-      labels: null,
-      probs: none,
-      preds: none,
-      weights: none,
-    });
-  }
-
   /**
-   * Resolves when the last request is answered, never blocking this thread; rejects when the shard
-   * failed or went silent.
+   * Resolves with the reply to the last request, never blocking this thread; rejects when the shard
+   * went silent (its own error is in the reply).
    */
-  async collect(): Promise<void> {
+  async collect(): Promise<ShardReply> {
     const control = this.control;
     let progress = Atomics.load(control, C_PROGRESS);
     let silent = 0;
@@ -191,26 +201,28 @@ export class ShardClient {
         );
       }
     }
-    if (Atomics.load(control, C_STATUS) !== 0) {
-      // The shard's own error, with its code, as if it had been raised in this thread.
-      const reason = receiveMessageOnPort(this.port)?.message as { code: ShoalErrorCode; message: string };
-      throw new ShoalError(reason.code, reason.message);
-    }
+    return receiveMessageOnPort(this.port)?.message as ShardReply;
   }
 }
 
-/** Mark request number `done` answered (`failed`: with an error message posted first) and wake the waiter. */
-export function markAnswered(control: Int32Array, done: number, failed: boolean): void {
-  Atomics.store(control, C_STATUS, failed ? 1 : 0);
+/** Mark request number `done` answered and wake the waiter. */
+export function markAnswered(control: Int32Array, done: number): void {
   Atomics.store(control, C_DONE, done);
   Atomics.notify(control, C_DONE);
 }
 
 /**
- * The worker's end: answer requests with `shard` until a stop request arrives. Blocks its thread
- * between requests.
+ * The worker's end: answer requests with `shard` until a stop request arrives; `changes` and `steps`
+ * collect the lifecycle changes of a batch (the shard's journal). Blocks its thread between requests.
  */
-export function serveShard(shard: Bagging, port: MessagePort, control: Int32Array): void {
+export function serveShard(
+  shard: Bagging,
+  ledger: ShardLedger,
+  changes: LifecycleChange[],
+  steps: number[],
+  port: MessagePort,
+  control: Int32Array,
+): void {
   Atomics.store(control, C_READY, 1);
   Atomics.notify(control, C_READY);
   let done = 0;
@@ -219,29 +231,40 @@ export function serveShard(shard: Bagging, port: MessagePort, control: Int32Arra
     // Requests are answered in order, one message each, however many arrived while this thread worked.
     for (let m = receiveMessageOnPort(port); m !== undefined; m = receiveMessageOnPort(port)) {
       const request = m.message as ShardRequest;
-      if (request.stop) {
+      if (request.kind === 'stop') {
         port.close();
         return;
       }
-      let failed = false;
+      changes.length = 0;
+      steps.length = 0;
+      let error: ShardReply['error'] = null;
+      let snapshot: EnsembleSnapshot | null = null;
       try {
-        const answers: AnswerArrays = {
-          probs: new Float64Array(request.probs),
-          preds: new Int32Array(request.preds),
-          weights: new Float64Array(request.weights),
-        };
-        const values = new Float64Array(request.values);
-        const labels = request.labels === null ? null : new Float64Array(request.labels);
-        runShard(shard, values, labels, request.rows, request.classes, answers, control);
+        if (request.kind === 'snapshot') snapshot = shard.snapshot();
+        else {
+          ledger.begin(new Int32Array(request.ledger), request.cap, request.nextId, request.history);
+          runShard(shard, ledger, request, control);
+        }
       } catch (e) {
-        failed = true;
-        port.postMessage(
+        // Shards stop at the same bad row; one that waits on this one must not wait for good.
+        if (request.kind === 'batch') ledger.done(FAILED);
+        error =
           e instanceof ShoalError
             ? { code: e.code, message: e.message }
-            : { code: 'worker-failure', message: `parallel bagging: a worker failed: ${String(e)}` },
-        );
+            : { code: 'worker-failure', message: `parallel bagging: a worker failed: ${String(e)}` };
       }
-      markAnswered(control, ++done, failed);
+      const reply: ShardReply = {
+        error,
+        changes,
+        steps,
+        seats: shard.seats(),
+        rows: shard.rows,
+        classes: shard.classes,
+        bytes: shard.sizeBytes(),
+        snapshot,
+      };
+      port.postMessage(reply);
+      markAnswered(control, ++done);
     }
   }
 }

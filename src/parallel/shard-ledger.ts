@@ -1,0 +1,201 @@
+import { inWindow, type LifecycleSnapshot, type SeatLedger } from '../ensembles/index.js';
+
+/**
+ * The member lifecycle couples the seats of an ensemble in two ways: member ids are handed out in the
+ * order of (row, seat) — an id seeds its member — and at most `maxReplacements` replacements happen in
+ * any `replacementWindow` rows. Shards of one bagging ensemble in different threads keep both exactly as
+ * one thread would through this ledger, in shared memory while a batch is out:
+ *
+ *   progress of each shard (steps of the batch done), the number of shards waiting, then per shard:
+ *   ids handed out, replacements, the step of each id, the step and the row of each replacement.
+ *
+ * Shard w holds seats below those of shard w + 1, so an event of shard v at step q comes before the
+ * event of shard w at step i in the one-thread order exactly when q < i, or q = i and v < w. A shard
+ * that needs an id or the cap at step i first waits until every shard before it has done step i and
+ * every shard after it step i − 1 (blocking its own thread, never the main one), then counts the
+ * events before its own in the logs. Events are rare (a warning, a drift, a replacement), so the shards
+ * otherwise run freely; waits never form a cycle, since the earliest waiting (step, shard) has all it
+ * waits for. The main thread keeps the ledger between batches: the next id, the recent replacement
+ * rows, the epoch.
+ */
+const PER_SHARD_HEAD = 2;
+const LOGS = 3;
+/** Kinds of event: the count word and step log of each (replacement rows follow the replacement steps). */
+const IDS = 0;
+const REPLACEMENTS = 1;
+/** Progress of a shard that failed: nobody waits for it (the batch fails as a whole). */
+export const FAILED = 0x7fffffff;
+const WAIT_MS = 1000;
+
+/** Words of a ledger for `shards` shards with room for `cap` events of each kind per shard. */
+export function ledgerWords(shards: number, cap: number): Int32Array<SharedArrayBuffer> {
+  return new Int32Array(new SharedArrayBuffer(4 * (shards + 1 + shards * (PER_SHARD_HEAD + LOGS * cap))));
+}
+
+/** Where shard `v`'s counts and logs start. */
+function base(shards: number, cap: number, v: number): number {
+  return shards + 1 + v * (PER_SHARD_HEAD + LOGS * cap);
+}
+
+/** A shard's side of the ledger: the `SeatLedger` its lifecycle asks. */
+export class ShardLedger implements SeatLedger {
+  private readonly shard: number;
+  private readonly shards: number;
+  private readonly window: number;
+  private readonly max: number;
+  private words: Int32Array = new Int32Array(0);
+  private cap = 0;
+  private firstId = 0;
+  private history: readonly number[] = [];
+  /** The step of the batch being run. */
+  step = 0;
+
+  constructor(shard: number, shards: number, window: number, max: number) {
+    this.shard = shard;
+    this.shards = shards;
+    this.window = window;
+    this.max = max;
+  }
+
+  /** Start a batch: the ledger's words, the next id and the replacement rows before the batch. */
+  begin(words: Int32Array, cap: number, firstId: number, history: readonly number[]): void {
+    this.words = words;
+    this.cap = cap;
+    this.firstId = firstId;
+    this.history = history;
+    this.step = 0;
+  }
+
+  /** `steps` steps of the batch are done (FAILED: none will be). */
+  done(steps: number): void {
+    const words = this.words;
+    Atomics.store(words, this.shard, steps);
+    if (Atomics.load(words, this.shards) > 0) Atomics.notify(words, this.shard);
+  }
+
+  nextId(_row: number): number {
+    this.settle();
+    let n = 0;
+    for (let v = 0; v < this.shards; v++) n += this.before(v, IDS);
+    const at = base(this.shards, this.cap, this.shard);
+    const own = this.words[at]!;
+    this.words[at + PER_SHARD_HEAD + own] = this.step;
+    Atomics.store(this.words, at, own + 1);
+    return this.firstId + n;
+  }
+
+  capReached(row: number): boolean {
+    this.settle();
+    let n = inWindow(this.history, row, this.window);
+    const { words, cap } = this;
+    for (let v = 0; v < this.shards; v++) {
+      const at = base(this.shards, cap, v);
+      const rows = at + PER_SHARD_HEAD + 2 * cap;
+      const count = this.before(v, REPLACEMENTS);
+      for (let i = 0; i < count; i++) if (words[rows + i]! > row - this.window) n++;
+    }
+    return n >= this.max;
+  }
+
+  replaced(row: number): void {
+    const { words, cap } = this;
+    const at = base(this.shards, cap, this.shard);
+    const own = words[at + 1]!;
+    words[at + PER_SHARD_HEAD + cap + own] = this.step;
+    words[at + PER_SHARD_HEAD + 2 * cap + own] = row;
+    Atomics.store(words, at + 1, own + 1);
+  }
+
+  /** The main thread keeps the ids and replacements of the whole ensemble; a shard's own say nothing. */
+  snapshot(_row: number): Pick<LifecycleSnapshot, 'nextMemberId' | 'replacements'> {
+    return { nextMemberId: this.firstId, replacements: [] };
+  }
+
+  /** Wait until every event before this shard's at this step is in the logs. */
+  private settle(): void {
+    const { words, shards, step } = this;
+    for (let v = 0; v < shards; v++) {
+      if (v === this.shard) continue;
+      const need = v < this.shard ? step + 1 : step;
+      for (let p = Atomics.load(words, v); p < need; p = Atomics.load(words, v)) {
+        Atomics.add(words, shards, 1);
+        Atomics.wait(words, v, p, WAIT_MS);
+        Atomics.sub(words, shards, 1);
+      }
+    }
+  }
+
+  /** How many of shard `v`'s events of one kind (IDS or REPLACEMENTS) come before this shard's at this step. */
+  private before(v: number, kind: number): number {
+    const { words, cap } = this;
+    const at = base(this.shards, cap, v);
+    const count = Atomics.load(words, at + kind);
+    if (v === this.shard) return count;
+    const from = at + PER_SHARD_HEAD + kind * cap;
+    const last = v < this.shard ? this.step : this.step - 1;
+    let n = 0;
+    while (n < count && words[from + n]! <= last) n++;
+    return n;
+  }
+}
+
+/** The main thread's side: what the ledger holds between batches, and the events of the last batch. */
+export class LedgerHost {
+  readonly shards: number;
+  private readonly window: number;
+  /** The next member id. */
+  nextId: number;
+  /** Replacement rows that can still count towards the cap. */
+  history: number[];
+  /** Replacements so far. */
+  epoch: number;
+  words = new Int32Array(new SharedArrayBuffer(0));
+  cap = 0;
+
+  constructor(shards: number, window: number, nextId: number, history: readonly number[], epoch: number) {
+    this.shards = shards;
+    this.window = window;
+    this.nextId = nextId;
+    this.history = [...history];
+    this.epoch = epoch;
+  }
+
+  /** Clear the ledger for a batch of `steps` steps whose shards hold at most `seats` seats each. */
+  prepare(steps: number, seats: number): void {
+    const cap = Math.max(1, steps * seats);
+    if (cap > this.cap) {
+      this.cap = cap;
+      this.words = ledgerWords(this.shards, cap);
+      return;
+    }
+    const words = this.words;
+    words.fill(0, 0, this.shards + 1);
+    for (let v = 0; v < this.shards; v++)
+      words.fill(0, base(this.shards, cap, v), base(this.shards, cap, v) + 2);
+  }
+
+  /**
+   * Take in the events of a finished batch: the epoch that served each step (`epochs`), the ids handed
+   * out, and the replacement rows, in the one-thread order; `rows` is the ensemble's row count after it.
+   */
+  settle(steps: number, epochs: Int32Array, rows: number): void {
+    const { words, cap, shards } = this;
+    const next = new Int32Array(shards);
+    let epoch = this.epoch;
+    for (let i = 0; i < steps; i++) {
+      epochs[i] = epoch;
+      for (let v = 0; v < shards; v++) {
+        const at = base(shards, cap, v);
+        const count = words[at + 1]!;
+        while (next[v]! < count && words[at + PER_SHARD_HEAD + cap + next[v]!] === i) {
+          this.history.push(words[at + PER_SHARD_HEAD + 2 * cap + next[v]!]!);
+          next[v]!++;
+          epoch++;
+        }
+      }
+    }
+    this.epoch = epoch;
+    for (let v = 0; v < shards; v++) this.nextId += words[base(shards, cap, v)]!;
+    this.history = this.history.filter((r) => r > rows - this.window);
+  }
+}

@@ -1,0 +1,159 @@
+import { describe, expect, it } from 'vitest';
+// Worker threads load compiled files, so this test uses the build in dist/ (npm test builds first).
+import { Bagging, type BaggingSpec, type EnsembleSnapshot, Verdict } from '../../dist/ensembles/index.js';
+import type { LifecycleChange } from '../../dist/journal/index.js';
+import { BatchVerdicts, ParallelBagging } from '../../dist/parallel/index.js';
+import { buildStream } from '../../src/streams/index.js';
+
+/**
+ * Members on worker threads with the member lifecycle on. The stream is STAGGER (Schlimmer & Granger
+ * 1986; PUBLISHED.md) with abrupt changes of concept a → b → c → a → b every 1,600 rows, so seats are put
+ * on trial and replaced, under a cap of one replacement per 1,500 rows. Every tenth row comes without
+ * its label (scored only). One thread is the reference: the same verdicts bit for bit, the same
+ * lifecycle changes in the same order, the same snapshot.
+ */
+const ROWS = 8000;
+const BATCH = 500;
+const WINDOW = 1500;
+const SPEC: BaggingSpec = { members: 7, lifecycle: { maxReplacements: 1, replacementWindow: WINDOW } };
+const stream = () => buildStream({ generator: 'stagger', concepts: 'a,b,c,a,b', every: 1600, seed: 5 });
+
+function data(): { rows: Float64Array; labels: Float64Array; width: number } {
+  const gen = stream();
+  const width = gen.schema.features.length;
+  const rows = new Float64Array(ROWS * width);
+  const labels = new Float64Array(ROWS);
+  for (let i = 0; i < ROWS; i++) labels[i] = i % 10 === 9 ? Number.NaN : gen.next(rows, i * width);
+  return { rows, labels, width };
+}
+
+const { rows, labels, width } = data();
+const schema = stream().schema;
+
+/** Everything a verdict says, as numbers. */
+function push(trace: number[], v: Verdict): void {
+  for (let k = 0; k < v.classes; k++) trace.push(v.probabilities[k]!);
+  trace.push(v.classes, v.predicted, v.agreement, v.voters, v.epoch);
+}
+
+/** One thread, rows `from` … `to` − 1. */
+function single(bag: Bagging, from: number, to: number, trace: number[]): void {
+  const verdict = new Verdict();
+  for (let i = from; i < to; i++) {
+    if (Number.isNaN(labels[i]!)) bag.score(rows, i * width, verdict);
+    else bag.scoreTrain(rows, i * width, labels[i]!, verdict);
+    push(trace, verdict);
+  }
+}
+
+/** Threads, rows `from` … `to` − 1 in batches. */
+async function threaded(
+  bag: ParallelBagging,
+  from: number,
+  to: number,
+  trace: number[],
+  records: LifecycleChange[],
+): Promise<void> {
+  const out = new BatchVerdicts();
+  const verdict = new Verdict();
+  for (let s = from; s < to; s += BATCH) {
+    const n = Math.min(BATCH, to - s);
+    await bag.scoreTrainBatch(rows.subarray(s * width), labels.subarray(s), n, out);
+    records.push(...out.changes);
+    for (let r = 0; r < n; r++) {
+      out.verdictAt(r, verdict);
+      push(trace, verdict);
+    }
+  }
+}
+
+function firstDifference(a: number[], b: number[]): number {
+  if (a.length !== b.length) return Math.min(a.length, b.length);
+  return a.findIndex((x, i) => !Object.is(x, b[i]));
+}
+
+describe('parallel bagging with the member lifecycle', () => {
+  const records: LifecycleChange[] = [];
+  const bag = new Bagging(schema, SPEC, 'life', (c) => records.push(c));
+  const trace: number[] = [];
+  single(bag, 0, ROWS, trace);
+  const snapshot = JSON.stringify(bag.snapshot());
+
+  it('replaces members on this stream, no two within the window of the cap', () => {
+    const promoted = records.filter((r) => r.cause === 'promoted').map((r) => r.trained);
+    expect(promoted.length).toBeGreaterThan(2);
+    for (let i = 1; i < promoted.length; i++)
+      expect(promoted[i]! - promoted[i - 1]!).toBeGreaterThanOrEqual(WINDOW);
+  });
+
+  it.each([2, 3])(
+    'over %i threads gives the verdicts, lifecycle changes and snapshot of one thread',
+    async (threads) => {
+      const got: LifecycleChange[] = [];
+      const parallel = await ParallelBagging.start(schema, SPEC, 'life', threads, (c) => got.push(c));
+      try {
+        const t: number[] = [];
+        await threaded(parallel, 0, ROWS, t, got);
+        expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
+        expect(got).toEqual(records);
+        expect(parallel.epoch).toBe(bag.epoch);
+        expect(parallel.rows).toBe(bag.rows);
+        expect(parallel.seats()).toEqual(bag.seats());
+        expect(JSON.stringify(await parallel.snapshot())).toBe(snapshot);
+      } finally {
+        await parallel.close();
+      }
+    },
+  );
+
+  it('restores a snapshot across thread counts (one → three → two → one) and ends as one thread', async () => {
+    const cuts = [2300, 4700, 6100];
+    const first = new Bagging(schema, SPEC, 'life');
+    const t: number[] = [];
+    single(first, 0, cuts[0]!, t);
+    const three = await ParallelBagging.restore(JSON.parse(JSON.stringify(first.snapshot())), 3);
+    let saved: EnsembleSnapshot;
+    try {
+      await threaded(three, cuts[0]!, cuts[1]!, t, []);
+      saved = JSON.parse(JSON.stringify(await three.snapshot()));
+    } finally {
+      await three.close();
+    }
+    const two = await ParallelBagging.restore(saved, 2);
+    try {
+      await threaded(two, cuts[1]!, cuts[2]!, t, []);
+      saved = JSON.parse(JSON.stringify(await two.snapshot()));
+    } finally {
+      await two.close();
+    }
+    const last = Bagging.restore(saved);
+    single(last, cuts[2]!, ROWS, t);
+    expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
+    expect(JSON.stringify(last.snapshot())).toBe(snapshot);
+  });
+
+  it('keeps this thread free while the workers train: the event loop turns during a batch', async () => {
+    const parallel = await ParallelBagging.start(schema, { members: 10 }, 'loop', 2);
+    try {
+      let turns = 0;
+      let going = true;
+      const turn = (): void => {
+        turns++;
+        if (going) setImmediate(turn);
+      };
+      setImmediate(turn);
+      const out = new BatchVerdicts();
+      await parallel.scoreTrainBatch(
+        rows,
+        labels.map((l) => (Number.isNaN(l) ? 0 : l)),
+        ROWS,
+        out,
+      );
+      going = false;
+      // A thread blocked until the batch is in would have turned its loop once or not at all.
+      expect(turns).toBeGreaterThan(10);
+    } finally {
+      await parallel.close();
+    }
+  });
+});
