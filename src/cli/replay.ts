@@ -273,6 +273,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     clock,
     version: shoalVersion(),
     changes: await recordedChanges(file!, format),
+    lateLabels: timing.kind !== 'inline',
   };
   const resumed =
     checkpoints !== null && text(parsed, 'resume') !== undefined

@@ -214,6 +214,7 @@ export class ServeModels {
         },
         clock: liveClock({ monotonic: () => performance.now(), wall: () => Date.now() }),
         version: this.version,
+        lateLabels: this.settings.labels !== null,
       };
       state = {
         decoder,

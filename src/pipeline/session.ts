@@ -48,6 +48,12 @@ export interface SessionOptions {
   readonly version: string;
   /** The stream's true change points, when the source records them (journaled in the run record). */
   readonly changes?: ChangePoints | null;
+  /**
+   * Whether labels can come after their events (a labels topic or file, labels held back): true by
+   * default. When false, a row whose label came with it leaves nothing behind — its id is not remembered
+   * for a later label that cannot come, which saves two map operations a row and keeps checkpoints small.
+   */
+  readonly lateLabels?: boolean;
 }
 
 /** Member drift signals the metrics surface keeps (the most recent ones). */
@@ -158,6 +164,7 @@ export class LearningSession {
     const pending = this.pending!;
     const out = this.scores.reserve(from, to - from, ensemble.classes, classes, ids, now);
     const counts = this.counts;
+    const settles = ids !== null && this.options.lateLabels !== false;
     for (let r = from; r < to; r++) {
       const offset = r * width;
       if (monitor !== null) {
@@ -173,7 +180,7 @@ export class LearningSession {
         }
       } else {
         ensemble.scoreTrain(values, offset, label, verdict);
-        if (ids !== null && pending.settled(ids[r]!) === GONE_EVICTED) counts.evictedPredictions++;
+        if (settles && pending.settled(ids![r]!) === GONE_EVICTED) counts.evictedPredictions++;
         counts.inline++;
         counts.trained++;
         this.judge(
