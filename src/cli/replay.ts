@@ -280,6 +280,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     version: shoalVersion(),
     changes: await recordedChanges(file!, format),
     workers: onThreads,
+    lateLabels: timing.kind !== 'inline',
   };
   const resumed =
     checkpoints !== null && text(parsed, 'resume') !== undefined

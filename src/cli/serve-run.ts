@@ -221,6 +221,7 @@ export class ServeModels {
         clock: liveClock({ monotonic: () => performance.now(), wall: () => Date.now() }),
         version: this.version,
         workers: onThreads,
+        lateLabels: this.settings.labels !== null,
       };
       state = {
         decoder,

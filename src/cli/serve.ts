@@ -542,7 +542,7 @@ function exitSoon(code: number): void {
  * when it is the default one, or when labels come on the labels topic (`kafka.labels`); a label column
  * named otherwise must exist.
  */
-function eventOptions(config: RunConfig, settings: KafkaSettings): FrameOptions {
+export function eventOptions(config: RunConfig, settings: KafkaSettings): FrameOptions {
   const { label, ...rest } = frameOptions(config);
   if (label === DEFAULT_LABEL || label === undefined) return rest;
   return settings.labels === null ? { label, ...rest } : { label, labelOptional: true, ...rest };

@@ -81,7 +81,11 @@ export function naiveBayesInto(
   out: Float64Array,
   outOffset: number,
 ): number {
-  if (leaves.c === 2) return naiveBayesBinary(leaves, leaf, head, slot, row, offset, out, outOffset);
+  if (leaves.c === 2) {
+    return leaves.allNumeric
+      ? naiveBayesNumericBinary(leaves, leaf, head, slot, row, offset, out, outOffset)
+      : naiveBayesBinary(leaves, leaf, head, slot, row, offset, out, outOffset);
+  }
   const c = leaves.c;
   const heads = leaves.heads;
   const stats = leaves.stats;
@@ -212,6 +216,70 @@ function naiveBayesBinary(
     }
     nom += (v + 1) * 2;
   }
+  return binaryPosterior(leaves, leaf, head, slot, row, offset, n0, n1, p0, p1, s0, s1, out, outOffset);
+}
+
+/**
+ * `naiveBayesBinary` for a leaf whose plan is every feature, all numeric, in order (`allNumeric`):
+ * attribute j of the slot is feature j of the row, so the loop reads no plan and has no nominal part.
+ */
+function naiveBayesNumericBinary(
+  leaves: TreeLeaves,
+  leaf: number,
+  head: number,
+  slot: number,
+  row: Float64Array,
+  offset: number,
+  out: Float64Array,
+  outOffset: number,
+): number {
+  const stats = leaves.stats;
+  const n0 = leaves.heads[head + HEAD]!;
+  const n1 = leaves.heads[head + HEAD + 1]!;
+  let s0 = 0;
+  let s1 = 0;
+  let p0 = n0 * n0;
+  let p1 = n1 * n1;
+  const end = offset + leaves.numericCap;
+  for (let i = offset, pred = slot * leaves.slotSize; i < end; i++, pred += 2 * PRED) {
+    const x = row[i]!;
+    if (Number.isNaN(x)) continue;
+    const iv0 = stats[pred + P_INV_VAR]!;
+    if (iv0 > 0) {
+      const d = x - stats[pred + P_MEAN]!;
+      s0 += d * d * iv0;
+      p0 *= iv0;
+    }
+    const iv1 = stats[pred + PRED + P_INV_VAR]!;
+    if (iv1 > 0) {
+      const d = x - stats[pred + PRED + P_MEAN]!;
+      s1 += d * d * iv1;
+      p1 *= iv1;
+    }
+  }
+  return binaryPosterior(leaves, leaf, head, slot, row, offset, n0, n1, p0, p1, s0, s1, out, outOffset);
+}
+
+/**
+ * The two-class posterior from the products and sums of `naiveBayesBinary`: P(1 | x) written to `out`
+ * beside P(0 | x); returns the class predicted.
+ */
+function binaryPosterior(
+  leaves: TreeLeaves,
+  leaf: number,
+  head: number,
+  slot: number,
+  row: Float64Array,
+  offset: number,
+  n0: number,
+  n1: number,
+  p0: number,
+  p1: number,
+  s0: number,
+  s1: number,
+  out: Float64Array,
+  outOffset: number,
+): number {
   let one: number;
   if (n0 === 0 || n1 === 0) {
     one = n0 === n1 ? 0.5 : n0 === 0 ? 1 : 0;
@@ -277,6 +345,10 @@ export function observe(
   label: number,
   weight: number,
 ): void {
+  if (leaves.allNumeric) {
+    observeNumeric(leaves, slot, row, offset, label, weight);
+    return;
+  }
   const c = leaves.c;
   const stats = leaves.stats;
   const plan = leaves.plan;
@@ -287,25 +359,7 @@ export function observe(
   let train = base + leaves.predSize + label * leaves.numericCap * TRAIN;
   for (let j = 0; j < numeric; j++, pred += PRED * c, train += TRAIN) {
     const x = row[offset + plan[p + j]!]!;
-    if (Number.isNaN(x)) continue;
-    const before = stats[train + T_W]!;
-    const total = before + weight;
-    const mean = stats[pred + P_MEAN]!;
-    const delta = x - mean;
-    const next = mean + (weight / total) * delta;
-    const m2 = stats[train + T_M2]! + weight * delta * (x - next);
-    stats[train + T_W] = total;
-    stats[train + T_M2] = m2;
-    stats[pred + P_MEAN] = next;
-    stats[pred + P_INV_VAR] = m2 > MIN_VARIANCE * total ? total / m2 : 1 / MIN_VARIANCE;
-    if (before === 0) {
-      stats[train + T_MIN] = x;
-      stats[train + T_MAX] = x;
-    } else if (x < stats[train + T_MIN]!) {
-      stats[train + T_MIN] = x;
-    } else if (x > stats[train + T_MAX]!) {
-      stats[train + T_MAX] = x;
-    }
+    if (!Number.isNaN(x)) welford(stats, pred, train, x, weight);
   }
   const cardinality = leaves.cardinalities;
   let nom = base + leaves.numericSize;
@@ -318,5 +372,56 @@ export function observe(
       stats[nom + v * c + label]! += weight;
     }
     nom += (v + 1) * c;
+  }
+}
+
+/**
+ * `observe` for a leaf whose plan is every feature, all numeric, in order (`allNumeric`): West's weighted
+ * Welford update (CACM 1979) of the label's mean, M2 and 1/variance, and its range, feature by feature.
+ */
+function observeNumeric(
+  leaves: TreeLeaves,
+  slot: number,
+  row: Float64Array,
+  offset: number,
+  label: number,
+  weight: number,
+): void {
+  const c = leaves.c;
+  const stats = leaves.stats;
+  const base = slot * leaves.slotSize;
+  const end = offset + leaves.numericCap;
+  for (
+    let i = offset,
+      pred = base + label * PRED,
+      train = base + leaves.predSize + label * leaves.numericCap * TRAIN;
+    i < end;
+    i++, pred += PRED * c, train += TRAIN
+  ) {
+    const x = row[i]!;
+    if (Number.isNaN(x)) continue;
+    welford(stats, pred, train, x, weight);
+  }
+}
+
+/** One weighted Welford step of the statistics at `pred` (mean, 1/variance) and `train` (weight, M2, range). */
+function welford(stats: Float64Array, pred: number, train: number, x: number, weight: number): void {
+  const before = stats[train + T_W]!;
+  const total = before + weight;
+  const mean = stats[pred + P_MEAN]!;
+  const delta = x - mean;
+  const next = mean + (weight / total) * delta;
+  const m2 = stats[train + T_M2]! + weight * delta * (x - next);
+  stats[train + T_W] = total;
+  stats[train + T_M2] = m2;
+  stats[pred + P_MEAN] = next;
+  stats[pred + P_INV_VAR] = m2 > MIN_VARIANCE * total ? total / m2 : 1 / MIN_VARIANCE;
+  if (before === 0) {
+    stats[train + T_MIN] = x;
+    stats[train + T_MAX] = x;
+  } else if (x < stats[train + T_MIN]!) {
+    stats[train + T_MIN] = x;
+  } else if (x > stats[train + T_MAX]!) {
+    stats[train + T_MAX] = x;
   }
 }

@@ -73,6 +73,11 @@ export class TreeLeaves {
   numericSize = 0;
   /** Room in a slot for this many numeric attributes. */
   readonly numericCap: number;
+  /**
+   * Every feature numeric and considered by every leaf: each plan is 0 … width − 1, so the leaf models
+   * take their numeric-only loops, which read feature j of the row for attribute j of the slot.
+   */
+  readonly allNumeric: boolean;
   /** Features a leaf considers. */
   readonly perLeaf: number;
   /** Each leaf's plan (see the class comment) at `leaf × planStride`: 0 when all leaves share one. */
@@ -90,6 +95,8 @@ export class TreeLeaves {
   private rng: Rng;
   private slotCapacity = 0;
   private freeSlots = new Int32Array(16);
+  /** Each leaf's promise, scratch of `enforceCap`. */
+  private promises = new Float64Array(0);
   private freeCount = 0;
 
   constructor(nominal: Uint8Array, cardinality: Int32Array, featureSubset: number, seed: Seed) {
@@ -110,6 +117,7 @@ export class TreeLeaves {
     this.rng = new Rng(seed);
     const numericFeatures = this.width - nominal.reduce((a, b) => a + b, 0);
     this.numericCap = Math.min(this.perLeaf, numericFeatures);
+    this.allNumeric = this.subsets === null && numericFeatures === this.width;
     this.layOut(1);
   }
 
@@ -204,7 +212,9 @@ export class TreeLeaves {
    * leaves one by one instead of sorting them all.
    */
   enforceCap(cap: number, fixedBytes: number): void {
-    const promise = Float64Array.from({ length: this.count }, (_, l) => this.promise(l));
+    if (this.promises.length < this.count) this.promises = new Float64Array(this.slotOf.length);
+    const promise = this.promises;
+    for (let leaf = 0; leaf < this.count; leaf++) promise[leaf] = this.promise(leaf);
     while (fixedBytes + this.sizeBytes() > cap) {
       const leaf = this.extremeLeaf(promise, true, -1);
       if (leaf < 0) break;

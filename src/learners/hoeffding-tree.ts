@@ -129,8 +129,12 @@ export type LeafModel = HoeffdingTreeOptions['leafModel'];
 export const HOEFFDING_TREE_DEFAULTS: HoeffdingTreeOptions = defaultsOf(HOEFFDING_TREE_OPTIONS);
 
 const KIND = 'hoeffding-tree';
-/** Version 5: nodes are 16-byte records with a missing-value branch and no weight (version 4 counted one). */
-const VERSION = 5;
+/**
+ * Version 6 keeps the weight trained since the memory cap was last checked (version 5 dropped it, so a
+ * restored tree checked its cap at other rows than the original); version 5 made nodes 16-byte records
+ * with a missing-value branch and no weight (version 4 counted one).
+ */
+const VERSION = 6;
 
 const PREDICT_MAJORITY = 0;
 const PREDICT_NB = 1;
@@ -152,6 +156,7 @@ function validate(options: Partial<HoeffdingTreeOptions>, width: number): Hoeffd
 
 interface TreeState extends NodesState, LeavesState {
   readonly classes: number;
+  readonly sinceMemoryCheck: number;
 }
 
 export class HoeffdingTree implements Classifier {
@@ -169,8 +174,6 @@ export class HoeffdingTree implements Classifier {
   private sinceMemoryCheck = 0;
   /** Splits made so far: a forest that copied the nodes compares it to know when to copy them again. */
   private splits = 0;
-  private lastMajority = -1;
-  private lastNb = -1;
 
   constructor(schema: FeatureSchema, options: Partial<HoeffdingTreeOptions> = {}, seed: Seed = 0) {
     this.schema = checkSchema(KIND, schema);
@@ -218,7 +221,7 @@ export class HoeffdingTree implements Classifier {
     checkRow(KIND, row, offset, this.width);
     checkOut(KIND, out, outOffset, this.leaves.c);
     const node = this.nodes.route(row, offset, this.leaves.cardinalities);
-    return this.predictAt(this.nodes.leafOf[node]!, row, offset, out, outOffset, false);
+    return this.predictAt(this.nodes.leafOf[node]!, row, offset, out, outOffset);
   }
 
   train(row: Float64Array, offset: number, label: number, weight: number): void {
@@ -228,7 +231,11 @@ export class HoeffdingTree implements Classifier {
     if (weight === 0) return;
     if (label >= this.leaves.c) this.ensureClasses(label + 1);
     const node = this.nodes.route(row, offset, this.leaves.cardinalities);
-    this.learnAt(node, row, offset, label, weight, -1, -1);
+    const leaf = this.nodes.leafOf[node]!;
+    // The adaptive leaf keeps score of both of its models, so it answers the row before it learns it.
+    if (this.mode === PREDICT_ADAPTIVE && this.leaves.slotOf[leaf]! >= 0)
+      this.scoreTrainAt(node, row, offset, label, weight, this.probe, 0);
+    else this.learnAt(node, leaf, row, offset, label, weight, -1, -1);
   }
 
   scoreTrain(
@@ -260,13 +267,33 @@ export class HoeffdingTree implements Classifier {
     out: Float64Array,
     outOffset: number,
   ): number {
-    const predicted = this.predictAt(this.nodes.leafOf[node]!, row, offset, out, outOffset, weight > 0);
-    if (weight > 0) {
-      const majority = this.lastMajority;
-      const nb = this.lastNb;
-      if (label >= this.leaves.c) this.ensureClasses(label + 1);
-      this.learnAt(node, row, offset, label, weight, majority, nb);
+    const leaves = this.leaves;
+    const leaf = this.nodes.leafOf[node]!;
+    if (!(weight > 0)) return this.predictAt(leaf, row, offset, out, outOffset);
+    // The prediction, and the answers of both leaf models that the adaptive leaf's score needs.
+    const head = leaf * leaves.headSize;
+    const slot = leaves.slotOf[leaf]!;
+    const mode = this.mode;
+    let predicted: number;
+    let majority = -1;
+    let nb = -1;
+    if (mode === PREDICT_MAJORITY || slot < 0) {
+      majority = majorityInto(leaves, head, out, outOffset);
+      predicted = majority;
+    } else if (
+      mode === PREDICT_NB ||
+      leaves.heads[head + H_NB_CORRECT]! > leaves.heads[head + H_MC_CORRECT]!
+    ) {
+      nb = naiveBayesInto(leaves, this.naiveBayes, leaf, head, slot, row, offset, out, outOffset);
+      if (mode === PREDICT_ADAPTIVE) majority = majorityClass(leaves, head);
+      predicted = nb;
+    } else {
+      majority = majorityInto(leaves, head, out, outOffset);
+      nb = naiveBayesInto(leaves, this.naiveBayes, leaf, head, slot, row, offset, this.probe, 0);
+      predicted = majority;
     }
+    if (label >= leaves.c) this.ensureClasses(label + 1);
+    this.learnAt(node, leaf, row, offset, label, weight, majority, nb);
     return predicted;
   }
 
@@ -279,13 +306,9 @@ export class HoeffdingTree implements Classifier {
     return this.splits;
   }
 
-  /** Nodes, and the depth of the deepest leaf: what a forest walk needs to hold and walk this tree. */
+  /** Nodes: the room a forest walk needs to hold this tree. */
   get nodeCount(): number {
     return this.nodes.count;
-  }
-
-  get depthReached(): number {
-    return this.nodes.maxDepth();
   }
 
   /** Copy the nodes into a forest arena at node `base` (see `TreeNodes.copyInto`); false if a split is nominal. */
@@ -298,12 +321,13 @@ export class HoeffdingTree implements Classifier {
    * caller checked the row, and `out` has room for every member's classes.
    */
   scoreAt(node: number, row: Float64Array, offset: number, out: Float64Array, outOffset: number): number {
-    return this.predictAt(this.nodes.leafOf[node]!, row, offset, out, outOffset, false);
+    return this.predictAt(this.nodes.leafOf[node]!, row, offset, out, outOffset);
   }
 
   snapshot(): LearnerSnapshot {
     const state: TreeState = {
       classes: this.leaves.c,
+      sinceMemoryCheck: this.sinceMemoryCheck,
       ...this.nodes.snapshot(),
       ...this.leaves.snapshot(),
     };
@@ -317,51 +341,38 @@ export class HoeffdingTree implements Classifier {
     tree.ensureClasses(s.classes);
     tree.nodes.restore(s, KIND);
     tree.leaves.restore(s, KIND);
+    tree.sinceMemoryCheck = s.sinceMemoryCheck;
     return tree;
   }
 
-  /**
-   * Predict at a leaf. With `bookkeeping`, also remember the majority and naive-Bayes answers, which
-   * training needs to keep the adaptive leaf's score of both.
-   */
+  /** Predict at a leaf into `out`; returns the class predicted. */
   private predictAt(
     leaf: number,
     row: Float64Array,
     offset: number,
     out: Float64Array,
     outOffset: number,
-    bookkeeping: boolean,
   ): number {
     const leaves = this.leaves;
     const head = leaf * leaves.headSize;
     const slot = leaves.slotOf[leaf]!;
-    if (this.mode === PREDICT_MAJORITY || slot < 0) {
-      this.lastNb = -1;
-      this.lastMajority = majorityInto(leaves, head, out, outOffset);
-      return this.lastMajority;
-    }
     const heads = leaves.heads;
-    if (this.mode === PREDICT_NB || heads[head + H_NB_CORRECT]! > heads[head + H_MC_CORRECT]!) {
-      const nb = naiveBayesInto(leaves, this.naiveBayes, leaf, head, slot, row, offset, out, outOffset);
-      this.lastNb = nb;
-      if (bookkeeping) this.lastMajority = majorityClass(leaves, head);
-      return nb;
-    }
-    const majority = majorityInto(leaves, head, out, outOffset);
-    this.lastMajority = majority;
-    // Adaptive with the majority chosen: training still needs the naive-Bayes answer to keep score.
-    this.lastNb = bookkeeping
-      ? naiveBayesInto(leaves, this.naiveBayes, leaf, head, slot, row, offset, this.probe, 0)
-      : -1;
-    return majority;
+    if (
+      this.mode === PREDICT_MAJORITY ||
+      slot < 0 ||
+      (this.mode === PREDICT_ADAPTIVE && !(heads[head + H_NB_CORRECT]! > heads[head + H_MC_CORRECT]!))
+    )
+      return majorityInto(leaves, head, out, outOffset);
+    return naiveBayesInto(leaves, this.naiveBayes, leaf, head, slot, row, offset, out, outOffset);
   }
 
   /**
-   * Update the leaf at `node` with a labelled row. `majority` and `nb` are the answers the leaf gave
-   * when the row was scored (−1 when it was not), needed for the adaptive leaf bookkeeping.
+   * Update leaf `leaf` at node `node` with a labelled row. `majority` and `nb` are the answers the leaf's
+   * two models gave the row before it learnt it, which the adaptive leaf's score needs (−1 otherwise).
    */
   private learnAt(
     node: number,
+    leaf: number,
     row: Float64Array,
     offset: number,
     label: number,
@@ -370,16 +381,10 @@ export class HoeffdingTree implements Classifier {
     nb: number,
   ): void {
     const leaves = this.leaves;
-    const leaf = this.nodes.leafOf[node]!;
     const head = leaf * leaves.headSize;
     const heads = leaves.heads;
     const slot = leaves.slotOf[leaf]!;
     if (this.mode === PREDICT_ADAPTIVE && slot >= 0) {
-      if (majority < 0) {
-        this.predictAt(leaf, row, offset, this.probe, 0, true);
-        majority = this.lastMajority;
-        nb = this.lastNb;
-      }
       if (majority === label) heads[head + H_MC_CORRECT]! += weight;
       if (nb === label) heads[head + H_NB_CORRECT]! += weight;
     }

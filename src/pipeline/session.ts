@@ -59,6 +59,12 @@ export interface SessionOptions {
   readonly changes?: ChangePoints | null;
   /** Puts the ensemble on worker threads when `config.threads` > 1 (the CLI passes src/parallel's). */
   readonly workers?: EnsembleThreads;
+  /**
+   * Whether labels can come after their events (a labels topic or file, labels held back): true by
+   * default. When false, a row whose label came with it leaves nothing behind — its id is not remembered
+   * for a later label that cannot come, which saves two map operations a row and keeps checkpoints small.
+   */
+  readonly lateLabels?: boolean;
 }
 
 /** Member drift signals the metrics surface keeps (the most recent ones). */
@@ -193,6 +199,7 @@ export class LearningSession {
     const pending = this.pending!;
     const out = this.scores.reserve(from, to - from, ensemble.classes, classes, ids, now);
     const counts = this.counts;
+    const settles = ids !== null && this.options.lateLabels !== false;
     for (let r = from; r < to; r++) {
       const offset = r * width;
       if (monitor !== null) {
@@ -210,7 +217,7 @@ export class LearningSession {
       } else {
         if (this.step >= 0) this.replay(verdict);
         else (ensemble as SessionModel).scoreTrain(values, offset, label, verdict);
-        if (ids !== null && pending.settled(ids[r]!) === GONE_EVICTED) counts.evictedPredictions++;
+        if (settles && pending.settled(ids![r]!) === GONE_EVICTED) counts.evictedPredictions++;
         counts.inline++;
         counts.trained++;
         this.judge(

@@ -7,6 +7,8 @@ import { type BenchSection, machine } from './harness.js';
 import { bench as learners } from './learners.js';
 import { bench as memory } from './memory.js';
 import { bench as parallel } from './parallel.js';
+import { bench as restore } from './restore.js';
+import { bench as serve } from './serve.js';
 
 /**
  * `npm run bench [-- --quick] [-- --json]`: every benchmark section, printed as tables, or as one JSON
@@ -16,7 +18,7 @@ import { bench as parallel } from './parallel.js';
  * compiler learnt in one section — call sites that saw several learner kinds, say — does not slow the
  * next, and one section's heap does not weigh on another's memory figures.
  */
-const SECTIONS = { learners, core, parallel, memory, drift, decode } as const;
+const SECTIONS = { learners, core, parallel, memory, drift, decode, serve, restore } as const;
 type SectionName = keyof typeof SECTIONS;
 
 const argv = process.argv.slice(2);

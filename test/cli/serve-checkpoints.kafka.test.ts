@@ -9,7 +9,7 @@ import { KafkaCheckpointStore } from '../../src/kafka/index.js';
 import type { SessionSnapshot } from '../../src/pipeline/index.js';
 import { scratch } from '../support/cli.js';
 import { createServeTopics, kafkaSection, type ServeTopics, serveTopics } from '../support/kafka-config.js';
-import { arrowMessage, type Events, seaEvents } from '../support/kafka-events.js';
+import { arrowMessage, seaEvents, shuffledLabels } from '../support/kafka-events.js';
 import { uniqueName } from '../support/kafka-names.js';
 import {
   client,
@@ -90,7 +90,7 @@ describe('serve checkpoints aligned with Kafka offsets (real broker)', () => {
             await counter.reachIds(from + ROUND, () => killed < KILLS && counter.ids.size >= kills[killed]!);
             await killIfDue();
           }
-          const labels = shuffledLabels(events, from, rng);
+          const labels = shuffledLabels(events, from, ROUND, rng, LABELS_PER_MESSAGE);
           await produce(brokers, labelsTopic, labels);
           labelMessages += labels.length;
         }
@@ -180,27 +180,6 @@ async function serveConfig(
     }),
   );
   return path;
-}
-
-/** A round's labels as NDJSON messages, in a seeded Fisher–Yates shuffle (each after its event). */
-function shuffledLabels(
-  events: Events,
-  from: number,
-  rng: Rng,
-): { value: string; headers: Record<string, string> }[] {
-  const order = Array.from({ length: ROUND }, (_, i) => from + i);
-  for (let i = order.length - 1; i > 0; i--) {
-    const j = Math.floor(rng.next() * (i + 1));
-    [order[i], order[j]] = [order[j]!, order[i]!];
-  }
-  const out = [];
-  for (let i = 0; i < ROUND; i += LABELS_PER_MESSAGE) {
-    const lines = order
-      .slice(i, i + LABELS_PER_MESSAGE)
-      .map((k) => JSON.stringify({ id: events.ids[k], label: events.labels[k] }));
-    out.push({ value: lines.join('\n'), headers: { 'content-type': 'application/x-ndjson' } });
-  }
-  return out;
 }
 
 /** Where a run keeps its checkpoints: a directory, or a compacted topic. */

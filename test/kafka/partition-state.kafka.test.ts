@@ -3,11 +3,12 @@ import { join } from 'node:path';
 import { afterEach, describe, expect, inject, it } from 'vitest';
 import { stringify } from 'yaml';
 import type { RunCheckpoint } from '../../src/checkpoint/index.js';
+import { Rng } from '../../src/core/index.js';
 import { KafkaCheckpointStore } from '../../src/kafka/index.js';
 import type { SessionSnapshot } from '../../src/pipeline/index.js';
 import { scratch } from '../support/cli.js';
 import { createServeTopics, kafkaSection, type ServeTopics, serveTopics } from '../support/kafka-config.js';
-import { arrowMessage, seaEvents } from '../support/kafka-events.js';
+import { arrowMessage, seaEvents, shuffledLabels } from '../support/kafka-events.js';
 import { uniqueName } from '../support/kafka-names.js';
 import {
   client,
@@ -100,9 +101,106 @@ describe('state that follows partitions (real broker)', () => {
       expect(pair[p]!.evaluator, `partition ${p}`).toEqual(single[p]!.evaluator);
     }
   });
+
+  it('with late labels: the survivor takes up the sessions with their pending predictions and labels offsets, and ends with the uninterrupted models', {
+    timeout: 600_000,
+  }, async () => {
+    const brokers = inject('kafkaBrokers');
+    const t = serveTopics();
+    const labelsTopic = `${t.events}-labels`;
+    const store = uniqueName('checkpoints');
+    await createServeTopics(brokers, t, PARTITIONS, { [labelsTopic]: PARTITIONS });
+    const events = seaEvents(ROWS, 59);
+    const partitionOf = (k: number): number => Math.floor(k / PER_MESSAGE) % PARTITIONS;
+    const round = 2_000;
+    const perPartition = Array.from({ length: PARTITIONS }, () => ROWS / PER_MESSAGE / PARTITIONS);
+    const labelMessages = Array.from({ length: PARTITIONS }, () => 0);
+    const dir = await scratch();
+    const config = await serveConfig(join(dir, 'pair.yaml'), brokers, t, store, labelsTopic);
+
+    const counter = await ScoreCounter.start(brokers, t.scores);
+    const first = new ServeProcess(config);
+    const second = new ServeProcess(config);
+    await waitTwoMembers(brokers, t.group);
+    const rng = new Rng(61);
+    for (let from = 0; from < ROWS; from += round) {
+      const messages = [];
+      for (let i = from; i < from + round; i += PER_MESSAGE) {
+        messages.push({ value: arrowMessage(events, i, i + PER_MESSAGE, false), partition: partitionOf(i) });
+      }
+      await produce(brokers, t.events, messages);
+      await counter.reachIds(from + round, () => false, 180_000);
+      // Killed with this round's predictions waiting for their labels (and the last ones of the round
+      // before, read after its last checkpoint, maybe not yet covered by one).
+      if (from + round === ROWS / 2) {
+        first.signal('SIGKILL');
+        await first.exited;
+      }
+      // Each label after its event, at most a round late, on its event's partition number.
+      const labels = shuffledLabels(events, from, round, rng, 100, partitionOf);
+      for (const m of labels) labelMessages[m.partition!]!++;
+      await produce(brokers, labelsTopic, labels);
+    }
+    await waitCommitted(
+      brokers,
+      t.group,
+      { [t.events]: perPartition, [labelsTopic]: labelMessages },
+      180_000,
+    );
+    await counter.stop();
+    second.signal('SIGTERM');
+    expect(await second.exited, second.stderr).toBe(0);
+    const takenUp = second.logs().filter((l) => l.msg === 'going on from the checkpoint');
+    note(
+      `late labels: survivor took up ${takenUp.length} partition sessions: ${takenUp.map((l) => String(l.scope)).join(', ')}; ${counter.rows} score rows for ${ROWS} ids`,
+    );
+    expect(takenUp.length).toBeGreaterThan(0);
+    expect(counter.ids.size).toBe(ROWS);
+
+    // One uninterrupted instance over the same events and labels: its own group (the store's pipeline).
+    const again = serveTopics();
+    await createServeTopics(brokers, again);
+    const alone = new ServeProcess(
+      await serveConfig(join(dir, 'alone.yaml'), brokers, { ...again, events: t.events }, store, labelsTopic),
+    );
+    await waitCommitted(
+      brokers,
+      again.group,
+      { [t.events]: perPartition, [labelsTopic]: labelMessages },
+      180_000,
+    );
+    alone.signal('SIGTERM');
+    expect(await alone.exited, alone.stderr).toBe(0);
+
+    const pair = await finalSessions(brokers, store, t.group, t.events);
+    const single = await finalSessions(brokers, store, again.group, t.events);
+    for (let p = 0; p < PARTITIONS; p++) {
+      const rows = ROWS / PARTITIONS;
+      for (const s of [pair[p]!, single[p]!]) {
+        expect(s.counts.scored, `partition ${p}`).toBe(rows);
+        expect(s.counts.trained, `partition ${p}`).toBe(rows);
+        expect(s.counts.joined, `partition ${p}`).toBe(rows);
+        expect(s.positions).toEqual({
+          [`${t.events}/${p}`]: String(perPartition[p]),
+          [`${labelsTopic}/${p}`]: String(labelMessages[p]),
+        });
+      }
+      // A session trains in its labels' order, whenever its events were scored: nothing lost, nothing
+      // trained twice across the kill. (The evaluations differ: the predictions served were not made
+      // at the same moments.)
+      expect(pair[p]!.ensemble, `partition ${p}`).toEqual(single[p]!.ensemble);
+      expect(pair[p]!.monitor, `partition ${p}`).toEqual(single[p]!.monitor);
+    }
+  });
 });
 
-async function serveConfig(path: string, brokers: string, t: ServeTopics, store: string): Promise<string> {
+async function serveConfig(
+  path: string,
+  brokers: string,
+  t: ServeTopics,
+  store: string,
+  labelsTopic: string | null = null,
+): Promise<string> {
   await writeFile(
     path,
     stringify({
@@ -111,6 +209,7 @@ async function serveConfig(path: string, brokers: string, t: ServeTopics, store:
         scope: 'partition',
         log: { level: 'info' },
         checkpoint: { topic: store, everyRows: 1_000, everySeconds: 1 },
+        ...(labelsTopic === null ? {} : { labels: { topic: labelsTopic } }),
       }),
     }),
   );

@@ -6,7 +6,7 @@ import { stringify } from 'yaml';
 import { Rng } from '../../src/core/index.js';
 import { scratch } from '../support/cli.js';
 import { createServeTopics, kafkaSection, type ServeTopics, serveTopics } from '../support/kafka-config.js';
-import { arrowMessage, type Events, seaEvents } from '../support/kafka-events.js';
+import { arrowMessage, type Events, seaEvents, shuffledLabels } from '../support/kafka-events.js';
 import {
   countScoreRows,
   killServes,
@@ -127,30 +127,11 @@ describe('scale-out by partition', () => {
       for (let from = 0; from < rows; from += round) {
         await produce(brokers, t.events, spread(events, from, from + round, false));
         await counter.reach(from + round);
-        // This round's labels in a seeded shuffle (Fisher–Yates), after every event of the round was
-        // scored: each arrives after its event and at most 2,000 events late. Each goes to the labels
-        // partition with its event's partition number (events go out 100 to a message, in turn).
-        const order = Array.from({ length: round }, (_, i) => from + i);
-        for (let i = order.length - 1; i > 0; i--) {
-          const j = Math.floor(rng.next() * (i + 1));
-          [order[i], order[j]] = [order[j]!, order[i]!];
-        }
-        const byPartition: number[][] = [[], [], [], []];
-        for (const k of order) byPartition[Math.floor(k / 100) % 4]!.push(k);
-        const labels: Message[] = [];
-        for (const [partition, ks] of byPartition.entries()) {
-          for (let i = 0; i < ks.length; i += 100) {
-            const lines = ks
-              .slice(i, i + 100)
-              .map((k) => JSON.stringify({ id: events.ids[k], label: events.labels[k] }));
-            labels.push({
-              value: lines.join('\n'),
-              partition,
-              headers: { 'content-type': 'application/x-ndjson' },
-            });
-            labelMessages[partition]!++;
-          }
-        }
+        // This round's labels in a seeded shuffle, after every event of the round was scored: each
+        // arrives after its event and at most 2,000 events late, on the labels partition with its event's
+        // partition number (events go out 100 to a message, in turn).
+        const labels = shuffledLabels(events, from, round, rng, 100, (k) => Math.floor(k / 100) % 4);
+        for (const m of labels) labelMessages[m.partition!]!++;
         await produce(brokers, labelsTopic, labels);
       }
       await waitCommitted(brokers, t.group, { [labelsTopic]: labelMessages });

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { decodeF64, decodeI32 } from '../../src/core/index.js';
+import { decodeF64, decodeI32, nominal, Rng } from '../../src/core/index.js';
 import { HoeffdingTree } from '../../src/learners/hoeffding-tree.js';
 import type { LearnerSnapshot } from '../../src/learners/learner.js';
-import { led, type StreamGenerator, sea, stagger } from '../../src/streams/index.js';
+import { led, rbf, type StreamGenerator, sea, stagger } from '../../src/streams/index.js';
 import { describeLearnerContract } from '../support/learner-contract.js';
 import { note } from '../support/note.js';
 
@@ -132,10 +132,76 @@ describe('hoeffding-tree mechanics', () => {
     expect(blind.shape.nodes).toBe(1);
   });
 
-  it('refuses a snapshot of the former format (version 4, a weight per node), saying which versions', () => {
+  it('answers and learns bit for bit alike through its numeric-only loops and through the general ones', () => {
+    // An all-numeric schema takes the loops without plans; the same columns plus a nominal column that is
+    // always missing take the general loops (the nominal column adds nothing to any statistic or product).
+    for (const [classes, leafModel] of [
+      [2, 'adaptive'],
+      [3, 'adaptive'],
+      [2, 'naive-bayes'],
+    ] as const) {
+      const gen = rbf({ classes, features: 6 }, 40 + classes);
+      const width = gen.schema.features.length;
+      const mixed = { features: [...gen.schema.features, nominal('never', 4)] };
+      const options = { leafModel, checkInterval: 50 } as const;
+      const numericTree = new HoeffdingTree(gen.schema, options, 1);
+      const generalTree = new HoeffdingTree(mixed, options, 1);
+      for (const tree of [numericTree, generalTree]) tree.ensureClasses(classes);
+      const row = new Float64Array(width + 1);
+      const a = new Float64Array(classes);
+      const b = new Float64Array(classes);
+      const rng = new Rng('numeric-loops');
+      let differ = 0;
+      for (let i = 0; i < 20_000; i++) {
+        const label = gen.next(row, 0);
+        if (rng.next() < 0.05) row[Math.floor(rng.next() * width)] = Number.NaN;
+        row[width] = Number.NaN;
+        const weight = Math.floor(rng.next() * 3);
+        const p = numericTree.scoreTrain(row, 0, label, weight, a, 0);
+        const q = generalTree.scoreTrain(row, 0, label, weight, b, 0);
+        if (p !== q || a.some((v, k) => v !== b[k])) differ++;
+        if (i % 5 === 0) {
+          numericTree.train(row, 0, label, 1);
+          generalTree.train(row, 0, label, 1);
+        }
+      }
+      expect(differ).toBe(0);
+      expect(numericTree.shape).toEqual(generalTree.shape);
+      expect(numericTree.shape.nodes).toBeGreaterThan(5);
+    }
+  });
+
+  it('refuses snapshots of former formats (version 5 without the memory-cap clock, version 4 with a weight per node), saying which versions', () => {
     const tree = new HoeffdingTree(sea().schema, {}, 1);
-    const old = { ...tree.snapshot(), version: 4 };
-    expect(() => HoeffdingTree.restore(old)).toThrow(/format version 4; this build reads version 5/);
+    for (const version of [4, 5]) {
+      const old = { ...tree.snapshot(), version };
+      expect(() => HoeffdingTree.restore(old)).toThrow(
+        new RegExp(`format version ${version}; this build reads version 6`),
+      );
+    }
+  });
+
+  it('continues bit for bit after a snapshot round trip while the memory cap deactivates leaves', () => {
+    const gen = sea({ noise: 0.1 }, 33);
+    const width = gen.schema.features.length;
+    const options = { byteLimit: 6 * 1024, checkInterval: 50 } as const;
+    const original = new HoeffdingTree(gen.schema, options, 1);
+    original.ensureClasses(2);
+    const row = new Float64Array(width);
+    const out = new Float64Array(2);
+    const mine = new Float64Array(2);
+    // 2,030 rows: the cap is checked every 500 units of weight, so the clock stands between two checks.
+    for (let i = 0; i < 2030; i++) original.scoreTrain(row, 0, gen.next(row, 0), 1, out, 0);
+    const copy = HoeffdingTree.restore(JSON.parse(JSON.stringify(original.snapshot())));
+    let differ = 0;
+    for (let i = 0; i < 30_000; i++) {
+      const label = gen.next(row, 0);
+      const p = original.scoreTrain(row, 0, label, 1 + (i % 3), out, 0);
+      if (copy.scoreTrain(row, 0, label, 1 + (i % 3), mine, 0) !== p || out[1] !== mine[1]) differ++;
+    }
+    expect(original.shape.activeLeaves).toBeLessThan(original.shape.leaves);
+    expect(differ).toBe(0);
+    expect(copy.snapshot()).toEqual(original.snapshot());
   });
 
   it('refuses bad options, naming the parameter', () => {
