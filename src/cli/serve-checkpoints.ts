@@ -4,7 +4,12 @@ import { ShoalError } from '../core/index.js';
 import { FileCheckpointStore } from '../files/index.js';
 import type { FrameDecoderSnapshot } from '../frames/index.js';
 import type { KafkaCheckpointStore, KafkaSettings, TopicOutputs } from '../kafka/index.js';
-import type { RunConfig, SessionSnapshot, StoredCheckpoint } from '../pipeline/index.js';
+import {
+  modelConfig,
+  type RunConfig,
+  type SessionSnapshot,
+  type StoredCheckpoint,
+} from '../pipeline/index.js';
 import type { ServeModels } from './serve-run.js';
 
 /** Whether the service writes checkpoints (`kafka.checkpoint.dir` or `kafka.checkpoint.topic`). */
@@ -71,7 +76,7 @@ export class ServeCheckpoints {
     /** The Kafka store when `kafka.checkpoint.topic` is set, else null (files under `dir`). */
     private readonly kafkaStore: KafkaCheckpointStore | null,
   ) {
-    this.fingerprint = configFingerprint(config);
+    this.fingerprint = configFingerprint(modelConfig(config));
     this.origin = {
       source: 'kafka',
       events: [...settings.events.topics],
@@ -157,7 +162,7 @@ export class ServeCheckpoints {
     const stored: (() => void)[] = [];
     const keys = all ? models.keys() : [...this.dirty];
     for (const key of keys) {
-      const parts = models.parts(key);
+      const parts = await models.parts(key);
       if (parts === null) continue;
       const checkpoint = this.envelope(parts, now);
       if (transaction !== null && this.kafkaStore !== null) {
