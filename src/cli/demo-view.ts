@@ -1,5 +1,5 @@
 import type { SeatView } from '../ensembles/index.js';
-import type { JournalRecord } from '../journal/index.js';
+import { isDriftSignal, type JournalRecord, LIFECYCLE_CAUSES } from '../journal/index.js';
 import type { SessionMetrics } from '../pipeline/index.js';
 import { count, figure, type Terminal } from './terminal.js';
 
@@ -9,6 +9,8 @@ const EVENTS = 8;
 const SPARKS = '▁▂▃▄▅▆▇█';
 /** Points of the accuracy history shown (one per window record, the newest last). */
 const HISTORY = 60;
+/** The causes counted as drift signals: the same set as the run's summary counts. */
+const SIGNALS = LIFECYCLE_CAUSES.filter(isDriftSignal);
 
 /** What the view shows about the run besides the session's metrics. */
 export interface ViewState {
@@ -128,7 +130,7 @@ export class DemoView {
       '',
       `${bar}legs ${count(state.produced)}${of}   ${count(state.produced / seconds)} rows/s   scenario ${scenarioClock(state.scenarioTime)}`,
       `accuracy ${figure(metrics.windowAccuracy, 3)}  kappa ${figure(metrics.windowKappa, 3)}  (last ${count(this.window)} judged)   ${sparkline(this.history)}`,
-      `inspections joined ${count(labels.joined)}   still out ${count(state.labelsOut)}   drift signals ${count(sum(metrics.lifecycleCounts(), ['drift', 'drift-on-trial', 'drift-deferred']))}   replacements ${count(metrics.epoch)}`,
+      `inspections joined ${count(labels.joined)}   still out ${count(state.labelsOut)}   drift signals ${count(sum(metrics.lifecycleCounts(), SIGNALS))}   replacements ${count(metrics.epoch)}`,
       '',
       ...seatLines(metrics.seats(), width),
       '',

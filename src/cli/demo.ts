@@ -40,8 +40,8 @@ Run the invented refrigerated-freight scenario in-process through the live code 
 is scored at the arrival gate for the risk that its load is rejected at inspection; the inspection
 result arrives 2–8 hours later (scenario time) and is joined by leg id to the prediction served for it;
 the ensemble learns from it, its members' drift monitors watch, and drifting members are replaced.
-The script: a stricter seafood rule, a slow heat wave, a sensor firmware update that reads 5–9 °C low,
-a new carrier. Writes the run's journal, a checkpoint and an HTML report, and prints their paths.
+The script: a stricter seafood rule, a slow heat wave, a sensor firmware update that reads 3–4 °C high
+(the reefers hold their boxes that much colder), a new carrier that takes the cold-store pickups. Writes the run's journal, a checkpoint and an HTML report, and prints their paths.
 No broker is needed.
 
 Options:

@@ -23,18 +23,26 @@ import {
  *   leg hours; ambient temperature (a base, the heat wave, noise);
  * - door openings (Poisson, the carrier's rate per hour) and minutes open; compressor duty, which rises
  *   with ambient heat and open doors and saturates;
- * - the air's true excess over the setpoint (from ambient heat once the compressor is near saturation,
- *   open doors, noise), the box sensor's mean and max and the minutes above setpoint as the sensor
- *   reports them (its firmware may offset every reading);
+ * - the air's excess over the setpoint as the box sensor reads it (from ambient heat once the compressor
+ *   is near saturation, open doors, noise), the sensor's mean and max and the minutes above setpoint;
+ *   the air's true excess is that reading less the sensor's bias, which the reefer's controller, holding
+ *   the reading at the setpoint, turns into colder air (no bias before the firmware update);
  * - the inspector's core-temperature probe: the setpoint, the load's own warmth at loading (a carrier
- *   trait the sensors never see), the air excess soaked in over the leg, and probe noise; the load is
- *   rejected when the probe is more than the class's limit above the setpoint.
+ *   trait the sensors never see), the air's true excess soaked in over the leg, and probe noise; the
+ *   load is rejected when the probe is more than the class's limit above the setpoint.
  *
  * The script, at fixed shares of the scenario's `length` (rows; `SCRIPT` below):
  * - `seafood-rule` (abrupt): the seafood limit drops from 2.5 °C to 0.5 °C above setpoint;
  * - `heat-wave` (gradual): ambient temperature rises by up to 9 °C, holds, and falls back;
- * - `firmware` (abrupt): every sensor moves to firmware thermo-ox 3.0, which reads 3–7 °C low, differently on every trailer;
- * - `new-carrier` (abrupt): Brisk Badger Logistics takes half of the legs; its loads leave warm.
+ * - `firmware` (abrupt): every sensor moves to firmware thermo-ox 3.0, which reads 3–4 °C high, differently
+ *   on every trailer; each controller holds its box that much colder, so the readings look as before
+ *   while fewer loads are rejected — the trees' splits on the readings now overstate the risk;
+ * - `new-carrier` (abrupt): Brisk Badger Logistics takes half of the legs — the cold-store pickups, whose
+ *   loads leave pre-chilled, on multi-drop runs that open the doors often — and the other carriers are
+ *   left with the market pickups, whose loads leave 2.5 °C warmer than theirs did: many door openings
+ *   now go with accepted loads, and the old carriers' legs are rejected at readings that passed before.
+ * Both invalidate what the trees learnt in dense regions of the inputs (the same readings, a different
+ * outcome), so an understudy grown after the change proves better than the member (see the demo test).
  * After `length` rows the world stays as the script left it.
  */
 
@@ -106,13 +114,13 @@ export const SCRIPT: readonly ScriptedDrift[] = [
     name: 'firmware',
     kind: 'abrupt',
     at: 0.6,
-    what: 'sensor firmware thermo-ox 3.0 on every trailer: box readings 3–7 °C low (a calibration bug)',
+    what: 'sensor firmware thermo-ox 3.0 on every trailer reads 3–4 °C high: the reefers hold their boxes that much colder',
   },
   {
     name: 'new-carrier',
     kind: 'abrupt',
     at: 0.8,
-    what: 'a new carrier, Brisk Badger Logistics, takes half of the legs; its loads leave warm',
+    what: 'a new carrier, Brisk Badger Logistics, takes the cold-store pickups (half of the legs); the others are left with the warm market pickups',
   },
 ];
 
@@ -149,9 +157,12 @@ const NEW_CARRIER_SHARE = 0.5;
 /** Door openings per hour on the road, per carrier. */
 const DOOR_RATE = [0.15, 0.25, 0.35, 0.2, 0.6];
 /** How warm the load is when it leaves (°C above setpoint): unseen by the sensors. */
-const LOAD_WARMTH = [0.8, 1.1, 1.5, 1.0, -1.5];
+const LOAD_WARMTH = [0.8, 1.1, 1.5, 1.0, -2];
+/** Extra warmth of the other carriers' loads once the new carrier has taken the cold-store pickups. */
+const MARKET_WARMTH = 2.5;
 const HEAT_PEAK = 9;
-const FIRMWARE_OFFSET = -5;
+/** thermo-ox 3.0 reads high by FIRMWARE_BIAS to FIRMWARE_BIAS + 1 °C, differently on every trailer. */
+const FIRMWARE_BIAS = 3;
 const SEAFOOD = 4;
 const NEW_CARRIER = 4;
 
@@ -249,10 +260,8 @@ export class FreightScenario {
     leg.id = `${SITE_CODES[site]}-${String(index).padStart(6, '0')}`;
 
     const product = pick(rng, SHARES_PRODUCT);
-    const carrier =
-      this.begun('new-carrier', index) && rng.next() < NEW_CARRIER_SHARE
-        ? NEW_CARRIER
-        : pick(rng, SHARES_CARRIER);
+    const newCarrier = this.begun('new-carrier', index);
+    const carrier = newCarrier && rng.next() < NEW_CARRIER_SHARE ? NEW_CARRIER : pick(rng, SHARES_CARRIER);
     const setpoint = SETPOINT[product]!;
     const hours = Math.min(36, 1 + -Math.log(1 - rng.next()) * 8);
     const ambient = 17 + this.heatAt(index) + 4 * rng.normal();
@@ -262,17 +271,20 @@ export class FreightScenario {
     const frozen = setpoint < -10 ? 0.15 : 0;
     const demand = 0.35 + 0.025 * (ambient - 15) + 0.01 * openMinutes + frozen + 0.06 * rng.normal();
     const duty = Math.min(1, Math.max(0.05, demand));
-    // Air excess over the setpoint: heat the compressor could not take away once saturated, doors, noise.
+    // Air excess over the setpoint as the sensor reads it: heat the compressor could not take away once
+    // saturated, doors, noise.
     const excess =
       Math.max(0, demand - 0.9) * 6 +
       0.06 * Math.max(0, ambient - 15) +
       0.08 * openMinutes +
       0.9 * Math.abs(rng.normal());
-    // The new firmware's calibration bug: readings low by 3–7 °C, differently on every trailer.
-    const sensorOffset = this.begun('firmware', index) ? FIRMWARE_OFFSET + 4 * (rng.next() - 0.5) : 0;
-    const mean = setpoint + excess + sensorOffset;
+    // The new firmware's calibration bug: readings 3–4 °C high, differently on every trailer. The
+    // controller holds the reading at the setpoint, so the air is that much colder and reads as before.
+    const bias = this.begun('firmware', index) ? FIRMWARE_BIAS + rng.next() : 0;
+    const air = excess - bias;
+    const mean = setpoint + excess;
     const max = mean + 1 + 0.4 * openings + 1.2 * Math.abs(rng.normal());
-    const shareAbove = Math.min(1, Math.max(0, (excess + sensorOffset) / 3 + 0.08 * rng.normal()));
+    const shareAbove = Math.min(1, Math.max(0, excess / 3 + 0.08 * rng.normal()));
 
     row[offset] = mean;
     row[offset + 1] = max;
@@ -285,11 +297,12 @@ export class FreightScenario {
     row[offset + 8] = setpoint;
     row[offset + 9] = product;
     row[offset + 10] = carrier;
-    row[offset + 11] = sensorOffset === 0 ? 0 : 1;
+    row[offset + 11] = bias === 0 ? 0 : 1;
 
-    // The inspector's probe: the load's own warmth, the air excess soaked in over the leg, probe noise.
+    // The inspector's probe: the load's own warmth, the air's true excess soaked in over the leg, probe noise.
     const soak = 1 - Math.exp(-hours / 6);
-    const core = LOAD_WARMTH[carrier]! + excess * (0.4 + 0.6 * soak) + 0.4 * rng.normal();
+    const warmth = LOAD_WARMTH[carrier]! + (newCarrier && carrier !== NEW_CARRIER ? MARKET_WARMTH : 0);
+    const core = warmth + air * (0.4 + 0.6 * soak) + 0.4 * rng.normal();
     const limit = product === SEAFOOD && this.begun('seafood-rule', index) ? SEAFOOD_STRICT : LIMIT[product]!;
     return core > limit ? 1 : 0;
   }

@@ -1,0 +1,42 @@
+import { describe, expect, it } from 'vitest';
+import { main } from '../../src/cli/main.js';
+import type { Terminal } from '../../src/cli/terminal.js';
+import { scratch } from '../support/cli.js';
+
+/**
+ * The demo's terminal view (an interactive terminal, redrawn in place): its last frame agrees with the
+ * summary printed after it, so a user reading both sees one count of drift signals and replacements.
+ */
+describe('shoal demo on an interactive terminal', () => {
+  it('draws the view in place and its last frame counts what the summary counts', async () => {
+    let out = '';
+    let err = '';
+    const terminal: Terminal = {
+      out: (t) => {
+        out += t;
+      },
+      err: (t) => {
+        err += t;
+      },
+      interactive: true,
+      columns: 130,
+      now: () => performance.now(),
+    };
+    const dir = await scratch();
+    expect(await main(['demo', '--rows', '20000', '--out', dir], terminal)).toBe(0);
+    // Redrawn in place: the cursor climbs back over the previous frame.
+    expect(err).toMatch(/\x1b\[\d+F/);
+    // No line of the view is wider than the terminal (a wrapped line would break the redraw).
+    const drawn = err.split('\n').filter((l) => l.includes('\x1b[2K'));
+    expect(drawn.length).toBeGreaterThan(0);
+    for (const line of drawn)
+      expect(line.replace(/\x1b\[[0-9;]*[A-Za-z]/g, '').length).toBeLessThanOrEqual(130);
+    const frames = [...err.matchAll(/drift signals (\d[\d,]*) {3}replacements (\d[\d,]*)/g)];
+    const last = frames.at(-1)!;
+    const summary = (name: string) => new RegExp(`^ {2}${name} +(\\d[\\d,]*)$`, 'm').exec(out)?.[1];
+    expect(summary('drift signals')).toBeDefined();
+    expect(last[1]).toBe(summary('drift signals'));
+    expect(last[2]).toBe(summary('replacements'));
+    expect(Number(last[1]!.replace(/,/g, ''))).toBeGreaterThan(0);
+  });
+});
