@@ -57,6 +57,7 @@ export type {
   VoteKind,
 } from './ensembles/index.js';
 export {
+  BatchVerdicts,
   createEnsemble,
   ENSEMBLE_KINDS,
   RegressionBagging,
@@ -101,6 +102,7 @@ export {
   restoreClassifier,
   restoreRegressor,
 } from './learners/index.js';
+export { ParallelBagging } from './parallel/index.js';
 export type {
   Clock,
   JournalSink,

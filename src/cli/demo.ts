@@ -6,7 +6,7 @@ import { configFingerprint, runCheckpoint } from '../checkpoint/index.js';
 import { FileCheckpointStore } from '../files/index.js';
 import { type Frame, FrameDecoder } from '../frames/index.js';
 import type { JournalRecord } from '../journal/index.js';
-import { LearningSession, resolveConfig } from '../pipeline/index.js';
+import { LearningSession, modelConfig, resolveConfig } from '../pipeline/index.js';
 import { renderReport } from '../report/index.js';
 import {
   CLASSES,
@@ -128,7 +128,7 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
   await endpoint.start();
   const base = `http://${endpoint.host}:${endpoint.port}`;
   const store = new FileCheckpointStore(paths.checkpoints);
-  const fingerprint = configFingerprint(config);
+  const fingerprint = configFingerprint(modelConfig(config));
   const checkpoint = async (): Promise<string> => {
     const where = await store.save(
       runCheckpoint(
@@ -177,7 +177,7 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
       session.score(frame, CLASSES);
       endpoint.batch(rows, (terminal.now() - before) / 1000);
       endpoint.setReady('model', true);
-      inspections.release(scenarioNow, session, CLASSES);
+      await inspections.release(scenarioNow, session, CLASSES);
       produced += rows;
       session.advance('freight scenario', BigInt(produced));
       view.update(
@@ -198,7 +198,7 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
     }
     // The inspections still out come in as scenario time goes on after the last leg.
     scenarioNow = scenario.leg.time + scenario.options.labelHours[1] * 3_600_000;
-    inspections.release(scenarioNow, session, CLASSES);
+    await inspections.release(scenarioNow, session, CLASSES);
     view.update(
       { produced, total, scenarioTime: scenarioNow, labelsOut: inspections.length },
       session.metrics,

@@ -69,9 +69,15 @@ export class LabelQueue {
     heap[at] = slot;
   }
 
-  /** Give the session every label due by `now` (all of them with +∞), earliest due first. */
-  release(now: number, session: LearningSession, classes: readonly string[]): void {
-    this.take(now, (frame, slot) => session.learn(frame, classes, slot, slot + 1));
+  /**
+   * Give the session every label due by `now` (all of them with +∞), earliest due first (on worker
+   * threads, the session trains while this thread waits without blocking).
+   */
+  async release(now: number, session: LearningSession, classes: readonly string[]): Promise<void> {
+    for (let slot = this.due(now); slot >= 0; slot = this.due(now)) {
+      await session.learnAsync(this.view, classes, slot, slot + 1);
+      this.remove(slot);
+    }
   }
 
   /**
@@ -79,12 +85,21 @@ export class LabelQueue {
    * and features), valid only during the call.
    */
   take(now: number, each: (frame: Frame, slot: number) => void): void {
-    while (this.size > 0 && this.dues[this.heap[0]!]! <= now) {
-      const slot = this.heap[0]!;
+    for (let slot = this.due(now); slot >= 0; slot = this.due(now)) {
       each(this.view, slot);
-      this.pop();
-      this.free[this.freeCount++] = slot;
+      this.remove(slot);
     }
+  }
+
+  /** The slot of the earliest label due by `now`, or −1. */
+  private due(now: number): number {
+    return this.size > 0 && this.dues[this.heap[0]!]! <= now ? this.heap[0]! : -1;
+  }
+
+  /** Take the earliest label (in `slot`) off the queue. */
+  private remove(slot: number): void {
+    this.pop();
+    this.free[this.freeCount++] = slot;
   }
 
   /** Forget every label due by `now` without handing it over (they were joined before a checkpoint). */

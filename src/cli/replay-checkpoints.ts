@@ -4,6 +4,7 @@ import { FileCheckpointStore } from '../files/index.js';
 import { FrameDecoder, type FrameDecoderSnapshot } from '../frames/index.js';
 import {
   LearningSession,
+  modelConfig,
   type RunConfig,
   type SessionOptions,
   type SessionSnapshot,
@@ -53,6 +54,8 @@ export class ReplayCheckpoints {
   private readonly fingerprint: string;
   private readonly shoal: string;
   private readonly timing: ReplayTiming;
+  /** The run's threads (a checkpoint goes on with them, whatever the run that wrote it had). */
+  private readonly threads: number;
   private due: number;
   /** Told when a checkpoint is on disk (telemetry's checkpoint age). */
   saved: (() => void) | null = null;
@@ -67,8 +70,9 @@ export class ReplayCheckpoints {
   ) {
     this.store = new FileCheckpointStore(dir);
     this.timing = timing;
+    this.threads = config.threads;
     this.every = every;
-    this.fingerprint = configFingerprint(config);
+    this.fingerprint = configFingerprint(modelConfig(config));
     this.shoal = shoal;
     this.due = this.after(scored);
   }
@@ -116,7 +120,7 @@ export class ReplayCheckpoints {
         `replay --resume: ${stored.where} has no position in ${file} (it read ${Object.keys(positions).join(', ') || 'nothing yet'})`,
       );
     }
-    const session = LearningSession.restore(state.session, options);
+    const session = LearningSession.restore(state.session, { ...options, threads: this.threads });
     this.due = this.after(session.scored);
     return { decoder: FrameDecoder.restore(state.decoder), session, from: BigInt(at) };
   }
@@ -131,7 +135,7 @@ export class ReplayCheckpoints {
   /** Save a checkpoint of the run as it is now; resolves once it is on disk. */
   async save(session: LearningSession, decoder: FrameDecoder): Promise<string> {
     const checkpoint = runCheckpoint(
-      { decoder: decoder.snapshot(), session: session.snapshot(), labelTiming: this.timing },
+      { decoder: decoder.snapshot(), session: await session.snapshotAsync(), labelTiming: this.timing },
       { shoal: this.shoal, fingerprint: this.fingerprint, createdAt: new Date().toISOString() },
     );
     const where = await this.store.save(checkpoint);

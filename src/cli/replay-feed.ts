@@ -183,7 +183,7 @@ export async function feed(o: FeedOptions): Promise<void> {
         o.clock.reach(await batchTime(frame, session.scored));
         for (const [from, to] of pacer.ranges(frame.rows)) {
           const started = clock();
-          session.score(frame, decoder.classes, from, to);
+          await session.scoreAsync(frame, decoder.classes, from, to);
           scored(to - from, (clock() - started) / 1000);
           await pacer.wait(to - from);
         }
@@ -193,9 +193,9 @@ export async function feed(o: FeedOptions): Promise<void> {
         const held: Frame = { ...frame, labels: null, ids: prepared.ids };
         for (let r = 0; r < frame.rows; r++) {
           o.clock.reach(rowTime(prepared.values, r, session.scored + 1));
-          session.score(held, decoder.classes, r, r + 1);
+          await session.scoreAsync(held, decoder.classes, r, r + 1);
           const moment = await hold(frame, r, session.scored, prepared, false);
-          prepared.queue.release(moment, session, decoder.classes);
+          await prepared.queue.release(moment, session, decoder.classes);
         }
         scored(frame.rows, (clock() - started) / 1000);
         await pacer.wait(frame.rows);
@@ -206,7 +206,7 @@ export async function feed(o: FeedOptions): Promise<void> {
     const last = queue as LabelQueue | null;
     if (last !== null) {
       if (labels !== null) await (labels as LabelReader).fill(last, Number.POSITIVE_INFINITY);
-      last.release(Number.POSITIVE_INFINITY, session, decoder.classes);
+      await last.release(Number.POSITIVE_INFINITY, session, decoder.classes);
     }
   } finally {
     await Promise.all([extra?.close(), (labels as LabelReader | null)?.close()]);

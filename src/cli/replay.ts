@@ -18,6 +18,7 @@ import { DEFAULT_CHECKPOINT_EVERY, ReplayCheckpoints } from './replay-checkpoint
 import { feed, type LabelTiming } from './replay-feed.js';
 import { describeSchema, overflowWarnings } from './schema-text.js';
 import { count, figure, type Terminal, table } from './terminal.js';
+import { onThreads } from './threads.js';
 import { shoalVersion } from './version.js';
 
 export const REPLAY_HELP = `shoal replay FILE [options]
@@ -32,6 +33,8 @@ Options:
                     of regressors, judged by MAE, RMSE and R²)
   --ensemble KIND   ${ENSEMBLE_KINDS.join(', ')} (default bagging; a regression is bagged)
   --members N       members of a bagging or boosting ensemble (default 10)
+  --threads N       train the members of a bagging on N worker threads (ensemble.threads; default 1):
+                    the same verdicts, journal and checkpoints as one thread, sooner on several cores
   --learner KIND    the members' learner: ${CLASSIFIER_KINDS.join(', ')};
                     in a regression ${REGRESSOR_KINDS.join(', ')}
   --detector KIND   each member's drift monitor: ${DETECTOR_KINDS.join(', ')}
@@ -88,6 +91,8 @@ function withOverrides(
   if (kind !== undefined) ensemble.kind = kind;
   const members = whole(parsed, 'members');
   if (members !== undefined) ensemble.members = members;
+  const threads = whole(parsed, 'threads');
+  if (threads !== undefined) ensemble.threads = threads;
   const learner = text(parsed, 'learner');
   if (learner !== undefined) ensemble.learners = [{ kind: learner }];
   const detector = text(parsed, 'detector');
@@ -202,6 +207,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     task: { type: 'string' },
     ensemble: { type: 'string' },
     members: { type: 'string' },
+    threads: { type: 'string' },
     learner: { type: 'string' },
     detector: { type: 'string' },
     seed: { type: 'string' },
@@ -273,6 +279,8 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     clock,
     version: shoalVersion(),
     changes: await recordedChanges(file!, format),
+    workers: onThreads,
+    lateLabels: timing.kind !== 'inline',
   };
   const resumed =
     checkpoints !== null && text(parsed, 'resume') !== undefined
@@ -343,6 +351,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
       await checkpoints?.save(session, decoder);
       summary = session.finish(decoder.classes);
     } finally {
+      await session.close();
       progress.done();
       await Promise.all([journal.close(), rejects?.close(), endpoint?.close()]);
     }
@@ -375,6 +384,7 @@ const FLAG_PATHS: readonly (readonly [string, string])[] = [
   ['task', 'task'],
   ['ensemble', 'ensemble.kind'],
   ['members', 'ensemble.members'],
+  ['threads', 'ensemble.threads'],
   ['learner', 'ensemble.learners'],
   ['detector', 'ensemble.lifecycle.detector'],
   ['label', 'inputs.label'],

@@ -20,6 +20,7 @@ import {
 } from '../kafka/index.js';
 import { LearningSession, liveClock, type RunConfig, type SessionSnapshot } from '../pipeline/index.js';
 import { ServeTelemetry, SessionTelemetry } from '../telemetry/index.js';
+import { onThreads } from './threads.js';
 
 /** Rows per scores message: about 60 bytes a row (two classes), far below the broker's 1 MiB limit. */
 const SCORE_ROWS_PER_MESSAGE = 4096;
@@ -55,7 +56,9 @@ export class ServeModels {
   }
 
   /** The output messages for one batch (its scores, dead letters and journal records). */
-  handle(batch: FetchedBatch): { outputs: TopicOutputs[]; scored: number; rows: number; dead: DeadLetter[] } {
+  async handle(
+    batch: FetchedBatch,
+  ): Promise<{ outputs: TopicOutputs[]; scored: number; rows: number; dead: DeadLetter[] }> {
     const key = this.key(`${batch.topic}/${batch.partition}`);
     const state = this.state(key);
     const dead: DeadLetter[] = [];
@@ -65,13 +68,13 @@ export class ServeModels {
     if (batch.topic === this.settings.labels?.topic) {
       const labels = this.labels(state).decode(batch.topic, batch.partition, batch.messages, dead);
       if (labels !== null) {
-        state.session.learn(labels.frame, state.decoder.classes);
+        await state.session.learnAsync(labels.frame, state.decoder.classes);
         rows = labels.frame.rows;
       }
     } else {
       const events = state.events.decode(batch.topic, batch.partition, batch.messages, dead);
       if (events !== null) {
-        const out = state.session.score(events.frame, state.decoder.classes);
+        const out = await state.session.scoreAsync(events.frame, state.decoder.classes);
         for (let from = 0; from < out.rows; from += SCORE_ROWS_PER_MESSAGE) {
           const ipc = encodeScores(
             out,
@@ -124,10 +127,10 @@ export class ServeModels {
   }
 
   /** What a checkpoint of `key` holds: the events decoder's state and the session's snapshot. */
-  parts(key: string): { decoder: FrameDecoderSnapshot; session: SessionSnapshot } | null {
+  async parts(key: string): Promise<{ decoder: FrameDecoderSnapshot; session: SessionSnapshot } | null> {
     const state = this.states.get(key);
     if (state === undefined) return null;
-    return { decoder: state.decoder.snapshot(), session: state.session.snapshot() };
+    return { decoder: state.decoder.snapshot(), session: await state.session.snapshotAsync() };
   }
 
   /** Take up the session of `key` from a checkpoint's parts (before any batch of it is handled). */
@@ -141,6 +144,8 @@ export class ServeModels {
     if (this.settings.scope === 'global') return [];
     const dropped = [...this.states.keys()].filter((key) => !streams.includes(key));
     for (const key of dropped) {
+      // Its worker threads, if any, stop in the background (they hold nothing the checkpoint needs).
+      void this.states.get(key)!.session.close();
       this.states.delete(key);
       this.checkpointed?.delete(key);
       this.telemetry.drop(key);
@@ -148,11 +153,12 @@ export class ServeModels {
     return dropped;
   }
 
-  /** Close every session: the summary records to send before exit. */
-  finish(): TopicOutputs[] {
+  /** Close every session (and its worker threads): the summary records to send before exit. */
+  async finish(): Promise<TopicOutputs[]> {
     const out: TopicOutputs[] = [];
     for (const [key, state] of this.states) {
       if (state.session.scored > 0) state.session.finish(state.decoder.classes);
+      await state.session.close();
       out.push(...this.outputs(key, state, [], []));
     }
     return out;
@@ -214,6 +220,8 @@ export class ServeModels {
         },
         clock: liveClock({ monotonic: () => performance.now(), wall: () => Date.now() }),
         version: this.version,
+        workers: onThreads,
+        lateLabels: this.settings.labels !== null,
       };
       state = {
         decoder,
@@ -222,7 +230,7 @@ export class ServeModels {
         session:
           restored === null
             ? new LearningSession({ config: this.config, ...options })
-            : LearningSession.restore(restored.session, options),
+            : LearningSession.restore(restored.session, { ...options, threads: this.config.threads }),
         journal,
       };
       telemetry = SessionTelemetry.of(state.session, {

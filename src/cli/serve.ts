@@ -15,7 +15,7 @@ import {
 } from '../kafka/index.js';
 import { type RunConfig, resolveConfig } from '../pipeline/index.js';
 import { parseListen, TelemetryServer } from '../telemetry/index.js';
-import { parse, positionals, text } from './args.js';
+import { parse, positionals, text, whole } from './args.js';
 import { IssueList, readConfigFile } from './config-file.js';
 import { LabelHold } from './label-hold.js';
 import { frameOptions } from './replay.js';
@@ -36,10 +36,17 @@ checkpoint, flush, commit, exit 0.
 Options:
   --config FILE   shoal.yaml: the ensemble, evaluation and inputs settings, a kafka: section, and
                   optionally telemetry: { listen: HOST:PORT } for /metrics, /healthz, /readyz, /status
+  --threads N     train the members of a bagging on N worker threads (ensemble.threads; default 1):
+                  the same scores, journal and checkpoints as one thread; the consumer's event loop
+                  (heartbeats, scrapes) keeps turning while they train
   --check         print the effective configuration, or every problem with its path, and exit`;
 
 export async function serve(args: readonly string[], terminal: Terminal): Promise<number> {
-  const parsed = parse('serve', args, { config: { type: 'string' }, check: { type: 'boolean' } });
+  const parsed = parse('serve', args, {
+    config: { type: 'string' },
+    threads: { type: 'string' },
+    check: { type: 'boolean' },
+  });
   if (parsed.values.help) {
     terminal.out(`${SERVE_HELP}\n`);
     return 0;
@@ -50,7 +57,7 @@ export async function serve(args: readonly string[], terminal: Terminal): Promis
     terminal.err('shoal serve: --config FILE is required (see shoal serve --help)\n');
     return 2;
   }
-  const raw = await readConfigFile(path);
+  const raw = withThreads(await readConfigFile(path), whole(parsed, 'threads'));
   const checked = checkServeConfig(raw, path);
   if ('issues' in checked) {
     terminal.err(
@@ -61,7 +68,15 @@ export async function serve(args: readonly string[], terminal: Terminal): Promis
     return 2;
   }
   if (parsed.values.check === true) {
-    terminal.out(stringify({ ...checked.run, kafka: checked.kafka, telemetry: checked.telemetry }));
+    const { threads, ...run } = checked.run;
+    terminal.out(
+      stringify({
+        ...run,
+        ensemble: { ...run.ensemble, threads },
+        kafka: checked.kafka,
+        telemetry: checked.telemetry,
+      }),
+    );
     return 0;
   }
   return run(checked, terminal);
@@ -110,6 +125,13 @@ function telemetrySettings(raw: unknown): ServeConfig['telemetry'] {
   }
   if (issues.length > 0) throw new ConfigError('telemetry', issues);
   return { listen };
+}
+
+/** `--threads` folded into the configuration's `ensemble.threads`, so that it is checked like the file. */
+function withThreads(raw: unknown, threads: number | undefined): unknown {
+  if (threads === undefined || raw === null || typeof raw !== 'object' || Array.isArray(raw)) return raw;
+  const config = raw as Record<string, unknown>;
+  return { ...config, ensemble: { ...((config.ensemble ?? {}) as Record<string, unknown>), threads } };
 }
 
 /** Check the run settings, the kafka section and the secrets it names, collecting every problem. */
@@ -178,20 +200,25 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
           : new KafkaCheckpointStore(kafka, { topic: store, pipeline: settings.group }, log),
       )
     : null;
-  /** Take up the session of `key` from its newest checkpoint; its offsets then say where to read. */
-  const takeUp = async (key: string): Promise<void> => {
-    const taken = await checkpoints!.load(models, key);
-    for (const why of taken?.refused ?? []) log.warn({ reason: why }, 'checkpoint refused');
-    if (taken === null) log.info({ scope: key, store: checkpoints!.place }, 'no checkpoint: starting afresh');
-    else
-      log.info(
-        {
-          scope: key,
-          checkpoint: taken.where,
-          offsets: Object.fromEntries(stringOffsets(models.positions(key))),
-        },
-        'going on from the checkpoint',
-      );
+  /** Take up the sessions of `keys` from their newest checkpoints; their offsets then say where to read. */
+  const takeUp = async (keys: readonly string[]): Promise<void> => {
+    if (keys.length === 0) return;
+    const taken = await checkpoints!.loadAll(models, keys);
+    for (const key of keys) {
+      const found = taken.get(key);
+      for (const why of found?.refused ?? []) log.warn({ reason: why }, 'checkpoint refused');
+      if (found === undefined)
+        log.info({ scope: key, store: checkpoints!.place }, 'no checkpoint: starting afresh');
+      else
+        log.info(
+          {
+            scope: key,
+            checkpoint: found.where,
+            offsets: Object.fromEntries(stringOffsets(models.positions(key))),
+          },
+          'going on from the checkpoint',
+        );
+    }
   };
   const listen = checked.telemetry.listen;
   const endpoint =
@@ -246,9 +273,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
       // State follows partitions: each newly assigned partition's session is taken up from the store
       // before its events (and its labels partition) are fetched. First, while the labels hold has no
       // targets yet and cannot release the labels topic; labels partitions resume with that topic.
-      for (const key of new Set(coming.map((s) => models.key(s)))) {
-        if (!models.keys().includes(key)) await takeUp(key);
-      }
+      await takeUp([...new Set(coming.map((s) => models.key(s)))].filter((k) => !models.keys().includes(k)));
       for (const stream of coming) {
         const at = models.positions(models.key(stream)).get(stream);
         if (at !== undefined) consumer.seek(stream, at);
@@ -370,7 +395,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   endpoint?.setReady('producer', true);
   if (checkpoints !== null) {
     await checkpoints.connect();
-    if (settings.scope === 'global') await takeUp('global');
+    if (settings.scope === 'global') await takeUp(['global']);
   }
   await consumer.connect();
   const refused =
@@ -390,7 +415,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
       // After the last checkpoint nothing more is handled: what it does not cover is read again later.
       if (stopping) return false;
       const began = performance.now();
-      const handled = models.handle(batch);
+      const handled = await models.handle(batch);
       if (handled.scored > 0) endpoint?.batch(handled.scored, (performance.now() - began) / 1000);
       for (const d of handled.dead) {
         log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
@@ -472,7 +497,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     if (!saved) terminal.err('shoal serve: could not write the final checkpoint (see the log)\n');
   }
   await consumer.stop();
-  await producer.deliver(models.finish(), async () => undefined);
+  await producer.deliver(await models.finish(), async () => undefined);
   if (exactlyOnce) await producer.commit([], settings.group, null);
   if (journalFile !== null) {
     journalFile.end();

@@ -1,5 +1,6 @@
 export type { BaggingOptions, BaggingSpec } from './bagging.js';
 export { BAGGING_DEFAULTS, Bagging } from './bagging.js';
+export { BatchVerdicts } from './batch-verdicts.js';
 export type { BoostingOptions, BoostingSpec } from './boosting.js';
 export { BOOSTING_DEFAULTS, Boosting } from './boosting.js';
 export type { Ensemble, EnsembleKind, EnsembleSnapshot } from './ensemble.js';

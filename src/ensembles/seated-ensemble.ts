@@ -82,6 +82,11 @@ export abstract class SeatedEnsemble implements Ensemble {
     return this.lifecycle.view();
   }
 
+  /** Seat `seat`'s accuracy over its recent window (as `seats()` reports it, without building views). */
+  recentAccuracy(seat: number): number {
+    return this.lifecycle.seats[seat]!.recentAccuracy;
+  }
+
   sizeBytes(): number {
     let bytes = this.ownBytes();
     for (const seat of this.lifecycle.seats)

@@ -95,6 +95,8 @@ export class TreeLeaves {
   private rng: Rng;
   private slotCapacity = 0;
   private freeSlots = new Int32Array(16);
+  /** Each leaf's promise, scratch of `enforceCap`. */
+  private promises = new Float64Array(0);
   private freeCount = 0;
 
   constructor(nominal: Uint8Array, cardinality: Int32Array, featureSubset: number, seed: Seed) {
@@ -210,7 +212,9 @@ export class TreeLeaves {
    * leaves one by one instead of sorting them all.
    */
   enforceCap(cap: number, fixedBytes: number): void {
-    const promise = Float64Array.from({ length: this.count }, (_, l) => this.promise(l));
+    if (this.promises.length < this.count) this.promises = new Float64Array(this.slotOf.length);
+    const promise = this.promises;
+    for (let leaf = 0; leaf < this.count; leaf++) promise[leaf] = this.promise(leaf);
     while (fixedBytes + this.sizeBytes() > cap) {
       const leaf = this.extremeLeaf(promise, true, -1);
       if (leaf < 0) break;

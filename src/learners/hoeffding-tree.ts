@@ -306,13 +306,9 @@ export class HoeffdingTree implements Classifier {
     return this.splits;
   }
 
-  /** Nodes, and the depth of the deepest leaf: what a forest walk needs to hold and walk this tree. */
+  /** Nodes: the room a forest walk needs to hold this tree. */
   get nodeCount(): number {
     return this.nodes.count;
-  }
-
-  get depthReached(): number {
-    return this.nodes.maxDepth();
   }
 
   /** Copy the nodes into a forest arena at node `base` (see `TreeNodes.copyInto`); false if a split is nominal. */

@@ -1,1 +1,1 @@
-export { BatchVerdicts, ParallelBagging } from './parallel-bagging.js';
+export { ParallelBagging } from './parallel-bagging.js';

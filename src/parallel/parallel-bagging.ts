@@ -4,6 +4,7 @@ import {
   Bagging,
   type BaggingOptions,
   type BaggingSpec,
+  type BatchVerdicts,
   combineVotes,
   type EnsembleSnapshot,
   type LifecycleSink,
@@ -11,7 +12,6 @@ import {
   type SeatView,
   Verdict,
 } from '../ensembles/index.js';
-import type { LifecycleChange } from '../journal/index.js';
 import { channelControl, ShardAnswers, ShardClient, type ShardReply, shardReady } from './shard-channel.js';
 import { LedgerHost } from './shard-ledger.js';
 
@@ -33,47 +33,6 @@ import { LedgerHost } from './shard-ledger.js';
  * const snapshot = await bag.snapshot(); // equal to one thread's: `Bagging.restore(snapshot)` goes on
  * await bag.close();
  */
-export class BatchVerdicts {
-  /** Classes a row takes in `probabilities` (the most any row of the batch covers). */
-  classes = 0;
-  probabilities = new Float64Array(0);
-  predicted = new Int32Array(0);
-  agreement = new Float64Array(0);
-  voters = new Int32Array(0);
-  /** The model epoch that served each row. */
-  epochs = new Int32Array(0);
-  /** Classes each row's probabilities cover (the rest are 0): they grow as labels of new classes come. */
-  spans = new Int32Array(0);
-  /** Lifecycle changes of the batch, in order, and the row of the batch each happened on. */
-  changes: LifecycleChange[] = [];
-  rows: number[] = [];
-
-  fit(rows: number, classes: number): void {
-    this.classes = classes;
-    this.changes = [];
-    this.rows = [];
-    if (this.probabilities.length < rows * classes) this.probabilities = new Float64Array(rows * classes);
-    if (this.predicted.length < rows) {
-      this.predicted = new Int32Array(rows);
-      this.agreement = new Float64Array(rows);
-      this.voters = new Int32Array(rows);
-      this.epochs = new Int32Array(rows);
-      this.spans = new Int32Array(rows);
-    }
-  }
-
-  /** Row `r`'s verdict into `verdict`. */
-  verdictAt(r: number, verdict: Verdict): void {
-    const span = this.spans[r]!;
-    const out = verdict.fit(span);
-    for (let k = 0, at = r * this.classes; k < span; k++) out[k] = this.probabilities[at + k]!;
-    verdict.predicted = this.predicted[r]!;
-    verdict.agreement = this.agreement[r]!;
-    verdict.voters = this.voters[r]!;
-    verdict.epoch = this.epochs[r]!;
-  }
-}
-
 /** A worker thread holding one shard, and the channel to it. */
 interface RemoteShard {
   readonly worker: Worker;
@@ -299,7 +258,7 @@ export class ParallelBagging {
     this.known = first.classes;
     this.views = replies.flatMap((r) => r.seats);
     this.bytes = replies.reduce((sum, r) => sum + r.bytes, 0);
-    out.fit(rows, Math.max(classes, 1));
+    out.fit(rows, Math.max(classes, 1), this.members);
     ledger.settle(rows, out.epochs, this.trained);
     mergeChanges(replies, out);
     // Every shard stops at the same bad row: its error is the batch's.
@@ -326,6 +285,7 @@ export class ParallelBagging {
           preds[seat + m] = shard.preds[from + m]!;
           weights[seat + m] = shard.weights[2 * (from + m)]!;
           confidence[seat + m] = shard.weights[2 * (from + m) + 1]!;
+          out.accuracy[r * this.members + seat + m] = shard.accuracy[from + m]!;
           for (let k = 0, at = (from + m) * stride, to = (seat + m) * c; k < c; k++)
             probs[to + k] = shard.probs[at + k]!;
         }

@@ -55,8 +55,9 @@ export interface ShardReply {
 
 /**
  * Where one shard writes its members' answers, row-major with `stride` classes a member: probabilities,
- * classes, each member's vote weight and confidence side by side in `weights`, and the classes each
- * row's answers cover (they grow when a label of a new class is learnt).
+ * classes, each member's vote weight and confidence side by side in `weights`, the classes each
+ * row's answers cover (they grow when a label of a new class is learnt), and each seat's recent
+ * accuracy after the row.
  */
 export interface AnswerBuffers {
   readonly stride: number;
@@ -64,6 +65,7 @@ export interface AnswerBuffers {
   readonly preds: SharedArrayBuffer;
   readonly weights: SharedArrayBuffer;
   readonly classes: SharedArrayBuffer;
+  readonly accuracy: SharedArrayBuffer;
 }
 
 /** Answer arrays in shared memory that grow with the batch. */
@@ -73,6 +75,7 @@ export class ShardAnswers {
   preds = new Int32Array(new SharedArrayBuffer(0));
   weights = new Float64Array(new SharedArrayBuffer(0));
   classes = new Int32Array(new SharedArrayBuffer(0));
+  accuracy = new Float64Array(new SharedArrayBuffer(0));
 
   /** Make room for `rows` rows of `members` answers over `stride` classes. */
   fit(rows: number, members: number, stride: number): AnswerBuffers {
@@ -83,6 +86,7 @@ export class ShardAnswers {
     if (this.preds.length < rows * members) {
       this.preds = new Int32Array(new SharedArrayBuffer(4 * rows * members));
       this.weights = new Float64Array(new SharedArrayBuffer(16 * rows * members));
+      this.accuracy = new Float64Array(new SharedArrayBuffer(8 * rows * members));
     }
     if (this.classes.length < rows) this.classes = new Int32Array(new SharedArrayBuffer(4 * rows));
     return {
@@ -91,6 +95,7 @@ export class ShardAnswers {
       preds: this.preds.buffer,
       weights: this.weights.buffer,
       classes: this.classes.buffer,
+      accuracy: this.accuracy.buffer,
     };
   }
 }
@@ -107,6 +112,7 @@ function runShard(shard: Bagging, ledger: ShardLedger, request: BatchRequest, co
   const preds = new Int32Array(answers.preds);
   const weights = new Float64Array(answers.weights);
   const classes = new Int32Array(answers.classes);
+  const accuracy = new Float64Array(answers.accuracy);
   const stride = answers.stride;
   const width = shard.schema.features.length;
   shard.ensureClasses(request.classes);
@@ -127,6 +133,7 @@ function runShard(shard: Bagging, ledger: ShardLedger, request: BatchRequest, co
       preds[at + i] = m.preds[i]!;
       weights[2 * (at + i)] = m.weights[i]!;
       weights[2 * (at + i) + 1] = m.confidence[i]!;
+      accuracy[at + i] = shard.recentAccuracy(i);
       for (let k = 0, from = i * c, to = (at + i) * stride; k < c; k++) probs[to + k] = answered[from + k]!;
     }
     ledger.done(r + 1);

@@ -168,10 +168,13 @@ export class LedgerHost {
       this.words = ledgerWords(this.shards, cap);
       return;
     }
+    // The layout stays that of the larger batch the words were made for (`this.cap`).
     const words = this.words;
     words.fill(0, 0, this.shards + 1);
-    for (let v = 0; v < this.shards; v++)
-      words.fill(0, base(this.shards, cap, v), base(this.shards, cap, v) + 2);
+    for (let v = 0; v < this.shards; v++) {
+      const at = base(this.shards, this.cap, v);
+      words.fill(0, at, at + PER_SHARD_HEAD);
+    }
   }
 
   /**

@@ -74,6 +74,18 @@ export interface RunConfig {
   readonly evaluation: EvaluationConfig;
   readonly inputs: InputsConfig;
   readonly labels: LabelsConfig;
+  /**
+   * Worker threads the ensemble's members train on (`ensemble.threads` in the file; a bagging of a
+   * classification only). How a run is spread over cores, not what it computes: the results are those
+   * of one thread, so it is left out of the journal's run record and of the configuration's fingerprint.
+   */
+  readonly threads: number;
+}
+
+/** The configuration without `threads`: what the results depend on. */
+export function modelConfig(config: RunConfig): Omit<RunConfig, 'threads'> {
+  const { threads: _threads, ...rest } = config;
+  return rest;
 }
 
 /** The ensemble of a regression: online bagging of regressors (no member lifecycle). */
@@ -352,17 +364,45 @@ function checkDetector(c: Checker, path: string, value: unknown): DetectorSpec |
 
 /** Settings of an ensemble beside its scalar options, by kind. */
 const NESTED: Readonly<Record<EnsembleKind, readonly string[]>> = {
-  bagging: ['kind', 'learners', 'lifecycle'],
-  boosting: ['kind', 'learners', 'lifecycle'],
-  stacking: ['kind', 'learners', 'meta', 'lifecycle'],
+  bagging: ['kind', 'learners', 'lifecycle', 'threads'],
+  boosting: ['kind', 'learners', 'lifecycle', 'threads'],
+  stacking: ['kind', 'learners', 'meta', 'lifecycle', 'threads'],
 };
+
+/**
+ * `ensemble.threads`: a whole number from 1; more than one only for a bagging of a classification,
+ * whose members are independent (boosting and stacking chain their members row by row).
+ */
+function checkThreads(c: Checker, raw: Record<string, unknown>, kind: string, task: Task): number {
+  const value = raw.threads;
+  if (value === undefined) return 1;
+  const path = join('ensemble', 'threads');
+  if (typeof value !== 'number' || !Number.isInteger(value)) {
+    c.fail(path, `must be a whole number, got ${describe(value)}`, 'not-an-integer');
+    return 1;
+  }
+  if (value < 1) {
+    c.fail(path, `must be at least 1, got ${value}`, 'out-of-range');
+    return 1;
+  }
+  if (value > 1 && (kind !== 'bagging' || task !== 'classification')) {
+    c.fail(
+      path,
+      `${value} threads need a bagging of a classification (members that train independently), not a ${task === 'regression' ? 'regression' : kind}`,
+      'conflict',
+    );
+    return 1;
+  }
+  return value;
+}
 
 function checkEnsemble(c: Checker, value: unknown): EnsembleSpec {
   const path = 'ensemble';
   const raw = c.object(path, value, null);
   const kind = c.kind(path, raw.kind ?? 'bagging', ENSEMBLE_KINDS) ?? 'bagging';
   c.options(path, raw, ENSEMBLE_OPTIONS[kind], NESTED[kind]);
-  const spec: Record<string, unknown> = { ...raw, kind };
+  const { threads: _threads, ...settings } = raw;
+  const spec: Record<string, unknown> = { ...settings, kind };
   if (raw.learners !== undefined)
     spec.learners = checkLearners(c, join(path, 'learners'), raw.learners, CLASSIFIERS);
   if (kind === 'stacking' && raw.meta !== undefined)
@@ -416,9 +456,9 @@ function checkRegressionEnsemble(c: Checker, value: unknown): RegressionEnsemble
         'conflict',
       );
   }
-  c.options(path, raw, REGRESSION_BAGGING_OPTIONS, ['kind', 'learners', 'lifecycle']);
+  c.options(path, raw, REGRESSION_BAGGING_OPTIONS, ['kind', 'learners', 'lifecycle', 'threads']);
   const learners = checkLearners(c, join(path, 'learners'), raw.learners, REGRESSORS);
-  const { lifecycle: _, ...rest } = raw;
+  const { lifecycle: _, threads: _threads, ...rest } = raw;
   return {
     kind: 'bagging',
     ...REGRESSION_BAGGING_DEFAULTS,
@@ -575,9 +615,11 @@ export function resolveConfig(raw: unknown, source: string): RunConfig {
   const task = checkTask(c, top.task, top.inputs);
   const ensemble =
     task === 'regression' ? checkRegressionEnsemble(c, top.ensemble) : checkEnsemble(c, top.ensemble);
+  const rawEnsemble = top.ensemble !== null && typeof top.ensemble === 'object' ? top.ensemble : {};
+  const threads = checkThreads(c, rawEnsemble as Record<string, unknown>, ensemble.kind, task);
   const evaluation = checkEvaluation(c, top.evaluation);
   const inputs = checkInputs(c, top.inputs, task);
   const labels = checkLabels(c, top.labels);
   if (c.issues.length > 0) throw new ConfigError(source, c.issues);
-  return { seed, task, ensemble, evaluation, inputs, labels };
+  return { seed, task, ensemble, evaluation, inputs, labels, threads };
 }

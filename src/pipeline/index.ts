@@ -7,13 +7,20 @@ export type {
   RegressionEnsembleSpec,
   RunConfig,
 } from './config.js';
-export { CHECKPOINT_CADENCE_OPTIONS, DEFAULT_SEED, LABELS_DEFAULTS, resolveConfig } from './config.js';
+export {
+  CHECKPOINT_CADENCE_OPTIONS,
+  DEFAULT_SEED,
+  LABELS_DEFAULTS,
+  modelConfig,
+  resolveConfig,
+} from './config.js';
 export type {
   CheckpointStore,
   Clock,
   DeadLetter,
   DeadLetterSink,
   DriftSignal,
+  EnsembleThreads,
   JournalSink,
   LabelSource,
   Positions,
@@ -23,6 +30,7 @@ export type {
   Source,
   SourceBatch,
   StoredCheckpoint,
+  ThreadedEnsemble,
   Timer,
 } from './ports.js';
 export type { SessionCounts, SessionOptions, SessionSnapshot } from './session.js';

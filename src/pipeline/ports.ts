@@ -1,4 +1,5 @@
-import type { SeatView } from '../ensembles/index.js';
+import type { FeatureSchema } from '../core/index.js';
+import type { BatchVerdicts, EnsembleSnapshot, SeatView } from '../ensembles/index.js';
 import type { Frame, Rejection, ScoreRows } from '../frames/index.js';
 import type { JournalRecord, LabelCounts, LifecycleCause } from '../journal/index.js';
 
@@ -11,6 +12,33 @@ import type { JournalRecord, LabelCounts, LifecycleCause } from '../journal/inde
  * Positions are 64-bit (`bigint`, `BigInt64Array`): a Kafka offset is an int64, and a file of more than
  * 2³¹ rows must still be resumable.
  */
+
+/**
+ * An ensemble whose members train on worker threads, a batch of rows at a time, with verdicts, lifecycle
+ * changes and snapshots identical to the same ensemble in one thread (src/parallel's `ParallelBagging`).
+ * `scoreTrainBatch` scores every row and trains on each row whose label is not NaN; while it runs the
+ * caller's thread is free. Between batches its figures (`seats`, `sizeBytes`) are those after the last.
+ */
+export interface ThreadedEnsemble {
+  readonly schema: FeatureSchema;
+  readonly classes: number;
+  readonly epoch: number;
+  readonly rows: number;
+  ensureClasses(n: number): void;
+  seats(): SeatView[];
+  sizeBytes(): number;
+  scoreTrainBatch(
+    values: Float64Array,
+    labels: ArrayLike<number>,
+    rows: number,
+    out: BatchVerdicts,
+  ): Promise<void>;
+  snapshot(): Promise<EnsembleSnapshot>;
+  close(): Promise<void>;
+}
+
+/** Puts an ensemble (given as its snapshot) on `threads` worker threads. */
+export type EnsembleThreads = (snapshot: EnsembleSnapshot, threads: number) => Promise<ThreadedEnsemble>;
 
 /**
  * Where reading resumes: for each stream of a source (a Kafka topic-partition such as `events/3`, or a

@@ -5,7 +5,7 @@ import {
   type InputMonitorSnapshot,
   restoreInputMonitor,
 } from '../drift/index.js';
-import { type SeatView, Verdict } from '../ensembles/index.js';
+import { BatchVerdicts, type EnsembleSnapshot, type SeatView, Verdict } from '../ensembles/index.js';
 import type { EvaluatorSnapshot } from '../evaluation/index.js';
 import type { Frame } from '../frames/index.js';
 import {
@@ -16,8 +16,9 @@ import {
   type LifecycleCause,
   type LifecycleChange,
   type SummaryRecord,
+  type WindowRecord,
 } from '../journal/index.js';
-import type { RunConfig } from './config.js';
+import { modelConfig, type RunConfig } from './config.js';
 import {
   GONE_EVICTED,
   GONE_EXPIRED,
@@ -25,7 +26,15 @@ import {
   type PendingSnapshot,
   PendingStore,
 } from './pending-store.js';
-import type { Clock, DriftSignal, JournalSink, ScoreBatch, SessionMetrics } from './ports.js';
+import type {
+  Clock,
+  DriftSignal,
+  EnsembleThreads,
+  JournalSink,
+  ScoreBatch,
+  SessionMetrics,
+  ThreadedEnsemble,
+} from './ports.js';
 import { ScoreBuffers } from './score-buffers.js';
 import {
   createModel,
@@ -48,6 +57,14 @@ export interface SessionOptions {
   readonly version: string;
   /** The stream's true change points, when the source records them (journaled in the run record). */
   readonly changes?: ChangePoints | null;
+  /** Puts the ensemble on worker threads when `config.threads` > 1 (the CLI passes src/parallel's). */
+  readonly workers?: EnsembleThreads;
+  /**
+   * Whether labels can come after their events (a labels topic or file, labels held back): true by
+   * default. When false, a row whose label came with it leaves nothing behind — its id is not remembered
+   * for a later label that cannot come, which saves two map operations a row and keeps checkpoints small.
+   */
+  readonly lateLabels?: boolean;
 }
 
 /** Member drift signals the metrics surface keeps (the most recent ones). */
@@ -83,6 +100,12 @@ const VERSION = 3;
  * and `summary` records. `snapshot()` returns the whole state, JSON-safe; `LearningSession.restore`
  * continues exactly where it was taken.
  *
+ * With `config.threads` > 1 (a bagging ensemble) the members train on worker threads: drive the session
+ * with `scoreAsync`, `learnAsync` and `snapshotAsync`, and `close` it at the end. The workers run a whole
+ * batch while this thread stays free; then the batch's verdicts, lifecycle changes and seat accuracies
+ * are replayed through the same per-row code, so the journal, the scores and the snapshot are those of
+ * one thread.
+ *
  * @example
  * const session = new LearningSession({ config, source: 'legs.arrow', journal, clock, version });
  * for await (const { frame } of readFrames('legs.arrow', decoder)) session.score(frame, decoder.classes);
@@ -94,6 +117,21 @@ export class LearningSession {
   readonly config: RunConfig;
   private readonly options: SessionOptions;
   private ensemble: SessionModel | null = null;
+  /** The ensemble once it is on worker threads (then `ensemble` is null). */
+  private threaded: ThreadedEnsemble | null = null;
+  /** The threaded ensemble's answers for the batch being replayed. */
+  private readonly batch = new BatchVerdicts();
+  /** The row of `batch` the next model step takes (−1: steps run the model in this thread). */
+  private step = -1;
+  private nextChange = 0;
+  /** Each seat's recent accuracy before the batch. */
+  private before: readonly number[] = [];
+  private batchLabels = new Float64Array(0);
+  /** Rows and labels `learnAsync` gathers to train on, and its journal records held until they ran. */
+  private gathered = new Float64Array(0);
+  private gatheredLabels = new Float64Array(0);
+  private gatheredRows = 0;
+  private held: (number | WindowRecord)[] | null = null;
   private monitor: InputMonitor | null = null;
   private pending: PendingStore | null = null;
   private scorecard: Scorecard;
@@ -122,8 +160,8 @@ export class LearningSession {
   }
 
   /** The ensemble (built from the first batch's schema), or null before it. */
-  get model(): SessionModel | null {
-    return this.ensemble;
+  get model(): SessionModel | ThreadedEnsemble | null {
+    return this.threaded ?? this.ensemble;
   }
 
   get scored(): number {
@@ -150,6 +188,9 @@ export class LearningSession {
    */
   score(frame: Frame, classes: readonly string[], from = 0, to = frame.rows): ScoreBatch {
     const ensemble = this.ensure(frame.schema, classes);
+    if (this.threaded !== null && this.step < 0) {
+      throw new ShoalError('invalid-parameter', 'a session on worker threads scores with scoreAsync');
+    }
     const now = this.options.clock.event();
     this.expireAt(now);
     const { values, labels, ids, width } = frame;
@@ -158,6 +199,7 @@ export class LearningSession {
     const pending = this.pending!;
     const out = this.scores.reserve(from, to - from, ensemble.classes, classes, ids, now);
     const counts = this.counts;
+    const settles = ids !== null && this.options.lateLabels !== false;
     for (let r = from; r < to; r++) {
       const offset = r * width;
       if (monitor !== null) {
@@ -167,13 +209,15 @@ export class LearningSession {
       counts.scored++;
       const label = labels === null ? Number.NaN : labels[r]!;
       if (Number.isNaN(label)) {
-        ensemble.score(values, offset, verdict);
+        if (this.step >= 0) this.replay(verdict);
+        else (ensemble as SessionModel).score(values, offset, verdict);
         if (ids !== null && pending.put(ids[r]!, values, offset, verdict, now) === GONE_EVICTED) {
           counts.evictedPredictions++;
         }
       } else {
-        ensemble.scoreTrain(values, offset, label, verdict);
-        if (ids !== null && pending.settled(ids[r]!) === GONE_EVICTED) counts.evictedPredictions++;
+        if (this.step >= 0) this.replay(verdict);
+        else (ensemble as SessionModel).scoreTrain(values, offset, label, verdict);
+        if (settles && pending.settled(ids![r]!) === GONE_EVICTED) counts.evictedPredictions++;
         counts.inline++;
         counts.trained++;
         this.judge(
@@ -205,7 +249,7 @@ export class LearningSession {
     }
     const now = this.options.clock.event();
     this.expireAt(now);
-    const ensemble = this.ensemble;
+    const ensemble = this.model;
     if (ensemble !== null) this.announce(classes);
     const pending = this.pending;
     const counts = this.counts;
@@ -223,7 +267,7 @@ export class LearningSession {
       if (slot >= 0) {
         const store = pending!;
         this.judge(store.predictedOf(slot), store.valueOf(slot), label, store.probability(slot, label));
-        ensemble!.train(store.rows, store.offsetOf(slot), label);
+        this.train(store.rows, store.offsetOf(slot), label);
         this.delay(now - store.timeOf(slot));
         store.joined(slot);
         counts.joined++;
@@ -236,12 +280,75 @@ export class LearningSession {
       else if (fate === GONE_EVICTED) counts.evicted++;
       else counts.unknown++;
       if (trainUnmatched && fate !== GONE_JOINED) {
-        ensemble!.train(frame.values, r * frame.width, label);
+        this.train(frame.values, r * frame.width, label);
         counts.trainedUnmatched++;
         counts.trained++;
       }
     }
     return missing;
+  }
+
+  /**
+   * `score`, with the ensemble on worker threads when the configuration asks for them: the workers score
+   * (and train on the rows with labels) the whole range while this thread stays free, then `score`
+   * replays their answers row by row.
+   */
+  async scoreAsync(frame: Frame, classes: readonly string[], from = 0, to = frame.rows): Promise<ScoreBatch> {
+    this.ensure(frame.schema, classes);
+    const threaded = await this.onThreads();
+    if (threaded === null) return this.score(frame, classes, from, to);
+    const n = to - from;
+    if (this.batchLabels.length < n) this.batchLabels = new Float64Array(n);
+    const labels = frame.labels;
+    for (let r = 0; r < n; r++) this.batchLabels[r] = labels === null ? Number.NaN : labels[from + r]!;
+    await this.runBatch(threaded, frame.values.subarray(from * frame.width), this.batchLabels, n);
+    try {
+      return this.score(frame, classes, from, to);
+    } finally {
+      this.step = -1;
+    }
+  }
+
+  /**
+   * `learn`, with the ensemble on worker threads when the configuration asks for them: the rows to
+   * train on are gathered (and the journal records that follow them held back), the workers train on
+   * them, then their lifecycle changes and the held records are written in the order of one thread.
+   */
+  async learnAsync(frame: Frame, classes: readonly string[], from = 0, to = frame.rows): Promise<number> {
+    const threaded = await this.onThreads();
+    if (threaded === null) return this.learn(frame, classes, from, to);
+    const held: (number | WindowRecord)[] = [];
+    this.held = held;
+    this.gatheredRows = 0;
+    let missing: number;
+    try {
+      missing = this.learn(frame, classes, from, to);
+    } finally {
+      this.held = null;
+    }
+    const width = threaded.schema.features.length;
+    const rows = this.gatheredRows;
+    if (rows > 0)
+      await this.runBatch(threaded, this.gathered.subarray(0, rows * width), this.gatheredLabels, rows);
+    try {
+      for (const item of held) {
+        if (typeof item === 'number') this.replay(null);
+        else this.options.journal.write({ ...item, seats: this.seatAccuracies() });
+      }
+    } finally {
+      this.step = -1;
+    }
+    return missing;
+  }
+
+  /** `snapshot`, waiting for the workers' part when the ensemble is on worker threads. */
+  async snapshotAsync(): Promise<SessionSnapshot> {
+    return this.snapshotWith(this.threaded === null ? undefined : await this.threaded.snapshot());
+  }
+
+  /** Stop the worker threads, if any (the session cannot score after). */
+  async close(): Promise<void> {
+    await this.threaded?.close();
   }
 
   /** Expire pending predictions older than the age bound now; returns how many expired. */
@@ -306,12 +413,19 @@ export class LearningSession {
 
   /** The whole state of the session, JSON-safe: `LearningSession.restore` continues from it exactly. */
   snapshot(): SessionSnapshot {
+    if (this.threaded !== null) {
+      throw new ShoalError('invalid-parameter', 'a session on worker threads is snapshot with snapshotAsync');
+    }
+    return this.snapshotWith(undefined);
+  }
+
+  private snapshotWith(threaded: EnsembleSnapshot | undefined): SessionSnapshot {
     return {
       kind: KIND,
       version: VERSION,
       config: this.config,
       schema: this.schema,
-      ensemble: this.ensemble?.snapshot() ?? null,
+      ensemble: threaded ?? this.ensemble?.snapshot() ?? null,
       evaluator: this.scorecard.snapshot(),
       monitor: this.monitor?.snapshot() ?? null,
       pending: this.pending?.snapshot() ?? null,
@@ -328,14 +442,21 @@ export class LearningSession {
    * A session that goes on exactly where `snapshot` was taken, writing to the ports in `options`
    * (its configuration is the snapshot's). It writes no new `run` record: the journal goes on.
    */
-  static restore(snapshot: SessionSnapshot, options: Omit<SessionOptions, 'config'>): LearningSession {
+  static restore(
+    snapshot: SessionSnapshot,
+    options: Omit<SessionOptions, 'config'> & {
+      /** The threads to go on with (`config.threads`), which may differ from the snapshot's. */
+      readonly threads?: number;
+    },
+  ): LearningSession {
     if (!snapshot || snapshot.kind !== KIND || snapshot.version !== VERSION) {
       throw new ShoalError(
         'invalid-snapshot',
         `expected a ${KIND} snapshot of version ${VERSION}, got ${String(snapshot?.kind)} version ${String(snapshot?.version)}`,
       );
     }
-    const session = new LearningSession({ ...options, config: snapshot.config });
+    const threads = options.threads ?? snapshot.config.threads ?? 1;
+    const session = new LearningSession({ ...options, config: { ...snapshot.config, threads } });
     session.restoreState(snapshot);
     return session;
   }
@@ -365,8 +486,9 @@ export class LearningSession {
   }
 
   /** Build the ensemble, monitor and pending store on the first batch; announce classes as they appear. */
-  private ensure(schema: FeatureSchema, classes: readonly string[]): SessionModel {
-    if (this.ensemble === null) {
+  private ensure(schema: FeatureSchema, classes: readonly string[]): SessionModel | ThreadedEnsemble {
+    const model = this.model;
+    if (model === null) {
       const { config, version, source, clock, changes } = this.options;
       this.schema = schema;
       this.startedAt = clock.monotonic();
@@ -376,7 +498,7 @@ export class LearningSession {
         shoal: version,
         startedAt: new Date(clock.wall()).toISOString(),
         source,
-        config: config as unknown as Record<string, unknown>,
+        config: modelConfig(config) as unknown as Record<string, unknown>,
         schema,
         seed: config.seed,
         ...(changes === undefined || changes === null ? {} : { changes }),
@@ -385,20 +507,88 @@ export class LearningSession {
       if (config.inputs.monitor) this.monitor = createInputMonitor(schema);
       this.pending = new PendingStore(config.labels.pending, schema.features.length, classes.length);
       this.inputDriftCounts = new Float64Array(schema.features.length);
-    } else if (schema.features.length !== this.ensemble.schema.features.length) {
+    } else if (schema.features.length !== model.schema.features.length) {
       throw new ShoalError(
         'invalid-input',
-        `a frame of ${schema.features.length} features, but the session's schema has ${this.ensemble.schema.features.length}`,
+        `a frame of ${schema.features.length} features, but the session's schema has ${model.schema.features.length}`,
       );
     }
     this.announce(classes);
-    return this.ensemble;
+    return this.model!;
+  }
+
+  /** The ensemble on worker threads, moved there on first call when the configuration asks; else null. */
+  private async onThreads(): Promise<ThreadedEnsemble | null> {
+    if (this.threaded !== null || this.ensemble === null || this.config.threads <= 1) return this.threaded;
+    const start = this.options.workers;
+    if (start === undefined) {
+      throw new ShoalError(
+        'invalid-parameter',
+        `ensemble.threads is ${this.config.threads}, but this session was given no way to start worker threads`,
+      );
+    }
+    this.threaded = await start(this.ensemble.snapshot() as EnsembleSnapshot, this.config.threads);
+    this.ensemble = null;
+    return this.threaded;
+  }
+
+  /** Run a batch on the threads; its answers are then taken row by row (`replay`). */
+  private async runBatch(
+    threaded: ThreadedEnsemble,
+    values: Float64Array,
+    labels: Float64Array,
+    rows: number,
+  ): Promise<void> {
+    this.before = threaded.seats().map((seat) => seat.recentAccuracy);
+    await threaded.scoreTrainBatch(values, labels, rows, this.batch);
+    this.step = 0;
+    this.nextChange = 0;
+  }
+
+  /** Take the next row of the batch: its verdict (when asked) and the lifecycle changes it made. */
+  private replay(verdict: Verdict | null): void {
+    const batch = this.batch;
+    const row = this.step++;
+    if (verdict !== null) batch.verdictAt(row, verdict);
+    while (this.nextChange < batch.changes.length && batch.rows[this.nextChange] === row)
+      this.lifecycle(batch.changes[this.nextChange++]!);
+  }
+
+  /** Train the ensemble on a row, or gather it for the threads (`learnAsync`). */
+  private train(values: Float64Array, offset: number, label: number): void {
+    const held = this.held;
+    if (held === null) {
+      (this.ensemble as SessionModel).train(values, offset, label);
+      return;
+    }
+    const width = this.threaded!.schema.features.length;
+    const n = this.gatheredRows++;
+    if (this.gatheredLabels.length <= n) {
+      const rows = new Float64Array(2 * (n + 1) * width);
+      rows.set(this.gathered);
+      this.gathered = rows;
+      const labels = new Float64Array(2 * (n + 1));
+      labels.set(this.gatheredLabels);
+      this.gatheredLabels = labels;
+    }
+    this.gathered.set(values.subarray(offset, offset + width), n * width);
+    this.gatheredLabels[n] = label;
+    held.push(n);
+  }
+
+  /** Each seat's recent accuracy now (after the batch's last row taken, while one is replayed). */
+  private seatAccuracies(): number[] {
+    if (this.step < 0) return this.model!.seats().map((seat) => seat.recentAccuracy);
+    if (this.step === 0) return [...this.before];
+    const members = this.batch.members;
+    return Array.from(this.batch.accuracy.subarray((this.step - 1) * members, this.step * members));
   }
 
   private announce(classes: readonly string[]): void {
     const n = Math.max(1, classes.length);
-    if (n > this.ensemble!.classes) {
-      this.ensemble!.ensureClasses(n);
+    const model = this.model!;
+    if (n > model.classes) {
+      model.ensureClasses(n);
       this.scorecard.ensureClasses(n);
     }
     this.pending!.ensureClasses(n);
@@ -468,15 +658,18 @@ export class LearningSession {
   }
 
   private window(): void {
-    this.options.journal.write({
+    const record: WindowRecord = {
       type: 'window',
       scored: this.counts.scored,
       trained: this.counts.trained,
       window: this.scorecard.windowed(),
       cumulative: this.scorecard.cumulative(),
-      seats: this.ensemble!.seats().map((seat) => seat.recentAccuracy),
+      seats: this.held === null ? this.seatAccuracies() : [],
       labels: this.labelCounts(),
-    });
+    };
+    // While `learnAsync` gathers rows, the seats are those after the rows gathered so far have trained.
+    if (this.held === null) this.options.journal.write(record);
+    else this.held.push(record);
   }
 
   /** For the metrics view. */
@@ -505,7 +698,7 @@ export class LearningSession {
   }
 
   seats(): readonly SeatView[] {
-    return this.ensemble?.seats() ?? [];
+    return this.model?.seats() ?? [];
   }
 
   pendingStats(): { readonly size: number; readonly capacity: number } {

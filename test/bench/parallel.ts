@@ -1,15 +1,16 @@
-import { Bagging, Verdict } from '../../dist/ensembles/index.js';
-import { BatchVerdicts, ParallelBagging } from '../../dist/parallel/index.js';
+import { Bagging, BatchVerdicts, Verdict } from '../../dist/ensembles/index.js';
+import { ParallelBagging } from '../../dist/parallel/index.js';
 import { numericSchema } from '../../src/core/index.js';
 import { type BenchFn, type BenchRow, machine, median } from './harness.js';
 import { benchStream } from './stream.js';
 
 /**
- * Parallel members: classic online bagging (λ = 1, no lifecycle) of 10 and 30 Hoeffding trees with the
- * members split over two threads (this one and a worker; the build in dist/ is used, since workers load
- * compiled files), against the same ensemble in one thread, timed alternately so that both see the same
- * machine, each timed after its first quarter of rows (a worker's compiler starts cold). Rows go to the
- * threads in batches of 1,000. The verdicts are checked to be identical.
+ * Parallel members: online bagging (λ = 1) of 10 and 30 Hoeffding trees, without the member lifecycle
+ * and with it (ADWIN monitors, understudies, the proof gate), with the members split over two worker
+ * threads (the build in dist/ is used, since workers load compiled files), against the same ensemble in
+ * one thread, timed alternately so that both see the same machine, each timed after its first quarter
+ * of rows (a worker's compiler starts cold). Rows go to the threads in batches of 1,000. The verdicts are
+ * checked to be identical.
  */
 const BATCH = 1000;
 
@@ -22,8 +23,14 @@ export const bench: BenchFn = async ({ quick }) => {
   const schema = numericSchema(width);
   const rows: BenchRow[] = [];
   const json: Record<string, unknown> = { machine: machine(), rows: count, batch: BATCH };
-  for (const members of [10, 30]) {
-    const spec = { members, lambda: 1, lifecycle: { enabled: false } };
+  for (const [members, lifecycle] of [
+    [10, false],
+    [30, false],
+    [10, true],
+    [30, true],
+  ] as const) {
+    const spec = { members, lambda: 1, lifecycle: { enabled: lifecycle } };
+    const label = `bagging ×${members}${lifecycle ? ', lifecycle on' : ''}`;
     const one: number[] = [];
     const two: number[] = [];
     let identical = true;
@@ -40,6 +47,7 @@ export const bench: BenchFn = async ({ quick }) => {
       }
       one.push((count - warm) / (Number(process.hrtime.bigint() - t0) / 1e9));
       const parallel = await ParallelBagging.start(schema, spec, 'bench-parallel', 2);
+      parallel.ensureClasses(2);
       const out = new BatchVerdicts();
       for (let s = 0; s < count; s += BATCH) {
         if (s === warm) t0 = process.hrtime.bigint();
@@ -51,14 +59,19 @@ export const bench: BenchFn = async ({ quick }) => {
       await parallel.close();
     }
     const speedup = median(two) / median(one);
-    rows.push({ name: `bagging ×${members}, one thread`, rate: median(one), unit: 'rows/s' });
+    rows.push({ name: `${label}, one thread`, rate: median(one), unit: 'rows/s' });
     rows.push({
-      name: `bagging ×${members}, two threads`,
+      name: `${label}, two threads`,
       rate: median(two),
       unit: 'rows/s',
       note: `speed-up ${speedup.toFixed(2)}×, verdicts ${identical ? 'identical' : 'DIFFERENT'} to one thread`,
     });
-    json[`bagging${members}`] = { oneThread: median(one), twoThreads: median(two), speedup, identical };
+    json[`bagging${members}${lifecycle ? 'Lifecycle' : ''}`] = {
+      oneThread: median(one),
+      twoThreads: median(two),
+      speedup,
+      identical,
+    };
   }
   return { title: 'Parallel members (two threads)', rows, json };
 };

@@ -16,7 +16,7 @@ const { models, checkpoints } = restoreService(dir);
 const taken = await checkpoints.load(models, 'global');
 if (taken === null) throw new Error(`no checkpoint in ${dir}`);
 const restored = performance.now();
-const handled = models.handle({
+const handled = await models.handle({
   topic: EVENTS_TOPIC,
   partition: 0,
   messages: [{ offset, timestamp: String(Date.now()), value }],

@@ -1,3 +1,4 @@
+import { readFileSync } from 'node:fs';
 import { mkdtemp, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -34,7 +35,7 @@ import {
   waitCommitted,
 } from '../support/kafka-serve.js';
 import { eventMessages, ROWS_PER_MESSAGE, rawBatch } from './events.js';
-import { type BenchFn, type BenchRow, machine, medianRate } from './harness.js';
+import { type BenchFn, type BenchRow, machine, median, medianRate } from './harness.js';
 
 /**
  * End to end over a real broker: events/s from an events topic to a scores topic through `shoal serve`
@@ -82,8 +83,12 @@ export const bench: BenchFn = async ({ quick }) => {
   const paced = stream.messages.slice(rows / ROWS_PER_MESSAGE);
   const runs = quick ? 1 : 3;
 
-  const core = coreRate(stream.rows, stream.labels, rows, stream.width, runs);
-  const inProcess = modelSideRate(messages, rows, runs);
+  const core = await cpuTimed(rows * (runs + (runs > 1 ? 1 : 0)), () =>
+    coreRate(stream.rows, stream.labels, rows, stream.width, runs),
+  );
+  const inProcess = await cpuTimed(rows * (runs + (runs > 1 ? 1 : 0)), () =>
+    modelSideRate(messages, rows, runs),
+  );
 
   const external = process.env.KAFKA_BROKERS?.trim();
   const broker = external ? null : await KafkaBroker.start();
@@ -115,8 +120,13 @@ export const bench: BenchFn = async ({ quick }) => {
     const serve = new ServeProcess(config);
     let latency: Latency;
     let served: number;
+    let servedCpu: number;
     try {
+      // Its CPU time from joining the group (it fetches at once: the events are on the topic) to the end.
+      await serve.waitFor('joined the group', 120_000);
+      const joined = cpuSeconds(serve.pid);
       await waitCommitted(brokers, t.group, { [t.events]: messages.length }, 600_000);
+      servedCpu = rows / (cpuSeconds(serve.pid) - joined);
       const scoresBefore = await readAll(brokers, t.scores);
       served = spanRate(scoresBefore);
       // Half the measured maximum, one message at a time, for a bounded time and count.
@@ -125,10 +135,13 @@ export const bench: BenchFn = async ({ quick }) => {
         5,
         Math.min(paced.length, Math.floor((offered * latencySeconds) / ROWS_PER_MESSAGE)),
       );
+      const cpu0 = cpuSeconds(serve.pid);
+      const wall0 = performance.now();
       await pace(brokers, t.events, paced.slice(0, count), offered);
       await waitCommitted(brokers, t.group, { [t.events]: messages.length + count }, 120_000);
+      const busy = (cpuSeconds(serve.pid) - cpu0) / ((performance.now() - wall0) / 1000);
       const all = await readAll(brokers, t.scores);
-      latency = { offered, ...latencies(all.slice(scoresBefore.length)), messages: count };
+      latency = { offered, ...latencies(all.slice(scoresBefore.length)), messages: count, busy };
       serve.signal('SIGTERM');
       const code = await serve.exited;
       if (code !== 0) throw new Error(`shoal serve exited ${code}: ${serve.stderr}`);
@@ -136,14 +149,22 @@ export const bench: BenchFn = async ({ quick }) => {
       serve.signal('SIGKILL');
     }
 
-    const ofCore = served / core;
+    const ofCore = served / core.wall;
+    const cpuOfCore = servedCpu / core.cpu;
+    const perCpu = (rate: number): string =>
+      `${Math.round(rate).toLocaleString('en-US')} rows per CPU second`;
     const rowsOut: BenchRow[] = [
-      { name: 'core: bagging ×10 in process, no Kafka', rate: core, unit: 'rows/s' },
+      {
+        name: 'core: bagging ×10 in process, no Kafka',
+        rate: core.wall,
+        unit: 'rows/s',
+        note: perCpu(core.cpu),
+      },
       {
         name: 'model side in process (decode, session, encode)',
-        rate: inProcess,
+        rate: inProcess.wall,
         unit: 'rows/s',
-        note: `${(inProcess / core).toFixed(2)}× core`,
+        note: `${(inProcess.wall / core.wall).toFixed(2)}× core; ${perCpu(inProcess.cpu)}`,
       },
       {
         name: 'pass-through over the broker (no model)',
@@ -155,9 +176,15 @@ export const bench: BenchFn = async ({ quick }) => {
         name: 'shoal serve over the broker, bagging ×10',
         rate: served,
         unit: 'rows/s',
-        note: `${ofCore.toFixed(2)}× core (target ≥ 0.7×), ${(served / pass).toFixed(2)}× pass-through`,
+        note: `${ofCore.toFixed(2)}× core (target ≥ 0.7×), ${(served / pass).toFixed(2)}× pass-through; serve's process: ${perCpu(servedCpu)}`,
       },
       { name: 'serve ÷ core', rate: ofCore, unit: '×', note: 'target ≥ 0.7' },
+      {
+        name: 'serve ÷ core, by CPU time',
+        rate: cpuOfCore,
+        unit: '×',
+        note: "rows per CPU second of serve's process ÷ the core's: steadier on a busy machine",
+      },
       {
         name: `latency at ${Math.round(latency.offered).toLocaleString('en-US')} rows/s offered, p50`,
         rate: latency.p50,
@@ -168,7 +195,7 @@ export const bench: BenchFn = async ({ quick }) => {
         name: `latency at ${Math.round(latency.offered).toLocaleString('en-US')} rows/s offered, p99`,
         rate: latency.p99,
         unit: 'ms',
-        note: `target ≤ 50 ms; to scoring ${latency.scoredP99.toFixed(1)} ms; ${latency.rows} rows in ${latency.messages} messages`,
+        note: `target ≤ 50 ms; to scoring ${latency.scoredP99.toFixed(1)} ms; ${latency.rows} rows in ${latency.messages} messages; serve busy ${Math.round(100 * latency.busy)}% of a core`,
       },
     ];
     return {
@@ -179,10 +206,16 @@ export const bench: BenchFn = async ({ quick }) => {
         rows,
         rowsPerMessage: ROWS_PER_MESSAGE,
         ensemble: SPEC,
-        core: { rowsPerSecond: core },
-        modelSide: { rowsPerSecond: inProcess },
+        core: { rowsPerSecond: core.wall, rowsPerCpuSecond: core.cpu },
+        modelSide: { rowsPerSecond: inProcess.wall, rowsPerCpuSecond: inProcess.cpu },
         passThrough: { rowsPerSecond: pass },
-        serve: { rowsPerSecond: served, ofCore, ofPassThrough: served / pass },
+        serve: {
+          rowsPerSecond: served,
+          rowsPerCpuSecond: servedCpu,
+          ofCore,
+          ofCoreByCpu: cpuOfCore,
+          ofPassThrough: served / pass,
+        },
         latency,
       },
     };
@@ -219,8 +252,12 @@ function coreRate(
   );
 }
 
-/** `shoal serve`'s model side on the same messages without a broker: decode, session, encode. */
-function modelSideRate(messages: readonly Buffer[], rows: number, runs: number): number {
+/**
+ * `shoal serve`'s model side on the same messages without a broker: decode, session, encode (a batch is
+ * handled asynchronously, as the service does: members may be on worker threads). Timed as
+ * `medianRate` times a synchronous body: a warm-up run when there are several, then the median.
+ */
+async function modelSideRate(messages: readonly Buffer[], rows: number, runs: number): Promise<number> {
   const { config, settings } = serveSettings('127.0.0.1:9', {
     events: 'bench-events',
     scores: 'bench-scores',
@@ -231,18 +268,15 @@ function modelSideRate(messages: readonly Buffer[], rows: number, runs: number):
   const batches: ReturnType<typeof rawBatch>[] = [];
   for (let i = 0; i < messages.length; i += FETCH_MESSAGES)
     batches.push(rawBatch(messages, i, Math.min(messages.length, i + FETCH_MESSAGES), now));
-  return medianRate(
-    rows,
-    () => {
-      const models = new ServeModels(config, settings, eventOptions(config, settings), 'bench', null, false);
-      let n = 0;
-      for (const batch of batches)
-        n += models.handle({ topic: 'bench-events', partition: 0, messages: batch, lag: 0 }).scored;
-      return n;
-    },
-    runs,
-    runs > 1 ? 1 : 0,
-  );
+  const rates: number[] = [];
+  for (let run = runs > 1 ? -1 : 0; run < runs; run++) {
+    const t0 = process.hrtime.bigint();
+    const models = new ServeModels(config, settings, eventOptions(config, settings), 'bench', null, false);
+    for (const batch of batches)
+      await models.handle({ topic: 'bench-events', partition: 0, messages: batch, lag: 0 });
+    if (run >= 0) rates.push(rows / (Number(process.hrtime.bigint() - t0) / 1e9));
+  }
+  return median(rates);
 }
 
 function kafkaSection(
@@ -257,7 +291,7 @@ function kafkaSection(
     events: { topics: [t.events] },
     scores: { topic: scores },
     deadLetters: { topic: t.dead },
-    log: { level: 'warn' },
+    log: { level: 'info' },
   };
 }
 
@@ -394,6 +428,8 @@ async function pace(
 interface Latency {
   readonly offered: number;
   readonly messages: number;
+  /** CPU seconds of serve's process per second of the latency phase (1 = one core always busy). */
+  readonly busy: number;
   readonly rows: number;
   /** Produce time → the scores record's append time (ms). */
   readonly p50: number;
@@ -403,7 +439,7 @@ interface Latency {
   readonly scoredP99: number;
 }
 
-function latencies(records: readonly KafkaMessage[]): Omit<Latency, 'offered' | 'messages'> {
+function latencies(records: readonly KafkaMessage[]): Omit<Latency, 'offered' | 'messages' | 'busy'> {
   const onTopic: number[] = [];
   const scored: number[] = [];
   for (const m of records) {
@@ -431,3 +467,32 @@ function percentile(values: readonly number[], q: number): number {
   const s = [...values].sort((a, b) => a - b);
   return s[Math.min(s.length - 1, Math.ceil(q * s.length) - 1)]!;
 }
+
+/**
+ * A wall-clock rate (`measure()`) beside the rows per CPU second of this process over the same work
+ * (`items` rows in all, warm-up included): CPU time is steadier than wall time on a shared machine.
+ */
+async function cpuTimed(
+  items: number,
+  measure: () => number | Promise<number>,
+): Promise<{ wall: number; cpu: number }> {
+  const before = process.cpuUsage();
+  const wall = await measure();
+  const used = process.cpuUsage(before);
+  return { wall, cpu: items / ((used.user + used.system) / 1e6) };
+}
+
+/** User + system CPU seconds a process has used so far (Linux /proc; NaN elsewhere). */
+function cpuSeconds(pid: number | undefined): number {
+  try {
+    const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
+    // Fields after the command name (which may hold spaces): utime and stime are the 12th and 13th.
+    const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+    return (Number(fields[11]) + Number(fields[12])) / CLOCK_TICKS;
+  } catch {
+    return Number.NaN;
+  }
+}
+
+/** The kernel's clock ticks per second for /proc times (USER_HZ: 100 on Linux, from memory). */
+const CLOCK_TICKS = 100;

@@ -86,6 +86,18 @@ describe('PoissonSampler', () => {
     });
   }
 
+  it('draws by inversion the same k as a search of the cumulative pmf from k = 0, wherever its own search starts', () => {
+    // Inversion (the least k with u < F(k)) fixes k for each uniform u; samplePoisson searches from 0.
+    for (const lambda of [0.25, 1, 2.5, 6, 9.5]) {
+      const sampler = new PoissonSampler(lambda);
+      const a = new Rng(`inversion-${lambda}`);
+      const b = new Rng(`inversion-${lambda}`);
+      let differ = 0;
+      for (let i = 0; i < 100_000; i++) if (sampler.sample(a) !== samplePoisson(b, lambda)) differ++;
+      expect(differ).toBe(0);
+    }
+  });
+
   it('draws zero for λ = 0', () => {
     const sampler = new PoissonSampler(0);
     const rng = new Rng(1);

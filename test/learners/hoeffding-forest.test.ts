@@ -14,35 +14,40 @@ function seatsOn(gen: ReturnType<typeof sea>, members: number, rows: number) {
 }
 
 describe('TreeForest', () => {
-  it('scores and trains every tree exactly as its own walk does, and follows the trees as they split', () => {
-    const gen = sea({ noise: 0.1 }, 5);
-    const { seats, data, labels, width } = seatsOn(gen, 4, 15_000);
-    const own = Array.from({ length: 4 }, (_, m) => new HoeffdingTree(gen.schema, {}, m));
-    for (const tree of [...own, ...seats.map((s) => s.member)]) tree.ensureClasses(2);
-    const forest = new TreeForest();
-    const rng = new Rng('forest');
-    const out = new Float64Array(4 * 2);
-    const mine = new Float64Array(2);
-    let walked = 0;
-    let differ = 0;
-    const compare = (a: number, b: number, m: number) => {
-      if (a !== b || out[2 * m] !== mine[0] || out[2 * m + 1] !== mine[1]) differ++;
-    };
-    for (let i = 0; i < labels.length; i++) {
-      const at = i * width;
-      if (forest.walk(seats, data, at)) walked++;
-      for (let m = 0; m < 4; m++) {
-        const weight = Math.floor(rng.next() * 3);
-        if (i % 7 === 0) compare(forest.score(m, data, at, out, 2 * m), own[m]!.score(data, at, mine, 0), m);
-        const predicted = forest.scoreTrain(m, data, at, labels[i]!, weight, out, 2 * m);
-        compare(predicted, own[m]!.scoreTrain(data, at, labels[i]!, weight, mine, 0), m);
+  // 3 trees walk one by one, 7 as a group of five and two alone, 12 as two groups and two alone.
+  it.each([3, 7, 12])(
+    'scores and trains each of %i trees exactly as its own walk does, and follows the trees as they split',
+    (members) => {
+      const gen = sea({ noise: 0.1 }, 5);
+      const { seats, data, labels, width } = seatsOn(gen, members, 15_000);
+      const own = Array.from({ length: members }, (_, m) => new HoeffdingTree(gen.schema, {}, m));
+      for (const tree of [...own, ...seats.map((s) => s.member)]) tree.ensureClasses(2);
+      const forest = new TreeForest();
+      const rng = new Rng('forest');
+      const out = new Float64Array(members * 2);
+      const mine = new Float64Array(2);
+      let walked = 0;
+      let differ = 0;
+      const compare = (a: number, b: number, m: number) => {
+        if (a !== b || out[2 * m] !== mine[0] || out[2 * m + 1] !== mine[1]) differ++;
+      };
+      for (let i = 0; i < labels.length; i++) {
+        const at = i * width;
+        if (forest.walk(seats, data, at)) walked++;
+        for (let m = 0; m < members; m++) {
+          const weight = Math.floor(rng.next() * 3);
+          if (i % 7 === 0)
+            compare(forest.score(m, data, at, out, 2 * m), own[m]!.score(data, at, mine, 0), m);
+          const predicted = forest.scoreTrain(m, data, at, labels[i]!, weight, out, 2 * m);
+          compare(predicted, own[m]!.scoreTrain(data, at, labels[i]!, weight, mine, 0), m);
+        }
       }
-    }
-    expect(walked).toBe(labels.length);
-    expect(differ).toBe(0);
-    for (const [m, { member }] of seats.entries()) expect(member.snapshot()).toEqual(own[m]!.snapshot());
-    expect(seats.every(({ member }) => member.shape.nodes > 5)).toBe(true);
-  });
+      expect(walked).toBe(labels.length);
+      expect(differ).toBe(0);
+      for (const [m, { member }] of seats.entries()) expect(member.snapshot()).toEqual(own[m]!.snapshot());
+      expect(seats.every(({ member }) => member.shape.nodes > 5)).toBe(true);
+    },
+  );
 
   it('takes in a learner that replaced another in a seat', () => {
     const { seats, data, labels, width } = seatsOn(sea({ noise: 0.1 }, 6), 3, 5000);

@@ -1,8 +1,8 @@
 import { spawnSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
 // Worker threads load compiled files, so this test uses the build in dist/ (npm test builds first).
-import { Bagging, Verdict } from '../../dist/ensembles/index.js';
-import { BatchVerdicts, ParallelBagging } from '../../dist/parallel/index.js';
+import { Bagging, BatchVerdicts, Verdict } from '../../dist/ensembles/index.js';
+import { ParallelBagging } from '../../dist/parallel/index.js';
 import { sea, take } from '../../src/streams/index.js';
 
 describe('parallel bagging', () => {
@@ -91,7 +91,8 @@ describe('parallel bagging', () => {
 
   it('lets the process exit when the caller forgets to close it', () => {
     const script = `
-      import { ParallelBagging, BatchVerdicts } from ${JSON.stringify(new URL('../../dist/parallel/index.js', import.meta.url).href)};
+      import { ParallelBagging } from ${JSON.stringify(new URL('../../dist/parallel/index.js', import.meta.url).href)};
+      import { BatchVerdicts } from ${JSON.stringify(new URL('../../dist/ensembles/index.js', import.meta.url).href)};
       import { numericSchema } from ${JSON.stringify(new URL('../../dist/core/index.js', import.meta.url).href)};
       const bag = await ParallelBagging.start(numericSchema(2), { members: 2, lifecycle: { enabled: false } }, 1, 2);
       await bag.scoreTrainBatch(new Float64Array([1, 2, 3, 4]), [0, 1], 2, new BatchVerdicts());

@@ -1,8 +1,14 @@
 import { describe, expect, it } from 'vitest';
 // Worker threads load compiled files, so this test uses the build in dist/ (npm test builds first).
-import { Bagging, type BaggingSpec, type EnsembleSnapshot, Verdict } from '../../dist/ensembles/index.js';
+import {
+  Bagging,
+  type BaggingSpec,
+  BatchVerdicts,
+  type EnsembleSnapshot,
+  Verdict,
+} from '../../dist/ensembles/index.js';
 import type { LifecycleChange } from '../../dist/journal/index.js';
-import { BatchVerdicts, ParallelBagging } from '../../dist/parallel/index.js';
+import { ParallelBagging } from '../../dist/parallel/index.js';
 import { buildStream } from '../../src/streams/index.js';
 
 /**
@@ -15,7 +21,8 @@ import { buildStream } from '../../src/streams/index.js';
 const ROWS = 8000;
 const BATCH = 500;
 const WINDOW = 1500;
-const SPEC: BaggingSpec = { members: 7, lifecycle: { maxReplacements: 1, replacementWindow: WINDOW } };
+const MEMBERS = 7;
+const SPEC: BaggingSpec = { members: MEMBERS, lifecycle: { maxReplacements: 1, replacementWindow: WINDOW } };
 const stream = () => buildStream({ generator: 'stagger', concepts: 'a,b,c,a,b', every: 1600, seed: 5 });
 
 function data(): { rows: Float64Array; labels: Float64Array; width: number } {
@@ -30,7 +37,7 @@ function data(): { rows: Float64Array; labels: Float64Array; width: number } {
 const { rows, labels, width } = data();
 const schema = stream().schema;
 
-/** Everything a verdict says, as numbers. */
+/** Everything a verdict says, as numbers (each seat's recent accuracy follows it). */
 function push(trace: number[], v: Verdict): void {
   for (let k = 0; k < v.classes; k++) trace.push(v.probabilities[k]!);
   trace.push(v.classes, v.predicted, v.agreement, v.voters, v.epoch);
@@ -43,6 +50,7 @@ function single(bag: Bagging, from: number, to: number, trace: number[]): void {
     if (Number.isNaN(labels[i]!)) bag.score(rows, i * width, verdict);
     else bag.scoreTrain(rows, i * width, labels[i]!, verdict);
     push(trace, verdict);
+    for (let m = 0; m < MEMBERS; m++) trace.push(bag.recentAccuracy(m));
   }
 }
 
@@ -63,6 +71,7 @@ async function threaded(
     for (let r = 0; r < n; r++) {
       out.verdictAt(r, verdict);
       push(trace, verdict);
+      for (let m = 0; m < MEMBERS; m++) trace.push(out.accuracy[r * MEMBERS + m]!);
     }
   }
 }

@@ -165,7 +165,7 @@ describe('resolveConfig', () => {
 
   it('refuses a setting that belongs to another kind', () => {
     expect(issuesOf({ ensemble: { kind: 'boosting', lambda: 6 } })).toEqual([
-      'ensemble.lambda: unknown setting; expected one of kind, learners, lifecycle, members, maxRepeats',
+      'ensemble.lambda: unknown setting; expected one of kind, learners, lifecycle, threads, members, maxRepeats',
     ]);
     expect(issuesOf({ ensemble: { learners: [{ kind: 'naive-bayes', k: 3 }] } })[0]).toMatch(
       /^ensemble\.learners\[0\]\.k: unknown setting/,

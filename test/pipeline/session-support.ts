@@ -22,7 +22,7 @@ export function manualClock(start = Date.UTC(2026, 11, 1)): Clock & { wallNow: n
   return clock;
 }
 
-export function session(raw: unknown = {}, clock: Clock = manualClock()) {
+export function session(raw: unknown = {}, clock: Clock = manualClock(), lateLabels = true) {
   const journal = memoryJournal();
   const s = new LearningSession({
     config: resolveConfig(raw, 'test'),
@@ -30,6 +30,7 @@ export function session(raw: unknown = {}, clock: Clock = manualClock()) {
     journal,
     clock,
     version: '0.0.0-test',
+    lateLabels,
   });
   return { session: s, journal, clock };
 }

@@ -194,6 +194,25 @@ describe('the learning session', () => {
     expect(s.labelCounts()).toMatchObject({ inline: 1, duplicate: 2 });
   });
 
+  it('with no late-label source (lateLabels false), keeps nothing of rows labelled inline: the same model, a small snapshot', () => {
+    const [remembers, forgets] = [true, false].map(
+      (late) => session({ ensemble: { members: 2 } }, manualClock(), late).session,
+    );
+    for (const s of [remembers!, forgets!]) {
+      const gen = buildStream({ generator: 'sea', seed: 4 });
+      s.score(frameOf(gen, 2_000, { ids: true }), gen.classes);
+    }
+    const [kept, none] = [remembers!, forgets!].map((s) => s.snapshot());
+    expect(none!.ensemble).toEqual(kept!.ensemble);
+    expect(none!.evaluator).toEqual(kept!.evaluator);
+    expect(JSON.stringify(none!.pending).length * 10).toBeLessThan(JSON.stringify(kept!.pending).length);
+    // A label that comes anyway finds nothing: unknown, where the remembering session says duplicate.
+    const classes = buildStream({ generator: 'sea', seed: 4 }).classes;
+    for (const s of [remembers!, forgets!]) s.learn(labelsFrame(['e5'], [0]), classes);
+    expect(remembers!.labelCounts()).toMatchObject({ duplicate: 1, unknown: 0 });
+    expect(forgets!.labelCounts()).toMatchObject({ duplicate: 0, unknown: 1 });
+  });
+
   it('keeps its bound under a flood of 10× its capacity in unknown labels and in predictions', () => {
     const cap = 1000;
     const { session: s } = session({

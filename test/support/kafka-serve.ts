@@ -144,6 +144,10 @@ export class ServeProcess {
   signal(name: NodeJS.Signals): void {
     this.child.kill(name);
   }
+
+  get pid(): number | undefined {
+    return this.child.pid;
+  }
 }
 
 /**
