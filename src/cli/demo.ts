@@ -15,6 +15,7 @@ import {
   FreightScenario,
   OPERATOR,
   SITES,
+  scriptedChanges,
 } from '../scenario/index.js';
 import { parseListen, SessionTelemetry, TelemetryServer } from '../telemetry/index.js';
 import { decimal, parse, text, whole } from './args.js';
@@ -112,6 +113,7 @@ export async function demo(args: readonly string[], terminal: Terminal): Promise
     // Pending predictions age in scenario time: an inspection 6 hours later is 6 hours later.
     clock: { monotonic: () => terminal.now(), wall: () => Date.now(), event: () => scenarioNow },
     version: shoalVersion(),
+    changes: scriptedChanges(scenario.options.length),
   });
   const decoder = new FrameDecoder(
     { label: 'rejected', id: 'leg_id', classes: [...CLASSES] },

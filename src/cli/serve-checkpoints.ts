@@ -110,23 +110,45 @@ export class ServeCheckpoints {
     models: ServeModels,
     key: string,
   ): Promise<{ where: string; refused: readonly string[] } | null> {
-    const stored = await this.store(key).latest();
-    if (stored === null) return null;
-    const { state } = stored.checkpoint as RunCheckpoint<FrameDecoderSnapshot, SessionSnapshot>;
-    if (state.fingerprint !== this.fingerprint) {
-      throw new ShoalError(
-        'invalid-config',
-        `${stored.where} was written with another configuration (fingerprint ${state.fingerprint.slice(0, 12)}…, this one's ${this.fingerprint.slice(0, 12)}…); start with that configuration, or point kafka.checkpoint at an empty place`,
-      );
+    return (await this.loadAll(models, [key])).get(key) ?? null;
+  }
+
+  /**
+   * `load` for several scopes at once (the partitions one join brings): the Kafka store reads its topic
+   * once for all of them. Scopes the store holds nothing for are absent from the answer.
+   */
+  async loadAll(
+    models: ServeModels,
+    keys: readonly string[],
+  ): Promise<Map<string, { where: string; refused: readonly string[] }>> {
+    const found = new Map<string, StoredCheckpoint & { readonly checkpoint: RunCheckpoint }>();
+    if (this.kafkaStore !== null) {
+      for (const [key, stored] of await this.kafkaStore.latest(keys)) found.set(key, stored);
+    } else {
+      for (const key of keys) {
+        const stored = await this.store(key).latest();
+        if (stored !== null) found.set(key, stored);
+      }
     }
-    if (JSON.stringify(state.labelTiming) !== JSON.stringify(this.origin)) {
-      throw new ShoalError(
-        'invalid-config',
-        `${stored.where} was written by a service reading other topics (${JSON.stringify(state.labelTiming)}; this one reads ${JSON.stringify(this.origin)})`,
-      );
+    const out = new Map<string, { where: string; refused: readonly string[] }>();
+    for (const [key, stored] of found) {
+      const { state } = stored.checkpoint as RunCheckpoint<FrameDecoderSnapshot, SessionSnapshot>;
+      if (state.fingerprint !== this.fingerprint) {
+        throw new ShoalError(
+          'invalid-config',
+          `${stored.where} was written with another configuration (fingerprint ${state.fingerprint.slice(0, 12)}…, this one's ${this.fingerprint.slice(0, 12)}…); start with that configuration, or point kafka.checkpoint at an empty place`,
+        );
+      }
+      if (JSON.stringify(state.labelTiming) !== JSON.stringify(this.origin)) {
+        throw new ShoalError(
+          'invalid-config',
+          `${stored.where} was written by a service reading other topics (${JSON.stringify(state.labelTiming)}; this one reads ${JSON.stringify(this.origin)})`,
+        );
+      }
+      models.restore(key, { decoder: state.decoder, session: state.session });
+      out.set(key, { where: stored.where, refused: stored.refused });
     }
-    models.restore(key, { decoder: state.decoder, session: state.session });
-    return { where: stored.where, refused: stored.refused };
+    return out;
   }
 
   /** Count rows read (events and labels) by the session of `key` towards the next checkpoint. */

@@ -200,20 +200,25 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
           : new KafkaCheckpointStore(kafka, { topic: store, pipeline: settings.group }, log),
       )
     : null;
-  /** Take up the session of `key` from its newest checkpoint; its offsets then say where to read. */
-  const takeUp = async (key: string): Promise<void> => {
-    const taken = await checkpoints!.load(models, key);
-    for (const why of taken?.refused ?? []) log.warn({ reason: why }, 'checkpoint refused');
-    if (taken === null) log.info({ scope: key, store: checkpoints!.place }, 'no checkpoint: starting afresh');
-    else
-      log.info(
-        {
-          scope: key,
-          checkpoint: taken.where,
-          offsets: Object.fromEntries(stringOffsets(models.positions(key))),
-        },
-        'going on from the checkpoint',
-      );
+  /** Take up the sessions of `keys` from their newest checkpoints; their offsets then say where to read. */
+  const takeUp = async (keys: readonly string[]): Promise<void> => {
+    if (keys.length === 0) return;
+    const taken = await checkpoints!.loadAll(models, keys);
+    for (const key of keys) {
+      const found = taken.get(key);
+      for (const why of found?.refused ?? []) log.warn({ reason: why }, 'checkpoint refused');
+      if (found === undefined)
+        log.info({ scope: key, store: checkpoints!.place }, 'no checkpoint: starting afresh');
+      else
+        log.info(
+          {
+            scope: key,
+            checkpoint: found.where,
+            offsets: Object.fromEntries(stringOffsets(models.positions(key))),
+          },
+          'going on from the checkpoint',
+        );
+    }
   };
   const listen = checked.telemetry.listen;
   const endpoint =
@@ -268,9 +273,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
       // State follows partitions: each newly assigned partition's session is taken up from the store
       // before its events (and its labels partition) are fetched. First, while the labels hold has no
       // targets yet and cannot release the labels topic; labels partitions resume with that topic.
-      for (const key of new Set(coming.map((s) => models.key(s)))) {
-        if (!models.keys().includes(key)) await takeUp(key);
-      }
+      await takeUp([...new Set(coming.map((s) => models.key(s)))].filter((k) => !models.keys().includes(k)));
       for (const stream of coming) {
         const at = models.positions(models.key(stream)).get(stream);
         if (at !== undefined) consumer.seek(stream, at);
@@ -392,7 +395,7 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   endpoint?.setReady('producer', true);
   if (checkpoints !== null) {
     await checkpoints.connect();
-    if (settings.scope === 'global') await takeUp('global');
+    if (settings.scope === 'global') await takeUp(['global']);
   }
   await consumer.connect();
   const refused =

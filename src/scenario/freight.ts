@@ -1,4 +1,5 @@
 import {
+  type ChangePoints,
   checkSnapshot,
   type FeatureSchema,
   nominal,
@@ -127,6 +128,21 @@ export const SCRIPT: readonly ScriptedDrift[] = [
 /** The rows (0-based) at which each scripted drift begins in a scenario of `length` rows. */
 export function driftRows(length: number): ReadonlyMap<DriftName, number> {
   return new Map(SCRIPT.map((d) => [d.name, Math.round(d.at * length)]));
+}
+
+/**
+ * The script's abrupt changes as the stream's true change points (journaled in the run record, drawn
+ * by the report): each concept is named after the drift that began it, the first `start`. The heat
+ * wave, gradual, is not one of them.
+ */
+export function scriptedChanges(length: number): ChangePoints {
+  const at = driftRows(length);
+  const abrupt = SCRIPT.filter((d) => d.kind === 'abrupt');
+  return {
+    rows: abrupt.map((d) => at.get(d.name)!),
+    concepts: ['start', ...abrupt.map((d) => d.name)],
+    width: 0,
+  };
 }
 
 export interface FreightOptions {

@@ -12,4 +12,5 @@ export {
   SCRIPT,
   SITE_CODES,
   SITES,
+  scriptedChanges,
 } from './freight.js';

@@ -5,7 +5,7 @@ import { describe, expect, it } from 'vitest';
 import { LIFECYCLE_DEFAULTS } from '../../src/ensembles/index.js';
 import type { LifecycleRecord } from '../../src/journal/index.js';
 import { isDriftSignal, parseJournal } from '../../src/journal/index.js';
-import { driftRows, SCRIPT } from '../../src/scenario/index.js';
+import { driftRows, SCRIPT, scriptedChanges } from '../../src/scenario/index.js';
 import { scratch } from '../support/cli.js';
 import { note } from '../support/note.js';
 
@@ -134,5 +134,9 @@ describe('shoal demo', () => {
     expect(report).toContain('Accuracy and κ over the run');
     expect(report.match(/<svg/g)?.length ?? 0).toBeGreaterThanOrEqual(2);
     expect(report).toContain('HACCP');
+    // The scripted abrupt changes are journaled as the stream's true change points and drawn.
+    expect(started.type === 'run' && started.changes).toEqual(scriptedChanges(ROWS));
+    expect(report).toContain('True change points of the stream');
+    expect(report.match(/class="true-change"/g)?.length).toBe(3);
   });
 });
