@@ -222,6 +222,8 @@ function naiveBayesBinary(
 /**
  * `naiveBayesBinary` for a leaf whose plan is every feature, all numeric, in order (`allNumeric`):
  * attribute j of the slot is feature j of the row, so the loop reads no plan and has no nominal part.
+ * A specialisation chosen when the tree is built, kept apart on purpose: one loop for both, reading
+ * the row or the values gathered through the plan, cost bagging ×10 about 4% (alternated builds).
  */
 function naiveBayesNumericBinary(
   leaves: TreeLeaves,

@@ -5,15 +5,14 @@ import {
   type BaggingOptions,
   type BaggingSpec,
   type BatchVerdicts,
-  combineVotes,
   type EnsembleSnapshot,
   type LifecycleSink,
   type LifecycleSnapshot,
   type SeatView,
-  Verdict,
 } from '../ensembles/index.js';
 import { channelControl, ShardAnswers, ShardClient, type ShardReply, shardReady } from './shard-channel.js';
 import { LedgerHost } from './shard-ledger.js';
+import { SharedVerdicts } from './shard-votes.js';
 
 /**
  * Online bagging with its members split over worker threads, member lifecycle and all. Members of
@@ -23,7 +22,7 @@ import { LedgerHost } from './shard-ledger.js';
  * for the same seed, whatever the number of threads.
  *
  * Work moves in batches of rows (a frame), not rows: each worker scores (and trains) its seats on the
- * whole batch, then the votes are combined row by row here. Rows and answers cross threads in shared
+ * whole batch, then, once all have, combines its share of the rows' votes (shard-votes.ts). Rows and answers cross threads in shared
  * memory (see `shard-channel.ts`), so a batch costs no copies; this thread holds no seats and, while the
  * workers run, never blocks (`Atomics.waitAsync`), so its event loop keeps serving.
  *
@@ -52,12 +51,8 @@ export class ParallelBagging {
   /** Seats held by each shard. */
   private readonly counts: number[];
   private readonly ledger: LedgerHost;
-  private readonly verdict = new Verdict();
-  private probs = new Float64Array(0);
-  private readonly preds: Int32Array;
-  private readonly weights: Float64Array;
-  private readonly confidence: Float64Array;
-  private readonly hard: boolean;
+  /** Where the workers combine the batch's verdicts. */
+  private readonly verdicts = new SharedVerdicts();
   /** The batch in shared memory, grown as needed. */
   private values = new Float64Array(new SharedArrayBuffer(0));
   private labels = new Float64Array(new SharedArrayBuffer(0));
@@ -84,10 +79,6 @@ export class ParallelBagging {
       ledger.replacements,
       ledger.epoch,
     );
-    this.preds = new Int32Array(this.members);
-    this.weights = new Float64Array(this.members);
-    this.confidence = new Float64Array(this.members);
-    this.hard = whole.options.vote === 'hard';
     this.trained = whole.rows;
     this.known = whole.classes;
     this.announced = whole.classes;
@@ -241,13 +232,18 @@ export class ParallelBagging {
     this.values.set(values.subarray(0, rows * width));
     const ledger = this.ledger;
     ledger.prepare(rows, Math.max(...this.counts));
-    const replies = await this.ask((s, i) => ({
+    const stride = Math.max(classes, 1);
+    const all = this.shards.map((s, i) => s.answers.fit(rows, this.counts[i]!, stride));
+    const verdicts = this.verdicts.fit(rows, stride, this.members);
+    const replies = await this.ask(() => ({
       kind: 'batch',
       rows,
       classes: this.announced,
       values: this.values.buffer,
       labels: labels === null ? null : labels.buffer,
-      answers: s.answers.fit(rows, this.counts[i]!, Math.max(classes, 1)),
+      all,
+      counts: this.counts,
+      verdicts,
       ledger: ledger.words.buffer,
       cap: ledger.cap,
       nextId: ledger.nextId,
@@ -258,47 +254,13 @@ export class ParallelBagging {
     this.known = first.classes;
     this.views = replies.flatMap((r) => r.seats);
     this.bytes = replies.reduce((sum, r) => sum + r.bytes, 0);
-    out.fit(rows, Math.max(classes, 1), this.members);
+    out.fit(rows, stride, this.members);
     ledger.settle(rows, out.epochs, this.trained);
     mergeChanges(replies, out);
     // Every shard stops at the same bad row: its error is the batch's.
     const failed = replies.find((r) => r.error !== null);
     if (failed !== undefined) throw new ShoalError(failed.error!.code, failed.error!.message);
-    this.combine(rows, out);
-  }
-
-  /** Combine the shards' answers row by row into `out`, as one thread's vote. */
-  private combine(rows: number, out: BatchVerdicts): void {
-    const stride = out.classes;
-    if (this.probs.length < this.members * stride) this.probs = new Float64Array(this.members * stride);
-    const { probs, preds, weights, confidence, verdict, counts } = this;
-    const answers = this.shards.map((s) => s.answers);
-    const spans = answers[0]!.classes;
-    for (let r = 0; r < rows; r++) {
-      const c = spans[r]!;
-      let seat = 0;
-      for (let s = 0; s < answers.length; s++) {
-        const shard = answers[s]!;
-        const n = counts[s]!;
-        const from = r * n;
-        for (let m = 0; m < n; m++) {
-          preds[seat + m] = shard.preds[from + m]!;
-          weights[seat + m] = shard.weights[2 * (from + m)]!;
-          confidence[seat + m] = shard.weights[2 * (from + m) + 1]!;
-          out.accuracy[r * this.members + seat + m] = shard.accuracy[from + m]!;
-          for (let k = 0, at = (from + m) * stride, to = (seat + m) * c; k < c; k++)
-            probs[to + k] = shard.probs[at + k]!;
-        }
-        seat += n;
-      }
-      combineVotes(this.hard, probs, preds, weights, confidence, this.members, c, verdict);
-      const at = r * stride;
-      for (let k = 0; k < stride; k++) out.probabilities[at + k] = k < c ? verdict.probabilities[k]! : 0;
-      out.spans[r] = c;
-      out.predicted[r] = verdict.predicted;
-      out.agreement[r] = verdict.agreement;
-      out.voters[r] = verdict.voters;
-    }
+    this.verdicts.copyTo(out, rows);
   }
 
   /** Refuse a request while one is out (its shared buffers are in use), or when a worker stopped. */

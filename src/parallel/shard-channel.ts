@@ -3,6 +3,7 @@ import { ShoalError, type ShoalErrorCode } from '../core/index.js';
 import { type Bagging, type EnsembleSnapshot, type SeatView, Verdict } from '../ensembles/index.js';
 import type { LifecycleChange } from '../journal/index.js';
 import { FAILED, type ShardLedger } from './shard-ledger.js';
+import { type AnswerBuffers, combineRows, type VerdictBuffers } from './shard-votes.js';
 
 /**
  * How a batch of rows reaches a shard of a bagging ensemble in another thread, and how its members'
@@ -24,14 +25,21 @@ const PROGRESS_EVERY = 256;
 const SILENCE_MS = 30_000;
 const WAIT_MS = 1000;
 
-/** A batch for a shard: shared rows and labels (NaN: score only), the ledger, and where answers go. */
+/**
+ * A batch for a shard: shared rows and labels (NaN: score only), the ledger, where the answers go and
+ * where the verdicts go.
+ */
 export interface BatchRequest {
   readonly kind: 'batch';
   readonly rows: number;
   readonly classes: number;
   readonly values: SharedArrayBuffer;
   readonly labels: SharedArrayBuffer | null;
-  readonly answers: AnswerBuffers;
+  /** Every shard's answers (this one's at its number), in shard order, and the seats each holds. */
+  readonly all: readonly AnswerBuffers[];
+  readonly counts: readonly number[];
+  /** Where the combined verdicts go. */
+  readonly verdicts: VerdictBuffers;
   readonly ledger: SharedArrayBuffer;
   readonly cap: number;
   readonly nextId: number;
@@ -54,21 +62,11 @@ export interface ShardReply {
 }
 
 /**
- * Where one shard writes its members' answers, row-major with `stride` classes a member: probabilities,
- * classes, each member's vote weight and confidence side by side in `weights`, the classes each
- * row's answers cover (they grow when a label of a new class is learnt), and each seat's recent
- * accuracy after the row.
+ * Answer arrays in shared memory that grow with the batch, where one shard writes its members' answers,
+ * row-major with `stride` classes a member: probabilities, classes, each member's vote weight and
+ * confidence side by side in `weights`, the classes each row's answers cover (they grow when a label of
+ * a new class is learnt), and each seat's recent accuracy after the row.
  */
-export interface AnswerBuffers {
-  readonly stride: number;
-  readonly probs: SharedArrayBuffer;
-  readonly preds: SharedArrayBuffer;
-  readonly weights: SharedArrayBuffer;
-  readonly classes: SharedArrayBuffer;
-  readonly accuracy: SharedArrayBuffer;
-}
-
-/** Answer arrays in shared memory that grow with the batch. */
 export class ShardAnswers {
   stride = 0;
   probs = new Float64Array(new SharedArrayBuffer(0));
@@ -105,7 +103,8 @@ export class ShardAnswers {
  * row by row; the ledger is told each step and each step done.
  */
 function runShard(shard: Bagging, ledger: ShardLedger, request: BatchRequest, control: Int32Array): void {
-  const { rows, answers } = request;
+  const { rows } = request;
+  const answers = request.all[ledger.shard]!;
   const values = new Float64Array(request.values);
   const labels = request.labels === null ? null : new Float64Array(request.labels);
   const probs = new Float64Array(answers.probs);
@@ -251,6 +250,14 @@ export function serveShard(
         else {
           ledger.begin(new Int32Array(request.ledger), request.cap, request.nextId, request.history);
           runShard(shard, ledger, request, control);
+          // Once every shard has answered every row, this one combines its share of the rows.
+          const { rows, counts } = request;
+          const n = counts.length;
+          if (ledger.awaitAll(rows)) {
+            const from = Math.floor((ledger.shard * rows) / n);
+            const to = Math.floor(((ledger.shard + 1) * rows) / n);
+            combineRows(request.all, counts, shard.options.vote === 'hard', from, to, request.verdicts);
+          }
         }
       } catch (e) {
         // Shards stop at the same bad row; one that waits on this one must not wait for good.

@@ -39,7 +39,8 @@ function base(shards: number, cap: number, v: number): number {
 
 /** A shard's side of the ledger: the `SeatLedger` its lifecycle asks. */
 export class ShardLedger implements SeatLedger {
-  private readonly shard: number;
+  /** This shard's number (its seats come after those of every lower number). */
+  readonly shard: number;
   private readonly shards: number;
   private readonly window: number;
   private readonly max: number;
@@ -109,6 +110,22 @@ export class ShardLedger implements SeatLedger {
   /** The main thread keeps the ids and replacements of the whole ensemble; a shard's own say nothing. */
   snapshot(_row: number): Pick<LifecycleSnapshot, 'nextMemberId' | 'replacements'> {
     return { nextMemberId: this.firstId, replacements: [] };
+  }
+
+  /**
+   * Wait until every shard has done `steps` steps; false when one failed (the batch fails as a whole).
+   */
+  awaitAll(steps: number): boolean {
+    const { words, shards } = this;
+    for (let v = 0; v < shards; v++) {
+      for (let p = Atomics.load(words, v); p < steps; p = Atomics.load(words, v)) {
+        Atomics.add(words, shards, 1);
+        Atomics.wait(words, v, p, WAIT_MS);
+        Atomics.sub(words, shards, 1);
+      }
+      if (Atomics.load(words, v) === FAILED) return false;
+    }
+    return true;
   }
 
   /** Wait until every event before this shard's at this step is in the logs. */

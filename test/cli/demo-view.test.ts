@@ -3,9 +3,6 @@ import { main } from '../../src/cli/main.js';
 import type { Terminal } from '../../src/cli/terminal.js';
 import { scratch } from '../support/cli.js';
 
-/** The escape that starts a terminal control sequence. */
-const ESC = String.fromCharCode(27);
-
 /**
  * The demo's terminal view (an interactive terminal, redrawn in place): its last frame agrees with the
  * summary printed after it, so a user reading both sees one count of drift signals and replacements.
@@ -30,7 +27,7 @@ describe('shoal demo on an interactive terminal', () => {
     // Redrawn in place: the cursor climbs back over the previous frame.
     expect(err).toMatch(new RegExp(`${ESC}\\[\\d+F`));
     // No line of the view is wider than the terminal (a wrapped line would break the redraw).
-    const drawn = err.split('\n').filter((l) => l.includes('\x1b[2K'));
+    const drawn = err.split('\n').filter((l) => l.includes(`${ESC}[2K`));
     expect(drawn.length).toBeGreaterThan(0);
     for (const line of drawn)
       expect(line.replace(new RegExp(`${ESC}\\[[0-9;]*[A-Za-z]`, 'g'), '').length).toBeLessThanOrEqual(130);

@@ -32,32 +32,8 @@ describe('shoal serve on a real broker', () => {
 
   it('scores 50,000 Arrow events with inline labels into the model replay builds, and exits 0 on SIGTERM having committed', async () => {
     const brokers = inject('kafkaBrokers');
-    const t = serveTopics();
-    await createServeTopics(brokers, t);
     const rows = 50_000;
-    const per = 500;
-    const events = seaEvents(rows, 5);
-    const messages = [];
-    for (let i = 0; i < rows; i += per) messages.push({ value: arrowMessage(events, i, i + per) });
-    await produce(brokers, t.events, messages);
-
-    const dir = await scratch();
-    const journal = join(dir, 'journal.ndjson');
-    const config = join(dir, 'shoal.yaml');
-    await writeFile(
-      config,
-      stringify({
-        ...RUN,
-        kafka: kafkaSection(brokers, t, {
-          journal: { topic: t.journal, file: journal },
-          checkpoint: { dir: join(dir, 'serve-checkpoints') },
-        }),
-      }),
-    );
-    const serve = new ServeProcess(config);
-    const scores = await readTopic(brokers, t.scores, (seen) => countScoreRows(seen) >= rows);
-    serve.signal('SIGTERM');
-    expect(await serve.exited, serve.stderr).toBe(0);
+    const { t, dir, journal, events, messages, scores } = await serveInline(brokers, RUN, rows, 5);
 
     const ids = new Set(scoreRows(scores).map((r) => r.id as string));
     expect(ids.size).toBe(rows);
@@ -69,15 +45,7 @@ describe('shoal serve on a real broker', () => {
     await admin.disconnect();
     expect(done!.partitions[0]!.offset).toBe(String(messages.length));
 
-    const file = join(dir, 'events.arrow');
-    await writeFile(file, tableToIPC(eventTable(events, 0, rows, true), 'file'));
-    await writeFile(join(dir, 'run.yaml'), stringify(RUN));
-    const replay = await shoal(
-      'replay',
-      file,
-      ...['--config', join(dir, 'run.yaml'), '--json', '--checkpoint', join(dir, 'replay-checkpoints')],
-    );
-    expect(replay.code, replay.err).toBe(0);
+    const { file, replay } = await replayOf(dir, RUN, events, rows);
     // The final model: serve's checkpoint written on SIGTERM against replay's last, byte for byte but for
     // what names the source (stream positions, label timing, the decoder's label option: serve's events
     // may lack the label column) and the wall-clock fields (createdAt).
@@ -111,6 +79,25 @@ describe('shoal serve on a real broker', () => {
     ])
       expect(summary[key], key).toBe(offline[key]);
   });
+  it('serves 20,000 events with the members on two worker threads into the model and journal of replay in one thread', async () => {
+    // The default lifecycle (ADWIN monitors, understudies, the proof gate) on a 6-member bagging: seats
+    // are watched and put on trial; the threads keep member ids and the replacement cap as one thread.
+    const run = { ...RUN, seed: 13, ensemble: { kind: 'bagging', members: 6 } };
+    const rows = 20_000;
+    const { dir, journal, events } = await serveInline(inject('kafkaBrokers'), run, rows, 6, [
+      '--threads',
+      '2',
+    ]);
+    const { replay, journal: replayJournal } = await replayOf(dir, run, events, rows);
+    expect(replay.code, replay.err).toBe(0);
+    const checkpoint = await newest(join(dir, 'serve-checkpoints'));
+    expect(checkpoint.state.session.config.threads).toBe(2);
+    expect(model(checkpoint).session).toBe(model(await newest(join(dir, 'replay-checkpoints'))).session);
+    const served = await journalRecords(journal);
+    expect(served.filter((r) => r.type === 'lifecycle').length).toBeGreaterThan(12);
+    expect(served).toEqual(await journalRecords(replayJournal));
+  });
+
   it('joins 50,000 late labels from the labels topic, shuffled up to 2,000 events late, to the predictions served', async () => {
     const brokers = inject('kafkaBrokers');
     const t = serveTopics();
@@ -254,6 +241,74 @@ describe('shoal serve on a real broker', () => {
   });
 });
 
+/**
+ * Serve `rows` SEA events (seed `seed`) with inline labels in 500-row Arrow messages under `run`, the
+ * journal to a file and checkpoints to a folder, until every score is out; then SIGTERM (exit 0).
+ */
+async function serveInline(
+  brokers: string,
+  run: Record<string, unknown>,
+  rows: number,
+  seed: number,
+  args: string[] = [],
+) {
+  const t = serveTopics();
+  await createServeTopics(brokers, t);
+  const per = 500;
+  const events = seaEvents(rows, seed);
+  const messages = [];
+  for (let i = 0; i < rows; i += per) messages.push({ value: arrowMessage(events, i, i + per) });
+  await produce(brokers, t.events, messages);
+  const dir = await scratch();
+  const journal = join(dir, 'journal.ndjson');
+  const config = join(dir, 'shoal.yaml');
+  await writeFile(
+    config,
+    stringify({
+      ...run,
+      kafka: kafkaSection(brokers, t, {
+        journal: { topic: t.journal, file: journal },
+        checkpoint: { dir: join(dir, 'serve-checkpoints') },
+      }),
+    }),
+  );
+  const serve = new ServeProcess(config, {}, args);
+  const scores = await readTopic(brokers, t.scores, (seen) => countScoreRows(seen) >= rows);
+  serve.signal('SIGTERM');
+  expect(await serve.exited, serve.stderr).toBe(0);
+  return { t, dir, journal, events, messages, scores };
+}
+
+/** `replay` (in this process, one thread) of the same events under `run`, with checkpoints and a journal. */
+async function replayOf(
+  dir: string,
+  run: Record<string, unknown>,
+  events: ReturnType<typeof seaEvents>,
+  rows: number,
+) {
+  const file = join(dir, 'events.arrow');
+  await writeFile(file, tableToIPC(eventTable(events, 0, rows, true), 'file'));
+  await writeFile(join(dir, 'run.yaml'), stringify(run));
+  const journal = join(dir, 'replay.ndjson');
+  const replay = await shoal(
+    'replay',
+    file,
+    ...['--config', join(dir, 'run.yaml'), '--json', '--checkpoint', join(dir, 'replay-checkpoints')],
+    ...['--journal', journal],
+  );
+  expect(replay.code, replay.err).toBe(0);
+  return { file, replay, journal };
+}
+
+/** The lifecycle and window records of a journal file. */
+async function journalRecords(path: string): Promise<Record<string, unknown>[]> {
+  return (await readFile(path, 'utf8'))
+    .trim()
+    .split('\n')
+    .map((l) => JSON.parse(l) as Record<string, unknown>)
+    .filter((r) => r.type === 'lifecycle' || r.type === 'window');
+}
+
 /** The newest checkpoint file in `dir`, decoded (its header, length and SHA-256 checked). */
 async function newest(dir: string): Promise<RunCheckpoint<FrameDecoderSnapshot, SessionSnapshot>> {
   const names = (await readdir(dir)).filter((n) => n.endsWith('.shoal')).sort();
@@ -267,7 +322,8 @@ async function newest(dir: string): Promise<RunCheckpoint<FrameDecoderSnapshot, 
 
 /**
  * A checkpoint's model as canonical JSON text: the session's snapshot without its stream positions and
- * the decoder's state without the options it was given; the positions apart.
+ * thread count (how it ran, not what it computed), the decoder's state without the options it was
+ * given; the positions apart.
  */
 function model(c: RunCheckpoint<FrameDecoderSnapshot, SessionSnapshot>): {
   session: string;
@@ -276,5 +332,9 @@ function model(c: RunCheckpoint<FrameDecoderSnapshot, SessionSnapshot>): {
 } {
   const { positions, ...session } = c.state.session;
   const { options: _, ...decoder } = c.state.decoder.state;
-  return { session: canonicalJson(session), decoder: canonicalJson(decoder), positions };
+  return {
+    session: canonicalJson({ ...session, config: { ...session.config, threads: 0 } }),
+    decoder: canonicalJson(decoder),
+    positions,
+  };
 }
