@@ -247,6 +247,9 @@ export class LearningSession {
         `${frame.origin.source}: labels need an id column and a label column to be joined`,
       );
     }
+    if (this.threaded !== null && this.held === null) {
+      throw new ShoalError('invalid-parameter', 'a session on worker threads learns with learnAsync');
+    }
     const now = this.options.clock.event();
     this.expireAt(now);
     const ensemble = this.model;

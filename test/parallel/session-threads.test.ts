@@ -117,6 +117,9 @@ describe('a learning session on worker threads', () => {
       expect(two.session.metrics.epoch).toBe(one.session.metrics.epoch);
       expect(two.session.seats()).toEqual(one.session.seats());
       expect(() => two.session.snapshot()).toThrow(/snapshotAsync/);
+      const next = frameOf(stream(), 10, { ids: true });
+      expect(() => two.session.score(next, ['0', '1'])).toThrow(/scoreAsync/);
+      expect(() => two.session.learn(labelsFrame(['e0'], [1]), ['0', '1'])).toThrow(/learnAsync/);
     } finally {
       await two.session.close();
     }
