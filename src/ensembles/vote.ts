@@ -32,6 +32,10 @@ export function combineVotes(
   classes: number,
   verdict: Verdict,
 ): void {
+  if (classes === 2) {
+    combineTwo(hard, probs, preds, weights, confidence, members, verdict);
+    return;
+  }
   const out = verdict.fit(classes);
   out.fill(0, 0, classes);
   let total = 0;
@@ -74,6 +78,70 @@ export function combineVotes(
   }
   let agree = 0;
   for (let m = 0; m < members; m++) if ((everyone || weights[m]! > 0) && preds[m] === best) agree++;
+  verdict.predicted = best;
+  verdict.voters = voters;
+  verdict.agreement = voters > 0 ? agree / voters : 0;
+}
+
+/**
+ * `combineVotes` for two classes, the common case: the same sums in the same order, bit for bit, kept
+ * in two locals rather than written to the verdict member by member.
+ */
+function combineTwo(
+  hard: boolean,
+  probs: Float64Array,
+  preds: Int32Array,
+  weights: Float64Array,
+  confidence: Float64Array,
+  members: number,
+  verdict: Verdict,
+): void {
+  let total = 0;
+  let voters = 0;
+  for (let m = 0; m < members; m++) {
+    const w = weights[m]!;
+    if (w > 0) {
+      total += w;
+      voters++;
+    }
+  }
+  const everyone = voters === 0;
+  if (everyone) {
+    total = members;
+    voters = members;
+  }
+  let zero = 0;
+  let one = 0;
+  for (let m = 0; m < members; m++) {
+    const w = everyone ? 1 : weights[m]!;
+    if (!(w > 0)) continue;
+    const c = confidence[m]!;
+    const spread = (w * (1 - c)) / 2;
+    if (hard) {
+      zero += spread;
+      one += spread;
+      if (preds[m] === 0) zero += w * c;
+      else one += w * c;
+    } else {
+      const wc = w * c;
+      zero += wc * probs[2 * m]! + spread;
+      one += wc * probs[2 * m + 1]! + spread;
+    }
+  }
+  if (total > 0) {
+    const inv = 1 / total;
+    zero *= inv;
+    one *= inv;
+  } else {
+    zero = 0.5;
+    one = 0.5;
+  }
+  const best = one > zero ? 1 : 0;
+  let agree = 0;
+  for (let m = 0; m < members; m++) if ((everyone || weights[m]! > 0) && preds[m] === best) agree++;
+  const out = verdict.fit(2);
+  out[0] = zero;
+  out[1] = one;
   verdict.predicted = best;
   verdict.voters = voters;
   verdict.agreement = voters > 0 ? agree / voters : 0;

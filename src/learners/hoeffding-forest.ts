@@ -1,4 +1,5 @@
 import { HoeffdingTree } from './hoeffding-tree.js';
+import { forestLeaf } from './hoeffding-tree-nodes.js';
 import type { Classifier } from './learner.js';
 
 /**
@@ -69,7 +70,10 @@ export class TreeForest {
     for (let m = 0; m < count && this.usable; m++)
       if (this.trees[m]!.structure !== this.copied[m]) this.copy(m);
     if (!this.usable) return false;
-    for (let j = 0; j < this.width; j++) if (Number.isNaN(row[offset + j]!)) return false;
+    // A NaN anywhere makes the sum NaN (so do infinities of both signs: those rows walk on their own too).
+    let sum = 0;
+    for (let j = 0; j < this.width; j++) sum += row[offset + j]!;
+    if (Number.isNaN(sum)) return false;
     const hotF = this.hotF;
     const hotI = this.hotI;
     const starts = this.starts;
@@ -115,7 +119,7 @@ export class TreeForest {
 
   /** Member `m`'s `score` at the leaf the last `walk` reached. */
   score(m: number, row: Float64Array, offset: number, out: Float64Array, outOffset: number): number {
-    return this.trees[m]!.scoreAt(this.at[m]! - this.starts[m]!, row, offset, out, outOffset);
+    return this.trees[m]!.scoreLeaf(forestLeaf(this.hotI, this.at[m]!), row, offset, out, outOffset);
   }
 
   /** Member `m`'s `scoreTrain` at the leaf the last `walk` reached, unchecked (see `scoreTrainAt`). */

@@ -20,6 +20,15 @@ const I_FIRST = 3;
  * columns); the cap still counts the 36 of the former layout, so that it keeps the trees it kept.
  */
 export const NODE_BYTES = 36;
+/** The high word of a quiet NaN, and where a double's high and low int32 words sit on this platform. */
+const QUIET_NAN_HIGH = 0x7ff80000;
+const HIGH_WORD = new Int32Array(new Float64Array([-0]).buffer)[1] !== 0 ? 1 : 0;
+const LOW_WORD = 1 - HIGH_WORD;
+
+/** The leaf index a forest arena's leaf record `n` carries in its threshold (see `copyInto`). */
+export function forestLeaf(hotI: Int32Array, n: number): number {
+  return hotI[4 * n + LOW_WORD]!;
+}
 
 export interface NodesState {
   readonly nodes: number;
@@ -100,16 +109,19 @@ export class TreeNodes {
 
   /**
    * Copy the hot records into a forest arena (see `TreeForest`) at node `base`: children shifted by
-   * `base`, and each leaf a record that points to itself and that no value leaves (threshold +∞, feature
-   * 0), so that a walk can take every step without testing for leaves. Returns false, copying nothing
-   * more, at the first nominal split: a forest walk compares numbers only.
+   * `base`, and each leaf a record that points to itself and that no value leaves, so that a walk can
+   * take every step without testing for leaves. A leaf's threshold is a quiet NaN whose low 32 bits are
+   * its leaf index (`forestLeaf`): no number is above a NaN, and the walk that stops on the record reads
+   * the leaf from the cache line it already holds, not from the cold column. Returns false, copying
+   * nothing more, at the first nominal split: a forest walk compares numbers only.
    */
   copyInto(hotF: Float64Array, hotI: Int32Array, base: number, cardinality: Int32Array): boolean {
     for (let n = 0; n < this.count; n++) {
       const at = base + n;
       const f = this.hotI[4 * n + I_FEATURE]!;
       if (f < 0) {
-        hotF[HOT * at] = Number.POSITIVE_INFINITY;
+        hotI[4 * at + LOW_WORD] = this.leafOf[n]!;
+        hotI[4 * at + HIGH_WORD] = QUIET_NAN_HIGH;
         hotI[4 * at + I_FEATURE] = 0;
         hotI[4 * at + I_FIRST] = at;
       } else {

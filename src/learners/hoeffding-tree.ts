@@ -317,11 +317,11 @@ export class HoeffdingTree implements Classifier {
   }
 
   /**
-   * `score` for a row a forest walk has already routed to leaf node `node`, unchecked: the forest's
-   * caller checked the row, and `out` has room for every member's classes.
+   * `score` for a row a forest walk has already routed to leaf `leaf` (a leaf index, not a node),
+   * unchecked: the forest's caller checked the row, and `out` has room for every member's classes.
    */
-  scoreAt(node: number, row: Float64Array, offset: number, out: Float64Array, outOffset: number): number {
-    return this.predictAt(this.nodes.leafOf[node]!, row, offset, out, outOffset);
+  scoreLeaf(leaf: number, row: Float64Array, offset: number, out: Float64Array, outOffset: number): number {
+    return this.predictAt(leaf, row, offset, out, outOffset);
   }
 
   snapshot(): LearnerSnapshot {

@@ -3,13 +3,13 @@ import { main } from '../../src/cli/main.js';
 import type { Terminal } from '../../src/cli/terminal.js';
 import { scratch } from '../support/cli.js';
 
+/** The escape that starts a terminal control sequence. */
+const ESC = String.fromCharCode(27);
+
 /**
  * The demo's terminal view (an interactive terminal, redrawn in place): its last frame agrees with the
  * summary printed after it, so a user reading both sees one count of drift signals and replacements.
  */
-/** The escape that starts a terminal control sequence. */
-const ESC = String.fromCharCode(27);
-
 describe('shoal demo on an interactive terminal', () => {
   it('draws the view in place and its last frame counts what the summary counts', async () => {
     let out = '';

@@ -53,7 +53,7 @@ describe('shoal inspect', () => {
     const session = stored.checkpoint.state.session as SessionSnapshot;
     expect(s.file).toBe(stored.where);
     expect(s.refused).toEqual([]);
-    // The fingerprint leaves the thread count out (how a run is spread over cores, not what it computes).
+    // The fingerprint leaves out `threads`: a checkpoint resumes on any number of threads.
     expect(s.fingerprint).toBe(configFingerprint(modelConfig(session.config)));
     expect(s.createdAt).toBe(stored.checkpoint.state.createdAt);
     expect(Number.isNaN(Date.parse(s.createdAt))).toBe(false);
