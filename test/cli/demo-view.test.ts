@@ -1,7 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { main } from '../../src/cli/main.js';
-import type { Terminal } from '../../src/cli/terminal.js';
-import { scratch } from '../support/cli.js';
+import { scratch, shoalOn } from '../support/cli.js';
 
 /** The escape that starts a terminal control sequence. */
 const ESC = String.fromCharCode(27);
@@ -12,21 +10,16 @@ const ESC = String.fromCharCode(27);
  */
 describe('shoal demo on an interactive terminal', () => {
   it('draws the view in place and its last frame counts what the summary counts', async () => {
-    let out = '';
-    let err = '';
-    const terminal: Terminal = {
-      out: (t) => {
-        out += t;
-      },
-      err: (t) => {
-        err += t;
-      },
-      interactive: true,
-      columns: 130,
-      now: () => performance.now(),
-    };
     const dir = await scratch();
-    expect(await main(['demo', '--rows', '20000', '--out', dir], terminal)).toBe(0);
+    const { code, out, err } = await shoalOn(
+      { interactive: true, columns: 130 },
+      'demo',
+      '--rows',
+      '20000',
+      '--out',
+      dir,
+    );
+    expect(code).toBe(0);
     // Redrawn in place: the cursor climbs back over the previous frame.
     expect(err).toMatch(new RegExp(`${ESC}\\[\\d+F`));
     // No line of the view is wider than the terminal (a wrapped line would break the redraw).

@@ -12,7 +12,15 @@ export interface Ran {
 }
 
 /** Run `shoal ARGS` in-process with a captured, non-interactive terminal. */
-export async function shoal(...args: string[]): Promise<Ran> {
+export function shoal(...args: string[]): Promise<Ran> {
+  return shoalOn({ interactive: false }, ...args);
+}
+
+/** Run `shoal ARGS` in-process with a captured terminal of the given kind (interactive, width). */
+export async function shoalOn(
+  kind: Pick<Terminal, 'interactive' | 'columns'>,
+  ...args: string[]
+): Promise<Ran> {
   let out = '';
   let err = '';
   const terminal: Terminal = {
@@ -22,7 +30,7 @@ export async function shoal(...args: string[]): Promise<Ran> {
     err: (t) => {
       err += t;
     },
-    interactive: false,
+    ...kind,
     now: () => performance.now(),
   };
   const code = await main(args, terminal);
