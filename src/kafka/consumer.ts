@@ -108,7 +108,7 @@ export class EventConsumer {
       // kafkajs restarts the consumer after any failure by default: a batch it cannot decode (a corrupt
       // one, or a codec with no decoder registered) would then be fetched and refused forever. Restart only after a transient failure (a
       // broker away for longer than the retries ends in a retriable cause), and stop on anything else.
-      retry: { restartOnFailure: async (e: Error) => transient(e) },
+      retry: { restartOnFailure: async (e: Error) => restartsAfter(e) },
     });
     this.admin = kafka.admin();
     this.finished = new Promise((done) => {
@@ -324,11 +324,13 @@ export interface ConsumerOutcome {
 }
 
 /**
- * Whether a crash is transient, so that the consumer restarts: some error on its chain of causes is
- * retriable or a lost connection (kafkajs wraps a refused connection in errors it marks non-retriable
- * once its own retries ran out), and none says a codec is missing (that batch would fail again forever).
+ * Whether the consumer restarts after a crash: some error on its chain of causes is retriable, a lost
+ * connection or a coordinator that cannot be found (kafkajs wraps a refused connection, and a group
+ * coordinator it found no broker to ask for, in errors it marks non-retriable once its own retries ran
+ * out: both mean the broker is away), and none says a codec is missing (that batch would fail again
+ * forever).
  */
-function transient(e: Error): boolean {
+export function restartsAfter(e: Error): boolean {
   const chain: Error[] = [];
   for (
     let at: unknown = e;
@@ -341,7 +343,7 @@ function transient(e: Error): boolean {
   return chain.some(
     (x) =>
       (x as { retriable?: boolean }).retriable === true ||
-      /Connection|NoBrokerAvailable|BrokerNotFound/.test(x.name) ||
+      /Connection|NoBrokerAvailable|BrokerNotFound|GroupCoordinatorNotFound/.test(x.name) ||
       /connection|ECONNREFUSED|ECONNRESET|ETIMEDOUT|not connected/i.test(x.message),
   );
 }

@@ -8,7 +8,7 @@ export { registerCodecs } from './codecs.js';
 export type { KafkaSettings, SaslMechanism, Scope, Secrets } from './config.js';
 export { readSecrets, resolveKafkaSettings } from './config.js';
 export type { Assignment, BatchControl, BatchHandler, FetchedBatch } from './consumer.js';
-export { EventConsumer } from './consumer.js';
+export { EventConsumer, restartsAfter } from './consumer.js';
 export type { DeadLetter, DeadLetterCode, EventBatch } from './decode.js';
 export { BatchDecoder } from './decode.js';
 export type { LogLevelName } from './log.js';
