@@ -132,8 +132,10 @@ export class TreeForest {
     out: Float64Array,
     outOffset: number,
   ): number {
+    const at = this.at[m]!;
     return this.trees[m]!.scoreTrainAt(
-      this.at[m]! - this.starts[m]!,
+      at - this.starts[m]!,
+      forestLeaf(this.hotI, at),
       row,
       offset,
       label,

@@ -234,7 +234,7 @@ export class HoeffdingTree implements Classifier {
     const leaf = this.nodes.leafOf[node]!;
     // The adaptive leaf keeps score of both of its models, so it answers the row before it learns it.
     if (this.mode === PREDICT_ADAPTIVE && this.leaves.slotOf[leaf]! >= 0)
-      this.scoreTrainAt(node, row, offset, label, weight, this.probe, 0);
+      this.scoreTrainAt(node, leaf, row, offset, label, weight, this.probe, 0);
     else this.learnAt(node, leaf, row, offset, label, weight, -1, -1);
   }
 
@@ -251,15 +251,16 @@ export class HoeffdingTree implements Classifier {
     checkWeight(KIND, weight);
     checkOut(KIND, out, outOffset, this.leaves.c);
     const node = this.nodes.route(row, offset, this.leaves.cardinalities);
-    return this.scoreTrainAt(node, row, offset, label, weight, out, outOffset);
+    return this.scoreTrainAt(node, this.nodes.leafOf[node]!, row, offset, label, weight, out, outOffset);
   }
 
   /**
-   * `scoreTrain` for a row a forest walk has already routed to leaf node `node`, unchecked: the caller
-   * checked the row and the label, and `weight` and `out` are its own.
+   * `scoreTrain` for a row a forest walk has already routed to leaf node `node` of leaf `leaf`, unchecked:
+   * the caller checked the row and the label, and `weight` and `out` are its own.
    */
   scoreTrainAt(
     node: number,
+    leaf: number,
     row: Float64Array,
     offset: number,
     label: number,
@@ -268,7 +269,6 @@ export class HoeffdingTree implements Classifier {
     outOffset: number,
   ): number {
     const leaves = this.leaves;
-    const leaf = this.nodes.leafOf[node]!;
     if (!(weight > 0)) return this.predictAt(leaf, row, offset, out, outOffset);
     // The prediction, and the answers of both leaf models that the adaptive leaf's score needs.
     const head = leaf * leaves.headSize;
