@@ -54,6 +54,8 @@ export interface CheckpointSummary {
   readonly epoch: number;
   readonly positions: Readonly<Record<string, string>>;
   readonly pending: { readonly waiting: number; readonly capacity: number } | null;
+  /** Labels that came before their events, held for them. */
+  readonly early: { readonly waiting: number; readonly capacity: number };
   /** The evaluation window: accuracy and κ of a classification, RMSE and MAE of a regression. */
   readonly window: {
     readonly accuracy: number | null;
@@ -141,6 +143,7 @@ export function summarizeCheckpoint(
       session.pending === null
         ? null
         : { waiting: session.pending.ids.length, capacity: session.pending.capacity },
+    early: { waiting: session.early.ids.length, capacity: session.early.capacity },
     window:
       judged > 0 ? windowOf(scorecard.windowed()) : { accuracy: null, kappa: null, rmse: null, mae: null },
     seats,
@@ -171,6 +174,7 @@ function render(s: CheckpointSummary): string {
         ? '–'
         : `${count(s.pending.waiting)} waiting (room for ${count(s.pending.capacity)})`,
     ],
+    ['early labels', `${count(s.early.waiting)} waiting (room for ${count(s.early.capacity)})`],
     [
       'recent window',
       s.window.rmse !== null
