@@ -8,9 +8,9 @@ import {
   HELD,
   HELD_PUSHED_OUT,
 } from '../../src/pipeline/early-labels.js';
-import { LearningSession, type SessionSnapshot } from '../../src/pipeline/index.js';
+import type { LearningSession, SessionSnapshot } from '../../src/pipeline/index.js';
 import { buildStream, type StreamGenerator } from '../../src/streams/index.js';
-import { frameOf, labelsFrame, manualClock, memoryJournal, session } from './session-support.js';
+import { frameOf, labelsFrame, manualClock, restoreThroughJson, session } from './session-support.js';
 
 const roundTrip = (early: EarlyLabels): EarlyLabels =>
   EarlyLabels.restore(JSON.parse(JSON.stringify(early.snapshot())) as EarlyLabelsSnapshot);
@@ -175,14 +175,7 @@ describe('a session given labels before their events', () => {
     const ids = Array.from({ length: BATCH }, (_, r) => `e${half * BATCH + r}`);
     first.session.learn(labelsFrame(ids, frame.truth), g.classes);
     expect(first.session.labelCounts().held).toBe(BATCH);
-    const text = JSON.stringify(first.session.snapshot());
-    const journal = memoryJournal();
-    const restored = LearningSession.restore(JSON.parse(text) as SessionSnapshot, {
-      source: 'test stream',
-      journal,
-      clock: manualClock(),
-      version: '0.0.0-test',
-    });
+    const { text, journal, restored } = restoreThroughJson(first.session);
     expect(JSON.stringify(restored.snapshot())).toBe(text);
     // The uninterrupted run, told the same: all of that batch's labels early, then the batch.
     const wholeAgain = start();

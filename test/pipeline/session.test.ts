@@ -1,10 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import { Rng } from '../../src/core/index.js';
 import type { LabelCounts, WindowRecord } from '../../src/journal/index.js';
-import { LearningSession, type SessionSnapshot } from '../../src/pipeline/index.js';
+import type { LearningSession } from '../../src/pipeline/index.js';
 import type { PendingStore } from '../../src/pipeline/pending-store.js';
 import { buildStream, rbf, type StreamGenerator } from '../../src/streams/index.js';
-import { frameOf, labelsFrame, manualClock, memoryJournal, session } from './session-support.js';
+import { frameOf, labelsFrame, manualClock, restoreThroughJson, session } from './session-support.js';
 
 /** Feed `rows` rows of a generator in batches of 500, labels inline unless hidden. */
 function inline(s: LearningSession, gen: StreamGenerator, rows: number, hide?: (i: number) => boolean): void {
@@ -290,14 +290,7 @@ describe('the learning session', () => {
     const driver = new LateLabels(due);
     driver.run(first.session, g, 0, rows / 2);
     expect(first.session.metrics.pendingSize).toBeGreaterThan(0);
-    const text = JSON.stringify(first.session.snapshot());
-    const journal = memoryJournal();
-    const restored = LearningSession.restore(JSON.parse(text) as SessionSnapshot, {
-      source: 'test stream',
-      journal,
-      clock: manualClock(),
-      version: '0.0.0-test',
-    });
+    const { text, journal, restored } = restoreThroughJson(first.session);
     expect(JSON.stringify(restored.snapshot())).toBe(text);
     driver.run(restored, g, rows / 2, rows);
     expect(JSON.stringify(restored.snapshot())).toBe(JSON.stringify(whole.session.snapshot()));
