@@ -10,7 +10,15 @@ import {
   type LifecycleSnapshot,
   type SeatView,
 } from '../ensembles/index.js';
-import { channelControl, ShardAnswers, ShardClient, type ShardReply, shardReady } from './shard-channel.js';
+import {
+  type BatchBuffers,
+  channelControl,
+  ShardAnswers,
+  ShardClient,
+  type ShardReply,
+  sameBuffers,
+  shardReady,
+} from './shard-channel.js';
 import { LedgerHost } from './shard-ledger.js';
 import { SharedVerdicts } from './shard-votes.js';
 
@@ -22,9 +30,10 @@ import { SharedVerdicts } from './shard-votes.js';
  * for the same seed, whatever the number of threads.
  *
  * Work moves in batches of rows (a frame), not rows: each worker scores (and trains) its seats on the
- * whole batch, then, once all have, combines its share of the rows' votes (shard-votes.ts). Rows and answers cross threads in shared
- * memory (see `shard-channel.ts`), so a batch costs no copies; this thread holds no seats and, while the
- * workers run, never blocks (`Atomics.waitAsync`), so its event loop keeps serving.
+ * whole batch, then combines the rows' votes chunk by chunk with the others, as the rows are answered by
+ * every shard (shard-votes.ts). Rows and answers cross threads in shared memory (see `shard-channel.ts`),
+ * so a batch costs no copies; this thread holds no seats and, while the workers run, never blocks
+ * (`Atomics.waitAsync`), so its event loop keeps serving.
  *
  * @example
  * const bag = await ParallelBagging.start(schema, { members: 10 }, 7, 2);
@@ -56,6 +65,8 @@ export class ParallelBagging {
   /** The batch in shared memory, grown as needed. */
   private values = new Float64Array(new SharedArrayBuffer(0));
   private labels = new Float64Array(new SharedArrayBuffer(0));
+  /** The buffers of the last batch sent (the workers keep views of them). */
+  private sent: BatchBuffers | null = null;
   /** A request is out: its buffers are in use until its replies are in. */
   private busy = false;
   private trained: number;
@@ -174,12 +185,12 @@ export class ParallelBagging {
       this.labels[r] = label;
       if (label + 1 > classes) classes = label + 1;
     }
-    await this.run(values, this.labels, rows, classes, out);
+    await this.run(values, true, rows, classes, out);
   }
 
   /** Score every row of a batch (`classes` is the most classes a row's answers may cover). */
   async scoreBatch(values: Float64Array, rows: number, out: BatchVerdicts): Promise<void> {
-    await this.run(values, null, rows, Math.max(this.known, this.announced), out);
+    await this.run(values, false, rows, Math.max(this.known, this.announced), out);
   }
 
   /** The ensemble's snapshot, as one thread's `Bagging.snapshot()` would give it. */
@@ -214,7 +225,7 @@ export class ParallelBagging {
 
   private async run(
     values: Float64Array,
-    labels: Float64Array<SharedArrayBuffer> | null,
+    train: boolean,
     rows: number,
     classes: number,
     out: BatchVerdicts,
@@ -235,16 +246,23 @@ export class ParallelBagging {
     const stride = Math.max(classes, 1);
     const all = this.shards.map((s, i) => s.answers.fit(rows, this.counts[i]!, stride));
     const verdicts = this.verdicts.fit(rows, stride, this.members);
-    const replies = await this.ask(() => ({
-      kind: 'batch',
-      rows,
-      classes: this.announced,
+    const buffers: BatchBuffers = {
       values: this.values.buffer,
-      labels: labels === null ? null : labels.buffer,
+      labels: this.labels.buffer,
       all,
       counts: this.counts,
       verdicts,
       ledger: ledger.words.buffer,
+    };
+    // The workers keep the buffers of the last batch: new ones go out only when one changed.
+    const changed = this.sent === null || !sameBuffers(this.sent, buffers);
+    if (changed) this.sent = buffers;
+    const replies = await this.ask(() => ({
+      kind: 'batch',
+      rows,
+      classes: this.announced,
+      train,
+      buffers: changed ? buffers : null,
       cap: ledger.cap,
       nextId: ledger.nextId,
       history: ledger.history,

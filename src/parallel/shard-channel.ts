@@ -2,18 +2,20 @@ import { type MessagePort, receiveMessageOnPort } from 'node:worker_threads';
 import { ShoalError, type ShoalErrorCode } from '../core/index.js';
 import { type Bagging, type EnsembleSnapshot, type SeatView, Verdict } from '../ensembles/index.js';
 import type { LifecycleChange } from '../journal/index.js';
-import { FAILED, type ShardLedger } from './shard-ledger.js';
-import { type AnswerBuffers, combineRows, type VerdictBuffers } from './shard-votes.js';
+import { FAILED, poll, type ShardLedger } from './shard-ledger.js';
+import { type AnswerBuffers, RowCombiner, type VerdictBuffers } from './shard-votes.js';
 
 /**
  * How a batch of rows reaches a shard of a bagging ensemble in another thread, and how its members'
  * answers come back, without copies: rows, labels, answers and the ledger (shard-ledger.ts) live in
- * shared memory, and control words wake the sides — the worker blocks in `Atomics.wait`, the main
- * thread awaits `Atomics.waitAsync`, so its event loop (Kafka heartbeats, scrapes) runs while a batch
- * is out — request number, number of requests done, a progress counter the shard bumps every 256 rows,
- * so that the waiting side can tell a long batch from a worker that stopped, and a ready flag the worker
- * raises once its shard is built. A request names its buffers in a message on a port that the worker
- * reads synchronously when woken; its reply (the lifecycle changes of the batch, the seats after it,
+ * shared memory, and control words wake the sides — the worker polls a few microseconds, then blocks in
+ * `Atomics.wait`; the main thread awaits `Atomics.waitAsync`, so its event loop (Kafka heartbeats,
+ * scrapes) runs while a batch is out — request number, number of requests done, a progress counter the
+ * shard bumps every 256 rows, so that the waiting side can tell a long batch from a worker that stopped,
+ * and a ready flag the worker raises once its shard is built. A request is a message on a port that the
+ * worker reads synchronously when woken: the batch's size and the ledger's start, and the shared
+ * buffers only when they changed (a message carrying some twenty shared buffers costs tens of
+ * microseconds to send and to read); its reply (the lifecycle changes of the batch, the seats after it,
  * or an error; a snapshot when asked) comes back the same way before the request is marked done.
  */
 const C_REQUEST = 0;
@@ -21,29 +23,48 @@ const C_DONE = 1;
 const C_PROGRESS = 2;
 const C_READY = 3;
 const PROGRESS_EVERY = 256;
+/** Rows the workers combine at a time. */
+const CHUNK = 64;
 /** A worker that makes no progress for this long is declared lost. */
 const SILENCE_MS = 30_000;
 const WAIT_MS = 1000;
 
 /**
- * A batch for a shard: shared rows and labels (NaN: score only), the ledger, where the answers go and
- * where the verdicts go.
+ * The shared memory of a batch: rows and labels, every shard's answers (shard w's at w, in shard order)
+ * and the seats each holds, where the combined verdicts go, and the ledger. Sent only when one of them
+ * changes (a larger batch, a new class): a worker keeps its views of the last ones.
  */
+export interface BatchBuffers {
+  readonly values: SharedArrayBuffer;
+  readonly labels: SharedArrayBuffer;
+  readonly all: readonly AnswerBuffers[];
+  readonly counts: readonly number[];
+  readonly verdicts: VerdictBuffers;
+  readonly ledger: SharedArrayBuffer;
+}
+
+/** A batch for a shard: its rows, trained on (labels NaN: score only) or scored, and the ledger's start. */
 export interface BatchRequest {
   readonly kind: 'batch';
   readonly rows: number;
   readonly classes: number;
-  readonly values: SharedArrayBuffer;
-  readonly labels: SharedArrayBuffer | null;
-  /** Every shard's answers (this one's at its number), in shard order, and the seats each holds. */
-  readonly all: readonly AnswerBuffers[];
-  readonly counts: readonly number[];
-  /** Where the combined verdicts go. */
-  readonly verdicts: VerdictBuffers;
-  readonly ledger: SharedArrayBuffer;
+  readonly train: boolean;
+  /** The buffers, when they changed since the last batch (null: the same). */
+  readonly buffers: BatchBuffers | null;
   readonly cap: number;
   readonly nextId: number;
   readonly history: readonly number[];
+}
+
+/** Whether two sets of batch buffers are the same memory. */
+export function sameBuffers(a: BatchBuffers, b: BatchBuffers): boolean {
+  return (
+    a.values === b.values &&
+    a.labels === b.labels &&
+    a.ledger === b.ledger &&
+    a.verdicts === b.verdicts &&
+    a.all.every((answers, i) => answers === b.all[i])
+  );
 }
 
 export type ShardRequest = BatchRequest | { readonly kind: 'snapshot' } | { readonly kind: 'stop' };
@@ -75,19 +96,29 @@ export class ShardAnswers {
   classes = new Int32Array(new SharedArrayBuffer(0));
   accuracy = new Float64Array(new SharedArrayBuffer(0));
 
+  /** The last buffers handed out: the same object while none changed. */
+  private buffers: AnswerBuffers | null = null;
+
   /** Make room for `rows` rows of `members` answers over `stride` classes. */
   fit(rows: number, members: number, stride: number): AnswerBuffers {
+    let changed = this.buffers === null || stride !== this.stride;
     this.stride = stride;
     if (this.probs.length < rows * members * stride) {
       this.probs = new Float64Array(new SharedArrayBuffer(8 * rows * members * stride));
+      changed = true;
     }
     if (this.preds.length < rows * members) {
       this.preds = new Int32Array(new SharedArrayBuffer(4 * rows * members));
       this.weights = new Float64Array(new SharedArrayBuffer(16 * rows * members));
       this.accuracy = new Float64Array(new SharedArrayBuffer(8 * rows * members));
+      changed = true;
     }
-    if (this.classes.length < rows) this.classes = new Int32Array(new SharedArrayBuffer(4 * rows));
-    return {
+    if (this.classes.length < rows) {
+      this.classes = new Int32Array(new SharedArrayBuffer(4 * rows));
+      changed = true;
+    }
+    if (!changed) return this.buffers!;
+    this.buffers = {
       stride,
       probs: this.probs.buffer,
       preds: this.preds.buffer,
@@ -95,6 +126,35 @@ export class ShardAnswers {
       classes: this.classes.buffer,
       accuracy: this.accuracy.buffer,
     };
+    return this.buffers;
+  }
+}
+
+/** A worker's views of the batch buffers, made when they change. */
+class BatchViews {
+  readonly values: Float64Array;
+  readonly labels: Float64Array;
+  readonly probs: Float64Array;
+  readonly preds: Int32Array;
+  readonly weights: Float64Array;
+  readonly classes: Int32Array;
+  readonly accuracy: Float64Array;
+  readonly stride: number;
+  readonly ledger: Int32Array;
+  readonly combiner: RowCombiner;
+
+  constructor(buffers: BatchBuffers, shard: number, hard: boolean) {
+    const answers = buffers.all[shard]!;
+    this.values = new Float64Array(buffers.values);
+    this.labels = new Float64Array(buffers.labels);
+    this.probs = new Float64Array(answers.probs);
+    this.preds = new Int32Array(answers.preds);
+    this.weights = new Float64Array(answers.weights);
+    this.classes = new Int32Array(answers.classes);
+    this.accuracy = new Float64Array(answers.accuracy);
+    this.stride = answers.stride;
+    this.ledger = new Int32Array(buffers.ledger);
+    this.combiner = new RowCombiner(buffers.all, buffers.counts, hard, buffers.verdicts);
   }
 }
 
@@ -102,17 +162,15 @@ export class ShardAnswers {
  * Score (label NaN) or score and train a shard on each row of a batch, writing every member's answers
  * row by row; the ledger is told each step and each step done.
  */
-function runShard(shard: Bagging, ledger: ShardLedger, request: BatchRequest, control: Int32Array): void {
-  const { rows } = request;
-  const answers = request.all[ledger.shard]!;
-  const values = new Float64Array(request.values);
-  const labels = request.labels === null ? null : new Float64Array(request.labels);
-  const probs = new Float64Array(answers.probs);
-  const preds = new Int32Array(answers.preds);
-  const weights = new Float64Array(answers.weights);
-  const classes = new Int32Array(answers.classes);
-  const accuracy = new Float64Array(answers.accuracy);
-  const stride = answers.stride;
+function runShard(
+  shard: Bagging,
+  ledger: ShardLedger,
+  request: BatchRequest,
+  views: BatchViews,
+  control: Int32Array,
+): void {
+  const { rows, train } = request;
+  const { values, labels, probs, preds, weights, classes, accuracy, stride } = views;
   const width = shard.schema.features.length;
   shard.ensureClasses(request.classes);
   const members = shard.options.members;
@@ -123,7 +181,7 @@ function runShard(shard: Bagging, ledger: ShardLedger, request: BatchRequest, co
     // A label of a new class grows the scratch after the row, into new arrays: answers are in these.
     const c = m.classes;
     const answered = m.probs;
-    const label = labels === null ? Number.NaN : labels[r]!;
+    const label = train ? labels[r]! : Number.NaN;
     if (Number.isNaN(label)) shard.score(values, r * width, verdict);
     else shard.train(values, r * width, label);
     const at = r * members;
@@ -137,6 +195,18 @@ function runShard(shard: Bagging, ledger: ShardLedger, request: BatchRequest, co
     }
     ledger.done(r + 1);
     if (r % PROGRESS_EVERY === 0) Atomics.add(control, C_PROGRESS, 1);
+  }
+}
+
+/**
+ * Combine chunks of the batch's rows until none is left, each once every shard has answered its rows
+ * (none when a shard failed: the batch fails as a whole).
+ */
+function combineChunks(ledger: ShardLedger, rows: number, combiner: RowCombiner): void {
+  for (let from = ledger.claim() * CHUNK; from < rows; from = ledger.claim() * CHUNK) {
+    const to = Math.min(rows, from + CHUNK);
+    if (!ledger.awaitAll(to)) return;
+    combiner.rows(from, to);
   }
 }
 
@@ -232,8 +302,10 @@ export function serveShard(
   Atomics.store(control, C_READY, 1);
   Atomics.notify(control, C_READY);
   let done = 0;
+  let views: BatchViews | null = null;
   for (;;) {
-    Atomics.wait(control, C_REQUEST, done);
+    // A request that comes within a few microseconds (the next batch, sent at once) finds this thread awake.
+    if (poll(control, C_REQUEST, done + 1) === done) Atomics.wait(control, C_REQUEST, done);
     // Requests are answered in order, one message each, however many arrived while this thread worked.
     for (let m = receiveMessageOnPort(port); m !== undefined; m = receiveMessageOnPort(port)) {
       const request = m.message as ShardRequest;
@@ -248,16 +320,11 @@ export function serveShard(
       try {
         if (request.kind === 'snapshot') snapshot = shard.snapshot();
         else {
-          ledger.begin(new Int32Array(request.ledger), request.cap, request.nextId, request.history);
-          runShard(shard, ledger, request, control);
-          // Once every shard has answered every row, this one combines its share of the rows.
-          const { rows, counts } = request;
-          const n = counts.length;
-          if (ledger.awaitAll(rows)) {
-            const from = Math.floor((ledger.shard * rows) / n);
-            const to = Math.floor(((ledger.shard + 1) * rows) / n);
-            combineRows(request.all, counts, shard.options.vote === 'hard', from, to, request.verdicts);
-          }
+          if (request.buffers !== null)
+            views = new BatchViews(request.buffers, ledger.shard, shard.options.vote === 'hard');
+          ledger.begin(views!.ledger, request.cap, request.nextId, request.history);
+          runShard(shard, ledger, request, views!, control);
+          combineChunks(ledger, request.rows, views!.combiner);
         }
       } catch (e) {
         // Shards stop at the same bad row; one that waits on this one must not wait for good.
