@@ -219,7 +219,10 @@ export class ParallelBagging {
 
   /** Stop the workers. */
   async close(): Promise<void> {
-    for (const s of this.shards) s.client.post({ kind: 'stop' });
+    for (const s of this.shards) {
+      s.client.post({ kind: 'stop' });
+      s.client.wake();
+    }
     await Promise.all(this.shards.map((s) => s.worker.terminate()));
   }
 
@@ -307,6 +310,7 @@ export class ParallelBagging {
         s.worker.ref();
         s.client.post(request(s, i));
       });
+      for (const s of this.shards) s.client.wake();
       const replies: ShardReply[] = [];
       let failure: unknown = null;
       for (const s of this.shards) {

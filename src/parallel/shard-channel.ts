@@ -251,8 +251,16 @@ export class ShardClient {
     this.control = control;
   }
 
+  /** Send a request (the worker reads it once woken). */
   post(request: ShardRequest): void {
     this.port.postMessage(request);
+  }
+
+  /**
+   * Wake the worker for the request sent. A woken worker may take this thread's core, so a batch is
+   * sent to every worker before any is woken.
+   */
+  wake(): void {
     Atomics.store(this.control, C_REQUEST, ++this.sent);
     Atomics.notify(this.control, C_REQUEST);
   }
