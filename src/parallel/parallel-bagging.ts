@@ -18,6 +18,9 @@ import {
   type ShardReply,
   sameBuffers,
   shardReady,
+  shardStatus,
+  statusCounts,
+  statusSeats,
 } from './shard-channel.js';
 import { LedgerHost } from './shard-ledger.js';
 import { SharedVerdicts } from './shard-votes.js';
@@ -46,6 +49,10 @@ interface RemoteShard {
   readonly worker: Worker;
   readonly client: ShardClient;
   readonly answers: ShardAnswers;
+  /** Where the worker writes its status after each request. */
+  readonly status: Float64Array;
+  /** Seats of the shards before it. */
+  readonly first: number;
   /** Why the worker stopped, once it has (noticed between batches). */
   lost: string | null;
 }
@@ -72,7 +79,12 @@ export class ParallelBagging {
   private trained: number;
   private known: number;
   private announced: number;
-  private views: SeatView[];
+  /** The seats after the last batch, made when asked. */
+  private views: SeatView[] | null;
+  /** Each shard's status after the last batch (copied: the next batch overwrites the shared one). */
+  private readonly status: Float64Array[];
+  /** Each seat's kind (a seat keeps its kind). */
+  private readonly kinds: string[];
   private bytes: number;
 
   private constructor(whole: Bagging, snapshot: EnsembleSnapshot, shards: RemoteShard[], counts: number[]) {
@@ -94,6 +106,8 @@ export class ParallelBagging {
     this.known = whole.classes;
     this.announced = whole.classes;
     this.views = whole.seats();
+    this.kinds = this.views.map((v) => v.kind);
+    this.status = shards.map((s) => new Float64Array(s.status.length));
     this.bytes = whole.sizeBytes();
   }
 
@@ -154,6 +168,7 @@ export class ParallelBagging {
 
   /** The seats as they were after the last batch. */
   seats(): SeatView[] {
+    this.views ??= this.shards.flatMap((s, i) => statusSeats(this.status[i]!, s.first, this.kinds));
     return this.views;
   }
 
@@ -270,11 +285,14 @@ export class ParallelBagging {
       nextId: ledger.nextId,
       history: ledger.history,
     }));
-    const first = replies[0]!;
-    this.trained = first.rows;
-    this.known = first.classes;
-    this.views = replies.flatMap((r) => r.seats);
-    this.bytes = replies.reduce((sum, r) => sum + r.bytes, 0);
+    this.bytes = 0;
+    this.shards.forEach((s, i) => {
+      const status = this.status[i]!;
+      status.set(s.status);
+      this.bytes += statusCounts(status).bytes;
+    });
+    ({ rows: this.trained, classes: this.known } = statusCounts(this.status[0]!));
+    this.views = null;
     out.fit(rows, stride, this.members);
     ledger.settle(rows, out.epochs, this.trained);
     mergeChanges(replies, out);
@@ -353,6 +371,7 @@ async function startShard(
 ): Promise<RemoteShard> {
   const { port1, port2 } = new MessageChannel();
   const control = channelControl();
+  const status = shardStatus(n);
   const state = snapshot.state as { poisson: unknown[] };
   const part: EnsembleSnapshot = {
     ...snapshot,
@@ -375,6 +394,7 @@ async function startShard(
       restored: part,
       port: port2,
       control,
+      status,
     },
     transferList: [port2],
   });
@@ -382,6 +402,8 @@ async function startShard(
     worker,
     client: new ShardClient(port1, control),
     answers: new ShardAnswers(),
+    status,
+    first,
     lost: null,
   };
   await new Promise<void>((resolve, reject) => {

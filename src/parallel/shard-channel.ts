@@ -1,7 +1,7 @@
 import { type MessagePort, receiveMessageOnPort } from 'node:worker_threads';
 import { ShoalError, type ShoalErrorCode } from '../core/index.js';
 import { type Bagging, type EnsembleSnapshot, type SeatView, Verdict } from '../ensembles/index.js';
-import type { LifecycleChange } from '../journal/index.js';
+import { type LifecycleChange, MEMBER_STATES } from '../journal/index.js';
 import { FAILED, poll, type ShardLedger } from './shard-ledger.js';
 import { type AnswerBuffers, RowCombiner, type VerdictBuffers } from './shard-votes.js';
 
@@ -15,8 +15,9 @@ import { type AnswerBuffers, RowCombiner, type VerdictBuffers } from './shard-vo
  * and a ready flag the worker raises once its shard is built. A request is a message on a port that the
  * worker reads synchronously when woken: the batch's size and the ledger's start, and the shared
  * buffers only when they changed (a message carrying some twenty shared buffers costs tens of
- * microseconds to send and to read); its reply (the lifecycle changes of the batch, the seats after it,
- * or an error; a snapshot when asked) comes back the same way before the request is marked done.
+ * microseconds to send and to read). The worker writes its status (rows, classes, size, its seats) in
+ * shared memory after each request, and a reply comes back the same way only when it has news (the
+ * lifecycle changes of the batch, an error, a snapshot when asked), before the request is marked done.
  */
 const C_REQUEST = 0;
 const C_DONE = 1;
@@ -69,17 +70,70 @@ export function sameBuffers(a: BatchBuffers, b: BatchBuffers): boolean {
 
 export type ShardRequest = BatchRequest | { readonly kind: 'snapshot' } | { readonly kind: 'stop' };
 
-/** What a shard says after a request. */
+/**
+ * What a shard has to say after a request, beyond its status: sent as a message only when there is
+ * something (a lifecycle change, an error, a snapshot), since a message costs tens of microseconds.
+ */
 export interface ShardReply {
   readonly error: { readonly code: ShoalErrorCode; readonly message: string } | null;
   /** Lifecycle changes of the batch, in order, and the step of each. */
   readonly changes: readonly LifecycleChange[];
   readonly steps: readonly number[];
-  readonly seats: readonly SeatView[];
-  readonly rows: number;
-  readonly classes: number;
-  readonly bytes: number;
   readonly snapshot: EnsembleSnapshot | null;
+}
+
+/** The reply of a request with nothing to say. */
+const NO_NEWS: ShardReply = { error: null, changes: [], steps: [], snapshot: null };
+
+/**
+ * A shard's status after each request, in shared memory: rows trained, classes, size in bytes, then
+ * per seat its member id, state, age, recent accuracy, error estimate and whether it has an
+ * understudy — what its seat views say but the kind, which a seat keeps.
+ */
+const STATUS_HEAD = 3;
+const SEAT_WORDS = 6;
+
+/** Room for the status of a shard of `seats` seats. */
+export function shardStatus(seats: number): Float64Array<SharedArrayBuffer> {
+  return new Float64Array(new SharedArrayBuffer(8 * (STATUS_HEAD + SEAT_WORDS * seats)));
+}
+
+function writeStatus(status: Float64Array, shard: Bagging): void {
+  status[0] = shard.rows;
+  status[1] = shard.classes;
+  status[2] = shard.sizeBytes();
+  shard.seats().forEach((view, i) => {
+    const at = STATUS_HEAD + SEAT_WORDS * i;
+    status[at] = view.member;
+    status[at + 1] = MEMBER_STATES.indexOf(view.state);
+    status[at + 2] = view.age;
+    status[at + 3] = view.recentAccuracy;
+    status[at + 4] = view.errorEstimate;
+    status[at + 5] = view.understudy ? 1 : 0;
+  });
+}
+
+/** Rows trained, classes and size in a status. */
+export function statusCounts(status: Float64Array): { rows: number; classes: number; bytes: number } {
+  return { rows: status[0]!, classes: status[1]!, bytes: status[2]! };
+}
+
+/** The seat views in a status of the seats `first` …, whose kinds are `kinds` (by seat). */
+export function statusSeats(status: Float64Array, first: number, kinds: readonly string[]): SeatView[] {
+  const seats = (status.length - STATUS_HEAD) / SEAT_WORDS;
+  return Array.from({ length: seats }, (_, i) => {
+    const at = STATUS_HEAD + SEAT_WORDS * i;
+    return {
+      seat: first + i,
+      member: status[at]!,
+      kind: kinds[first + i]!,
+      state: MEMBER_STATES[status[at + 1]!]!,
+      age: status[at + 2]!,
+      recentAccuracy: status[at + 3]!,
+      errorEstimate: status[at + 4]!,
+      understudy: status[at + 5] === 1,
+    };
+  });
 }
 
 /**
@@ -285,7 +339,7 @@ export class ShardClient {
         );
       }
     }
-    return receiveMessageOnPort(this.port)?.message as ShardReply;
+    return (receiveMessageOnPort(this.port)?.message as ShardReply | undefined) ?? NO_NEWS;
   }
 }
 
@@ -296,8 +350,9 @@ export function markAnswered(control: Int32Array, done: number): void {
 }
 
 /**
- * The worker's end: answer requests with `shard` until a stop request arrives; `changes` and `steps`
- * collect the lifecycle changes of a batch (the shard's journal). Blocks its thread between requests.
+ * The worker's end: answer requests with `shard` until a stop request arrives, writing its `status`
+ * after each; `changes` and `steps` collect the lifecycle changes of a batch (the shard's journal).
+ * Blocks its thread between requests.
  */
 export function serveShard(
   shard: Bagging,
@@ -306,6 +361,7 @@ export function serveShard(
   steps: number[],
   port: MessagePort,
   control: Int32Array,
+  status: Float64Array,
 ): void {
   Atomics.store(control, C_READY, 1);
   Atomics.notify(control, C_READY);
@@ -342,17 +398,11 @@ export function serveShard(
             ? { code: e.code, message: e.message }
             : { code: 'worker-failure', message: `parallel bagging: a worker failed: ${String(e)}` };
       }
-      const reply: ShardReply = {
-        error,
-        changes,
-        steps,
-        seats: shard.seats(),
-        rows: shard.rows,
-        classes: shard.classes,
-        bytes: shard.sizeBytes(),
-        snapshot,
-      };
-      port.postMessage(reply);
+      writeStatus(status, shard);
+      if (error !== null || changes.length > 0 || snapshot !== null) {
+        const reply: ShardReply = { error, changes, steps, snapshot };
+        port.postMessage(reply);
+      }
       markAnswered(control, ++done);
     }
   }

@@ -124,6 +124,7 @@ describe('parallel bagging with the member lifecycle', () => {
       await threaded(parallel, 0, ROWS, t, got, [1, 130, 64, 700, 65, 2, 1200, 333]);
       expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
       expect(got).toEqual(records);
+      expect(parallel.seats()).toEqual(bag.seats());
       expect(JSON.stringify(await parallel.snapshot())).toBe(snapshot);
     } finally {
       await parallel.close();
