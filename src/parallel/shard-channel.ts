@@ -3,7 +3,13 @@ import { ShoalError, type ShoalErrorCode } from '../core/index.js';
 import { type Bagging, type EnsembleSnapshot, type SeatView, Verdict } from '../ensembles/index.js';
 import { type LifecycleChange, MEMBER_STATES } from '../journal/index.js';
 import { FAILED, poll, type ShardLedger } from './shard-ledger.js';
-import { type AnswerBuffers, RowCombiner, type VerdictBuffers } from './shard-votes.js';
+import {
+  type AnswerBuffers,
+  type AnswerViews,
+  answerViews,
+  RowCombiner,
+  type VerdictBuffers,
+} from './shard-votes.js';
 
 /**
  * How a batch of rows reaches a shard of a bagging ensemble in another thread, and how its members'
@@ -188,25 +194,17 @@ export class ShardAnswers {
 class BatchViews {
   readonly values: Float64Array;
   readonly labels: Float64Array;
-  readonly probs: Float64Array;
-  readonly preds: Int32Array;
-  readonly weights: Float64Array;
-  readonly classes: Int32Array;
-  readonly accuracy: Float64Array;
+  /** This shard's answers. */
+  readonly answers: AnswerViews;
   readonly stride: number;
   readonly ledger: Int32Array;
   readonly combiner: RowCombiner;
 
   constructor(buffers: BatchBuffers, shard: number, hard: boolean) {
-    const answers = buffers.all[shard]!;
     this.values = new Float64Array(buffers.values);
     this.labels = new Float64Array(buffers.labels);
-    this.probs = new Float64Array(answers.probs);
-    this.preds = new Int32Array(answers.preds);
-    this.weights = new Float64Array(answers.weights);
-    this.classes = new Int32Array(answers.classes);
-    this.accuracy = new Float64Array(answers.accuracy);
-    this.stride = answers.stride;
+    this.answers = answerViews(buffers.all[shard]!);
+    this.stride = buffers.all[shard]!.stride;
     this.ledger = new Int32Array(buffers.ledger);
     this.combiner = new RowCombiner(buffers.all, buffers.counts, hard, buffers.verdicts);
   }
@@ -224,7 +222,8 @@ function runShard(
   control: Int32Array,
 ): void {
   const { rows, train } = request;
-  const { values, labels, probs, preds, weights, classes, accuracy, stride } = views;
+  const { values, labels, stride } = views;
+  const { probs, preds, weights, classes, accuracy } = views.answers;
   const width = shard.schema.features.length;
   shard.ensureClasses(request.classes);
   const members = shard.options.members;

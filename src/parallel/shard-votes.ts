@@ -18,6 +18,26 @@ export interface AnswerBuffers {
   readonly accuracy: SharedArrayBuffer;
 }
 
+/** Typed views of one shard's answers. */
+export interface AnswerViews {
+  readonly probs: Float64Array;
+  readonly preds: Int32Array;
+  readonly weights: Float64Array;
+  readonly classes: Int32Array;
+  readonly accuracy: Float64Array;
+}
+
+/** Views of a shard's answer buffers. */
+export function answerViews(a: AnswerBuffers): AnswerViews {
+  return {
+    probs: new Float64Array(a.probs),
+    preds: new Int32Array(a.preds),
+    weights: new Float64Array(a.weights),
+    classes: new Int32Array(a.classes),
+    accuracy: new Float64Array(a.accuracy),
+  };
+}
+
 /** A batch's verdicts in shared memory (the fields of `BatchVerdicts` the workers fill). */
 export interface VerdictBuffers {
   readonly probabilities: SharedArrayBuffer;
@@ -89,12 +109,7 @@ export class RowCombiner {
   private readonly hard: boolean;
   private readonly members: number;
   private readonly stride: number;
-  private readonly shards: {
-    probs: Float64Array;
-    preds: Int32Array;
-    weights: Float64Array;
-    accuracy: Float64Array;
-  }[];
+  private readonly shards: AnswerViews[];
   private readonly spans: Int32Array;
   private readonly probabilities: Float64Array;
   private readonly predicted: Int32Array;
@@ -113,13 +128,8 @@ export class RowCombiner {
     this.hard = hard;
     this.members = counts.reduce((a, b) => a + b, 0);
     this.stride = all[0]!.stride;
-    this.shards = all.map((a) => ({
-      probs: new Float64Array(a.probs),
-      preds: new Int32Array(a.preds),
-      weights: new Float64Array(a.weights),
-      accuracy: new Float64Array(a.accuracy),
-    }));
-    this.spans = new Int32Array(all[0]!.classes);
+    this.shards = all.map(answerViews);
+    this.spans = this.shards[0]!.classes;
     this.probabilities = new Float64Array(into.probabilities);
     this.predicted = new Int32Array(into.predicted);
     this.agreement = new Float64Array(into.agreement);
