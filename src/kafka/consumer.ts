@@ -1,7 +1,7 @@
-import type { Admin, Consumer, EachBatchPayload, Kafka } from 'kafkajs';
+import type { Admin, Consumer, ConsumerRunConfig, EachBatchPayload, Kafka } from 'kafkajs';
 import type { Logger } from 'pino';
 import { samePartitionAssigner } from './assigner.js';
-import { persist } from './backoff.js';
+import { backoffMs, persist } from './backoff.js';
 import type { KafkaSettings } from './config.js';
 import type { RawMessage } from './decode.js';
 
@@ -86,6 +86,9 @@ export class EventConsumer {
   private told: boolean | null = null;
   private watchdog: NodeJS.Timeout | null = null;
   private stopping: Promise<void> | null = null;
+  /** How the consumer runs once started (null before), and its restarts since it last joined the group. */
+  private running: ConsumerRunConfig | null = null;
+  private reruns = 0;
   /** How the consumer ended: stopped on request, or crashed with a message. */
   readonly finished: Promise<ConsumerOutcome>;
 
@@ -130,9 +133,21 @@ export class EventConsumer {
         this.log.debug({ error: payload.error.message }, 'consumer restarting after a retriable error');
         return;
       }
+      // kafkajs asks `restartOnFailure` only about errors it deems retriable, and has disconnected the
+      // consumer by now: a broker away long enough ends in errors it does not (no group coordinator
+      // found), so those restarts are the service's own.
+      if (this.stopping === null && this.running !== null && restartsAfter(payload.error)) {
+        this.log.warn(
+          { error: payload.error.message },
+          'the consumer stopped while the broker is away; starting it again',
+        );
+        void this.rerun(this.running);
+        return;
+      }
       this.finish({ crashed: true, message: `the consumer stopped: ${payload.error.message}` });
     });
     this.consumer.on(GROUP_JOIN, ({ payload }) => {
+      this.reruns = 0;
       const streams = Object.entries(payload.memberAssignment).flatMap(([topic, parts]) =>
         parts.map((p) => `${topic}/${p}`),
       );
@@ -268,11 +283,25 @@ export class EventConsumer {
       ],
       fromBeginning: this.settings.events.fromBeginning,
     });
-    await this.consumer.run({
+    this.running = {
       autoCommit: false,
       eachBatchAutoResolve: false,
       eachBatch: (payload) => this.batch(payload, handle),
-    });
+    };
+    await this.consumer.run(this.running);
+  }
+
+  /** Connect and run the consumer again after a crash, once a backoff has passed, until it connects. */
+  private async rerun(config: ConsumerRunConfig): Promise<void> {
+    await new Promise((done) => setTimeout(done, backoffMs(++this.reruns)));
+    await persist(
+      'start the consumer again',
+      async () => {
+        await this.consumer.connect();
+        await this.consumer.run(config);
+      },
+      { log: this.log, stopped: () => this.stopping !== null },
+    );
   }
 
   private async batch(payload: EachBatchPayload, handle: BatchHandler): Promise<void> {
@@ -324,11 +353,11 @@ export interface ConsumerOutcome {
 }
 
 /**
- * Whether the consumer restarts after a crash: some error on its chain of causes is retriable, a lost
- * connection or a coordinator that cannot be found (kafkajs wraps a refused connection, and a group
- * coordinator it found no broker to ask for, in errors it marks non-retriable once its own retries ran
- * out: both mean the broker is away), and none says a codec is missing (that batch would fail again
- * forever).
+ * Whether the consumer starts again after a crash (kafkajs's own restart, or the service's when kafkajs
+ * gave up): some error on its chain of causes is retriable, a lost connection or a coordinator that
+ * cannot be found (kafkajs wraps a refused connection, and a group coordinator it found no broker to ask
+ * for, in errors it marks non-retriable once its own retries ran out: both mean the broker is away), and
+ * none says a codec is missing (that batch would fail again forever).
  */
 export function restartsAfter(e: Error): boolean {
   const chain: Error[] = [];
