@@ -33,11 +33,12 @@ const UNPACED_STEP = 500;
 /** A paced run sends one events message a tenth of a second. */
 const STEPS_PER_SECOND = 10;
 /**
- * An inspection result is sent no sooner than this after its leg was acknowledged (wall clock), however
- * soon it is due in scenario time: serve reads the two topics independently, and a result that reached
- * it before its leg would find no score to join.
+ * By default an inspection result is sent as soon as scenario time reaches it (and its leg was
+ * acknowledged): serve reads the two topics independently, and a result that reaches it before its leg
+ * is held for the leg (`labels.early`). `--label-wait` spaces results further from their legs, in wall
+ * time, for a serve that holds no early labels (`labels.early: 0`).
  */
-const DEFAULT_LABEL_WAIT_MS = 1000;
+const DEFAULT_LABEL_WAIT_MS = 0;
 
 export const DEMO_STREAM_HELP = `shoal demo-stream --brokers HOST:PORT [options]
 
@@ -64,7 +65,8 @@ Options:
   --create-only  create the topics and exit, sending nothing (start serve next, then send)
   --label-wait MS
                  send an inspection result no sooner than MS after its leg, whatever scenario time says
-                 (default ${DEFAULT_LABEL_WAIT_MS}), so that a serve reading a little behind has scored the leg first
+                 (default ${DEFAULT_LABEL_WAIT_MS}: when scenario time says; a result that reaches serve before its
+                 leg is held for it, labels.early in the configuration)
 Columns: ${DEMO_STREAM_DEFAULTS.id} (utf8) and the features on the events topic; ${DEMO_STREAM_DEFAULTS.id} and
 ${DEMO_STREAM_DEFAULTS.label} (accepted | rejected) on the labels topic (the names in --config's inputs when given).
 

@@ -54,6 +54,8 @@ export interface CheckpointSummary {
   readonly epoch: number;
   readonly positions: Readonly<Record<string, string>>;
   readonly pending: { readonly waiting: number; readonly capacity: number } | null;
+  /** Labels that came before their events, held for them (null in a snapshot older than version 4). */
+  readonly early: { readonly waiting: number; readonly capacity: number } | null;
   /** The evaluation window: accuracy and κ of a classification, RMSE and MAE of a regression. */
   readonly window: {
     readonly accuracy: number | null;
@@ -141,6 +143,8 @@ export function summarizeCheckpoint(
       session.pending === null
         ? null
         : { waiting: session.pending.ids.length, capacity: session.pending.capacity },
+    early:
+      session.version < 4 ? null : { waiting: session.early.ids.length, capacity: session.early.capacity },
     window:
       judged > 0 ? windowOf(scorecard.windowed()) : { accuracy: null, kappa: null, rmse: null, mae: null },
     seats,
@@ -170,6 +174,10 @@ function render(s: CheckpointSummary): string {
       s.pending === null
         ? '–'
         : `${count(s.pending.waiting)} waiting (room for ${count(s.pending.capacity)})`,
+    ],
+    [
+      'early labels',
+      s.early === null ? '–' : `${count(s.early.waiting)} waiting (room for ${count(s.early.capacity)})`,
     ],
     [
       'recent window',

@@ -1,10 +1,12 @@
 /**
  * Labels wait for their events. Kafka does not order the labels topic against the events topic, so a
- * service that (re)joins with both behind could read a label before the event it belongs to, find no
- * prediction and lose it. On each join the labels topic is held until every assigned events partition has
- * been read up to the end it had at that moment; every label already on its topic then was written after
- * its event (that is how labels come about), so it finds its prediction. A restart after a crash thus
- * joins exactly the labels an uninterrupted run joined, in the same order.
+ * service that (re)joins with both behind could read most labels before the events they belong to; the
+ * session would hold each for its event (`EarlyLabels`, within its bounds) and join it after the event's
+ * batch, later than an uninterrupted run joined it. On each join the labels topic is held until every
+ * assigned events partition has been read up to the end it had at that moment; every label already on
+ * its topic then was written after its event (that is how labels come about), so it finds its
+ * prediction. A restart after a crash thus joins exactly the labels an uninterrupted run joined, in the
+ * same order.
  *
  * @example
  * const hold = new LabelHold('legs-labels', (topic) => consumer.resumeTopic(topic));

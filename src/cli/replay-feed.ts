@@ -22,7 +22,8 @@ import { Pacer } from './pacer.js';
  *   once k events have been scored. Labels left at the end are joined after the last event.
  * Held-back labels are joined by id to the prediction served for their row (in the delay modes, rows
  * without an id column are joined by their row number). A label whose row has not been scored yet when
- * it becomes known finds no prediction and counts as unknown.
+ * it becomes known is held by the session for its row (`labels.early`) and joined right after the row
+ * is scored; one whose row does not come within the bounds counts as unknown.
  *
  * The session's clock is the same time (an `EventClock`, read as seconds): moved to each row's time
  * before the row is scored when labels are held back, and to the time of a batch's last row before the

@@ -509,6 +509,8 @@ function labelLines(l: LabelCounts): [string, string][] {
     ['labels after expiry', l.late],
     ['labels after eviction', l.evicted],
     ['labels with unknown ids', l.unknown],
+    ['labels before their events', l.early],
+    ['labels held for their events', l.held],
     ['unmatched labels trained', l.trainedUnmatched],
     ['predictions expired', l.expiredPredictions],
     ['predictions evicted', l.evictedPredictions],

@@ -245,6 +245,8 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
     Math.min(900_000, Math.max(60_000, settings.checkpoint.cadence.everySeconds * 3_000)),
   );
   let refusal: string | null = null;
+  /** The outputs of the last batch handled: true once acknowledged (false: the service stopped first). */
+  let delivering: Promise<boolean> = Promise.resolve(true);
   // Batches and checkpoints take turns: a checkpoint is cut between two batches, never inside one.
   let turn: Promise<unknown> = Promise.resolve();
   const exclusive = <T>(work: () => Promise<T>): Promise<T> => {
@@ -354,6 +356,14 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
    * more); false when they could not be written (the previous ones stand).
    */
   const checkpoint = async (why: string, all = false): Promise<boolean> => {
+    // A checkpoint covers only batches whose outputs were acknowledged: the last one's go out first.
+    if (!(await delivering.catch(() => false))) {
+      log.error(
+        { why },
+        'the outputs of the last batch were not acknowledged; the previous checkpoint stands',
+      );
+      return false;
+    }
     try {
       const saved = await checkpoints!.save(
         models,
@@ -413,23 +423,27 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
   await consumer.start((batch, control) =>
     exclusive(async () => {
       // After the last checkpoint nothing more is handled: what it does not cover is read again later.
-      if (stopping) return false;
+      if (stopping) return null;
       const began = performance.now();
       const handled = await models.handle(batch);
       if (handled.scored > 0) endpoint?.batch(handled.scored, (performance.now() - began) / 1000);
       for (const d of handled.dead) {
         log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
       }
-      // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
-      const delivered = await producer
-        .deliver(handled.outputs, async () => {
-          endpoint?.setReady('producer', false);
-          control.pause();
-          await control.heartbeat().catch(() => undefined);
-        })
-        .catch((e: Error) => (exactlyOnce ? lostTransaction(e) : Promise.reject(e)));
-      control.resume();
-      if (delivered) {
+      // The outputs go out while the next batch is handled, after those of the batch before.
+      const previous = delivering;
+      const acknowledged = (async () => {
+        if (!(await previous)) return false;
+        // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
+        const delivered = await producer
+          .deliver(handled.outputs, async () => {
+            endpoint?.setReady('producer', false);
+            control.pause();
+            await control.heartbeat().catch(() => undefined);
+          })
+          .catch((e: Error) => (exactlyOnce ? lostTransaction(e) : Promise.reject(e)));
+        control.resume();
+        if (!delivered) return false;
         endpoint?.setReady('producer', true);
         models.telemetry.setLag(batch.topic, batch.partition, batch.lag);
         lagTold.add(`${batch.topic}/${batch.partition}`);
@@ -442,10 +456,15 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
             models.key(`${batch.topic}/${batch.partition}`),
             handled.rows + handled.dead.length,
           );
-          if (checkpoints.due(Date.now())) await checkpoint('cadence');
+          // Between two batches, like every checkpoint.
+          if (checkpoints.due(Date.now())) void exclusive(() => checkpoint('cadence'));
         }
-      }
-      return delivered;
+        return true;
+      })();
+      // Awaited by the next batch, the consumer and checkpoints; never an unhandled rejection meanwhile.
+      acknowledged.catch(() => undefined);
+      delivering = acknowledged;
+      return { acknowledged };
     }),
   );
   log.info({ group: settings.group, topics: settings.events.topics, scope: settings.scope }, 'serving');

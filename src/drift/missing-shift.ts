@@ -46,6 +46,8 @@ export class MissingShift {
     this.recent += bit;
     this.at = this.at + 1 === size ? 0 : this.at + 1;
     if (this.filled < size || this.refCount < size) return false;
+    // Nothing missing in the window or before it: the shares are both 0 and equal (no test to make).
+    if (this.recent === 0 && this.refMissing === 0) return false;
     const diff = this.recent / size - this.refMissing / this.refCount;
     if (Math.abs(diff) <= Math.sqrt(this.logTerm * (1 / size + 1 / this.refCount))) return false;
     this.reset();

@@ -82,6 +82,34 @@ function isValid(bitmap: Uint8Array, bit: number): boolean {
   return (bitmap[bit >> 3]! & (1 << (bit & 7))) !== 0;
 }
 
+/** Arrow JS's own decoder of Utf8 values: UTF-8, invalid sequences replaced, a leading BOM dropped. */
+const UTF8 = new TextDecoder();
+/** Values up to this many bytes are read char by char when they are ASCII (most ids and labels). */
+const SHORT_UTF8 = 24;
+
+/**
+ * The string at row r of a Utf8 column, or null where it is missing: what Arrow's `get` returns, read
+ * straight from the offsets and bytes (Apache Arrow Columnar Format, "Variable-size binary layout") —
+ * a short ASCII value char by char, any other through the same kind of `TextDecoder` as Arrow's —
+ * without the view and decoder call Arrow makes for every value.
+ */
+function utf8Cell(data: Data, r: number): string | null {
+  if (data.nullCount > 0 && !isValid(data.nullBitmap, data.offset + r)) return null;
+  const offsets = data.valueOffsets as Int32Array;
+  if (r + 1 >= offsets.length) return null;
+  const bytes = data.values as Uint8Array;
+  const start = offsets[r]!;
+  const end = offsets[r + 1]!;
+  if (end - start > SHORT_UTF8) return UTF8.decode(bytes.subarray(start, end));
+  let text = '';
+  for (let k = start; k < end; k++) {
+    const c = bytes[k]!;
+    if (c >= 0x80) return UTF8.decode(bytes.subarray(start, end));
+    text += String.fromCharCode(c);
+  }
+  return text;
+}
+
 /** out[start + r × width] = src[r] for r < n: one column into the row-major buffer. */
 function copyColumn(
   out: Float64Array,
@@ -310,9 +338,10 @@ export class ArrowBatchFiller {
       }
       return;
     }
-    const vector = makeVector(data);
+    const utf8 = DataType.isUtf8(type);
+    const vector = utf8 ? null : makeVector(data);
     for (let r = 0, o = start; r < n; r++, o += stride) {
-      const value = vector.get(r);
+      const value: unknown = utf8 ? utf8Cell(data, r) : vector!.get(r);
       const code = lookup(value);
       if (code === -1) refuse(at + r, value);
       else out[o] = code;
@@ -333,9 +362,10 @@ export class ArrowBatchFiller {
   }
 
   private fillIds(data: Data, at: number, n: number, ids: string[]): void {
-    const vector = makeVector(data);
+    const utf8 = DataType.isUtf8(data.type);
+    const vector = utf8 ? null : makeVector(data);
     for (let r = 0; r < n; r++) {
-      const value: unknown = vector.get(r);
+      const value: unknown = utf8 ? utf8Cell(data, r) : vector!.get(r);
       if (value === null || value === undefined || value === '') {
         this.refuse(at + r, `no id in column ${JSON.stringify(this.decoder.options.id)}`);
       } else ids[at + r] = String(value);

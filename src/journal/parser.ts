@@ -166,6 +166,8 @@ function readLabels(f: Fields): LabelCounts {
     late: f.integer('late', 0),
     evicted: f.integer('evicted', 0),
     unknown: f.integer('unknown', 0),
+    early: f.integer('early', 0),
+    held: f.integer('held', 0),
     trainedUnmatched: f.integer('trainedUnmatched', 0),
     expiredPredictions: f.integer('expiredPredictions', 0),
     evictedPredictions: f.integer('evictedPredictions', 0),

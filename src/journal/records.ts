@@ -17,7 +17,7 @@ import type { ChangePoints, FeatureSchema } from '../core/index.js';
 export type JournalRecord = RunRecord | LifecycleRecord | WindowRecord | InputDriftRecord | SummaryRecord;
 
 /** The journal format this build writes and reads (`RunRecord.version`). */
-export const JOURNAL_VERSION = 4;
+export const JOURNAL_VERSION = 5;
 
 /** What a run's labels are: classes to tell apart, or numbers to predict. */
 export type Task = 'classification' | 'regression';
@@ -175,8 +175,8 @@ export interface RegressionViewFigures {
 
 /**
  * What became of labels and pending predictions so far. Every label received is counted once under
- * `inline`, `joined`, `duplicate`, `late`, `evicted` or `unknown`; every prediction kept for a label
- * is, in the end, `joined`, `expired`, `evicted` or still `pending`.
+ * `inline`, `joined`, `duplicate`, `late`, `evicted` or `unknown`, or is still `held` for its event;
+ * every prediction kept for a label is, in the end, `joined`, `expired`, `evicted` or still `pending`.
  */
 export interface LabelCounts {
   /** Labels that came with their row and were judged and trained on at once. */
@@ -189,8 +189,19 @@ export interface LabelCounts {
   readonly late: number;
   /** Labels for a prediction evicted to make room (the count bound). */
   readonly evicted: number;
-  /** Labels whose id matches no prediction the session kept or remembers. */
+  /**
+   * Labels whose id matches no prediction the session kept or remembers, and whose event did not come
+   * while they were held for it (let go by the count or the time bound of `labels.early…`).
+   */
   readonly unknown: number;
+  /**
+   * Labels that came before their event and were held for it (each is also counted once above when it
+   * leaves: `joined` when its event came, `unknown` when it did not, `duplicate` when the event brought a
+   * label of its own), or is still `held`.
+   */
+  readonly early: number;
+  /** Labels waiting for their event now. */
+  readonly held: number;
   /** Unmatched labels trained on from their own row (policy `train`). */
   readonly trainedUnmatched: number;
   /** Predictions that expired unjoined. */

@@ -1,16 +1,19 @@
-import type { Admin, Consumer, EachBatchPayload, Kafka } from 'kafkajs';
+import type { Admin, Consumer, ConsumerRunConfig, EachBatchPayload, Kafka } from 'kafkajs';
 import type { Logger } from 'pino';
 import { samePartitionAssigner } from './assigner.js';
-import { persist } from './backoff.js';
+import { backoffMs, persist } from './backoff.js';
 import type { KafkaSettings } from './config.js';
 import type { RawMessage } from './decode.js';
 
 /**
  * The events consumer: a consumer group on the events topics, one kafkajs batch (the messages of one
- * topic-partition) handed to `handle` at a time. Offsets are committed explicitly (`autoCommit: false`)
- * and only after `handle` resolved true — that is, after the batch's outputs were acknowledged — so a
- * crash can repeat outputs but never lose an event (at-least-once). While outputs cannot be delivered the
- * topic is paused (no more fetching) and the group membership kept alive with heartbeats.
+ * topic-partition) handed to `handle` at a time. A batch's outputs go out while the next batch is
+ * fetched and handled: once `handle` has handled a batch, kafkajs fetches on, and the batch's offsets
+ * are committed explicitly (`autoCommit: false`) only after its outputs were acknowledged — so a crash
+ * can repeat outputs but never lose an event (at-least-once). One batch at most is in flight: the next
+ * one is not given back to kafkajs before it is committed (and a failure of it fails that one too).
+ * While outputs cannot be delivered the topic is paused (no more fetching) and the group membership
+ * kept alive with heartbeats.
  *
  * A crash kafkajs will not restart from (a non-retriable error) ends `finished` with a message; the
  * service exits non-zero rather than stay up as a member that consumes nothing.
@@ -33,8 +36,15 @@ export interface FetchedBatch {
   readonly lag: number;
 }
 
-/** Handle one batch; resolve true once its outputs are acknowledged (then its offsets are committed). */
-export type BatchHandler = (batch: FetchedBatch, control: BatchControl) => Promise<boolean>;
+/**
+ * Handle one batch: resolve once it is handled, with `acknowledged`, which resolves true once its
+ * outputs are acknowledged (then its offsets are committed); or with null when it was not handled (it is
+ * read again). Outputs must be acknowledged in the order their batches were handled.
+ */
+export type BatchHandler = (
+  batch: FetchedBatch,
+  control: BatchControl,
+) => Promise<{ readonly acknowledged: Promise<boolean> } | null>;
 
 export interface Assignment {
   /** `topic/partition` names this instance now reads. */
@@ -86,6 +96,16 @@ export class EventConsumer {
   private told: boolean | null = null;
   private watchdog: NodeJS.Timeout | null = null;
   private stopping: Promise<void> | null = null;
+  /** The last batch handled, until its outputs are acknowledged and its offsets committed; and its join. */
+  private inFlight: { readonly done: Promise<void>; readonly join: number } = {
+    done: Promise.resolve(),
+    join: 0,
+  };
+  /** Joins so far: a commit of an earlier one fails once the group has moved on, and is let go. */
+  private joins = 0;
+  /** How the consumer runs once started (null before), and its restarts since it last joined the group. */
+  private running: ConsumerRunConfig | null = null;
+  private reruns = 0;
   /** How the consumer ended: stopped on request, or crashed with a message. */
   readonly finished: Promise<ConsumerOutcome>;
 
@@ -130,13 +150,26 @@ export class EventConsumer {
         this.log.debug({ error: payload.error.message }, 'consumer restarting after a retriable error');
         return;
       }
+      // kafkajs asks `restartOnFailure` only about errors it deems retriable, and has disconnected the
+      // consumer by now: a broker away long enough ends in errors it does not (no group coordinator
+      // found), so those restarts are the service's own.
+      if (this.stopping === null && this.running !== null && restartsAfter(payload.error)) {
+        this.log.warn(
+          { error: payload.error.message },
+          'the consumer stopped while the broker is away; starting it again',
+        );
+        void this.rerun(this.running);
+        return;
+      }
       this.finish({ crashed: true, message: `the consumer stopped: ${payload.error.message}` });
     });
     this.consumer.on(GROUP_JOIN, ({ payload }) => {
+      this.reruns = 0;
       const streams = Object.entries(payload.memberAssignment).flatMap(([topic, parts]) =>
         parts.map((p) => `${topic}/${p}`),
       );
       this.log.info({ streams, leader: payload.isLeader }, 'joined the group');
+      this.joins++;
       this.assigned = streams;
       if (this.options.onJoin !== undefined) this.plan(this.options.onJoin(streams));
       this.onMembership(true);
@@ -268,11 +301,25 @@ export class EventConsumer {
       ],
       fromBeginning: this.settings.events.fromBeginning,
     });
-    await this.consumer.run({
+    this.running = {
       autoCommit: false,
       eachBatchAutoResolve: false,
       eachBatch: (payload) => this.batch(payload, handle),
-    });
+    };
+    await this.consumer.run(this.running);
+  }
+
+  /** Connect and run the consumer again after a crash, once a backoff has passed, until it connects. */
+  private async rerun(config: ConsumerRunConfig): Promise<void> {
+    await new Promise((done) => setTimeout(done, backoffMs(++this.reruns)));
+    await persist(
+      'start the consumer again',
+      async () => {
+        await this.consumer.connect();
+        await this.consumer.run(config);
+      },
+      { log: this.log, stopped: () => this.stopping !== null },
+    );
   }
 
   private async batch(payload: EachBatchPayload, handle: BatchHandler): Promise<void> {
@@ -283,7 +330,7 @@ export class EventConsumer {
     let resume: (() => void) | null = null;
     const last = batch.lastOffset();
     const lag = Number(BigInt(batch.highWatermark) - BigInt(last) - 1n);
-    const delivered = await handle(
+    const handled = await handle(
       { topic, partition, messages: batch.messages as RawMessage[], lag: Math.max(0, lag) },
       {
         heartbeat: () => payload.heartbeat(),
@@ -296,13 +343,37 @@ export class EventConsumer {
         },
       },
     );
-    if (!delivered) return;
-    payload.resolveOffset(last);
-    if (this.options.commitEachBatch === false) return;
-    await this.consumer.commitOffsets([{ topic, partition, offset: (BigInt(last) + 1n).toString() }]);
+    const previous = this.inFlight;
+    if (handled !== null) {
+      // kafkajs fetches on from the next offset; the group's offset moves once the outputs are acknowledged.
+      payload.resolveOffset(last);
+      const done = (async () => {
+        await this.settled(previous);
+        if (!(await handled.acknowledged) || this.options.commitEachBatch === false) return;
+        await this.consumer.commitOffsets([{ topic, partition, offset: (BigInt(last) + 1n).toString() }]);
+      })();
+      // Awaited by the next batch or on stop; never an unhandled rejection meanwhile.
+      done.catch(() => undefined);
+      this.inFlight = { done, join: this.joins };
+    }
+    await this.settled(previous);
   }
 
-  /** Stop fetching, let the batch in flight finish (and commit), leave the group. */
+  /**
+   * Wait for a batch in flight: its failure is this batch's (kafkajs then restarts from the committed
+   * offsets), unless the group was joined again since — its commit then belongs to a generation that is
+   * gone, and whoever reads its partition now reads the batch again.
+   */
+  private async settled(batch: { readonly done: Promise<void>; readonly join: number }): Promise<void> {
+    try {
+      await batch.done;
+    } catch (e) {
+      if (batch.join === this.joins) throw e;
+      this.log.debug({ error: (e as Error).message }, 'a batch of an earlier join was not committed');
+    }
+  }
+
+  /** Stop fetching, let the batches in flight finish (outputs acknowledged, offsets committed), leave. */
   async stop(): Promise<void> {
     if (this.stopping !== null) return this.stopping;
     this.stopping = this.leave();
@@ -312,6 +383,9 @@ export class EventConsumer {
   private async leave(): Promise<void> {
     if (this.watchdog !== null) clearInterval(this.watchdog);
     await this.consumer.stop();
+    await this.settled(this.inFlight).catch((e: Error) =>
+      this.log.warn({ error: e.message }, 'the last batch was not committed; it is read again on restart'),
+    );
     await this.consumer.disconnect();
     await this.admin.disconnect();
     this.finish({ crashed: false, message: 'stopped' });
@@ -324,11 +398,11 @@ export interface ConsumerOutcome {
 }
 
 /**
- * Whether the consumer restarts after a crash: some error on its chain of causes is retriable, a lost
- * connection or a coordinator that cannot be found (kafkajs wraps a refused connection, and a group
- * coordinator it found no broker to ask for, in errors it marks non-retriable once its own retries ran
- * out: both mean the broker is away), and none says a codec is missing (that batch would fail again
- * forever).
+ * Whether the consumer starts again after a crash (kafkajs's own restart, or the service's when kafkajs
+ * gave up): some error on its chain of causes is retriable, a lost connection or a coordinator that
+ * cannot be found (kafkajs wraps a refused connection, and a group coordinator it found no broker to ask
+ * for, in errors it marks non-retriable once its own retries ran out: both mean the broker is away), and
+ * none says a codec is missing (that batch would fail again forever).
  */
 export function restartsAfter(e: Error): boolean {
   const chain: Error[] = [];

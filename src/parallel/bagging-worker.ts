@@ -10,7 +10,7 @@ import { ShardLedger } from './shard-ledger.js';
  * its part of a snapshot), answering requests over a shared-memory channel until told to stop. This
  * file is a worker's entry point, loaded by URL; nothing imports it.
  */
-const { schema, spec, seed, first, shard, shards, restored, port, control } = workerData as {
+const { schema, spec, seed, first, shard, shards, restored, port, control, status } = workerData as {
   schema: FeatureSchema;
   spec: BaggingSpec & { lifecycle: { replacementWindow: number; maxReplacements: number } };
   seed: string;
@@ -20,6 +20,7 @@ const { schema, spec, seed, first, shard, shards, restored, port, control } = wo
   restored: EnsembleSnapshot | null;
   port: MessagePort;
   control: Int32Array;
+  status: Float64Array;
 };
 const ledger = new ShardLedger(
   shard,
@@ -41,4 +42,4 @@ const bagging = new Bagging(
   first,
   ledger,
 );
-serveShard(bagging, ledger, changes, steps, port, control);
+serveShard(bagging, ledger, changes, steps, port, control, status);

@@ -10,7 +10,18 @@ import {
   type LifecycleSnapshot,
   type SeatView,
 } from '../ensembles/index.js';
-import { channelControl, ShardAnswers, ShardClient, type ShardReply, shardReady } from './shard-channel.js';
+import {
+  type BatchBuffers,
+  channelControl,
+  ShardAnswers,
+  ShardClient,
+  type ShardReply,
+  sameBuffers,
+  shardReady,
+  shardStatus,
+  statusCounts,
+  statusSeats,
+} from './shard-channel.js';
 import { LedgerHost } from './shard-ledger.js';
 import { SharedVerdicts } from './shard-votes.js';
 
@@ -22,9 +33,10 @@ import { SharedVerdicts } from './shard-votes.js';
  * for the same seed, whatever the number of threads.
  *
  * Work moves in batches of rows (a frame), not rows: each worker scores (and trains) its seats on the
- * whole batch, then, once all have, combines its share of the rows' votes (shard-votes.ts). Rows and answers cross threads in shared
- * memory (see `shard-channel.ts`), so a batch costs no copies; this thread holds no seats and, while the
- * workers run, never blocks (`Atomics.waitAsync`), so its event loop keeps serving.
+ * whole batch, then combines the rows' votes chunk by chunk with the others, as the rows are answered by
+ * every shard (shard-votes.ts). Rows and answers cross threads in shared memory (see `shard-channel.ts`),
+ * so a batch costs no copies; this thread holds no seats and, while the workers run, never blocks
+ * (`Atomics.waitAsync`), so its event loop keeps serving.
  *
  * @example
  * const bag = await ParallelBagging.start(schema, { members: 10 }, 7, 2);
@@ -37,6 +49,10 @@ interface RemoteShard {
   readonly worker: Worker;
   readonly client: ShardClient;
   readonly answers: ShardAnswers;
+  /** Where the worker writes its status after each request. */
+  readonly status: Float64Array;
+  /** Seats of the shards before it. */
+  readonly first: number;
   /** Why the worker stopped, once it has (noticed between batches). */
   lost: string | null;
 }
@@ -56,12 +72,19 @@ export class ParallelBagging {
   /** The batch in shared memory, grown as needed. */
   private values = new Float64Array(new SharedArrayBuffer(0));
   private labels = new Float64Array(new SharedArrayBuffer(0));
+  /** The buffers of the last batch sent (the workers keep views of them). */
+  private sent: BatchBuffers | null = null;
   /** A request is out: its buffers are in use until its replies are in. */
   private busy = false;
   private trained: number;
   private known: number;
   private announced: number;
-  private views: SeatView[];
+  /** The seats after the last batch, made when asked. */
+  private views: SeatView[] | null;
+  /** Each shard's status after the last batch (copied: the next batch overwrites the shared one). */
+  private readonly status: Float64Array[];
+  /** Each seat's kind (a seat keeps its kind). */
+  private readonly kinds: string[];
   private bytes: number;
 
   private constructor(whole: Bagging, snapshot: EnsembleSnapshot, shards: RemoteShard[], counts: number[]) {
@@ -83,6 +106,8 @@ export class ParallelBagging {
     this.known = whole.classes;
     this.announced = whole.classes;
     this.views = whole.seats();
+    this.kinds = this.views.map((v) => v.kind);
+    this.status = shards.map((s) => new Float64Array(s.status.length));
     this.bytes = whole.sizeBytes();
   }
 
@@ -143,6 +168,7 @@ export class ParallelBagging {
 
   /** The seats as they were after the last batch. */
   seats(): SeatView[] {
+    this.views ??= this.shards.flatMap((s, i) => statusSeats(this.status[i]!, s.first, this.kinds));
     return this.views;
   }
 
@@ -174,12 +200,12 @@ export class ParallelBagging {
       this.labels[r] = label;
       if (label + 1 > classes) classes = label + 1;
     }
-    await this.run(values, this.labels, rows, classes, out);
+    await this.run(values, true, rows, classes, out);
   }
 
   /** Score every row of a batch (`classes` is the most classes a row's answers may cover). */
   async scoreBatch(values: Float64Array, rows: number, out: BatchVerdicts): Promise<void> {
-    await this.run(values, null, rows, Math.max(this.known, this.announced), out);
+    await this.run(values, false, rows, Math.max(this.known, this.announced), out);
   }
 
   /** The ensemble's snapshot, as one thread's `Bagging.snapshot()` would give it. */
@@ -208,13 +234,16 @@ export class ParallelBagging {
 
   /** Stop the workers. */
   async close(): Promise<void> {
-    for (const s of this.shards) s.client.post({ kind: 'stop' });
+    for (const s of this.shards) {
+      s.client.post({ kind: 'stop' });
+      s.client.wake();
+    }
     await Promise.all(this.shards.map((s) => s.worker.terminate()));
   }
 
   private async run(
     values: Float64Array,
-    labels: Float64Array<SharedArrayBuffer> | null,
+    train: boolean,
     rows: number,
     classes: number,
     out: BatchVerdicts,
@@ -235,25 +264,35 @@ export class ParallelBagging {
     const stride = Math.max(classes, 1);
     const all = this.shards.map((s, i) => s.answers.fit(rows, this.counts[i]!, stride));
     const verdicts = this.verdicts.fit(rows, stride, this.members);
-    const replies = await this.ask(() => ({
-      kind: 'batch',
-      rows,
-      classes: this.announced,
+    const buffers: BatchBuffers = {
       values: this.values.buffer,
-      labels: labels === null ? null : labels.buffer,
+      labels: this.labels.buffer,
       all,
       counts: this.counts,
       verdicts,
       ledger: ledger.words.buffer,
+    };
+    // The workers keep the buffers of the last batch: new ones go out only when one changed.
+    const changed = this.sent === null || !sameBuffers(this.sent, buffers);
+    if (changed) this.sent = buffers;
+    const replies = await this.ask(() => ({
+      kind: 'batch',
+      rows,
+      classes: this.announced,
+      train,
+      buffers: changed ? buffers : null,
       cap: ledger.cap,
       nextId: ledger.nextId,
       history: ledger.history,
     }));
-    const first = replies[0]!;
-    this.trained = first.rows;
-    this.known = first.classes;
-    this.views = replies.flatMap((r) => r.seats);
-    this.bytes = replies.reduce((sum, r) => sum + r.bytes, 0);
+    this.bytes = 0;
+    this.shards.forEach((s, i) => {
+      const status = this.status[i]!;
+      status.set(s.status);
+      this.bytes += statusCounts(status).bytes;
+    });
+    ({ rows: this.trained, classes: this.known } = statusCounts(this.status[0]!));
+    this.views = null;
     out.fit(rows, stride, this.members);
     ledger.settle(rows, out.epochs, this.trained);
     mergeChanges(replies, out);
@@ -289,6 +328,7 @@ export class ParallelBagging {
         s.worker.ref();
         s.client.post(request(s, i));
       });
+      for (const s of this.shards) s.client.wake();
       const replies: ShardReply[] = [];
       let failure: unknown = null;
       for (const s of this.shards) {
@@ -331,6 +371,7 @@ async function startShard(
 ): Promise<RemoteShard> {
   const { port1, port2 } = new MessageChannel();
   const control = channelControl();
+  const status = shardStatus(n);
   const state = snapshot.state as { poisson: unknown[] };
   const part: EnsembleSnapshot = {
     ...snapshot,
@@ -353,6 +394,7 @@ async function startShard(
       restored: part,
       port: port2,
       control,
+      status,
     },
     transferList: [port2],
   });
@@ -360,6 +402,8 @@ async function startShard(
     worker,
     client: new ShardClient(port1, control),
     answers: new ShardAnswers(),
+    status,
+    first,
     lost: null,
   };
   await new Promise<void>((resolve, reject) => {

@@ -1,64 +1,145 @@
 import { type MessagePort, receiveMessageOnPort } from 'node:worker_threads';
 import { ShoalError, type ShoalErrorCode } from '../core/index.js';
 import { type Bagging, type EnsembleSnapshot, type SeatView, Verdict } from '../ensembles/index.js';
-import type { LifecycleChange } from '../journal/index.js';
-import { FAILED, type ShardLedger } from './shard-ledger.js';
-import { type AnswerBuffers, combineRows, type VerdictBuffers } from './shard-votes.js';
+import { type LifecycleChange, MEMBER_STATES } from '../journal/index.js';
+import { FAILED, poll, type ShardLedger } from './shard-ledger.js';
+import {
+  type AnswerBuffers,
+  type AnswerViews,
+  answerViews,
+  RowCombiner,
+  type VerdictBuffers,
+} from './shard-votes.js';
 
 /**
  * How a batch of rows reaches a shard of a bagging ensemble in another thread, and how its members'
  * answers come back, without copies: rows, labels, answers and the ledger (shard-ledger.ts) live in
- * shared memory, and control words wake the sides — the worker blocks in `Atomics.wait`, the main
- * thread awaits `Atomics.waitAsync`, so its event loop (Kafka heartbeats, scrapes) runs while a batch
- * is out — request number, number of requests done, a progress counter the shard bumps every 256 rows,
- * so that the waiting side can tell a long batch from a worker that stopped, and a ready flag the worker
- * raises once its shard is built. A request names its buffers in a message on a port that the worker
- * reads synchronously when woken; its reply (the lifecycle changes of the batch, the seats after it,
- * or an error; a snapshot when asked) comes back the same way before the request is marked done.
+ * shared memory, and control words wake the sides — the worker polls a few microseconds, then blocks in
+ * `Atomics.wait`; the main thread awaits `Atomics.waitAsync`, so its event loop (Kafka heartbeats,
+ * scrapes) runs while a batch is out — request number, number of requests done, a progress counter the
+ * shard bumps every 256 rows, so that the waiting side can tell a long batch from a worker that stopped,
+ * and a ready flag the worker raises once its shard is built. A request is a message on a port that the
+ * worker reads synchronously when woken: the batch's size and the ledger's start, and the shared
+ * buffers only when they changed (a message carrying some twenty shared buffers costs tens of
+ * microseconds to send and to read). The worker writes its status (rows, classes, size, its seats) in
+ * shared memory after each request, and a reply comes back the same way only when it has news (the
+ * lifecycle changes of the batch, an error, a snapshot when asked), before the request is marked done.
  */
 const C_REQUEST = 0;
 const C_DONE = 1;
 const C_PROGRESS = 2;
 const C_READY = 3;
 const PROGRESS_EVERY = 256;
+/** Rows the workers combine at a time. */
+const CHUNK = 64;
 /** A worker that makes no progress for this long is declared lost. */
 const SILENCE_MS = 30_000;
 const WAIT_MS = 1000;
 
 /**
- * A batch for a shard: shared rows and labels (NaN: score only), the ledger, where the answers go and
- * where the verdicts go.
+ * The shared memory of a batch: rows and labels, every shard's answers (shard w's at w, in shard order)
+ * and the seats each holds, where the combined verdicts go, and the ledger. Sent only when one of them
+ * changes (a larger batch, a new class): a worker keeps its views of the last ones.
  */
+export interface BatchBuffers {
+  readonly values: SharedArrayBuffer;
+  readonly labels: SharedArrayBuffer;
+  readonly all: readonly AnswerBuffers[];
+  readonly counts: readonly number[];
+  readonly verdicts: VerdictBuffers;
+  readonly ledger: SharedArrayBuffer;
+}
+
+/** A batch for a shard: its rows, trained on (labels NaN: score only) or scored, and the ledger's start. */
 export interface BatchRequest {
   readonly kind: 'batch';
   readonly rows: number;
   readonly classes: number;
-  readonly values: SharedArrayBuffer;
-  readonly labels: SharedArrayBuffer | null;
-  /** Every shard's answers (this one's at its number), in shard order, and the seats each holds. */
-  readonly all: readonly AnswerBuffers[];
-  readonly counts: readonly number[];
-  /** Where the combined verdicts go. */
-  readonly verdicts: VerdictBuffers;
-  readonly ledger: SharedArrayBuffer;
+  readonly train: boolean;
+  /** The buffers, when they changed since the last batch (null: the same). */
+  readonly buffers: BatchBuffers | null;
   readonly cap: number;
   readonly nextId: number;
   readonly history: readonly number[];
 }
 
+/** Whether two sets of batch buffers are the same memory. */
+export function sameBuffers(a: BatchBuffers, b: BatchBuffers): boolean {
+  return (
+    a.values === b.values &&
+    a.labels === b.labels &&
+    a.ledger === b.ledger &&
+    a.verdicts === b.verdicts &&
+    a.all.every((answers, i) => answers === b.all[i])
+  );
+}
+
 export type ShardRequest = BatchRequest | { readonly kind: 'snapshot' } | { readonly kind: 'stop' };
 
-/** What a shard says after a request. */
+/**
+ * What a shard has to say after a request, beyond its status: sent as a message only when there is
+ * something (a lifecycle change, an error, a snapshot), since a message costs tens of microseconds.
+ */
 export interface ShardReply {
   readonly error: { readonly code: ShoalErrorCode; readonly message: string } | null;
   /** Lifecycle changes of the batch, in order, and the step of each. */
   readonly changes: readonly LifecycleChange[];
   readonly steps: readonly number[];
-  readonly seats: readonly SeatView[];
-  readonly rows: number;
-  readonly classes: number;
-  readonly bytes: number;
   readonly snapshot: EnsembleSnapshot | null;
+}
+
+/** The reply of a request with nothing to say. */
+const NO_NEWS: ShardReply = { error: null, changes: [], steps: [], snapshot: null };
+
+/**
+ * A shard's status after each request, in shared memory: rows trained, classes, size in bytes, then
+ * per seat its member id, state, age, recent accuracy, error estimate and whether it has an
+ * understudy — what its seat views say but the kind, which a seat keeps.
+ */
+const STATUS_HEAD = 3;
+const SEAT_WORDS = 6;
+
+/** Room for the status of a shard of `seats` seats. */
+export function shardStatus(seats: number): Float64Array<SharedArrayBuffer> {
+  return new Float64Array(new SharedArrayBuffer(8 * (STATUS_HEAD + SEAT_WORDS * seats)));
+}
+
+function writeStatus(status: Float64Array, shard: Bagging): void {
+  status[0] = shard.rows;
+  status[1] = shard.classes;
+  status[2] = shard.sizeBytes();
+  shard.seats().forEach((view, i) => {
+    const at = STATUS_HEAD + SEAT_WORDS * i;
+    status[at] = view.member;
+    status[at + 1] = MEMBER_STATES.indexOf(view.state);
+    status[at + 2] = view.age;
+    status[at + 3] = view.recentAccuracy;
+    status[at + 4] = view.errorEstimate;
+    status[at + 5] = view.understudy ? 1 : 0;
+  });
+}
+
+/** Rows trained, classes and size in a status. */
+export function statusCounts(status: Float64Array): { rows: number; classes: number; bytes: number } {
+  return { rows: status[0]!, classes: status[1]!, bytes: status[2]! };
+}
+
+/** The seat views in a status of the seats `first` …, whose kinds are `kinds` (by seat). */
+export function statusSeats(status: Float64Array, first: number, kinds: readonly string[]): SeatView[] {
+  const seats = (status.length - STATUS_HEAD) / SEAT_WORDS;
+  return Array.from({ length: seats }, (_, i) => {
+    const at = STATUS_HEAD + SEAT_WORDS * i;
+    return {
+      seat: first + i,
+      member: status[at]!,
+      kind: kinds[first + i]!,
+      state: MEMBER_STATES[status[at + 1]!]!,
+      age: status[at + 2]!,
+      recentAccuracy: status[at + 3]!,
+      errorEstimate: status[at + 4]!,
+      understudy: status[at + 5] === 1,
+    };
+  });
 }
 
 /**
@@ -75,19 +156,29 @@ export class ShardAnswers {
   classes = new Int32Array(new SharedArrayBuffer(0));
   accuracy = new Float64Array(new SharedArrayBuffer(0));
 
+  /** The last buffers handed out: the same object while none changed. */
+  private buffers: AnswerBuffers | null = null;
+
   /** Make room for `rows` rows of `members` answers over `stride` classes. */
   fit(rows: number, members: number, stride: number): AnswerBuffers {
+    let changed = this.buffers === null || stride !== this.stride;
     this.stride = stride;
     if (this.probs.length < rows * members * stride) {
       this.probs = new Float64Array(new SharedArrayBuffer(8 * rows * members * stride));
+      changed = true;
     }
     if (this.preds.length < rows * members) {
       this.preds = new Int32Array(new SharedArrayBuffer(4 * rows * members));
       this.weights = new Float64Array(new SharedArrayBuffer(16 * rows * members));
       this.accuracy = new Float64Array(new SharedArrayBuffer(8 * rows * members));
+      changed = true;
     }
-    if (this.classes.length < rows) this.classes = new Int32Array(new SharedArrayBuffer(4 * rows));
-    return {
+    if (this.classes.length < rows) {
+      this.classes = new Int32Array(new SharedArrayBuffer(4 * rows));
+      changed = true;
+    }
+    if (!changed) return this.buffers!;
+    this.buffers = {
       stride,
       probs: this.probs.buffer,
       preds: this.preds.buffer,
@@ -95,6 +186,27 @@ export class ShardAnswers {
       classes: this.classes.buffer,
       accuracy: this.accuracy.buffer,
     };
+    return this.buffers;
+  }
+}
+
+/** A worker's views of the batch buffers, made when they change. */
+class BatchViews {
+  readonly values: Float64Array;
+  readonly labels: Float64Array;
+  /** This shard's answers. */
+  readonly answers: AnswerViews;
+  readonly stride: number;
+  readonly ledger: Int32Array;
+  readonly combiner: RowCombiner;
+
+  constructor(buffers: BatchBuffers, shard: number, hard: boolean) {
+    this.values = new Float64Array(buffers.values);
+    this.labels = new Float64Array(buffers.labels);
+    this.answers = answerViews(buffers.all[shard]!);
+    this.stride = buffers.all[shard]!.stride;
+    this.ledger = new Int32Array(buffers.ledger);
+    this.combiner = new RowCombiner(buffers.all, buffers.counts, hard, buffers.verdicts);
   }
 }
 
@@ -102,17 +214,16 @@ export class ShardAnswers {
  * Score (label NaN) or score and train a shard on each row of a batch, writing every member's answers
  * row by row; the ledger is told each step and each step done.
  */
-function runShard(shard: Bagging, ledger: ShardLedger, request: BatchRequest, control: Int32Array): void {
-  const { rows } = request;
-  const answers = request.all[ledger.shard]!;
-  const values = new Float64Array(request.values);
-  const labels = request.labels === null ? null : new Float64Array(request.labels);
-  const probs = new Float64Array(answers.probs);
-  const preds = new Int32Array(answers.preds);
-  const weights = new Float64Array(answers.weights);
-  const classes = new Int32Array(answers.classes);
-  const accuracy = new Float64Array(answers.accuracy);
-  const stride = answers.stride;
+function runShard(
+  shard: Bagging,
+  ledger: ShardLedger,
+  request: BatchRequest,
+  views: BatchViews,
+  control: Int32Array,
+): void {
+  const { rows, train } = request;
+  const { values, labels, stride } = views;
+  const { probs, preds, weights, classes, accuracy } = views.answers;
   const width = shard.schema.features.length;
   shard.ensureClasses(request.classes);
   const members = shard.options.members;
@@ -123,7 +234,7 @@ function runShard(shard: Bagging, ledger: ShardLedger, request: BatchRequest, co
     // A label of a new class grows the scratch after the row, into new arrays: answers are in these.
     const c = m.classes;
     const answered = m.probs;
-    const label = labels === null ? Number.NaN : labels[r]!;
+    const label = train ? labels[r]! : Number.NaN;
     if (Number.isNaN(label)) shard.score(values, r * width, verdict);
     else shard.train(values, r * width, label);
     const at = r * members;
@@ -137,6 +248,18 @@ function runShard(shard: Bagging, ledger: ShardLedger, request: BatchRequest, co
     }
     ledger.done(r + 1);
     if (r % PROGRESS_EVERY === 0) Atomics.add(control, C_PROGRESS, 1);
+  }
+}
+
+/**
+ * Combine chunks of the batch's rows until none is left, each once every shard has answered its rows
+ * (none when a shard failed: the batch fails as a whole).
+ */
+function combineChunks(ledger: ShardLedger, rows: number, combiner: RowCombiner): void {
+  for (let from = ledger.claim() * CHUNK; from < rows; from = ledger.claim() * CHUNK) {
+    const to = Math.min(rows, from + CHUNK);
+    if (!ledger.awaitAll(to)) return;
+    combiner.rows(from, to);
   }
 }
 
@@ -181,8 +304,16 @@ export class ShardClient {
     this.control = control;
   }
 
+  /** Send a request (the worker reads it once woken). */
   post(request: ShardRequest): void {
     this.port.postMessage(request);
+  }
+
+  /**
+   * Wake the worker for the request sent. A woken worker may take this thread's core, so a batch is
+   * sent to every worker before any is woken.
+   */
+  wake(): void {
     Atomics.store(this.control, C_REQUEST, ++this.sent);
     Atomics.notify(this.control, C_REQUEST);
   }
@@ -207,7 +338,7 @@ export class ShardClient {
         );
       }
     }
-    return receiveMessageOnPort(this.port)?.message as ShardReply;
+    return (receiveMessageOnPort(this.port)?.message as ShardReply | undefined) ?? NO_NEWS;
   }
 }
 
@@ -218,8 +349,9 @@ export function markAnswered(control: Int32Array, done: number): void {
 }
 
 /**
- * The worker's end: answer requests with `shard` until a stop request arrives; `changes` and `steps`
- * collect the lifecycle changes of a batch (the shard's journal). Blocks its thread between requests.
+ * The worker's end: answer requests with `shard` until a stop request arrives, writing its `status`
+ * after each; `changes` and `steps` collect the lifecycle changes of a batch (the shard's journal).
+ * Blocks its thread between requests.
  */
 export function serveShard(
   shard: Bagging,
@@ -228,12 +360,15 @@ export function serveShard(
   steps: number[],
   port: MessagePort,
   control: Int32Array,
+  status: Float64Array,
 ): void {
   Atomics.store(control, C_READY, 1);
   Atomics.notify(control, C_READY);
   let done = 0;
+  let views: BatchViews | null = null;
   for (;;) {
-    Atomics.wait(control, C_REQUEST, done);
+    // A request that comes within a few microseconds (the next batch, sent at once) finds this thread awake.
+    if (poll(control, C_REQUEST, done + 1) === done) Atomics.wait(control, C_REQUEST, done);
     // Requests are answered in order, one message each, however many arrived while this thread worked.
     for (let m = receiveMessageOnPort(port); m !== undefined; m = receiveMessageOnPort(port)) {
       const request = m.message as ShardRequest;
@@ -248,16 +383,11 @@ export function serveShard(
       try {
         if (request.kind === 'snapshot') snapshot = shard.snapshot();
         else {
-          ledger.begin(new Int32Array(request.ledger), request.cap, request.nextId, request.history);
-          runShard(shard, ledger, request, control);
-          // Once every shard has answered every row, this one combines its share of the rows.
-          const { rows, counts } = request;
-          const n = counts.length;
-          if (ledger.awaitAll(rows)) {
-            const from = Math.floor((ledger.shard * rows) / n);
-            const to = Math.floor(((ledger.shard + 1) * rows) / n);
-            combineRows(request.all, counts, shard.options.vote === 'hard', from, to, request.verdicts);
-          }
+          if (request.buffers !== null)
+            views = new BatchViews(request.buffers, ledger.shard, shard.options.vote === 'hard');
+          ledger.begin(views!.ledger, request.cap, request.nextId, request.history);
+          runShard(shard, ledger, request, views!, control);
+          combineChunks(ledger, request.rows, views!.combiner);
         }
       } catch (e) {
         // Shards stop at the same bad row; one that waits on this one must not wait for good.
@@ -267,17 +397,11 @@ export function serveShard(
             ? { code: e.code, message: e.message }
             : { code: 'worker-failure', message: `parallel bagging: a worker failed: ${String(e)}` };
       }
-      const reply: ShardReply = {
-        error,
-        changes,
-        steps,
-        seats: shard.seats(),
-        rows: shard.rows,
-        classes: shard.classes,
-        bytes: shard.sizeBytes(),
-        snapshot,
-      };
-      port.postMessage(reply);
+      writeStatus(status, shard);
+      if (error !== null || changes.length > 0 || snapshot !== null) {
+        const reply: ShardReply = { error, changes, steps, snapshot };
+        port.postMessage(reply);
+      }
       markAnswered(control, ++done);
     }
   }

@@ -6,7 +6,8 @@ import { inWindow, type LifecycleSnapshot, type SeatLedger } from '../ensembles/
  * any `replacementWindow` rows. Shards of one bagging ensemble in different threads keep both exactly as
  * one thread would through this ledger, in shared memory while a batch is out:
  *
- *   progress of each shard (steps of the batch done), the number of shards waiting, then per shard:
+ *   progress of each shard (steps of the batch done), for each pair of shards the step one waits for
+ *   the other to reach (0: none), the next chunk of rows to combine (see `claim`), then per shard:
  *   ids handed out, replacements, the step of each id, the step and the row of each replacement.
  *
  * Shard w holds seats below those of shard w + 1, so an event of shard v at step q comes before the
@@ -17,8 +18,15 @@ import { inWindow, type LifecycleSnapshot, type SeatLedger } from '../ensembles/
  * otherwise run freely; waits never form a cycle, since the earliest waiting (step, shard) has all it
  * waits for. The main thread keeps the ledger between batches: the next id, the recent replacement
  * rows, the epoch.
+ *
+ * A shard waiting for another's progress first polls it for a few microseconds, then sleeps having
+ * written the step it waits for, and the other wakes it only once that step is done: a sleeper costs a
+ * wake-up (a system call on each side, tens of microseconds on a virtual machine), so a shard neither
+ * sleeps on a short wait nor is woken at every row of a long one.
  */
 const PER_SHARD_HEAD = 2;
+/** Loads of a word before a thread sleeps on it: some 10 µs (an atomic load takes some 20–30 ns in Node 20). */
+const SPINS = 512;
 const LOGS = 3;
 /** Kinds of event: the count word and step log of each (replacement rows follow the replacement steps). */
 const IDS = 0;
@@ -29,12 +37,32 @@ const WAIT_MS = 1000;
 
 /** Words of a ledger for `shards` shards with room for `cap` events of each kind per shard. */
 export function ledgerWords(shards: number, cap: number): Int32Array<SharedArrayBuffer> {
-  return new Int32Array(new SharedArrayBuffer(4 * (shards + 1 + shards * (PER_SHARD_HEAD + LOGS * cap))));
+  return new Int32Array(new SharedArrayBuffer(4 * base(shards, cap, shards)));
 }
 
-/** Where shard `v`'s counts and logs start. */
+/**
+ * Load `words[index]` until it is at least `value`, for some 10 µs at most — about what a sleep and a
+ * wake-up would cost; the word then.
+ */
+export function poll(words: Int32Array, index: number, value: number): number {
+  let word = Atomics.load(words, index);
+  for (let i = 0; word < value && i < SPINS; i++) word = Atomics.load(words, index);
+  return word;
+}
+
+/** The word where shard `w` writes the step it waits for shard `v` to reach. */
+function wanted(shards: number, w: number, v: number): number {
+  return shards + w * shards + v;
+}
+
+/** The word that hands out chunks of rows to combine. */
+function chunkWord(shards: number): number {
+  return shards + shards * shards;
+}
+
+/** Where shard `v`'s counts and logs start (after the progress, wanted and chunk words). */
 function base(shards: number, cap: number, v: number): number {
-  return shards + 1 + v * (PER_SHARD_HEAD + LOGS * cap);
+  return chunkWord(shards) + 1 + v * (PER_SHARD_HEAD + LOGS * cap);
 }
 
 /** A shard's side of the ledger: the `SeatLedger` its lifecycle asks. */
@@ -67,11 +95,23 @@ export class ShardLedger implements SeatLedger {
     this.step = 0;
   }
 
-  /** `steps` steps of the batch are done (FAILED: none will be). */
+  /** `steps` steps of the batch are done (FAILED: none will be); wakes a shard asleep until then. */
   done(steps: number): void {
-    const words = this.words;
-    Atomics.store(words, this.shard, steps);
-    if (Atomics.load(words, this.shards) > 0) Atomics.notify(words, this.shard);
+    const { words, shard, shards } = this;
+    Atomics.store(words, shard, steps);
+    for (let w = 0; w < shards; w++) {
+      if (w === shard) continue;
+      const step = Atomics.load(words, wanted(shards, w, shard));
+      if (step > 0 && steps >= step) {
+        Atomics.notify(words, shard);
+        return;
+      }
+    }
+  }
+
+  /** The next chunk of rows this shard combines (each chunk goes to the first shard that asks). */
+  claim(): number {
+    return Atomics.add(this.words, chunkWord(this.shards), 1);
   }
 
   nextId(_row: number): number {
@@ -116,30 +156,27 @@ export class ShardLedger implements SeatLedger {
    * Wait until every shard has done `steps` steps; false when one failed (the batch fails as a whole).
    */
   awaitAll(steps: number): boolean {
-    const { words, shards } = this;
-    for (let v = 0; v < shards; v++) {
-      for (let p = Atomics.load(words, v); p < steps; p = Atomics.load(words, v)) {
-        Atomics.add(words, shards, 1);
-        Atomics.wait(words, v, p, WAIT_MS);
-        Atomics.sub(words, shards, 1);
-      }
-      if (Atomics.load(words, v) === FAILED) return false;
-    }
+    for (let v = 0; v < this.shards; v++) if (this.reach(v, steps) === FAILED) return false;
     return true;
   }
 
   /** Wait until every event before this shard's at this step is in the logs. */
   private settle(): void {
-    const { words, shards, step } = this;
-    for (let v = 0; v < shards; v++) {
-      if (v === this.shard) continue;
-      const need = v < this.shard ? step + 1 : step;
-      for (let p = Atomics.load(words, v); p < need; p = Atomics.load(words, v)) {
-        Atomics.add(words, shards, 1);
-        Atomics.wait(words, v, p, WAIT_MS);
-        Atomics.sub(words, shards, 1);
-      }
-    }
+    const { shards, step } = this;
+    for (let v = 0; v < shards; v++) if (v !== this.shard) this.reach(v, v < this.shard ? step + 1 : step);
+  }
+
+  /** Wait until shard `v` has done `steps` steps (polling a while, then asleep); its progress then. */
+  private reach(v: number, steps: number): number {
+    const words = this.words;
+    let p = poll(words, v, steps);
+    if (p >= steps) return p;
+    const at = wanted(this.shards, this.shard, v);
+    Atomics.store(words, at, steps);
+    for (p = Atomics.load(words, v); p < steps; p = Atomics.load(words, v))
+      Atomics.wait(words, v, p, WAIT_MS);
+    Atomics.store(words, at, 0);
+    return p;
   }
 
   /** How many of shard `v`'s events of one kind (IDS or REPLACEMENTS) come before this shard's at this step. */
@@ -187,7 +224,7 @@ export class LedgerHost {
     }
     // The layout stays that of the larger batch the words were made for (`this.cap`).
     const words = this.words;
-    words.fill(0, 0, this.shards + 1);
+    words.fill(0, 0, base(this.shards, this.cap, 0));
     for (let v = 0; v < this.shards; v++) {
       const at = base(this.shards, this.cap, v);
       words.fill(0, at, at + PER_SHARD_HEAD);

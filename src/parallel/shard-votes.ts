@@ -2,9 +2,10 @@ import { type BatchVerdicts, combineVotes, Verdict } from '../ensembles/index.js
 
 /**
  * Combining the shards' answers into each row's verdict, as one thread's vote: every shard's members'
- * answers of a row gathered in seat order, then `combineVotes`. Once every shard has answered the whole
- * batch, each worker combines its share of the rows (worker w of n takes rows ⌊w·R/n⌋ … ⌊(w+1)·R/n⌋ − 1)
- * into verdicts in shared memory, so the main thread only copies them out.
+ * answers of a row gathered in seat order, then `combineVotes`. The workers combine the rows in chunks,
+ * each chunk by the first worker to ask for it once every shard has answered its rows — so a worker that
+ * is through with its seats combines while another still trains — into verdicts in shared memory, and
+ * the main thread only copies them out.
  */
 
 /** One shard's answers, row-major with `stride` classes a member (see `ShardAnswers`). */
@@ -15,6 +16,26 @@ export interface AnswerBuffers {
   readonly weights: SharedArrayBuffer;
   readonly classes: SharedArrayBuffer;
   readonly accuracy: SharedArrayBuffer;
+}
+
+/** Typed views of one shard's answers. */
+export interface AnswerViews {
+  readonly probs: Float64Array;
+  readonly preds: Int32Array;
+  readonly weights: Float64Array;
+  readonly classes: Int32Array;
+  readonly accuracy: Float64Array;
+}
+
+/** Views of a shard's answer buffers. */
+export function answerViews(a: AnswerBuffers): AnswerViews {
+  return {
+    probs: new Float64Array(a.probs),
+    preds: new Int32Array(a.preds),
+    weights: new Float64Array(a.weights),
+    classes: new Int32Array(a.classes),
+    accuracy: new Float64Array(a.accuracy),
+  };
 }
 
 /** A batch's verdicts in shared memory (the fields of `BatchVerdicts` the workers fill). */
@@ -36,18 +57,28 @@ export class SharedVerdicts {
   private spans = new Int32Array(new SharedArrayBuffer(0));
   private accuracy = new Float64Array(new SharedArrayBuffer(0));
 
+  /** The last buffers handed out: the same object while none changed. */
+  private buffers: VerdictBuffers | null = null;
+
   fit(rows: number, stride: number, members: number): VerdictBuffers {
-    if (this.probabilities.length < rows * stride)
+    let changed = this.buffers === null;
+    if (this.probabilities.length < rows * stride) {
       this.probabilities = new Float64Array(new SharedArrayBuffer(8 * rows * stride));
+      changed = true;
+    }
     if (this.predicted.length < rows) {
       this.predicted = new Int32Array(new SharedArrayBuffer(4 * rows));
       this.agreement = new Float64Array(new SharedArrayBuffer(8 * rows));
       this.voters = new Int32Array(new SharedArrayBuffer(4 * rows));
       this.spans = new Int32Array(new SharedArrayBuffer(4 * rows));
+      changed = true;
     }
-    if (this.accuracy.length < rows * members)
+    if (this.accuracy.length < rows * members) {
       this.accuracy = new Float64Array(new SharedArrayBuffer(8 * rows * members));
-    return {
+      changed = true;
+    }
+    if (!changed) return this.buffers!;
+    this.buffers = {
       probabilities: this.probabilities.buffer,
       predicted: this.predicted.buffer,
       agreement: this.agreement.buffer,
@@ -55,6 +86,7 @@ export class SharedVerdicts {
       spans: this.spans.buffer,
       accuracy: this.accuracy.buffer,
     };
+    return this.buffers;
   }
 
   /** Copy the verdicts of `rows` rows into `out` (fitted to them). */
@@ -69,60 +101,75 @@ export class SharedVerdicts {
 }
 
 /**
- * Combine rows `from` … `to` − 1 of the shards' answers (`all`, in shard order, `counts` seats each)
- * into `into`, with hard or soft votes.
+ * Combines rows of the shards' answers (`all`, in shard order, `counts` seats each) into `into`, with
+ * hard or soft votes; made once a batch, then asked for chunk after chunk of rows.
  */
-export function combineRows(
-  all: readonly AnswerBuffers[],
-  counts: readonly number[],
-  hard: boolean,
-  from: number,
-  to: number,
-  into: VerdictBuffers,
-): void {
-  const members = counts.reduce((a, b) => a + b, 0);
-  const stride = all[0]!.stride;
-  const shards = all.map((a) => ({
-    probs: new Float64Array(a.probs),
-    preds: new Int32Array(a.preds),
-    weights: new Float64Array(a.weights),
-    accuracy: new Float64Array(a.accuracy),
-  }));
-  const spans = new Int32Array(all[0]!.classes);
-  const probabilities = new Float64Array(into.probabilities);
-  const predicted = new Int32Array(into.predicted);
-  const agreement = new Float64Array(into.agreement);
-  const voters = new Int32Array(into.voters);
-  const rowSpans = new Int32Array(into.spans);
-  const accuracy = new Float64Array(into.accuracy);
-  const probs = new Float64Array(members * stride);
-  const preds = new Int32Array(members);
-  const weights = new Float64Array(members);
-  const confidence = new Float64Array(members);
-  const verdict = new Verdict();
-  for (let r = from; r < to; r++) {
-    const c = spans[r]!;
-    let seat = 0;
-    for (let s = 0; s < shards.length; s++) {
-      const shard = shards[s]!;
-      const n = counts[s]!;
-      const at = r * n;
-      for (let m = 0; m < n; m++) {
-        preds[seat + m] = shard.preds[at + m]!;
-        weights[seat + m] = shard.weights[2 * (at + m)]!;
-        confidence[seat + m] = shard.weights[2 * (at + m) + 1]!;
-        accuracy[r * members + seat + m] = shard.accuracy[at + m]!;
-        for (let k = 0, a = (at + m) * stride, b = (seat + m) * c; k < c; k++)
-          probs[b + k] = shard.probs[a + k]!;
+export class RowCombiner {
+  private readonly counts: readonly number[];
+  private readonly hard: boolean;
+  private readonly members: number;
+  private readonly stride: number;
+  private readonly shards: AnswerViews[];
+  private readonly spans: Int32Array;
+  private readonly probabilities: Float64Array;
+  private readonly predicted: Int32Array;
+  private readonly agreement: Float64Array;
+  private readonly voters: Int32Array;
+  private readonly rowSpans: Int32Array;
+  private readonly accuracy: Float64Array;
+  private readonly probs: Float64Array;
+  private readonly preds: Int32Array;
+  private readonly weights: Float64Array;
+  private readonly confidence: Float64Array;
+  private readonly verdict = new Verdict();
+
+  constructor(all: readonly AnswerBuffers[], counts: readonly number[], hard: boolean, into: VerdictBuffers) {
+    this.counts = counts;
+    this.hard = hard;
+    this.members = counts.reduce((a, b) => a + b, 0);
+    this.stride = all[0]!.stride;
+    this.shards = all.map(answerViews);
+    this.spans = this.shards[0]!.classes;
+    this.probabilities = new Float64Array(into.probabilities);
+    this.predicted = new Int32Array(into.predicted);
+    this.agreement = new Float64Array(into.agreement);
+    this.voters = new Int32Array(into.voters);
+    this.rowSpans = new Int32Array(into.spans);
+    this.accuracy = new Float64Array(into.accuracy);
+    this.probs = new Float64Array(this.members * this.stride);
+    this.preds = new Int32Array(this.members);
+    this.weights = new Float64Array(this.members);
+    this.confidence = new Float64Array(this.members);
+  }
+
+  /** Combine rows `from` … `to` − 1. */
+  rows(from: number, to: number): void {
+    const { counts, members, stride, shards, spans, probs, preds, weights, confidence, accuracy, verdict } =
+      this;
+    for (let r = from; r < to; r++) {
+      const c = spans[r]!;
+      let seat = 0;
+      for (let s = 0; s < shards.length; s++) {
+        const shard = shards[s]!;
+        const n = counts[s]!;
+        const at = r * n;
+        for (let m = 0; m < n; m++) {
+          preds[seat + m] = shard.preds[at + m]!;
+          weights[seat + m] = shard.weights[2 * (at + m)]!;
+          confidence[seat + m] = shard.weights[2 * (at + m) + 1]!;
+          accuracy[r * members + seat + m] = shard.accuracy[at + m]!;
+          for (let k = 0, a = (at + m) * stride, b = (seat + m) * c; k < c; k++)
+            probs[b + k] = shard.probs[a + k]!;
+        }
+        seat += n;
       }
-      seat += n;
+      combineVotes(this.hard, probs, preds, weights, confidence, members, c, verdict);
+      const at = r * stride;
+      for (let k = 0; k < stride; k++) this.probabilities[at + k] = k < c ? verdict.probabilities[k]! : 0;
+      this.rowSpans[r] = c;
+      this.predicted[r] = verdict.predicted;
+      this.agreement[r] = verdict.agreement;
+      this.voters[r] = verdict.voters;
     }
-    combineVotes(hard, probs, preds, weights, confidence, members, c, verdict);
-    const at = r * stride;
-    for (let k = 0; k < stride; k++) probabilities[at + k] = k < c ? verdict.probabilities[k]! : 0;
-    rowSpans[r] = c;
-    predicted[r] = verdict.predicted;
-    agreement[r] = verdict.agreement;
-    voters[r] = verdict.voters;
   }
 }

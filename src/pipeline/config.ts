@@ -98,17 +98,25 @@ export type RegressionEnsembleSpec = { readonly kind: 'bagging' } & RegressionBa
  * - `maxAgeSeconds`: a prediction waits at most this long (in the session's time: the stream's own time in a replay, the wall clock when live), or null for no age bound;
  * - `unmatched`: what a label that finds no prediction does: `ignore` (counted only), or `train` on the
  *   label's own row when the label carries the row's features.
+ * - `early`: labels that came before their event (no prediction, an id never seen) held for it at most
+ *   (the oldest is let go to make room; 0 holds none: such a label counts as unknown at once);
+ * - `earlyWaitSeconds`: how long such a label waits for its event (in the session's time, as
+ *   `maxAgeSeconds`); one let go unjoined counts as unknown.
  */
 export interface LabelsConfig {
   readonly pending: number;
   readonly maxAgeSeconds: number | null;
   readonly unmatched: 'ignore' | 'train';
+  readonly early: number;
+  readonly earlyWaitSeconds: number;
 }
 
 export const LABELS_DEFAULTS: LabelsConfig = {
   pending: 100_000,
   maxAgeSeconds: 604_800,
   unmatched: 'ignore',
+  early: 100_000,
+  earlyWaitSeconds: 600,
 };
 
 export interface EvaluationConfig {
@@ -208,6 +216,18 @@ const LABEL_JOIN_OPTIONS = {
     choices: ['ignore', 'train'],
     default: LABELS_DEFAULTS.unmatched,
     doc: "what a label that finds no prediction does: ignore, or train on the label's own row",
+  },
+  early: {
+    type: 'integer',
+    atLeast: 0,
+    default: LABELS_DEFAULTS.early,
+    doc: 'labels that came before their event held for it at most (0: none)',
+  },
+  earlyWaitSeconds: {
+    type: 'number',
+    above: 0,
+    default: LABELS_DEFAULTS.earlyWaitSeconds,
+    doc: 'how long a label that came before its event waits for it, in seconds',
   },
 } as const satisfies OptionTable;
 
@@ -560,6 +580,8 @@ function checkLabels(c: Checker, value: unknown): LabelsConfig {
   return {
     pending: settings.pending,
     unmatched: settings.unmatched,
+    early: settings.early,
+    earlyWaitSeconds: settings.earlyWaitSeconds,
     maxAgeSeconds:
       maxAgeSeconds === null
         ? null

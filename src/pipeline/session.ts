@@ -19,6 +19,7 @@ import {
   type WindowRecord,
 } from '../journal/index.js';
 import { modelConfig, type RunConfig } from './config.js';
+import { ALREADY_HELD, EarlyLabels, type EarlyLabelsSnapshot, HELD_PUSHED_OUT } from './early-labels.js';
 import {
   GONE_EVICTED,
   GONE_EXPIRED,
@@ -73,7 +74,7 @@ const RECENT_SIGNALS = 64;
 export const LABEL_DELAY_BOUNDS: readonly number[] = [1, 10, 60, 600, 3600, 21_600, 86_400, 604_800];
 
 const KIND = 'learning-session';
-const VERSION = 3;
+const VERSION = 4;
 
 /**
  * The learning session: everything the model side does with a stream, for every source alike
@@ -93,6 +94,12 @@ const VERSION = 3;
  *   prediction expired), `evicted` (it was evicted to make room) or `unknown` — and, under the setting
  *   `labels.unmatched: train`, trained on from its own row when the label carries the row's features
  *   (`ignore`, the default, trains on nothing that was not served).
+ * - A label whose id the session has never seen came before its event (two topics are not read in
+ *   step): it is held for the event (`EarlyLabels`, bounded by `labels.early` and
+ *   `labels.earlyWaitSeconds`). When the event is scored, the label is joined right after the rows of
+ *   that `score` call, in their order — exactly as a label that came then — and counts as joined; one
+ *   let go unjoined counts as unknown. (Under `unmatched: train`, a label that carries its row is
+ *   trained on at once instead, as before.)
  * - Pending predictions are bounded by count and by age (`labels.pending`, `labels.maxAgeSeconds`);
  *   expiries are returned by `expire()` and counted.
  *
@@ -134,6 +141,9 @@ export class LearningSession {
   private held: (number | WindowRecord)[] | null = null;
   private monitor: InputMonitor | null = null;
   private pending: PendingStore | null = null;
+  private early: EarlyLabels;
+  /** While the held labels whose events were just scored are joined (they are not held again). */
+  private joining = false;
   private scorecard: Scorecard;
   private readonly verdict = new Verdict();
   private readonly scores = new ScoreBuffers();
@@ -156,6 +166,7 @@ export class LearningSession {
       window: options.config.evaluation.window,
       fading: options.config.evaluation.fading,
     });
+    this.early = new EarlyLabels(options.config.labels.early);
     this.metrics = metricsOf(this);
   }
 
@@ -199,6 +210,7 @@ export class LearningSession {
     const pending = this.pending!;
     const out = this.scores.reserve(from, to - from, ensemble.classes, classes, ids, now);
     const counts = this.counts;
+    const early = this.early;
     const settles = ids !== null && this.options.lateLabels !== false;
     for (let r = from; r < to; r++) {
       const offset = r * width;
@@ -211,13 +223,17 @@ export class LearningSession {
       if (Number.isNaN(label)) {
         if (this.step >= 0) this.replay(verdict);
         else (ensemble as SessionModel).score(values, offset, verdict);
-        if (ids !== null && pending.put(ids[r]!, values, offset, verdict, now) === GONE_EVICTED) {
-          counts.evictedPredictions++;
+        if (ids !== null) {
+          if (pending.put(ids[r]!, values, offset, verdict, now) === GONE_EVICTED)
+            counts.evictedPredictions++;
+          if (early.size > 0) early.claim(ids[r]!);
         }
       } else {
         if (this.step >= 0) this.replay(verdict);
         else (ensemble as SessionModel).scoreTrain(values, offset, label, verdict);
         if (settles && pending.settled(ids![r]!) === GONE_EVICTED) counts.evictedPredictions++;
+        // The event brought its own label: one held for it is a second label for a joined id.
+        if (settles && early.size > 0 && early.drop(ids![r]!)) counts.duplicate++;
         counts.inline++;
         counts.trained++;
         this.judge(
@@ -229,7 +245,47 @@ export class LearningSession {
       }
       this.scores.put(r - from, verdict);
     }
+    // On worker threads, `scoreAsync` joins them once the batch's answers are all taken.
+    if (this.threaded === null) this.joinEarly(classes);
     return out;
+  }
+
+  /** Join the held labels whose events the last `score` call scored, in the order they were scored. */
+  private joinEarly(classes: readonly string[]): void {
+    const ready = this.early.ready();
+    if (ready === null) return;
+    this.joining = true;
+    try {
+      this.learn(ready, classes);
+    } finally {
+      this.joining = false;
+      this.early.clearReady();
+    }
+  }
+
+  /** `joinEarly` with the ensemble on worker threads. */
+  private async joinEarlyAsync(classes: readonly string[]): Promise<void> {
+    const ready = this.early.ready();
+    if (ready === null) return;
+    this.joining = true;
+    try {
+      await this.learnAsync(ready, classes);
+    } finally {
+      this.joining = false;
+      this.early.clearReady();
+    }
+  }
+
+  /** Hold a label that came before its event; one pushed out to make room counts as unknown. */
+  private hold(id: string, label: number, now: number): void {
+    const outcome = this.early.hold(id, label, now);
+    const counts = this.counts;
+    if (outcome === ALREADY_HELD) {
+      counts.duplicate++;
+      return;
+    }
+    counts.early++;
+    if (outcome === HELD_PUSHED_OUT) counts.unknown++;
   }
 
   /**
@@ -281,7 +337,10 @@ export class LearningSession {
       if (fate === GONE_JOINED) counts.duplicate++;
       else if (fate === GONE_EXPIRED) counts.late++;
       else if (fate === GONE_EVICTED) counts.evicted++;
-      else counts.unknown++;
+      else if (this.early.capacity > 0 && !trainUnmatched && !this.joining) {
+        this.hold(id, label, now);
+        continue;
+      } else counts.unknown++;
       if (trainUnmatched && fate !== GONE_JOINED) {
         this.train(frame.values, r * frame.width, label);
         counts.trainedUnmatched++;
@@ -305,11 +364,14 @@ export class LearningSession {
     const labels = frame.labels;
     for (let r = 0; r < n; r++) this.batchLabels[r] = labels === null ? Number.NaN : labels[from + r]!;
     await this.runBatch(threaded, frame.values.subarray(from * frame.width), this.batchLabels, n);
+    let out: ScoreBatch;
     try {
-      return this.score(frame, classes, from, to);
+      out = this.score(frame, classes, from, to);
     } finally {
       this.step = -1;
     }
+    await this.joinEarlyAsync(classes);
+    return out;
   }
 
   /**
@@ -384,6 +446,8 @@ export class LearningSession {
       late: c.late,
       evicted: c.evicted,
       unknown: c.unknown,
+      early: c.early,
+      held: this.early.size,
       trainedUnmatched: c.trainedUnmatched,
       expiredPredictions: c.expiredPredictions,
       evictedPredictions: c.evictedPredictions,
@@ -432,6 +496,7 @@ export class LearningSession {
       evaluator: this.scorecard.snapshot(),
       monitor: this.monitor?.snapshot() ?? null,
       pending: this.pending?.snapshot() ?? null,
+      early: this.early.snapshot(),
       counts: { ...this.counts },
       causes: Array.from(this.causes),
       inputDrifts: Array.from(this.inputDriftCounts),
@@ -472,6 +537,7 @@ export class LearningSession {
       this.ensemble = restoreModel(this.config.task, s.ensemble, (c) => this.lifecycle(c));
     if (s.monitor !== null) this.monitor = restoreInputMonitor(s.monitor);
     if (s.pending !== null) this.pending = PendingStore.restore(s.pending);
+    this.early = EarlyLabels.restore(s.early);
     Object.assign(this.counts, s.counts);
     this.scoredAtStart = this.counts.scored;
     const numbers = (list: readonly number[], into: Float64Array, what: string): void => {
@@ -597,7 +663,10 @@ export class LearningSession {
     this.pending!.ensureClasses(n);
   }
 
+  /** Let go of pending predictions and held labels past their age bounds; returns the predictions. */
   private expireAt(now: number): number {
+    const early = this.early;
+    if (early.size > 0) this.counts.unknown += early.expire(now - this.config.labels.earlyWaitSeconds * 1000);
     const pending = this.pending;
     const seconds = this.config.labels.maxAgeSeconds;
     if (pending === null || seconds === null || pending.size === 0) return 0;
@@ -730,6 +799,8 @@ class Counts {
   late = 0;
   evicted = 0;
   unknown = 0;
+  /** Labels that came before their event and were held for it. */
+  early = 0;
   trainedUnmatched = 0;
   expiredPredictions = 0;
   evictedPredictions = 0;
@@ -753,6 +824,8 @@ export interface SessionSnapshot {
   readonly evaluator: EvaluatorSnapshot;
   readonly monitor: InputMonitorSnapshot | null;
   readonly pending: PendingSnapshot | null;
+  /** Labels held for their events, oldest first. */
+  readonly early: EarlyLabelsSnapshot;
   readonly counts: SessionCounts;
   /** Lifecycle changes by cause, in `LIFECYCLE_CAUSES` order. */
   readonly causes: readonly number[];

@@ -89,8 +89,8 @@ class Totals {
  * assigned partition with scope `partition`. Counters are summed over the sessions, and the totals of a
  * session dropped on revoke stay in the sums, so no counter ever falls (Prometheus would read a fall as a
  * reset). Gauges of the model: accuracy, κ and per-seat accuracy are the mean over the sessions that have
- * one; a seat's state is the furthest along `SEAT_STATES` any session's seat is in; pending counts and
- * model bytes are sums. Dead letters by reason and the consumer lag per partition are kept here, since
+ * one; a seat's state is the furthest along `SEAT_STATES` any session's seat is in; pending counts, labels
+ * held for their events and model bytes are sums. Dead letters by reason and the consumer lag per partition are kept here, since
  * the consumer sees them, not a session. Label sets stay those of one session: seat indices, the fixed
  * schema, closed sets, and the partitions of the events topics.
  *
@@ -167,6 +167,7 @@ export class ServeTelemetry implements TelemetrySource {
       inputDrift: totals.inputDrift,
       pending: readings.reduce((n, r) => n + r.pending, 0),
       pendingCapacity: readings.reduce((n, r) => n + r.pendingCapacity, 0),
+      early: readings.reduce((n, r) => n + r.early, 0),
       labels: totals.labels,
       labelDelaySeconds:
         totals.delayCounts.length === 0

@@ -264,6 +264,14 @@ export class ShoalMetrics {
         this.set(self.current().pendingCapacity);
       },
     });
+    new Gauge({
+      name: 'shoal_early_labels',
+      help: 'Labels that came before their event, held for it.',
+      registers,
+      collect() {
+        this.set(self.current().early);
+      },
+    });
     new Counter({
       name: 'shoal_labels_total',
       help: 'Labels by outcome: joined to their prediction, prediction expired unlabelled, no prediction found, too late.',

@@ -149,6 +149,7 @@ export class SessionTelemetry implements TelemetrySource {
       inputDrift: features.map((f) => drifts.get(f.name) ?? 0),
       pending: m.pendingSize,
       pendingCapacity: m.pendingCapacity,
+      early: labels.held,
       labels: {
         joined: labels.joined + labels.inline,
         expired: labels.expiredPredictions + labels.evictedPredictions,

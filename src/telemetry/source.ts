@@ -125,6 +125,8 @@ export interface TelemetryReading {
   readonly inputDrift: ArrayLike<number>;
   readonly pending: number;
   readonly pendingCapacity: number;
+  /** Labels that came before their event, waiting for it now. */
+  readonly early: number;
   readonly labels: Readonly<Record<LabelOutcome, number>>;
   readonly labelDelaySeconds: HistogramView | null;
   /** Consumer lag per assigned partition (empty without a consumer). */

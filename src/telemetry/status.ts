@@ -15,6 +15,8 @@ export interface StatusBody {
   readonly seats: TelemetryReading['seats'];
   readonly recentSignals: TelemetryReading['recentSignals'];
   readonly pending: { readonly count: number; readonly capacity: number };
+  /** Labels that came before their event, held for it now. */
+  readonly early: number;
   readonly lag: TelemetryReading['lag'];
   readonly checkpointAgeSeconds: number | null;
   readonly modelBytes: number;
@@ -35,6 +37,7 @@ export function statusBody(
     seats: reading.seats,
     recentSignals: reading.recentSignals,
     pending: { count: reading.pending, capacity: reading.pendingCapacity },
+    early: reading.early,
     lag: reading.lag,
     checkpointAgeSeconds: shape?.checkpoints ? reading.checkpointAgeSeconds : null,
     modelBytes: reading.modelBytes,

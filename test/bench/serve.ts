@@ -344,6 +344,8 @@ async function passThrough(brokers: string, t: Topics, messages: number): Promis
   const finished = new Promise<void>((done) => {
     finish = done;
   });
+  // As the service does: a batch's outputs go out while the next one is handled, in order.
+  let delivering: Promise<boolean> = Promise.resolve(true);
   await producer.connect();
   await consumer.connect();
   await consumer.start(async (batch) => {
@@ -351,10 +353,14 @@ async function passThrough(brokers: string, t: Topics, messages: number): Promis
     const events = decoder.decode(batch.topic, batch.partition, batch.messages, dead);
     const outputs: TopicOutputs[] =
       events === null ? [] : [{ topic: t.passScores, messages: noModelScores(events, frames.classes) }];
-    const delivered = await producer.deliver(outputs, async () => undefined);
-    handled += batch.messages.length;
-    if (handled >= messages) finish();
-    return delivered;
+    const acknowledged = delivering.then(async (before) => {
+      const delivered = before && (await producer.deliver(outputs, async () => undefined));
+      handled += batch.messages.length;
+      if (handled >= messages) finish();
+      return delivered;
+    });
+    delivering = acknowledged;
+    return { acknowledged };
   });
   await finished;
   await consumer.stop();

@@ -62,6 +62,7 @@ describe('shoal inspect', () => {
     expect([s.scored, s.trained, s.judged]).toEqual([6000, 6000, 6000]);
     expect(s.positions).toEqual({ [data]: '6000' });
     expect(s.pending).toEqual({ waiting: 0, capacity: session.pending!.capacity });
+    expect(s.early).toEqual({ waiting: 0, capacity: session.early.capacity });
     expect(s.window.accuracy).toBeGreaterThan(0.9);
     expect(s.seats).toHaveLength(3);
     const seats = (session.ensemble as EnsembleSnapshot).lifecycle.seats;
@@ -88,6 +89,7 @@ describe('shoal inspect', () => {
     expect(ran.out).toMatch(/configuration +fingerprint [0-9a-f]{16}…, bagging, seed 2/);
     expect(ran.out).toMatch(/written +\d{4}-\d\d-\d\dT.* by shoal /);
     expect(ran.out).toMatch(/pending labels +0 waiting/);
+    expect(ran.out).toMatch(/early labels +0 waiting \(room for 100,000\)/);
     expect(ran.out).toContain(`resumes         ${data} at `);
     const seatLines = ran.out.split('\n').filter((l) => /^ +\d+ +\d+ +hoeffding-tree /.test(l));
     expect(seatLines).toHaveLength(3);

@@ -108,21 +108,25 @@ describe('shoal serve on a real broker', () => {
     const events = seaEvents(rows, 9);
     const dir = await scratch();
     const port = await freePort();
-    /** Labels the service has taken (joined, or matching no prediction), read from its /metrics. */
+    /** Labels the service has taken (joined, matching no prediction, or held for their events), from /metrics. */
     const taken = async (): Promise<number> => {
       const text = await (await fetch(`http://127.0.0.1:${port}/metrics`)).text();
       let n = 0;
       for (const m of text.matchAll(/^shoal_labels_total\{outcome="(joined|orphaned)"\} (\d+)/gm))
         n += Number(m[2]);
+      for (const m of text.matchAll(/^shoal_early_labels (\d+)/gm)) n += Number(m[1]);
       return n;
     };
+    // The two labels for ids never served wait for their events in serve (wall-clock time) and in the
+    // replay below (the events' time) alike: longer than either run lasts.
+    const run = { ...CODED, labels: { earlyWaitSeconds: 604_800 } };
     let labelsSent = 0;
     const journal = join(dir, 'journal.ndjson');
     const config = join(dir, 'shoal.yaml');
     await writeFile(
       config,
       stringify({
-        ...CODED,
+        ...run,
         kafka: kafkaSection(brokers, t, {
           labels: { topic: labelsTopic },
           journal: { topic: t.journal, file: journal },
@@ -137,7 +141,8 @@ describe('shoal serve on a real broker', () => {
     /** The labels in the order they were sent, each with the last event of its round (when it became known). */
     const sent: string[] = [];
     try {
-      // The first event alone, then two labels for ids never served (counted unknown), then the rest:
+      // The first event alone, then two labels for ids never served (held for events that never come),
+      // then the rest:
       // replay reads the labels file one label ahead once it has scored its first event, and a class it
       // has read is known; so in both runs the first event is scored knowing no class, the others
       // knowing both.
@@ -203,7 +208,15 @@ describe('shoal serve on a real broker', () => {
       `late labels: ${summary.rows} judged, accuracy ${summary.accuracy}, outcomes ${JSON.stringify(summary.labels)}`,
     );
     expect(summary.rows).toBe(rows);
-    expect(summary.labels).toMatchObject({ joined: rows, duplicate: 0, late: 0, evicted: 0, unknown: 2 });
+    expect(summary.labels).toMatchObject({
+      joined: rows,
+      duplicate: 0,
+      late: 0,
+      evicted: 0,
+      unknown: 0,
+      early: 2,
+      held: 2,
+    });
 
     // The same events and labels replayed with the same timing: event i at time i, each round's labels
     // known once its last event was scored, in the order sent. The final model is serve's, byte for
@@ -217,7 +230,7 @@ describe('shoal serve on a real broker', () => {
     await writeFile(file, tableToIPC(eventTable(events, 0, rows, false).assign(columns), 'file'));
     const labelsFile = join(dir, 'labels.ndjson');
     await writeFile(labelsFile, `${sent.join('\n')}\n`);
-    await writeFile(join(dir, 'run.yaml'), stringify(CODED));
+    await writeFile(join(dir, 'run.yaml'), stringify(run));
     const replay = await shoal(
       'replay',
       file,

@@ -1,4 +1,5 @@
 import { readFileSync } from 'node:fs';
+import { makeVector, Table, tableToIPC, Utf8, vectorFromArray } from 'apache-arrow';
 import { describe, expect, it } from 'vitest';
 import { readArrow } from '../../src/files/index.js';
 import { DirectStream } from '../../src/frames/arrow-direct.js';
@@ -172,5 +173,43 @@ describe('Arrow IPC written by pyarrow', () => {
     }
     const message = decodeArrowMessage(new FrameDecoder({ id: 'id' }), bytes, 'flat');
     expect(message.ok && sameDoubles(message.frame.values, all.values)).toBe(true);
+  });
+});
+
+describe('Utf8 ids and labels', () => {
+  it('are read as the strings Arrow JS gives for each cell: ASCII, empty, missing, long, multi-byte, a leading BOM', () => {
+    // Reference: Apache Arrow JS's own reader (`Vector.get`), on a stream it wrote itself.
+    const words = [
+      'r1',
+      'a-label-of-exactly-24-ch',
+      'an-ascii-id-longer-than-twenty-four-bytes',
+      'é',
+      'naïve',
+      'a long value that ends in a multi-byte char: ✓',
+      '\uFEFFbom',
+      '🐟',
+      'r1',
+    ];
+    const labels = [...words, null, ''];
+    const ids = [...words.map((w, i) => `${w}#${i}`), null, ''];
+    const table = new Table({
+      id: vectorFromArray(ids, new Utf8()),
+      x: makeVector(Float64Array.from(ids, (_, i) => i)),
+      label: vectorFromArray(labels, new Utf8()),
+    });
+    const bytes = tableToIPC(table, 'stream');
+    const decoder = new FrameDecoder({ id: 'id' });
+    const result = decodeArrowMessage(decoder, bytes, 'utf8');
+    expect(result.ok).toBe(true);
+    if (!result.ok) return;
+    const idColumn = table.getChild('id')!;
+    const labelColumn = table.getChild('label')!;
+    // The rows without an id (missing, empty) are refused; the others carry Arrow's strings.
+    expect(result.rejected.map((r) => r.index)).toEqual([9, 10]);
+    for (let r = 0; r < words.length; r++) {
+      expect(result.frame.ids![r], `id of row ${r}`).toBe(idColumn.get(r));
+      expect(decoder.classes[result.frame.labels![r]!], `label of row ${r}`).toBe(labelColumn.get(r));
+    }
+    expect(decoder.classes).toEqual([...new Set(words.map((_, r) => labelColumn.get(r) as string))]);
   });
 });

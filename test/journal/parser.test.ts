@@ -92,7 +92,7 @@ describe('parseJournal', () => {
   it('refuses another journal version, skips record types it does not know, reads null estimates as NaN', () => {
     const r = JSON.parse(lines[0]!) as object;
     expect(failure('x', withLine(1, JSON.stringify({ ...r, version: 1 }))).message).toBe(
-      'x:1: run record: version must be 4 (the journal format this Shoal reads), got 1',
+      'x:1: run record: version must be 5 (the journal format this Shoal reads), got 1',
     );
     const extra = `${lines[0]}\n{"type":"checkpoint","scored":100,"bytes":5120}\n${lines.slice(1).join('\n')}`;
     expect(parseJournal(extra, 'x')).toEqual(run.records);

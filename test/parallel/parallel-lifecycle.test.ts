@@ -54,18 +54,19 @@ function single(bag: Bagging, from: number, to: number, trace: number[]): void {
   }
 }
 
-/** Threads, rows `from` … `to` − 1 in batches. */
+/** Threads, rows `from` … `to` − 1 in batches of `sizes` rows (cycled). */
 async function threaded(
   bag: ParallelBagging,
   from: number,
   to: number,
   trace: number[],
   records: LifecycleChange[],
+  sizes: readonly number[] = [BATCH],
 ): Promise<void> {
   const out = new BatchVerdicts();
   const verdict = new Verdict();
-  for (let s = from; s < to; s += BATCH) {
-    const n = Math.min(BATCH, to - s);
+  for (let s = from, k = 0, n = 0; s < to; s += n, k++) {
+    n = Math.min(sizes[k % sizes.length]!, to - s);
     await bag.scoreTrainBatch(rows.subarray(s * width), labels.subarray(s), n, out);
     records.push(...out.changes);
     for (let r = 0; r < n; r++) {
@@ -114,6 +115,21 @@ describe('parallel bagging with the member lifecycle', () => {
       }
     },
   );
+
+  it('gives the same over 3 threads in batches of changing sizes (shared buffers grow and go out again)', async () => {
+    const got: LifecycleChange[] = [];
+    const parallel = await ParallelBagging.start(schema, SPEC, 'life', 3, (c) => got.push(c));
+    try {
+      const t: number[] = [];
+      await threaded(parallel, 0, ROWS, t, got, [1, 130, 64, 700, 65, 2, 1200, 333]);
+      expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
+      expect(got).toEqual(records);
+      expect(parallel.seats()).toEqual(bag.seats());
+      expect(JSON.stringify(await parallel.snapshot())).toBe(snapshot);
+    } finally {
+      await parallel.close();
+    }
+  });
 
   it('restores a snapshot across thread counts (one → three → two → one) and ends as one thread', async () => {
     const cuts = [2300, 4700, 6100];

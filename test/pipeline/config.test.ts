@@ -163,6 +163,16 @@ describe('resolveConfig', () => {
     ]);
   });
 
+  it('holds early labels by default and names the labels setting that is wrong', () => {
+    expect(resolveConfig({}, 'shoal.yaml').labels).toMatchObject({ early: 100_000, earlyWaitSeconds: 600 });
+    expect(resolveConfig({ labels: { early: 0 } }, 'shoal.yaml').labels.early).toBe(0);
+    expect(issuesOf({ labels: { early: -1, earlyWaitSeconds: 0 } })).toEqual([
+      'labels.early: must be an integer ≥ 0, got -1',
+      'labels.earlyWaitSeconds: must be a number > 0, got 0',
+    ]);
+    expect(issuesOf({ labels: { earlyWait: 5 } })[0]).toMatch(/^labels\.earlyWait: unknown setting/);
+  });
+
   it('refuses a setting that belongs to another kind', () => {
     expect(issuesOf({ ensemble: { kind: 'boosting', lambda: 6 } })).toEqual([
       'ensemble.lambda: unknown setting; expected one of kind, learners, lifecycle, threads, members, maxRepeats',

@@ -1,6 +1,12 @@
 import type { Frame } from '../../src/frames/index.js';
 import type { JournalRecord } from '../../src/journal/index.js';
-import { type Clock, type JournalSink, LearningSession, resolveConfig } from '../../src/pipeline/index.js';
+import {
+  type Clock,
+  type JournalSink,
+  LearningSession,
+  resolveConfig,
+  type SessionSnapshot,
+} from '../../src/pipeline/index.js';
 import { type StreamGenerator, take } from '../../src/streams/index.js';
 
 /** A journal kept in memory. */
@@ -33,6 +39,22 @@ export function session(raw: unknown = {}, clock: Clock = manualClock(), lateLab
     lateLabels,
   });
   return { session: s, journal, clock };
+}
+
+/**
+ * A session's snapshot as JSON text, and a session restored from it that writes to a fresh journal: a
+ * stop and a restart, through what a checkpoint holds.
+ */
+export function restoreThroughJson(s: LearningSession) {
+  const text = JSON.stringify(s.snapshot());
+  const journal = memoryJournal();
+  const restored = LearningSession.restore(JSON.parse(text) as SessionSnapshot, {
+    source: 'test stream',
+    journal,
+    clock: manualClock(),
+    version: '0.0.0-test',
+  });
+  return { text, journal, restored };
 }
 
 /**

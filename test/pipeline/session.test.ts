@@ -1,10 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import { Rng } from '../../src/core/index.js';
 import type { LabelCounts, WindowRecord } from '../../src/journal/index.js';
-import { LearningSession, type SessionSnapshot } from '../../src/pipeline/index.js';
+import type { LearningSession } from '../../src/pipeline/index.js';
 import type { PendingStore } from '../../src/pipeline/pending-store.js';
 import { buildStream, rbf, type StreamGenerator } from '../../src/streams/index.js';
-import { frameOf, labelsFrame, manualClock, memoryJournal, session } from './session-support.js';
+import { frameOf, labelsFrame, manualClock, restoreThroughJson, session } from './session-support.js';
 
 /** Feed `rows` rows of a generator in batches of 500, labels inline unless hidden. */
 function inline(s: LearningSession, gen: StreamGenerator, rows: number, hide?: (i: number) => boolean): void {
@@ -15,7 +15,7 @@ function inline(s: LearningSession, gen: StreamGenerator, rows: number, hide?: (
 
 /** Labels received = the outcomes they were counted under; predictions kept = their fates. */
 function expectCountsAddUp(l: LabelCounts, received: number, kept: number): void {
-  expect(l.joined + l.duplicate + l.late + l.evicted + l.unknown).toBe(received);
+  expect(l.joined + l.duplicate + l.late + l.evicted + l.unknown + l.held).toBe(received);
   expect(l.joined + l.expiredPredictions + l.evictedPredictions + l.pending).toBe(kept);
 }
 
@@ -153,7 +153,7 @@ describe('the learning session', () => {
   it('counts every label outcome: joined, duplicate, after eviction, after expiry, unknown', () => {
     const clock = manualClock();
     const { session: s } = session(
-      { labels: { pending: 3, maxAgeSeconds: 10 }, ensemble: { members: 2 } },
+      { labels: { pending: 3, maxAgeSeconds: 10, early: 0 }, ensemble: { members: 2 } },
       clock,
     );
     const gen = buildStream({ generator: 'sea', seed: 1 });
@@ -196,7 +196,7 @@ describe('the learning session', () => {
 
   it('with no late-label source (lateLabels false), keeps nothing of rows labelled inline: the same model, a small snapshot', () => {
     const [remembers, forgets] = [true, false].map(
-      (late) => session({ ensemble: { members: 2 } }, manualClock(), late).session,
+      (late) => session({ ensemble: { members: 2 }, labels: { early: 0 } }, manualClock(), late).session,
     );
     for (const s of [remembers!, forgets!]) {
       const gen = buildStream({ generator: 'sea', seed: 4 });
@@ -216,7 +216,7 @@ describe('the learning session', () => {
   it('keeps its bound under a flood of 10× its capacity in unknown labels and in predictions', () => {
     const cap = 1000;
     const { session: s } = session({
-      labels: { pending: cap, maxAgeSeconds: null },
+      labels: { pending: cap, maxAgeSeconds: null, early: 0 },
       ensemble: { members: 2 },
     });
     const gen = buildStream({ generator: 'sea', seed: 2 });
@@ -267,7 +267,10 @@ describe('the learning session', () => {
       s.score(frameOf(gen, 10, { ids: true, withLabels: false }), gen.classes);
       const carried = { ...frameOf(gen, 5, { ids: true, first: 100 }) };
       s.learn(carried, gen.classes);
-      expect(s.labelCounts().unknown).toBe(5);
+      // Under train, a label that carries its row is trained on at once; else it is held for its event.
+      expect(s.labelCounts()).toMatchObject(
+        unmatched === 'train' ? { unknown: 5, held: 0 } : { unknown: 0, held: 5, early: 5 },
+      );
       expect(s.labelCounts().trainedUnmatched).toBe(unmatched === 'train' ? 5 : 0);
       expect(s.model!.rows).toBe(unmatched === 'train' ? 5 : 0);
     }
@@ -287,14 +290,7 @@ describe('the learning session', () => {
     const driver = new LateLabels(due);
     driver.run(first.session, g, 0, rows / 2);
     expect(first.session.metrics.pendingSize).toBeGreaterThan(0);
-    const text = JSON.stringify(first.session.snapshot());
-    const journal = memoryJournal();
-    const restored = LearningSession.restore(JSON.parse(text) as SessionSnapshot, {
-      source: 'test stream',
-      journal,
-      clock: manualClock(),
-      version: '0.0.0-test',
-    });
+    const { text, journal, restored } = restoreThroughJson(first.session);
     expect(JSON.stringify(restored.snapshot())).toBe(text);
     driver.run(restored, g, rows / 2, rows);
     expect(JSON.stringify(restored.snapshot())).toBe(JSON.stringify(whole.session.snapshot()));

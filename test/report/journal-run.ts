@@ -182,6 +182,8 @@ function inline(rows: number): LabelCounts {
     late: 0,
     evicted: 0,
     unknown: 0,
+    early: 0,
+    held: 0,
     trainedUnmatched: 0,
     expiredPredictions: 0,
     evictedPredictions: 0,

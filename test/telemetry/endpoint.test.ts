@@ -111,7 +111,7 @@ describe('the telemetry endpoint', () => {
     const clock = manualClock();
     let telemetry: SessionTelemetry | null = null;
     const session = new LearningSession({
-      config: resolveConfig({ labels: { pending: 1000 } }, 'test'),
+      config: resolveConfig({ labels: { pending: 1000, earlyWaitSeconds: 60 } }, 'test'),
       source: 'test stream',
       journal: { write: (r) => telemetry?.record(r), flush: async () => {} },
       clock,
@@ -131,7 +131,9 @@ describe('the telemetry endpoint', () => {
     expect(body).toMatch(/^shoal_pending_labels 101$/m);
     expect(body).toMatch(/^shoal_pending_labels_capacity 1000$/m);
     expect(body).toMatch(/^shoal_labels_total\{outcome="joined"\} 499$/m);
-    expect(body).toMatch(/^shoal_labels_total\{outcome="orphaned"\} 1$/m);
+    // The label for an id never scored is held for its event: not orphaned yet.
+    expect(body).toMatch(/^shoal_labels_total\{outcome="orphaned"\} 0$/m);
+    expect(body).toMatch(/^shoal_early_labels 1$/m);
     expect(body).toMatch(/^shoal_label_delay_seconds_count 499$/m);
     expect(body).toMatch(/^shoal_label_delay_seconds_sum 14970$/m);
     expect(body).toMatch(/^shoal_label_delay_seconds_bucket\{le="\+Inf"\} 499$/m);
@@ -141,6 +143,12 @@ describe('the telemetry endpoint', () => {
     );
     expect(below.length).toBeGreaterThan(0);
     for (const m of below) expect(m[2]).toBe('0');
+    // Its event never comes: past labels.earlyWaitSeconds the label is let go and counted orphaned.
+    clock.wallNow += 61_000;
+    session.expire();
+    const after = (await get(`http://127.0.0.1:${server.port}/metrics`)).body;
+    expect(after).toMatch(/^shoal_labels_total\{outcome="orphaned"\} 1$/m);
+    expect(after).toMatch(/^shoal_early_labels 0$/m);
   });
 
   it('writes the Prometheus text format, and OpenMetrics when Accept asks for it', async () => {

@@ -21,6 +21,8 @@ const surface: SessionMetrics = {
     late: 6,
     evicted: 2,
     unknown: 7,
+    early: 12,
+    held: 3,
     trainedUnmatched: 0,
     expiredPredictions: 9,
     evictedPredictions: 1,
@@ -94,6 +96,8 @@ describe('SessionTelemetry', () => {
     expect(r.labels.joined + r.labels.orphaned + r.labels.late + r.labels.duplicate).toBe(
       5 + 870 + 4 + 6 + 2 + 7,
     );
+    // Labels still held for their events are published apart, as a gauge.
+    expect(r.early).toBe(3);
     expect(Array.from(r.inputDrift)).toEqual([0, 2]);
     expect(r.labelDelaySeconds).toEqual({ bounds: [1, 10], counts: [800, 60, 10], sum: 2345, count: 870 });
     expect(r.checkpointAgeSeconds).toBe(0);
