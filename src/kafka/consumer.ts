@@ -15,8 +15,10 @@ import type { RawMessage } from './decode.js';
  * While outputs cannot be delivered the topic is paused (no more fetching) and the group membership
  * kept alive with heartbeats.
  *
- * A crash kafkajs will not restart from (a non-retriable error) ends `finished` with a message; the
- * service exits non-zero rather than stay up as a member that consumes nothing.
+ * A crash that `restartsAfter` calls transient (a broker away, however kafkajs wraps it) restarts the
+ * consumer — kafkajs's own restart, or the service's when kafkajs gave up; any other crash ends
+ * `finished` with a message, and the service exits non-zero rather than stay up as a member that
+ * consumes nothing.
  */
 
 /** What the handler gets besides the messages. */
@@ -126,8 +128,8 @@ export class EventConsumer {
       maxBytesPerPartition: Math.max(1024 * 1024, settings.events.maxMessageBytes),
       allowAutoTopicCreation: false,
       // kafkajs restarts the consumer after any failure by default: a batch it cannot decode (a corrupt
-      // one, or a codec with no decoder registered) would then be fetched and refused forever. Restart only after a transient failure (a
-      // broker away for longer than the retries ends in a retriable cause), and stop on anything else.
+      // one, or a codec with no decoder registered) would then be fetched and refused forever. Restart
+      // only after a transient failure (`restartsAfter`), and stop on anything else.
       retry: { restartOnFailure: async (e: Error) => restartsAfter(e) },
     });
     this.admin = kafka.admin();
