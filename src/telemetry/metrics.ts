@@ -104,7 +104,16 @@ export class ShoalMetrics {
   constructor(source: TelemetrySource, options: MetricsOptions) {
     this.source = source;
     this.openMetrics.setContentType(Registry.OPENMETRICS_CONTENT_TYPE);
-    const registers = [this.text, this.openMetrics];
+    // Each registry gets metric objects of its own: an OpenMetrics scrape renames prom-client's
+    // counters in place (drops `_total` from the object's name), and a text registry sharing them
+    // would print `shoal_events` instead of `shoal_events_total` after the first one.
+    this.define(this.text, options);
+    this.define(this.openMetrics, options);
+  }
+
+  /** Register the whole catalogue on `registry`. */
+  private define(registry: Registry | Registry<OpenMetricsContentType>, options: MetricsOptions): void {
+    const registers = [registry];
     const self = this;
     const shape = () => this.source.shape();
 
