@@ -49,7 +49,7 @@ interface RemoteShard {
   readonly worker: Worker;
   readonly client: ShardClient;
   readonly answers: ShardAnswers;
-  /** Where the worker writes its status after each request. */
+  /** Where the worker writes its status after each batch. */
   readonly status: Float64Array;
   /** Seats of the shards before it. */
   readonly first: number;

@@ -22,7 +22,7 @@ import {
  * worker reads synchronously when woken: the batch's size and the ledger's start, and the shared
  * buffers only when they changed (a message carrying some twenty shared buffers costs tens of
  * microseconds to send and to read). The worker writes its status (rows, classes, size, its seats) in
- * shared memory after each request, and a reply comes back the same way only when it has news (the
+ * shared memory once its seats are through a batch (before it combines votes), and a reply comes back the same way only when it has news (the
  * lifecycle changes of the batch, an error, a snapshot when asked), before the request is marked done.
  */
 const C_REQUEST = 0;
@@ -92,7 +92,7 @@ export interface ShardReply {
 const NO_NEWS: ShardReply = { error: null, changes: [], steps: [], snapshot: null };
 
 /**
- * A shard's status after each request, in shared memory: rows trained, classes, size in bytes, then
+ * A shard's status after each batch, in shared memory: rows trained, classes, size in bytes, then
  * per seat its member id, state, age, recent accuracy, error estimate and whether it has an
  * understudy — what its seat views say but the kind, which a seat keeps.
  */
@@ -350,7 +350,7 @@ export function markAnswered(control: Int32Array, done: number): void {
 
 /**
  * The worker's end: answer requests with `shard` until a stop request arrives, writing its `status`
- * after each; `changes` and `steps` collect the lifecycle changes of a batch (the shard's journal).
+ * after each batch; `changes` and `steps` collect the lifecycle changes of a batch (the shard's journal).
  * Blocks its thread between requests.
  */
 export function serveShard(
@@ -387,6 +387,9 @@ export function serveShard(
             views = new BatchViews(request.buffers, ledger.shard, shard.options.vote === 'hard');
           ledger.begin(views!.ledger, request.cap, request.nextId, request.history);
           runShard(shard, ledger, request, views!, control);
+          // Combining leaves the shard as it is: its status goes out now, while another shard may
+          // still train, rather than after the last chunk, when the main thread waits on it.
+          writeStatus(status, shard);
           combineChunks(ledger, request.rows, views!.combiner);
         }
       } catch (e) {
@@ -396,8 +399,8 @@ export function serveShard(
           e instanceof ShoalError
             ? { code: e.code, message: e.message }
             : { code: 'worker-failure', message: `parallel bagging: a worker failed: ${String(e)}` };
+        writeStatus(status, shard);
       }
-      writeStatus(status, shard);
       if (error !== null || changes.length > 0 || snapshot !== null) {
         const reply: ShardReply = { error, changes, steps, snapshot };
         port.postMessage(reply);
