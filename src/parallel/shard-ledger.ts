@@ -87,7 +87,8 @@ function base(shards: number, cap: number, v: number): number {
 export class ShardLedger implements SeatLedger {
   /** This shard's number (its seats come after those of every lower number). */
   readonly shard: number;
-  private readonly shards: number;
+  /** Shards of the ensemble. */
+  readonly shards: number;
   private readonly window: number;
   private readonly max: number;
   private words: Int32Array = new Int32Array(0);
