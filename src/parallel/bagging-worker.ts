@@ -10,7 +10,7 @@ import { ShardLedger } from './shard-ledger.js';
  * its part of a snapshot), answering requests over a shared-memory channel until told to stop. This
  * file is a worker's entry point, loaded by URL; nothing imports it.
  */
-const { schema, spec, seed, first, shard, shards, restored, port, control, status } = workerData as {
+const { schema, spec, seed, first, shard, shards, restored, port, control, status, tally } = workerData as {
   schema: FeatureSchema;
   spec: BaggingSpec & { lifecycle: { replacementWindow: number; maxReplacements: number } };
   seed: string;
@@ -21,6 +21,7 @@ const { schema, spec, seed, first, shard, shards, restored, port, control, statu
   port: MessagePort;
   control: Int32Array;
   status: Float64Array;
+  tally: Int32Array;
 };
 const ledger = new ShardLedger(
   shard,
@@ -42,4 +43,4 @@ const bagging = new Bagging(
   first,
   ledger,
 );
-serveShard(bagging, ledger, changes, steps, port, control, status);
+serveShard(bagging, ledger, changes, steps, port, control, status, tally);

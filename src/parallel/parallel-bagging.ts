@@ -11,6 +11,8 @@ import {
   type SeatView,
 } from '../ensembles/index.js';
 import {
+  allAnswered,
+  answerTally,
   type BatchBuffers,
   channelControl,
   ShardAnswers,
@@ -49,7 +51,7 @@ interface RemoteShard {
   readonly worker: Worker;
   readonly client: ShardClient;
   readonly answers: ShardAnswers;
-  /** Where the worker writes its status after each request. */
+  /** Where the worker writes its status after each batch. */
   readonly status: Float64Array;
   /** Seats of the shards before it. */
   readonly first: number;
@@ -64,9 +66,12 @@ export class ParallelBagging {
   readonly members: number;
   private readonly seed: string;
   private readonly shards: RemoteShard[];
+  private readonly clients: ShardClient[];
   /** Seats held by each shard. */
   private readonly counts: number[];
   private readonly ledger: LedgerHost;
+  /** The shards' tally of answers (see `answerTally`). */
+  private readonly tally: Int32Array;
   /** Where the workers combine the batch's verdicts. */
   private readonly verdicts = new SharedVerdicts();
   /** The batch in shared memory, grown as needed. */
@@ -87,13 +92,21 @@ export class ParallelBagging {
   private readonly kinds: string[];
   private bytes: number;
 
-  private constructor(whole: Bagging, snapshot: EnsembleSnapshot, shards: RemoteShard[], counts: number[]) {
+  private constructor(
+    whole: Bagging,
+    snapshot: EnsembleSnapshot,
+    shards: RemoteShard[],
+    counts: number[],
+    tally: Int32Array,
+  ) {
     const ledger = snapshot.lifecycle;
     this.schema = whole.schema;
     this.options = whole.options;
     this.seed = snapshot.seed;
     this.shards = shards;
+    this.clients = shards.map((s) => s.client);
     this.counts = counts;
+    this.tally = tally;
     this.members = whole.options.members;
     this.ledger = new LedgerHost(
       shards.length,
@@ -140,10 +153,11 @@ export class ParallelBagging {
       (_, i) => Math.floor(((i + 1) * members) / count) - Math.floor((i * members) / count),
     );
     const firsts = counts.map((_, i) => counts.slice(0, i).reduce((a, b) => a + b, 0));
+    const tally = answerTally();
     const shards = await Promise.all(
-      counts.map((n, i) => startShard(snapshot, whole.options, i, count, firsts[i]!, n)),
+      counts.map((n, i) => startShard(snapshot, whole.options, tally, i, count, firsts[i]!, n)),
     );
-    return new ParallelBagging(whole, snapshot, shards, counts);
+    return new ParallelBagging(whole, snapshot, shards, counts, tally);
   }
 
   /** Classes known so far. */
@@ -329,17 +343,15 @@ export class ParallelBagging {
         s.client.post(request(s, i));
       });
       for (const s of this.shards) s.client.wake();
-      const replies: ShardReply[] = [];
       let failure: unknown = null;
-      for (const s of this.shards) {
-        try {
-          replies.push(await s.client.collect());
-        } catch (e) {
-          failure ??= e;
-        } finally {
-          s.worker.unref();
-        }
+      try {
+        await allAnswered(this.tally, this.clients);
+      } catch (e) {
+        failure = e;
       }
+      for (const s of this.shards) s.worker.unref();
+      // Replies are read once answered (a silent worker's may come later, and is not read as the next's).
+      const replies = this.clients.filter((c) => c.answered()).map((c) => c.reply());
       if (failure !== null) throw failure;
       return replies;
     } finally {
@@ -364,6 +376,7 @@ function mergeChanges(replies: readonly ShardReply[], out: BatchVerdicts): void 
 async function startShard(
   snapshot: EnsembleSnapshot,
   options: BaggingOptions,
+  tally: Int32Array,
   i: number,
   shards: number,
   first: number,
@@ -395,6 +408,7 @@ async function startShard(
       port: port2,
       control,
       status,
+      tally,
     },
     transferList: [port2],
   });

@@ -18,12 +18,14 @@ import {
  * `Atomics.wait`; the main thread awaits `Atomics.waitAsync`, so its event loop (Kafka heartbeats,
  * scrapes) runs while a batch is out — request number, number of requests done, a progress counter the
  * shard bumps every 256 rows, so that the waiting side can tell a long batch from a worker that stopped,
- * and a ready flag the worker raises once its shard is built. A request is a message on a port that the
+ * and a ready flag the worker raises once its shard is built; a tally all shards share wakes the main
+ * thread once every shard has answered (see `answerTally`). A request is a message on a port that the
  * worker reads synchronously when woken: the batch's size and the ledger's start, and the shared
  * buffers only when they changed (a message carrying some twenty shared buffers costs tens of
  * microseconds to send and to read). The worker writes its status (rows, classes, size, its seats) in
- * shared memory after each request, and a reply comes back the same way only when it has news (the
- * lifecycle changes of the batch, an error, a snapshot when asked), before the request is marked done.
+ * shared memory once its seats are through a batch (before it combines votes), and a reply comes back
+ * the same way only when it has news (the lifecycle changes of the batch, an error, a snapshot when
+ * asked), before the request is marked done.
  */
 const C_REQUEST = 0;
 const C_DONE = 1;
@@ -92,7 +94,7 @@ export interface ShardReply {
 const NO_NEWS: ShardReply = { error: null, changes: [], steps: [], snapshot: null };
 
 /**
- * A shard's status after each request, in shared memory: rows trained, classes, size in bytes, then
+ * A shard's status after each batch, in shared memory: rows trained, classes, size in bytes, then
  * per seat its member id, state, age, recent accuracy, error estimate and whether it has an
  * understudy — what its seat views say but the kind, which a seat keeps.
  */
@@ -293,11 +295,12 @@ export async function shardReady(control: Int32Array): Promise<void> {
   await waitAsync(control, C_READY, 0);
 }
 
-/** The main thread's end of a channel: post a request, later wait for its reply. */
+/** The main thread's end of a channel: post a request, later read its reply. */
 export class ShardClient {
   private readonly port: MessagePort;
   private readonly control: Int32Array;
-  private sent = 0;
+  /** Requests sent so far. */
+  sent = 0;
 
   constructor(port: MessagePort, control: Int32Array) {
     this.port = port;
@@ -318,39 +321,66 @@ export class ShardClient {
     Atomics.notify(this.control, C_REQUEST);
   }
 
-  /**
-   * Resolves with the reply to the last request, never blocking this thread; rejects when the shard
-   * went silent (its own error is in the reply).
-   */
-  async collect(): Promise<ShardReply> {
-    const control = this.control;
-    let progress = Atomics.load(control, C_PROGRESS);
-    let silent = 0;
-    while (Atomics.load(control, C_DONE) !== this.sent) {
-      if ((await waitAsync(control, C_DONE, this.sent - 1, WAIT_MS)) !== 'timed-out') continue;
-      const now = Atomics.load(control, C_PROGRESS);
-      silent = now === progress ? silent + WAIT_MS : 0;
-      progress = now;
-      if (silent >= SILENCE_MS) {
-        throw new ShoalError(
-          'worker-failure',
-          `parallel bagging: a worker made no progress for ${SILENCE_MS / 1000} s`,
-        );
-      }
-    }
+  /** Whether the last request is answered. */
+  answered(): boolean {
+    return Atomics.load(this.control, C_DONE) === this.sent;
+  }
+
+  /** The worker's progress counter (bumped every few hundred rows of a batch). */
+  progress(): number {
+    return Atomics.load(this.control, C_PROGRESS);
+  }
+
+  /** The reply to the last request, once answered. */
+  reply(): ShardReply {
     return (receiveMessageOnPort(this.port)?.message as ShardReply | undefined) ?? NO_NEWS;
   }
 }
 
-/** Mark request number `done` answered and wake the waiter. */
-export function markAnswered(control: Int32Array, done: number): void {
+/**
+ * The shards' tally of answers, in shared memory: every shard adds one when it answers a request, and
+ * the one that completes a request's answers wakes the main thread — once a request, rather than once
+ * a shard (a wake-up costs the main thread a turn of its event loop, and a core a worker may be using).
+ */
+export function answerTally(): Int32Array {
+  return new Int32Array(new SharedArrayBuffer(4));
+}
+
+/**
+ * Resolves once every shard has answered the last request (sent to all of them), never blocking this
+ * thread; rejects when none of those still out made progress for a while.
+ */
+export async function allAnswered(tally: Int32Array, clients: readonly ShardClient[]): Promise<void> {
+  const expected = clients.length * clients[0]!.sent;
+  let progress = clients.map((c) => c.progress());
+  let silent = 0;
+  for (let n = Atomics.load(tally, 0); n !== expected; n = Atomics.load(tally, 0)) {
+    if ((await waitAsync(tally, 0, n, WAIT_MS)) !== 'timed-out') continue;
+    const now = clients.map((c) => c.progress());
+    const moved = clients.some((c, i) => !c.answered() && now[i] !== progress[i]);
+    silent = moved ? 0 : silent + WAIT_MS;
+    progress = now;
+    if (silent >= SILENCE_MS) {
+      throw new ShoalError(
+        'worker-failure',
+        `parallel bagging: a worker made no progress for ${SILENCE_MS / 1000} s`,
+      );
+    }
+  }
+}
+
+/**
+ * Mark request number `done` answered, and count it in the tally of `shards` shards: the shard that
+ * completes the request's answers wakes the main thread.
+ */
+export function markAnswered(control: Int32Array, done: number, tally: Int32Array, shards: number): void {
   Atomics.store(control, C_DONE, done);
-  Atomics.notify(control, C_DONE);
+  if (Atomics.add(tally, 0, 1) + 1 === shards * done) Atomics.notify(tally, 0);
 }
 
 /**
  * The worker's end: answer requests with `shard` until a stop request arrives, writing its `status`
- * after each; `changes` and `steps` collect the lifecycle changes of a batch (the shard's journal).
+ * after each batch; `changes` and `steps` collect the lifecycle changes of a batch (the shard's journal).
  * Blocks its thread between requests.
  */
 export function serveShard(
@@ -361,6 +391,7 @@ export function serveShard(
   port: MessagePort,
   control: Int32Array,
   status: Float64Array,
+  tally: Int32Array,
 ): void {
   Atomics.store(control, C_READY, 1);
   Atomics.notify(control, C_READY);
@@ -387,6 +418,9 @@ export function serveShard(
             views = new BatchViews(request.buffers, ledger.shard, shard.options.vote === 'hard');
           ledger.begin(views!.ledger, request.cap, request.nextId, request.history);
           runShard(shard, ledger, request, views!, control);
+          // Combining leaves the shard as it is: its status goes out now, while another shard may
+          // still train, rather than after the last chunk, when the main thread waits on it.
+          writeStatus(status, shard);
           combineChunks(ledger, request.rows, views!.combiner);
         }
       } catch (e) {
@@ -396,13 +430,13 @@ export function serveShard(
           e instanceof ShoalError
             ? { code: e.code, message: e.message }
             : { code: 'worker-failure', message: `parallel bagging: a worker failed: ${String(e)}` };
+        writeStatus(status, shard);
       }
-      writeStatus(status, shard);
       if (error !== null || changes.length > 0 || snapshot !== null) {
         const reply: ShardReply = { error, changes, steps, snapshot };
         port.postMessage(reply);
       }
-      markAnswered(control, ++done);
+      markAnswered(control, ++done, tally, ledger.shards);
     }
   }
 }

@@ -6,9 +6,14 @@ import { inWindow, type LifecycleSnapshot, type SeatLedger } from '../ensembles/
  * any `replacementWindow` rows. Shards of one bagging ensemble in different threads keep both exactly as
  * one thread would through this ledger, in shared memory while a batch is out:
  *
- *   progress of each shard (steps of the batch done), for each pair of shards the step one waits for
- *   the other to reach (0: none), the next chunk of rows to combine (see `claim`), then per shard:
- *   ids handed out, replacements, the step of each id, the step and the row of each replacement.
+ *   per shard a line of its own: its progress (steps of the batch done), then the step each other
+ *   shard waits for it to reach (0: none); the next chunk of rows to combine (see `claim`), on a line
+ *   of its own; then per shard: ids handed out, replacements, the step of each id, the step and the
+ *   row of each replacement.
+ *
+ * A shard writes its progress at every step and reads the steps waited for, so each shard's line holds
+ * only what its own steps touch (64 bytes, a cache line on x86 and most ARM): with every progress word
+ * on one line, each step of one shard took the line from the other's core.
  *
  * Shard w holds seats below those of shard w + 1, so an event of shard v at step q comes before the
  * event of shard w at step i in the one-thread order exactly when q < i, or q = i and v < w. A shard
@@ -50,26 +55,40 @@ export function poll(words: Int32Array, index: number, value: number): number {
   return word;
 }
 
-/** The word where shard `w` writes the step it waits for shard `v` to reach. */
+/** Int32 words in a cache line. */
+const LINE_WORDS = 16;
+
+/** Words of a shard's line: its progress and a word for each shard (its own unused), in whole lines. */
+function lineWords(shards: number): number {
+  return LINE_WORDS * Math.ceil((1 + shards) / LINE_WORDS);
+}
+
+/** The word of shard `v`'s progress. */
+function progress(shards: number, v: number): number {
+  return v * lineWords(shards);
+}
+
+/** The word where shard `w` writes the step it waits for shard `v` to reach (on `v`'s line). */
 function wanted(shards: number, w: number, v: number): number {
-  return shards + w * shards + v;
+  return progress(shards, v) + 1 + w;
 }
 
 /** The word that hands out chunks of rows to combine. */
 function chunkWord(shards: number): number {
-  return shards + shards * shards;
+  return shards * lineWords(shards);
 }
 
-/** Where shard `v`'s counts and logs start (after the progress, wanted and chunk words). */
+/** Where shard `v`'s counts and logs start (after the progress lines and the chunk word's line). */
 function base(shards: number, cap: number, v: number): number {
-  return chunkWord(shards) + 1 + v * (PER_SHARD_HEAD + LOGS * cap);
+  return chunkWord(shards) + LINE_WORDS + v * (PER_SHARD_HEAD + LOGS * cap);
 }
 
 /** A shard's side of the ledger: the `SeatLedger` its lifecycle asks. */
 export class ShardLedger implements SeatLedger {
   /** This shard's number (its seats come after those of every lower number). */
   readonly shard: number;
-  private readonly shards: number;
+  /** Shards of the ensemble. */
+  readonly shards: number;
   private readonly window: number;
   private readonly max: number;
   private words: Int32Array = new Int32Array(0);
@@ -98,12 +117,13 @@ export class ShardLedger implements SeatLedger {
   /** `steps` steps of the batch are done (FAILED: none will be); wakes a shard asleep until then. */
   done(steps: number): void {
     const { words, shard, shards } = this;
-    Atomics.store(words, shard, steps);
+    const at = progress(shards, shard);
+    Atomics.store(words, at, steps);
     for (let w = 0; w < shards; w++) {
       if (w === shard) continue;
-      const step = Atomics.load(words, wanted(shards, w, shard));
+      const step = Atomics.load(words, at + 1 + w);
       if (step > 0 && steps >= step) {
-        Atomics.notify(words, shard);
+        Atomics.notify(words, at);
         return;
       }
     }
@@ -169,12 +189,13 @@ export class ShardLedger implements SeatLedger {
   /** Wait until shard `v` has done `steps` steps (polling a while, then asleep); its progress then. */
   private reach(v: number, steps: number): number {
     const words = this.words;
-    let p = poll(words, v, steps);
+    const from = progress(this.shards, v);
+    let p = poll(words, from, steps);
     if (p >= steps) return p;
     const at = wanted(this.shards, this.shard, v);
     Atomics.store(words, at, steps);
-    for (p = Atomics.load(words, v); p < steps; p = Atomics.load(words, v))
-      Atomics.wait(words, v, p, WAIT_MS);
+    for (p = Atomics.load(words, from); p < steps; p = Atomics.load(words, from))
+      Atomics.wait(words, from, p, WAIT_MS);
     Atomics.store(words, at, 0);
     return p;
   }
