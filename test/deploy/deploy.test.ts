@@ -1,15 +1,22 @@
+import { execFile } from 'node:child_process';
 import { access, readdir, readFile } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
+import { promisify } from 'node:util';
 import { describe, expect, it } from 'vitest';
 import { parse, parseAllDocuments } from 'yaml';
 
 /**
  * The deploy kit (deploy/): every YAML file parses; every file compose refers to exists; the k8s
  * Deployment has liveness and readiness probes on /healthz and /readyz, requests and limits, and a
- * non-root security context; the PrometheusRule carries exactly the tested rules file's groups. No
- * container engine runs here: these check the files, not a running stack.
+ * non-root security context; the Deployment, Service and ConfigMap are valid Kubernetes objects by the
+ * API's own OpenAPI schemas; the PrometheusRule carries exactly the tested rules file's groups. No
+ * container engine or cluster runs in the tests: these check the files, not a running stack (README's
+ * *Deploy kit* says what ran under podman).
  */
 const DEPLOY = resolve('deploy');
+const run = promisify(execFile);
+/** kubernetes-validate 1.37.0 (PyPI), in the venv `.ci/run` makes: Kubernetes' OpenAPI schemas, offline. */
+const K8S_VALIDATE = resolve('.cache', 'py', 'bin', 'kubernetes-validate');
 
 // biome-ignore lint/suspicious/noExplicitAny: parsed YAML is walked by the keys each check expects
 type Doc = Record<string, any>;
@@ -99,6 +106,18 @@ describe('deploy kit', () => {
     const config = await load(join(DEPLOY, 'k8s', 'configmap.yaml'));
     // The ConfigMap's configuration is the one compose mounts.
     expect(parse(config.data['shoal.yaml'])).toEqual(await load(join(DEPLOY, 'shoal.yaml')));
+  });
+
+  it('k8s: the Deployment, Service and ConfigMap validate strictly against the Kubernetes 1.37 API schemas', async () => {
+    // Reference: the Kubernetes API's OpenAPI schemas as bundled by kubernetes-validate 1.37.0 (PyPI);
+    // --strict also rejects fields the API does not have, so a misspelt key fails. The PrometheusRule is
+    // a custom resource of the Prometheus operator, outside the core API: its content is checked above
+    // and below against the rules file promtool tests.
+    const files = ['deployment.yaml', 'service.yaml', 'configmap.yaml'].map((f) => join(DEPLOY, 'k8s', f));
+    const { stdout, stderr } = await run(K8S_VALIDATE, ['--strict', '-k', '1.37.0', ...files]);
+    const out = stdout + stderr;
+    for (const f of files) expect(out, f).toContain(`${f} passed for resource`);
+    expect(out).not.toMatch(/ERROR|WARN/);
   });
 
   it("the PrometheusRule's rules equal deploy/prometheus/shoal-alerts.yml's", async () => {
