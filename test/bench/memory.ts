@@ -3,6 +3,16 @@ import { Bagging, Verdict } from '../../src/ensembles/index.js';
 import { type BenchFn, type BenchRow, machine } from './harness.js';
 import { benchStream } from './stream.js';
 
+/** Each segment's rows are generated and run in this many parts. */
+const PARTS = 10;
+
+/** Collects the heap, waits for array buffers freed in the background, and collects again. */
+async function settle(): Promise<void> {
+  globalThis.gc?.();
+  await new Promise((resolve) => setTimeout(resolve, 100));
+  globalThis.gc?.();
+}
+
 /**
  * Long run and memory: 10-member bagging (λ = 1, no lifecycle, the tree's default memory cap) over
  * 5,000,000 rows of the benchmark stream, generated a tenth of a segment at a time so that the data
@@ -15,16 +25,6 @@ import { benchStream } from './stream.js';
  * and the ratios of the last segment to the first. The live memory is the steadier measure of growth:
  * the resident set also holds what the C allocator keeps after a free, which differs between runs.
  */
-/** Each segment's rows are generated and run in this many parts. */
-const PARTS = 10;
-
-/** Collects the heap, waits for array buffers freed in the background, and collects again. */
-async function settle(): Promise<void> {
-  globalThis.gc?.();
-  await new Promise((resolve) => setTimeout(resolve, 100));
-  globalThis.gc?.();
-}
-
 export const bench: BenchFn = async ({ quick }) => {
   const segment = quick ? 100_000 : 1_000_000;
   const segments = 5;
