@@ -17,10 +17,10 @@ const { schema, spec, seed, first, shard, shards, restored, port, control, statu
   first: number;
   shard: number;
   shards: number;
-  restored: EnsembleSnapshot | null;
+  restored: EnsembleSnapshot;
   port: MessagePort;
   control: Int32Array;
-  status: Float64Array;
+  status: Float64Array[];
   tally: Int32Array;
 };
 const ledger = new ShardLedger(
@@ -28,6 +28,7 @@ const ledger = new ShardLedger(
   shards,
   spec.lifecycle.replacementWindow,
   spec.lifecycle.maxReplacements,
+  restored.lifecycle,
 );
 const changes: LifecycleChange[] = [];
 const steps: number[] = [];
@@ -39,7 +40,7 @@ const bagging = new Bagging(
     changes.push(change);
     steps.push(ledger.step);
   },
-  restored ?? undefined,
+  restored,
   first,
   ledger,
 );

@@ -10,6 +10,7 @@ import {
   type LifecycleSnapshot,
   type SeatView,
 } from '../ensembles/index.js';
+import { MAX_CLASSES } from '../learners/index.js';
 import {
   allAnswered,
   answerTally,
@@ -18,13 +19,15 @@ import {
   ShardAnswers,
   ShardClient,
   type ShardReply,
+  type ShardRequest,
+  SLOTS,
   sameBuffers,
   shardReady,
   shardStatus,
   statusCounts,
   statusSeats,
 } from './shard-channel.js';
-import { LedgerHost } from './shard-ledger.js';
+import { LedgerHost, LedgerWords } from './shard-ledger.js';
 import { SharedVerdicts } from './shard-votes.js';
 
 /**
@@ -40,9 +43,19 @@ import { SharedVerdicts } from './shard-votes.js';
  * so a batch costs no copies; this thread holds no seats and, while the workers run, never blocks
  * (`Atomics.waitAsync`), so its event loop keeps serving.
  *
+ * A batch goes out when it is sent (its rows and labels copied at once), and its promise resolves once
+ * its verdicts are in `out`; two batches may be out at once, run in the order sent, so the workers can
+ * start on the next batch while this thread reads the verdicts of one (a third is refused until the
+ * first is in). The figures (`rows`, `seats`, …) are those after the last batch in; a snapshot waits for
+ * the batches out and is taken after them.
+ *
  * @example
  * const bag = await ParallelBagging.start(schema, { members: 10 }, 7, 2);
  * await bag.scoreTrainBatch(frame.values, frame.labels, frame.rows, verdicts);
+ * const next = bag.scoreTrainBatch(more.values, more.labels, more.rows, moreVerdicts); // out at once…
+ * const after = bag.scoreTrainBatch(last.values, last.labels, last.rows, lastVerdicts); // …with this one
+ * await next; // moreVerdicts are in; the workers go on with the last batch meanwhile
+ * await after;
  * const snapshot = await bag.snapshot(); // equal to one thread's: `Bagging.restore(snapshot)` goes on
  * await bag.close();
  */
@@ -50,13 +63,32 @@ import { SharedVerdicts } from './shard-votes.js';
 interface RemoteShard {
   readonly worker: Worker;
   readonly client: ShardClient;
-  readonly answers: ShardAnswers;
-  /** Where the worker writes its status after each batch. */
-  readonly status: Float64Array;
+  /** Where the worker writes its status after each batch, by slot. */
+  readonly status: readonly Float64Array[];
   /** Seats of the shards before it. */
   readonly first: number;
   /** Why the worker stopped, once it has (noticed between batches). */
   lost: string | null;
+}
+
+/** The shared memory of one batch out (see `SLOTS`), grown as needed. */
+class Slot {
+  readonly index: number;
+  values = new Float64Array(new SharedArrayBuffer(0));
+  labels = new Float64Array(new SharedArrayBuffer(0));
+  /** Each shard's answers. */
+  readonly answers: ShardAnswers[];
+  /** Where the workers combine the batch's verdicts. */
+  readonly verdicts = new SharedVerdicts();
+  readonly ledger: LedgerWords;
+  /** The buffers of the slot's last batch (the workers keep views of them). */
+  sent: BatchBuffers | null = null;
+
+  constructor(index: number, shards: number) {
+    this.index = index;
+    this.answers = Array.from({ length: shards }, () => new ShardAnswers());
+    this.ledger = new LedgerWords(shards);
+  }
 }
 
 export class ParallelBagging {
@@ -72,18 +104,20 @@ export class ParallelBagging {
   private readonly ledger: LedgerHost;
   /** The shards' tally of answers (see `answerTally`). */
   private readonly tally: Int32Array;
-  /** Where the workers combine the batch's verdicts. */
-  private readonly verdicts = new SharedVerdicts();
-  /** The batch in shared memory, grown as needed. */
-  private values = new Float64Array(new SharedArrayBuffer(0));
-  private labels = new Float64Array(new SharedArrayBuffer(0));
-  /** The buffers of the last batch sent (the workers keep views of them). */
-  private sent: BatchBuffers | null = null;
-  /** A request is out: its buffers are in use until its replies are in. */
-  private busy = false;
+  /** The shared memory of the batches out: batch k (from 0) goes in slot k mod SLOTS. */
+  private readonly slots: Slot[];
+  private batches = 0;
+  /** Requests out (batches and a snapshot). */
+  private out = 0;
+  /** A snapshot is being taken: batches wait until it is. */
+  private snapshotting = false;
+  /** Settles once the last batch sent is in (never rejects: its caller hears its error). */
+  private last: Promise<void> = Promise.resolve();
   private trained: number;
   private known: number;
   private announced: number;
+  /** The most classes a row of the batches sent may cover (by their labels). */
+  private reach: number;
   /** The seats after the last batch, made when asked. */
   private views: SeatView[] | null;
   /** Each shard's status after the last batch (copied: the next batch overwrites the shared one). */
@@ -118,9 +152,11 @@ export class ParallelBagging {
     this.trained = whole.rows;
     this.known = whole.classes;
     this.announced = whole.classes;
+    this.reach = whole.classes;
+    this.slots = Array.from({ length: SLOTS }, (_, i) => new Slot(i, shards.length));
     this.views = whole.seats();
     this.kinds = this.views.map((v) => v.kind);
-    this.status = shards.map((s) => new Float64Array(s.status.length));
+    this.status = shards.map((s) => new Float64Array(s.status[0]!.length));
     this.bytes = whole.sizeBytes();
   }
 
@@ -180,51 +216,59 @@ export class ParallelBagging {
     if (n > this.announced) this.announced = n;
   }
 
-  /** The seats as they were after the last batch. */
+  /** The seats as they were after the last batch in. */
   seats(): SeatView[] {
     this.views ??= this.shards.flatMap((s, i) => statusSeats(this.status[i]!, s.first, this.kinds));
     return this.views;
   }
 
-  /** The members' size after the last batch. */
+  /** The members' size after the last batch in. */
   sizeBytes(): number {
     return this.bytes;
   }
 
   /**
    * Score every row of a batch, and train on each row whose label is not NaN (the prequential step),
-   * row by row exactly as one thread's `scoreTrain` (or `score`, for a NaN label) would.
+   * row by row exactly as one thread's `scoreTrain` (or `score`, for a NaN label) would. The rows and
+   * labels are copied before this returns; the verdicts are in `out` once the promise resolves.
    */
-  async scoreTrainBatch(
+  scoreTrainBatch(
     values: Float64Array,
     labels: ArrayLike<number>,
     rows: number,
     out: BatchVerdicts,
   ): Promise<void> {
     if (labels.length < rows) {
-      throw new ShoalError(
-        'invalid-label',
-        `parallel bagging: a batch of ${rows} rows needs ${rows} labels, got ${labels.length}`,
+      return Promise.reject(
+        new ShoalError(
+          'invalid-label',
+          `parallel bagging: a batch of ${rows} rows needs ${rows} labels, got ${labels.length}`,
+        ),
       );
     }
-    if (this.labels.length < rows) this.labels = new Float64Array(new SharedArrayBuffer(8 * rows));
-    let classes = Math.max(this.known, this.announced);
-    for (let r = 0; r < rows; r++) {
-      const label = labels[r]!;
-      this.labels[r] = label;
-      if (label + 1 > classes) classes = label + 1;
-    }
-    await this.run(values, true, rows, classes, out);
+    return this.send(values, labels, rows, out);
   }
 
-  /** Score every row of a batch (`classes` is the most classes a row's answers may cover). */
-  async scoreBatch(values: Float64Array, rows: number, out: BatchVerdicts): Promise<void> {
-    await this.run(values, false, rows, Math.max(this.known, this.announced), out);
+  /** Score every row of a batch (as `scoreTrainBatch`, training on none). */
+  scoreBatch(values: Float64Array, rows: number, out: BatchVerdicts): Promise<void> {
+    return this.send(values, null, rows, out);
   }
 
-  /** The ensemble's snapshot, as one thread's `Bagging.snapshot()` would give it. */
+  /**
+   * The ensemble's snapshot after the batches sent so far, as one thread's `Bagging.snapshot()` would
+   * give it (batches sent while it is taken are refused).
+   */
   async snapshot(): Promise<EnsembleSnapshot> {
-    const parts = (await this.ask(() => ({ kind: 'snapshot' }))).map((r) => r.snapshot!);
+    if (this.snapshotting) throw this.refusal();
+    this.snapshotting = true;
+    let parts: EnsembleSnapshot[];
+    try {
+      await this.last;
+      this.alive();
+      parts = (await this.answers(this.post(() => ({ kind: 'snapshot' })))).map((r) => r.snapshot!);
+    } finally {
+      this.snapshotting = false;
+    }
     const first = parts[0]!;
     const ledger = this.ledger;
     const lifecycle: LifecycleSnapshot = {
@@ -255,107 +299,143 @@ export class ParallelBagging {
     await Promise.all(this.shards.map((s) => s.worker.terminate()));
   }
 
-  private async run(
+  /**
+   * Send a batch (trained on with `labels`, or scored when null) to the workers now, in the next slot;
+   * resolves once its verdicts are in `out`, after those of the batches sent before it.
+   */
+  private send(
     values: Float64Array,
-    train: boolean,
+    labels: ArrayLike<number> | null,
     rows: number,
-    classes: number,
     out: BatchVerdicts,
   ): Promise<void> {
     const width = this.schema.features.length;
     if (!(Number.isInteger(rows) && rows >= 0 && values.length >= rows * width)) {
-      throw new ShoalError(
-        'invalid-row',
-        `parallel bagging: a batch of ${rows} rows needs ${rows * width} values, the buffer holds ${values.length}`,
+      return Promise.reject(
+        new ShoalError(
+          'invalid-row',
+          `parallel bagging: a batch of ${rows} rows needs ${rows * width} values, the buffer holds ${values.length}`,
+        ),
       );
     }
-    this.ready();
-    if (this.values.length < rows * width)
-      this.values = new Float64Array(new SharedArrayBuffer(8 * rows * width));
-    this.values.set(values.subarray(0, rows * width));
-    const ledger = this.ledger;
-    ledger.prepare(rows, Math.max(...this.counts));
+    try {
+      this.ready();
+    } catch (e) {
+      return Promise.reject(e);
+    }
+    const slot = this.slots[this.batches++ % SLOTS]!;
+    let classes = Math.max(this.reach, this.announced);
+    if (labels !== null) {
+      if (slot.labels.length < rows) slot.labels = new Float64Array(new SharedArrayBuffer(8 * rows));
+      for (let r = 0; r < rows; r++) {
+        const label = labels[r]!;
+        slot.labels[r] = label;
+        // A label that is no class code fails its batch at its row, and is not counted.
+        if (label >= classes && label < MAX_CLASSES && Number.isInteger(label)) classes = label + 1;
+      }
+      this.reach = classes;
+    }
+    if (slot.values.length < rows * width)
+      slot.values = new Float64Array(new SharedArrayBuffer(8 * rows * width));
+    slot.values.set(values.subarray(0, rows * width));
+    slot.ledger.prepare(rows, Math.max(...this.counts));
     const stride = Math.max(classes, 1);
-    const all = this.shards.map((s, i) => s.answers.fit(rows, this.counts[i]!, stride));
-    const verdicts = this.verdicts.fit(rows, stride, this.members);
     const buffers: BatchBuffers = {
-      values: this.values.buffer,
-      labels: this.labels.buffer,
-      all,
+      values: slot.values.buffer,
+      labels: slot.labels.buffer,
+      all: slot.answers.map((answers, i) => answers.fit(rows, this.counts[i]!, stride)),
       counts: this.counts,
-      verdicts,
-      ledger: ledger.words.buffer,
+      verdicts: slot.verdicts.fit(rows, stride, this.members),
+      ledger: slot.ledger.words.buffer,
     };
-    // The workers keep the buffers of the last batch: new ones go out only when one changed.
-    const changed = this.sent === null || !sameBuffers(this.sent, buffers);
-    if (changed) this.sent = buffers;
-    const replies = await this.ask(() => ({
+    // The workers keep the buffers of the slot's last batch: new ones go out only when one changed.
+    const changed = slot.sent === null || !sameBuffers(slot.sent, buffers);
+    if (changed) slot.sent = buffers;
+    const request = this.post(() => ({
       kind: 'batch',
+      slot: slot.index,
       rows,
       classes: this.announced,
-      train,
+      train: labels !== null,
       buffers: changed ? buffers : null,
-      cap: ledger.cap,
-      nextId: ledger.nextId,
-      history: ledger.history,
+      cap: slot.ledger.cap,
     }));
+    const done = this.collect(request, slot, rows, stride, out, this.last);
+    this.last = done.then(
+      () => {},
+      () => {},
+    );
+    return done;
+  }
+
+  /** Take in the answers of batch request `request` (in `slot`), once the batches before it are in. */
+  private async collect(
+    request: number,
+    slot: Slot,
+    rows: number,
+    stride: number,
+    out: BatchVerdicts,
+    before: Promise<void>,
+  ): Promise<void> {
+    await before;
+    const replies = await this.answers(request);
     this.bytes = 0;
     this.shards.forEach((s, i) => {
       const status = this.status[i]!;
-      status.set(s.status);
+      status.set(s.status[slot.index]!);
       this.bytes += statusCounts(status).bytes;
     });
     ({ rows: this.trained, classes: this.known } = statusCounts(this.status[0]!));
     this.views = null;
     out.fit(rows, stride, this.members);
-    ledger.settle(rows, out.epochs, this.trained);
+    this.ledger.settle(slot.ledger.words, slot.ledger.cap, rows, this.trained, out.epochs);
     mergeChanges(replies, out);
     // Every shard stops at the same bad row: its error is the batch's.
     const failed = replies.find((r) => r.error !== null);
     if (failed !== undefined) throw new ShoalError(failed.error!.code, failed.error!.message);
-    this.verdicts.copyTo(out, rows);
+    slot.verdicts.copyTo(out, rows);
   }
 
-  /** Refuse a request while one is out (its shared buffers are in use), or when a worker stopped. */
+  /**
+   * Refuse a request while a snapshot is being taken or SLOTS batches are out (their shared memory is
+   * in use), or when a worker stopped.
+   */
   private ready(): void {
-    if (this.busy) {
-      throw new ShoalError(
-        'invalid-parameter',
-        'parallel bagging: a batch is still out; await it before sending the next',
-      );
-    }
+    if (this.snapshotting || this.out >= SLOTS) throw this.refusal();
+    this.alive();
+  }
+
+  private refusal(): ShoalError {
+    const why = this.snapshotting ? 'a snapshot is being taken' : `${SLOTS} batches are still out`;
+    return new ShoalError('invalid-parameter', `parallel bagging: ${why}; await it before sending more`);
+  }
+
+  /** Refuse a request when a worker stopped. */
+  private alive(): void {
     for (const s of this.shards) {
       if (s.lost !== null)
         throw new ShoalError('worker-failure', `parallel bagging: a worker stopped: ${s.lost}`);
     }
   }
 
-  /** Send every shard its request, and collect every reply (a request is refused while one is out). */
-  private async ask(
-    request: (shard: RemoteShard, i: number) => Parameters<ShardClient['post']>[0],
-  ): Promise<ShardReply[]> {
-    this.ready();
-    this.busy = true;
+  /** Send every shard a request and wake it; the request's number. */
+  private post(request: (shard: RemoteShard, i: number) => ShardRequest): number {
+    // A pending Atomics.waitAsync does not keep the process alive; a ref'd worker does.
+    if (this.out++ === 0) for (const s of this.shards) s.worker.ref();
+    this.shards.forEach((s, i) => {
+      s.client.post(request(s, i));
+    });
+    for (const s of this.shards) s.client.wake();
+    return this.clients[0]!.sent;
+  }
+
+  /** Every shard's reply to request number `request`, once all have answered. */
+  private async answers(request: number): Promise<ShardReply[]> {
     try {
-      this.shards.forEach((s, i) => {
-        // A pending Atomics.waitAsync does not keep the process alive; a ref'd worker does.
-        s.worker.ref();
-        s.client.post(request(s, i));
-      });
-      for (const s of this.shards) s.client.wake();
-      let failure: unknown = null;
-      try {
-        await allAnswered(this.tally, this.clients);
-      } catch (e) {
-        failure = e;
-      }
-      for (const s of this.shards) s.worker.unref();
-      // Replies are read once answered (a silent worker's may come later, and is not read as the next's).
-      const replies = this.clients.filter((c) => c.answered()).map((c) => c.reply());
-      if (failure !== null) throw failure;
-      return replies;
+      await allAnswered(this.tally, this.clients, request);
+      return this.clients.map((c) => c.reply(request));
     } finally {
-      this.busy = false;
+      if (--this.out === 0) for (const s of this.shards) s.worker.unref();
     }
   }
 }
@@ -384,7 +464,7 @@ async function startShard(
 ): Promise<RemoteShard> {
   const { port1, port2 } = new MessageChannel();
   const control = channelControl();
-  const status = shardStatus(n);
+  const status = Array.from({ length: SLOTS }, () => shardStatus(n));
   const state = snapshot.state as { poisson: unknown[] };
   const part: EnsembleSnapshot = {
     ...snapshot,
@@ -415,7 +495,6 @@ async function startShard(
   const shard: RemoteShard = {
     worker,
     client: new ShardClient(port1, control),
-    answers: new ShardAnswers(),
     status,
     first,
     lost: null,

@@ -20,12 +20,13 @@ import {
  * shard bumps every 256 rows, so that the waiting side can tell a long batch from a worker that stopped,
  * and a ready flag the worker raises once its shard is built; a tally all shards share wakes the main
  * thread once every shard has answered (see `answerTally`). A request is a message on a port that the
- * worker reads synchronously when woken: the batch's size and the ledger's start, and the shared
- * buffers only when they changed (a message carrying some twenty shared buffers costs tens of
- * microseconds to send and to read). The worker writes its status (rows, classes, size, its seats) in
- * shared memory once its seats are through a batch (before it combines votes), and a reply comes back
- * the same way only when it has news (the lifecycle changes of the batch, an error, a snapshot when
- * asked), before the request is marked done.
+ * worker reads synchronously when woken: the batch's size and slot, and the slot's shared buffers only
+ * when they changed (a message carrying some twenty shared buffers costs tens of microseconds to send
+ * and to read). Two batches may be out at once, in slots of their own (see `SLOTS`): a worker through
+ * with one finds the next waiting, while the main thread reads the answers of the first. The worker writes its status (rows, classes, size, its seats) in
+ * the batch's slot of shared memory once its seats are through a batch (before it combines votes), and
+ * a reply comes back the same way only when it has news (the lifecycle changes of the batch, an error, a
+ * snapshot when asked), numbered by its request, before the request is marked done.
  */
 const C_REQUEST = 0;
 const C_DONE = 1;
@@ -52,17 +53,25 @@ export interface BatchBuffers {
   readonly ledger: SharedArrayBuffer;
 }
 
-/** A batch for a shard: its rows, trained on (labels NaN: score only) or scored, and the ledger's start. */
+/**
+ * Batches that may be out at once: each batch out has a slot of shared memory of its own (rows, answers,
+ * verdicts, ledger, status), so the next batch can go out while this thread reads the answers of one.
+ */
+export const SLOTS = 2;
+
+/**
+ * A batch for a shard: its rows, trained on (labels NaN: score only) or scored, in slot `slot`; the
+ * ledger's layout (`cap`). The ledger's start is the shard's own (see `ShardLedger.end`).
+ */
 export interface BatchRequest {
   readonly kind: 'batch';
+  readonly slot: number;
   readonly rows: number;
   readonly classes: number;
   readonly train: boolean;
-  /** The buffers, when they changed since the last batch (null: the same). */
+  /** The slot's buffers, when they changed since the slot's last batch (null: the same). */
   readonly buffers: BatchBuffers | null;
   readonly cap: number;
-  readonly nextId: number;
-  readonly history: readonly number[];
 }
 
 /** Whether two sets of batch buffers are the same memory. */
@@ -83,6 +92,8 @@ export type ShardRequest = BatchRequest | { readonly kind: 'snapshot' } | { read
  * something (a lifecycle change, an error, a snapshot), since a message costs tens of microseconds.
  */
 export interface ShardReply {
+  /** The number of the request it answers (requests are numbered from 1, in the order sent). */
+  readonly request: number;
   readonly error: { readonly code: ShoalErrorCode; readonly message: string } | null;
   /** Lifecycle changes of the batch, in order, and the step of each. */
   readonly changes: readonly LifecycleChange[];
@@ -90,8 +101,10 @@ export interface ShardReply {
   readonly snapshot: EnsembleSnapshot | null;
 }
 
-/** The reply of a request with nothing to say. */
-const NO_NEWS: ShardReply = { error: null, changes: [], steps: [], snapshot: null };
+/** The reply of request `request` with nothing to say. */
+function noNews(request: number): ShardReply {
+  return { request, error: null, changes: [], steps: [], snapshot: null };
+}
 
 /**
  * A shard's status after each batch, in shared memory: rows trained, classes, size in bytes, then
@@ -301,6 +314,8 @@ export class ShardClient {
   private readonly control: Int32Array;
   /** Requests sent so far. */
   sent = 0;
+  /** Replies read from the port ahead of the request asked about (of requests sent after it). */
+  private readonly ahead: ShardReply[] = [];
 
   constructor(port: MessagePort, control: Int32Array) {
     this.port = port;
@@ -321,9 +336,9 @@ export class ShardClient {
     Atomics.notify(this.control, C_REQUEST);
   }
 
-  /** Whether the last request is answered. */
-  answered(): boolean {
-    return Atomics.load(this.control, C_DONE) === this.sent;
+  /** Whether request number `request` is answered. */
+  answered(request: number): boolean {
+    return Atomics.load(this.control, C_DONE) >= request;
   }
 
   /** The worker's progress counter (bumped every few hundred rows of a batch). */
@@ -331,9 +346,21 @@ export class ShardClient {
     return Atomics.load(this.control, C_PROGRESS);
   }
 
-  /** The reply to the last request, once answered. */
-  reply(): ShardReply {
-    return (receiveMessageOnPort(this.port)?.message as ShardReply | undefined) ?? NO_NEWS;
+  /**
+   * The reply to request number `request`, once answered (the replies of the requests before it read).
+   * A reply comes only with news, and before its request is marked answered.
+   */
+  reply(request: number): ShardReply {
+    for (;;) {
+      const next = this.ahead.shift() ?? (receiveMessageOnPort(this.port)?.message as ShardReply | undefined);
+      if (next === undefined) return noNews(request);
+      if (next.request === request) return next;
+      // A later request's reply waits for its turn; an earlier one's was given up on (see `allAnswered`).
+      if (next.request > request) {
+        this.ahead.unshift(next);
+        return noNews(request);
+      }
+    }
   }
 }
 
@@ -347,17 +374,21 @@ export function answerTally(): Int32Array {
 }
 
 /**
- * Resolves once every shard has answered the last request (sent to all of them), never blocking this
- * thread; rejects when none of those still out made progress for a while.
+ * Resolves once every shard has answered request number `request` (sent to all of them), never blocking
+ * this thread; rejects when none of those still on it made progress for a while.
  */
-export async function allAnswered(tally: Int32Array, clients: readonly ShardClient[]): Promise<void> {
-  const expected = clients.length * clients[0]!.sent;
+export async function allAnswered(
+  tally: Int32Array,
+  clients: readonly ShardClient[],
+  request: number,
+): Promise<void> {
+  const expected = clients.length * request;
   let progress = clients.map((c) => c.progress());
   let silent = 0;
-  for (let n = Atomics.load(tally, 0); n !== expected; n = Atomics.load(tally, 0)) {
+  for (let n = Atomics.load(tally, 0); n < expected; n = Atomics.load(tally, 0)) {
     if ((await waitAsync(tally, 0, n, WAIT_MS)) !== 'timed-out') continue;
     const now = clients.map((c) => c.progress());
-    const moved = clients.some((c, i) => !c.answered() && now[i] !== progress[i]);
+    const moved = clients.some((c, i) => !c.answered(request) && now[i] !== progress[i]);
     silent = moved ? 0 : silent + WAIT_MS;
     progress = now;
     if (silent >= SILENCE_MS) {
@@ -373,15 +404,15 @@ export async function allAnswered(tally: Int32Array, clients: readonly ShardClie
  * Mark request number `done` answered, and count it in the tally of `shards` shards: the shard that
  * completes the request's answers wakes the main thread.
  */
-export function markAnswered(control: Int32Array, done: number, tally: Int32Array, shards: number): void {
+function markAnswered(control: Int32Array, done: number, tally: Int32Array, shards: number): void {
   Atomics.store(control, C_DONE, done);
   if (Atomics.add(tally, 0, 1) + 1 === shards * done) Atomics.notify(tally, 0);
 }
 
 /**
- * The worker's end: answer requests with `shard` until a stop request arrives, writing its `status`
- * after each batch; `changes` and `steps` collect the lifecycle changes of a batch (the shard's journal).
- * Blocks its thread between requests.
+ * The worker's end: answer requests with `shard` until a stop request arrives, writing its status after
+ * each batch into the batch's slot of `status`; `changes` and `steps` collect the lifecycle changes of a
+ * batch (the shard's journal). Blocks its thread between requests.
  */
 export function serveShard(
   shard: Bagging,
@@ -390,13 +421,13 @@ export function serveShard(
   steps: number[],
   port: MessagePort,
   control: Int32Array,
-  status: Float64Array,
+  status: readonly Float64Array[],
   tally: Int32Array,
 ): void {
   Atomics.store(control, C_READY, 1);
   Atomics.notify(control, C_READY);
   let done = 0;
-  let views: BatchViews | null = null;
+  const views: (BatchViews | null)[] = Array.from({ length: SLOTS }, () => null);
   for (;;) {
     // A request that comes within a few microseconds (the next batch, sent at once) finds this thread awake.
     if (poll(control, C_REQUEST, done + 1) === done) Atomics.wait(control, C_REQUEST, done);
@@ -414,14 +445,17 @@ export function serveShard(
       try {
         if (request.kind === 'snapshot') snapshot = shard.snapshot();
         else {
-          if (request.buffers !== null)
-            views = new BatchViews(request.buffers, ledger.shard, shard.options.vote === 'hard');
-          ledger.begin(views!.ledger, request.cap, request.nextId, request.history);
-          runShard(shard, ledger, request, views!, control);
+          if (request.buffers !== null) {
+            const hard = shard.options.vote === 'hard';
+            views[request.slot] = new BatchViews(request.buffers, ledger.shard, hard);
+          }
+          const slot = views[request.slot]!;
+          ledger.begin(slot.ledger, request.cap);
+          runShard(shard, ledger, request, slot, control);
           // Combining leaves the shard as it is: its status goes out now, while another shard may
           // still train, rather than after the last chunk, when the main thread waits on it.
-          writeStatus(status, shard);
-          combineChunks(ledger, request.rows, views!.combiner);
+          writeStatus(status[request.slot]!, shard);
+          combineChunks(ledger, request.rows, slot.combiner);
         }
       } catch (e) {
         // Shards stop at the same bad row; one that waits on this one must not wait for good.
@@ -430,10 +464,12 @@ export function serveShard(
           e instanceof ShoalError
             ? { code: e.code, message: e.message }
             : { code: 'worker-failure', message: `parallel bagging: a worker failed: ${String(e)}` };
-        writeStatus(status, shard);
+        if (request.kind === 'batch') writeStatus(status[request.slot]!, shard);
       }
+      // The next batch may already be out: it starts from the ledger after this one.
+      if (request.kind === 'batch') ledger.end(request.rows, shard.rows);
       if (error !== null || changes.length > 0 || snapshot !== null) {
-        const reply: ShardReply = { error, changes, steps, snapshot };
+        const reply: ShardReply = { request: done + 1, error, changes, steps, snapshot };
         port.postMessage(reply);
       }
       markAnswered(control, ++done, tally, ledger.shards);

@@ -91,27 +91,44 @@ export class ShardLedger implements SeatLedger {
   readonly shards: number;
   private readonly window: number;
   private readonly max: number;
+  /**
+   * The ledger between batches, kept by each shard as by the main thread (the same events taken in the
+   * same way), so that a batch can go out before the one ahead of it is in.
+   */
+  private readonly between: LedgerHost;
   private words: Int32Array = new Int32Array(0);
   private cap = 0;
-  private firstId = 0;
-  private history: readonly number[] = [];
   /** The step of the batch being run. */
   step = 0;
 
-  constructor(shard: number, shards: number, window: number, max: number) {
+  constructor(
+    shard: number,
+    shards: number,
+    window: number,
+    max: number,
+    start: Pick<LifecycleSnapshot, 'nextMemberId' | 'replacements' | 'epoch'>,
+  ) {
     this.shard = shard;
     this.shards = shards;
     this.window = window;
     this.max = max;
+    this.between = new LedgerHost(shards, window, start.nextMemberId, start.replacements, start.epoch);
   }
 
-  /** Start a batch: the ledger's words, the next id and the replacement rows before the batch. */
-  begin(words: Int32Array, cap: number, firstId: number, history: readonly number[]): void {
+  /** Start a batch on the ledger's words (laid out for `cap` events of each kind per shard). */
+  begin(words: Int32Array, cap: number): void {
     this.words = words;
     this.cap = cap;
-    this.firstId = firstId;
-    this.history = history;
     this.step = 0;
+  }
+
+  /**
+   * End a batch of `steps` steps, after which the ensemble has trained on `rows` rows: once every shard
+   * is through it (or failed), take in its events as the main thread does.
+   */
+  end(steps: number, rows: number): void {
+    for (let v = 0; v < this.shards; v++) if (v !== this.shard) this.reach(v, steps);
+    this.between.settle(this.words, this.cap, steps, rows, null);
   }
 
   /** `steps` steps of the batch are done (FAILED: none will be); wakes a shard asleep until then. */
@@ -142,12 +159,12 @@ export class ShardLedger implements SeatLedger {
     const own = this.words[at]!;
     this.words[at + PER_SHARD_HEAD + own] = this.step;
     Atomics.store(this.words, at, own + 1);
-    return this.firstId + n;
+    return this.between.nextId + n;
   }
 
   capReached(row: number): boolean {
     this.settle();
-    let n = inWindow(this.history, row, this.window);
+    let n = inWindow(this.between.history, row, this.window);
     const { words, cap } = this;
     for (let v = 0; v < this.shards; v++) {
       const at = base(this.shards, cap, v);
@@ -169,7 +186,7 @@ export class ShardLedger implements SeatLedger {
 
   /** The main thread keeps the ids and replacements of the whole ensemble; a shard's own say nothing. */
   snapshot(_row: number): Pick<LifecycleSnapshot, 'nextMemberId' | 'replacements'> {
-    return { nextMemberId: this.firstId, replacements: [] };
+    return { nextMemberId: this.between.nextId, replacements: [] };
   }
 
   /**
@@ -214,28 +231,20 @@ export class ShardLedger implements SeatLedger {
   }
 }
 
-/** The main thread's side: what the ledger holds between batches, and the events of the last batch. */
-export class LedgerHost {
+/**
+ * The ledger's words for one batch in flight, in shared memory, laid out for `cap` events of each kind
+ * per shard (the most a batch as large as the largest so far can make).
+ */
+export class LedgerWords {
   readonly shards: number;
-  private readonly window: number;
-  /** The next member id. */
-  nextId: number;
-  /** Replacement rows that can still count towards the cap. */
-  history: number[];
-  /** Replacements so far. */
-  epoch: number;
   words = new Int32Array(new SharedArrayBuffer(0));
   cap = 0;
 
-  constructor(shards: number, window: number, nextId: number, history: readonly number[], epoch: number) {
+  constructor(shards: number) {
     this.shards = shards;
-    this.window = window;
-    this.nextId = nextId;
-    this.history = [...history];
-    this.epoch = epoch;
   }
 
-  /** Clear the ledger for a batch of `steps` steps whose shards hold at most `seats` seats each. */
+  /** Clear the words for a batch of `steps` steps whose shards hold at most `seats` seats each. */
   prepare(steps: number, seats: number): void {
     const cap = Math.max(1, steps * seats);
     if (cap > this.cap) {
@@ -251,17 +260,42 @@ export class LedgerHost {
       words.fill(0, at, at + PER_SHARD_HEAD);
     }
   }
+}
+
+/**
+ * What the ledger holds between batches — the next member id, the replacement rows that can still count
+ * towards the cap, the replacements so far — and how a finished batch's events move it on: kept by the
+ * main thread, and by each shard for itself.
+ */
+export class LedgerHost {
+  readonly shards: number;
+  private readonly window: number;
+  /** The next member id. */
+  nextId: number;
+  /** Replacement rows that can still count towards the cap. */
+  history: number[];
+  /** Replacements so far. */
+  epoch: number;
+
+  constructor(shards: number, window: number, nextId: number, history: readonly number[], epoch: number) {
+    this.shards = shards;
+    this.window = window;
+    this.nextId = nextId;
+    this.history = [...history];
+    this.epoch = epoch;
+  }
 
   /**
-   * Take in the events of a finished batch: the epoch that served each step (`epochs`), the ids handed
-   * out, and the replacement rows, in the one-thread order; `rows` is the ensemble's row count after it.
+   * Take in the events of a finished batch of `steps` steps in `words` (laid out for `cap`): the ids
+   * handed out, the replacement rows in the one-thread order, and (into `epochs`, when given) the epoch
+   * that served each step; `rows` is the ensemble's row count after it.
    */
-  settle(steps: number, epochs: Int32Array, rows: number): void {
-    const { words, cap, shards } = this;
+  settle(words: Int32Array, cap: number, steps: number, rows: number, epochs: Int32Array | null): void {
+    const shards = this.shards;
     const next = new Int32Array(shards);
     let epoch = this.epoch;
     for (let i = 0; i < steps; i++) {
-      epochs[i] = epoch;
+      if (epochs !== null) epochs[i] = epoch;
       for (let v = 0; v < shards; v++) {
         const at = base(shards, cap, v);
         const count = words[at + 1]!;

@@ -39,33 +39,44 @@ describe('parallel bagging', () => {
     }
   });
 
-  it('raises a bad label from every thread as the shard would, and goes on with the next batch', async () => {
-    const gen = sea({ noise: 0.1 }, 5);
-    const block = take(gen, 300);
-    const spec = { members: 4, lambda: 1, lifecycle: { enabled: false } } as const;
-    const single = new Bagging(gen.schema, spec, 'p');
-    single.ensureClasses(2);
-    const parallel = await ParallelBagging.start(gen.schema, spec, 'p', 2);
-    parallel.ensureClasses(2);
-    try {
-      const out = new BatchVerdicts();
-      const labels = Float64Array.from(block.labels);
-      labels[10] = 1.5;
-      await expect(parallel.scoreTrainBatch(block.rows, labels, 100, out)).rejects.toMatchObject({
-        code: 'invalid-label',
-        message: expect.stringMatching(/label must be an integer/),
-      });
-      const verdict = new Verdict();
-      for (let r = 0; r < 10; r++) single.scoreTrain(block.rows, r * 3, block.labels[r]!, verdict);
-      await parallel.scoreTrainBatch(block.rows.subarray(300), labels.subarray(100), 100, out);
-      for (let r = 0; r < 100; r++) {
-        single.scoreTrain(block.rows, (100 + r) * 3, block.labels[100 + r]!, verdict);
-        expect(out.probabilities[r * 2 + 1]).toBe(verdict.probabilities[1]);
+  it.each([
+    ['after it', false],
+    ['while it is out', true],
+  ])(
+    'raises a bad label from every thread as the shard would, and goes on with the next batch sent %s',
+    async (_, early) => {
+      const gen = sea({ noise: 0.1 }, 5);
+      const block = take(gen, 300);
+      const spec = { members: 4, lambda: 1, lifecycle: { enabled: false } } as const;
+      const single = new Bagging(gen.schema, spec, 'p');
+      single.ensureClasses(2);
+      const parallel = await ParallelBagging.start(gen.schema, spec, 'p', 2);
+      parallel.ensureClasses(2);
+      try {
+        const out = new BatchVerdicts();
+        const next = new BatchVerdicts();
+        const labels = Float64Array.from(block.labels);
+        labels[10] = 1.5;
+        const failing = parallel.scoreTrainBatch(block.rows, labels, 100, out);
+        const sent = early
+          ? parallel.scoreTrainBatch(block.rows.subarray(300), labels.subarray(100), 100, next)
+          : null;
+        await expect(failing).rejects.toMatchObject({
+          code: 'invalid-label',
+          message: expect.stringMatching(/label must be an integer/),
+        });
+        const verdict = new Verdict();
+        for (let r = 0; r < 10; r++) single.scoreTrain(block.rows, r * 3, block.labels[r]!, verdict);
+        await (sent ?? parallel.scoreTrainBatch(block.rows.subarray(300), labels.subarray(100), 100, next));
+        for (let r = 0; r < 100; r++) {
+          single.scoreTrain(block.rows, (100 + r) * 3, block.labels[100 + r]!, verdict);
+          expect(next.probabilities[r * 2 + 1]).toBe(verdict.probabilities[1]);
+        }
+      } finally {
+        await parallel.close();
       }
-    } finally {
-      await parallel.close();
-    }
-  });
+    },
+  );
 
   it('refuses a batch whose buffer is shorter than its rows, naming both counts', async () => {
     const gen = sea({}, 2);
@@ -107,23 +118,41 @@ describe('parallel bagging', () => {
     expect(child.status).toBe(0);
   });
 
-  it('refuses a second batch while one is out, and takes it once the first is in', async () => {
+  it('takes a second batch while one is out, refuses a third, and refuses batches while a snapshot is taken', async () => {
     const gen = sea({}, 3);
-    const block = take(gen, 400);
-    const parallel = await ParallelBagging.start(
-      gen.schema,
-      { members: 2, lambda: 1, lifecycle: { enabled: false } },
-      1,
-      2,
-    );
+    const block = take(gen, 600);
+    const spec = { members: 3, lambda: 1, lifecycle: { enabled: false } } as const;
+    const single = new Bagging(gen.schema, spec, 1);
+    single.ensureClasses(2);
+    const parallel = await ParallelBagging.start(gen.schema, spec, 1, 2);
+    parallel.ensureClasses(2);
+    const labels = Float64Array.from(block.labels);
     try {
-      const first = parallel.scoreBatch(block.rows, 200, new BatchVerdicts());
-      await expect(parallel.scoreBatch(block.rows, 200, new BatchVerdicts())).rejects.toMatchObject({
+      const outs = [new BatchVerdicts(), new BatchVerdicts(), new BatchVerdicts()];
+      const first = parallel.scoreTrainBatch(block.rows, labels, 200, outs[0]!);
+      const second = parallel.scoreTrainBatch(block.rows.subarray(600), labels.subarray(200), 200, outs[1]!);
+      await expect(parallel.scoreBatch(block.rows, 200, outs[2]!)).rejects.toMatchObject({
         code: 'invalid-parameter',
-        message: expect.stringMatching(/still out/),
+        message: expect.stringMatching(/2 batches are still out/),
       });
       await first;
-      await parallel.scoreBatch(block.rows, 200, new BatchVerdicts());
+      const third = parallel.scoreTrainBatch(block.rows.subarray(1200), labels.subarray(400), 200, outs[2]!);
+      await second;
+      await third;
+      // In the order sent, as one thread row after row (members are independent: Oza & Russell 2001).
+      const verdict = new Verdict();
+      for (let r = 0; r < 600; r++) {
+        single.scoreTrain(block.rows, r * 3, block.labels[r]!, verdict);
+        expect(outs[Math.floor(r / 200)]!.probabilities[(r % 200) * 2 + 1]).toBe(verdict.probabilities[1]);
+      }
+      const last = parallel.scoreBatch(block.rows, 100, new BatchVerdicts());
+      const snapshot = parallel.snapshot();
+      await expect(parallel.scoreBatch(block.rows, 100, new BatchVerdicts())).rejects.toMatchObject({
+        code: 'invalid-parameter',
+        message: expect.stringMatching(/a snapshot is being taken/),
+      });
+      await last;
+      expect(JSON.stringify(await snapshot)).toBe(JSON.stringify(single.snapshot()));
     } finally {
       await parallel.close();
     }

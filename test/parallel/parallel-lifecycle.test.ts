@@ -54,7 +54,10 @@ function single(bag: Bagging, from: number, to: number, trace: number[]): void {
   }
 }
 
-/** Threads, rows `from` … `to` − 1 in batches of `sizes` rows (cycled). */
+/**
+ * Threads, rows `from` … `to` − 1 in batches of `sizes` rows (cycled); with `ahead`, each batch is sent
+ * before the answers of the one before it are read (two out at a time).
+ */
 async function threaded(
   bag: ParallelBagging,
   from: number,
@@ -62,18 +65,32 @@ async function threaded(
   trace: number[],
   records: LifecycleChange[],
   sizes: readonly number[] = [BATCH],
+  ahead = false,
 ): Promise<void> {
-  const out = new BatchVerdicts();
   const verdict = new Verdict();
-  for (let s = from, k = 0, n = 0; s < to; s += n, k++) {
-    n = Math.min(sizes[k % sizes.length]!, to - s);
-    await bag.scoreTrainBatch(rows.subarray(s * width), labels.subarray(s), n, out);
+  const take = (out: BatchVerdicts, n: number): void => {
     records.push(...out.changes);
     for (let r = 0; r < n; r++) {
       out.verdictAt(r, verdict);
       push(trace, verdict);
       for (let m = 0; m < MEMBERS; m++) trace.push(out.accuracy[r * MEMBERS + m]!);
     }
+  };
+  let out: { done: Promise<void>; verdicts: BatchVerdicts; rows: number } | null = null;
+  for (let s = from, k = 0, n = 0; s < to; s += n, k++) {
+    n = Math.min(sizes[k % sizes.length]!, to - s);
+    const verdicts = new BatchVerdicts();
+    const done = bag.scoreTrainBatch(rows.subarray(s * width), labels.subarray(s), n, verdicts);
+    if (!ahead) await done;
+    if (out !== null) {
+      await out.done;
+      take(out.verdicts, out.rows);
+    }
+    out = { done, verdicts, rows: n };
+  }
+  if (out !== null) {
+    await out.done;
+    take(out.verdicts, out.rows);
   }
 }
 
@@ -124,6 +141,22 @@ describe('parallel bagging with the member lifecycle', () => {
       await threaded(parallel, 0, ROWS, t, got, [1, 130, 64, 700, 65, 2, 1200, 333]);
       expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
       expect(got).toEqual(records);
+      expect(parallel.seats()).toEqual(bag.seats());
+      expect(JSON.stringify(await parallel.snapshot())).toBe(snapshot);
+    } finally {
+      await parallel.close();
+    }
+  });
+
+  it('gives the same over 2 threads with each batch sent before the answers of the one before are read', async () => {
+    const got: LifecycleChange[] = [];
+    const parallel = await ParallelBagging.start(schema, SPEC, 'life', 2, (c) => got.push(c));
+    try {
+      const t: number[] = [];
+      await threaded(parallel, 0, ROWS, t, got, [1, 130, 64, 700, 65, 2, 1200, 333], true);
+      expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
+      expect(got).toEqual(records);
+      expect(parallel.epoch).toBe(bag.epoch);
       expect(parallel.seats()).toEqual(bag.seats());
       expect(JSON.stringify(await parallel.snapshot())).toBe(snapshot);
     } finally {
