@@ -21,8 +21,8 @@ import { inWindow, type LifecycleSnapshot, type SeatLedger } from '../ensembles/
  * every shard after it step i − 1 (blocking its own thread, never the main one), then counts the
  * events before its own in the logs. Events are rare (a warning, a drift, a replacement), so the shards
  * otherwise run freely; waits never form a cycle, since the earliest waiting (step, shard) has all it
- * waits for. The main thread keeps the ledger between batches: the next id, the recent replacement
- * rows, the epoch.
+ * waits for. Between batches the ledger is the next id, the recent replacement rows and the epoch
+ * (`LedgerHost`), which the main thread and every shard each take in from a finished batch's logs.
  *
  * A shard waiting for another's progress first polls it for a few microseconds, then sleeps having
  * written the step it waits for, and the other wakes it only once that step is done: a sleeper costs a
