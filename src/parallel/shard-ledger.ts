@@ -131,19 +131,24 @@ export class ShardLedger implements SeatLedger {
     this.between.settle(this.words, this.cap, steps, rows, null);
   }
 
-  /** `steps` steps of the batch are done (FAILED: none will be); wakes a shard asleep until then. */
+  /**
+   * `steps` steps of the batch are done (FAILED: none will be); wakes a shard asleep until then, once:
+   * the step it waits for is cleared as it is woken (left set, every row until the sleeper ran again
+   * woke it again, a system call each: most of this function's time in a profile on a busy host).
+   */
   done(steps: number): void {
     const { words, shard, shards } = this;
     const at = progress(shards, shard);
     Atomics.store(words, at, steps);
+    let woken = false;
     for (let w = 0; w < shards; w++) {
       if (w === shard) continue;
       const step = Atomics.load(words, at + 1 + w);
-      if (step > 0 && steps >= step) {
-        Atomics.notify(words, at);
-        return;
-      }
+      // Cleared only if it is still that step (the sleeper may since wait for another).
+      if (step > 0 && steps >= step && Atomics.compareExchange(words, at + 1 + w, step, 0) === step)
+        woken = true;
     }
+    if (woken) Atomics.notify(words, at);
   }
 
   /** The next chunk of rows this shard combines (each chunk goes to the first shard that asks). */
@@ -209,6 +214,7 @@ export class ShardLedger implements SeatLedger {
     const from = progress(this.shards, v);
     let p = poll(words, from, steps);
     if (p >= steps) return p;
+    // The shard waited for clears the step when it wakes this one (see `done`).
     const at = wanted(this.shards, this.shard, v);
     Atomics.store(words, at, steps);
     for (p = Atomics.load(words, from); p < steps; p = Atomics.load(words, from))
