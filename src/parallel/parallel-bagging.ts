@@ -16,6 +16,7 @@ import {
   answerTally,
   type BatchBuffers,
   channelControl,
+  LEDGERS,
   ShardAnswers,
   ShardClient,
   type ShardReply,
@@ -80,14 +81,12 @@ class Slot {
   readonly answers: ShardAnswers[];
   /** Where the workers combine the batch's verdicts. */
   readonly verdicts = new SharedVerdicts();
-  readonly ledger: LedgerWords;
   /** The buffers of the slot's last batch (the workers keep views of them). */
   sent: BatchBuffers | null = null;
 
   constructor(index: number, shards: number) {
     this.index = index;
     this.answers = Array.from({ length: shards }, () => new ShardAnswers());
-    this.ledger = new LedgerWords(shards);
   }
 }
 
@@ -106,6 +105,10 @@ export class ParallelBagging {
   private readonly tally: Int32Array;
   /** The shared memory of the batches out: batch k (from 0) goes in slot k mod SLOTS. */
   private readonly slots: Slot[];
+  /** The sets of ledger words: batch k uses set k mod LEDGERS (see `LEDGERS`). */
+  private readonly ledgers: LedgerWords[];
+  /** The words of each set the workers were last sent. */
+  private readonly ledgersSent: (SharedArrayBuffer | null)[] = Array.from({ length: LEDGERS }, () => null);
   private batches = 0;
   /** Requests out (batches and a snapshot). */
   private out = 0;
@@ -154,6 +157,7 @@ export class ParallelBagging {
     this.announced = whole.classes;
     this.reach = whole.classes;
     this.slots = Array.from({ length: SLOTS }, (_, i) => new Slot(i, shards.length));
+    this.ledgers = Array.from({ length: LEDGERS }, () => new LedgerWords(shards.length));
     this.views = whole.seats();
     this.kinds = this.views.map((v) => v.kind);
     this.status = shards.map((s) => new Float64Array(s.status[0]!.length));
@@ -323,7 +327,9 @@ export class ParallelBagging {
     } catch (e) {
       return Promise.reject(e);
     }
-    const slot = this.slots[this.batches++ % SLOTS]!;
+    const slot = this.slots[this.batches % SLOTS]!;
+    const set = this.batches++ % LEDGERS;
+    const ledger = this.ledgers[set]!;
     let classes = Math.max(this.reach, this.announced);
     if (labels !== null) {
       if (slot.labels.length < rows) slot.labels = new Float64Array(new SharedArrayBuffer(8 * rows));
@@ -338,7 +344,10 @@ export class ParallelBagging {
     if (slot.values.length < rows * width)
       slot.values = new Float64Array(new SharedArrayBuffer(8 * rows * width));
     slot.values.set(values.subarray(0, rows * width));
-    slot.ledger.prepare(rows, Math.max(...this.counts));
+    ledger.prepare(rows, Math.max(...this.counts));
+    const words = ledger.words.buffer;
+    const fresh = this.ledgersSent[set] !== words;
+    this.ledgersSent[set] = words;
     const stride = Math.max(classes, 1);
     const buffers: BatchBuffers = {
       values: slot.values.buffer,
@@ -346,7 +355,6 @@ export class ParallelBagging {
       all: slot.answers.map((answers, i) => answers.fit(rows, this.counts[i]!, stride)),
       counts: this.counts,
       verdicts: slot.verdicts.fit(rows, stride, this.members),
-      ledger: slot.ledger.words.buffer,
     };
     // The workers keep the buffers of the slot's last batch: new ones go out only when one changed.
     const changed = slot.sent === null || !sameBuffers(slot.sent, buffers);
@@ -358,9 +366,11 @@ export class ParallelBagging {
       classes: this.announced,
       train: labels !== null,
       buffers: changed ? buffers : null,
-      cap: slot.ledger.cap,
+      ledger: set,
+      words: fresh ? words : null,
+      cap: ledger.cap,
     }));
-    const done = this.collect(request, slot, rows, stride, out, this.last);
+    const done = this.collect(request, slot, ledger, rows, stride, out, this.last);
     this.last = done.then(
       () => {},
       () => {},
@@ -372,6 +382,7 @@ export class ParallelBagging {
   private async collect(
     request: number,
     slot: Slot,
+    ledger: LedgerWords,
     rows: number,
     stride: number,
     out: BatchVerdicts,
@@ -388,7 +399,7 @@ export class ParallelBagging {
     ({ rows: this.trained, classes: this.known } = statusCounts(this.status[0]!));
     this.views = null;
     out.fit(rows, stride, this.members);
-    this.ledger.settle(slot.ledger.words, slot.ledger.cap, rows, this.trained, out.epochs);
+    this.ledger.settle(ledger.words, ledger.cap, rows, this.trained, out.epochs);
     mergeChanges(replies, out);
     // Every shard stops at the same bad row: its error is the batch's.
     const failed = replies.find((r) => r.error !== null);

@@ -41,8 +41,8 @@ const WAIT_MS = 1000;
 
 /**
  * The shared memory of a batch: rows and labels, every shard's answers (shard w's at w, in shard order)
- * and the seats each holds, where the combined verdicts go, and the ledger. Sent only when one of them
- * changes (a larger batch, a new class): a worker keeps its views of the last ones.
+ * and the seats each holds, and where the combined verdicts go. Sent only when one of them changes (a
+ * larger batch, a new class): a worker keeps its views of the last ones of each slot.
  */
 export interface BatchBuffers {
   readonly values: SharedArrayBuffer;
@@ -50,7 +50,6 @@ export interface BatchBuffers {
   readonly all: readonly AnswerBuffers[];
   readonly counts: readonly number[];
   readonly verdicts: VerdictBuffers;
-  readonly ledger: SharedArrayBuffer;
 }
 
 /**
@@ -58,6 +57,12 @@ export interface BatchBuffers {
  * verdicts, ledger, status), so the next batch can go out while this thread reads the answers of one.
  */
 export const SLOTS = 2;
+
+/**
+ * Sets of ledger words, batch k using set k mod LEDGERS: one more than the slots, since a shard takes in
+ * a batch's ledger only when the next batch needs it or ends (see `ShardLedger.end`).
+ */
+export const LEDGERS = SLOTS + 1;
 
 /**
  * A batch for a shard: its rows, trained on (labels NaN: score only) or scored, in slot `slot`; the
@@ -71,6 +76,9 @@ export interface BatchRequest {
   readonly train: boolean;
   /** The slot's buffers, when they changed since the slot's last batch (null: the same). */
   readonly buffers: BatchBuffers | null;
+  /** The set of ledger words, its words when they changed since it was last used (null: the same). */
+  readonly ledger: number;
+  readonly words: SharedArrayBuffer | null;
   readonly cap: number;
 }
 
@@ -79,7 +87,6 @@ export function sameBuffers(a: BatchBuffers, b: BatchBuffers): boolean {
   return (
     a.values === b.values &&
     a.labels === b.labels &&
-    a.ledger === b.ledger &&
     a.verdicts === b.verdicts &&
     a.all.every((answers, i) => answers === b.all[i])
   );
@@ -212,7 +219,6 @@ class BatchViews {
   /** This shard's answers. */
   readonly answers: AnswerViews;
   readonly stride: number;
-  readonly ledger: Int32Array;
   readonly combiner: RowCombiner;
 
   constructor(buffers: BatchBuffers, shard: number, hard: boolean) {
@@ -220,7 +226,6 @@ class BatchViews {
     this.labels = new Float64Array(buffers.labels);
     this.answers = answerViews(buffers.all[shard]!);
     this.stride = buffers.all[shard]!.stride;
-    this.ledger = new Int32Array(buffers.ledger);
     this.combiner = new RowCombiner(buffers.all, buffers.counts, hard, buffers.verdicts);
   }
 }
@@ -267,15 +272,14 @@ function runShard(
 }
 
 /**
- * Combine chunks of the batch's rows until none is left, each once every shard has answered its rows
- * (none when a shard failed: the batch fails as a whole).
+ * Combine chunks of the batch's rows as long as the next one is answered by every shard; the last shard
+ * through its seats finds all of them answered, and combines the rest (none when a shard failed: the
+ * batch fails as a whole). A shard never waits here, so one through with its seats goes on to the next
+ * batch, if one is out, rather than sleep until the others are through.
  */
 function combineChunks(ledger: ShardLedger, rows: number, combiner: RowCombiner): void {
-  for (let from = ledger.claim() * CHUNK; from < rows; from = ledger.claim() * CHUNK) {
-    const to = Math.min(rows, from + CHUNK);
-    if (!ledger.awaitAll(to)) return;
-    combiner.rows(from, to);
-  }
+  for (let k = ledger.claim(CHUNK, rows); k >= 0; k = ledger.claim(CHUNK, rows))
+    combiner.rows(k * CHUNK, Math.min(rows, (k + 1) * CHUNK));
 }
 
 /** The control words of a channel, in shared memory. */
@@ -428,6 +432,7 @@ export function serveShard(
   Atomics.notify(control, C_READY);
   let done = 0;
   const views: (BatchViews | null)[] = Array.from({ length: SLOTS }, () => null);
+  const ledgers: Int32Array[] = [];
   for (;;) {
     // A request that comes within a few microseconds (the next batch, sent at once) finds this thread awake.
     if (poll(control, C_REQUEST, done + 1) === done) Atomics.wait(control, C_REQUEST, done);
@@ -450,7 +455,8 @@ export function serveShard(
             views[request.slot] = new BatchViews(request.buffers, ledger.shard, hard);
           }
           const slot = views[request.slot]!;
-          ledger.begin(slot.ledger, request.cap);
+          if (request.words !== null) ledgers[request.ledger] = new Int32Array(request.words);
+          ledger.begin(ledgers[request.ledger]!, request.cap);
           runShard(shard, ledger, request, slot, control);
           // Combining leaves the shard as it is: its status goes out now, while another shard may
           // still train, rather than after the last chunk, when the main thread waits on it.

@@ -148,21 +148,24 @@ describe('parallel bagging with the member lifecycle', () => {
     }
   });
 
-  it('gives the same over 2 threads with each batch sent before the answers of the one before are read', async () => {
-    const got: LifecycleChange[] = [];
-    const parallel = await ParallelBagging.start(schema, SPEC, 'life', 2, (c) => got.push(c));
-    try {
-      const t: number[] = [];
-      await threaded(parallel, 0, ROWS, t, got, [1, 130, 64, 700, 65, 2, 1200, 333], true);
-      expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
-      expect(got).toEqual(records);
-      expect(parallel.epoch).toBe(bag.epoch);
-      expect(parallel.seats()).toEqual(bag.seats());
-      expect(JSON.stringify(await parallel.snapshot())).toBe(snapshot);
-    } finally {
-      await parallel.close();
-    }
-  });
+  it.each([2, 3])(
+    'gives the same over %i threads with each batch sent before the answers of the one before are read',
+    async (threads) => {
+      const got: LifecycleChange[] = [];
+      const parallel = await ParallelBagging.start(schema, SPEC, 'life', threads, (c) => got.push(c));
+      try {
+        const t: number[] = [];
+        await threaded(parallel, 0, ROWS, t, got, [1, 130, 64, 700, 65, 2, 1200, 333], true);
+        expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
+        expect(got).toEqual(records);
+        expect(parallel.epoch).toBe(bag.epoch);
+        expect(parallel.seats()).toEqual(bag.seats());
+        expect(JSON.stringify(await parallel.snapshot())).toBe(snapshot);
+      } finally {
+        await parallel.close();
+      }
+    },
+  );
 
   it('restores a snapshot across thread counts (one → three → two → one) and ends as one thread', async () => {
     const cuts = [2300, 4700, 6100];
