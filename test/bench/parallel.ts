@@ -8,12 +8,18 @@ import { benchStream } from './stream.js';
  * Parallel members: online bagging (λ = 1) of 10 and 30 Hoeffding trees, without the member lifecycle
  * and with it (ADWIN monitors, understudies, the proof gate), with the members split over two worker
  * threads (the build in dist/ is used, since workers load compiled files), against the same ensemble in
- * one thread, timed alternately so that both see the same machine, each timed after its first quarter
- * of rows (a worker's compiler starts cold). Rows go to the threads in batches of 1,000, each sent before
- * the verdicts of the one before it are read (two out at a time, as `ParallelBagging` allows), so the
- * workers do not wait while this thread checks them. The verdicts are checked to be identical.
+ * one thread. The two go through the same rows side by side, taking turns a block of 20,000 rows at a
+ * time (which goes first alternates), so that both see the same machine however its load moves; each
+ * is timed from its first quarter of rows on (a worker's compiler starts cold), three times over. Rows
+ * go to the threads in batches of 1,000, each sent before the verdicts of the one before it are read
+ * (two out at a time, as `ParallelBagging` allows), so the workers do not wait while this thread checks
+ * them (only the last batch of a block is read with none behind it). The verdicts are checked to be
+ * identical.
  */
 const BATCH = 1000;
+/** Batches one side runs before the other takes its turn. */
+const BLOCK = 20;
+const RUNS = 3;
 
 export const bench: BenchFn = async ({ quick }) => {
   const count = quick ? 40_000 : 400_000;
@@ -23,7 +29,14 @@ export const bench: BenchFn = async ({ quick }) => {
   const labels = Float64Array.from(codes);
   const schema = numericSchema(width);
   const rows: BenchRow[] = [];
-  const json: Record<string, unknown> = { machine: machine(), rows: count, batch: BATCH };
+  const json: Record<string, unknown> = {
+    machine: machine(),
+    rows: count,
+    batch: BATCH,
+    block: BLOCK * BATCH,
+  };
+  const expected = new Float64Array(count);
+  const got = new Float64Array(count);
   for (const [members, lifecycle] of [
     [10, false],
     [30, false],
@@ -35,38 +48,52 @@ export const bench: BenchFn = async ({ quick }) => {
     const one: number[] = [];
     const two: number[] = [];
     let identical = true;
-    for (let run = 0; run < 3; run++) {
+    for (let run = 0; run < RUNS; run++) {
       const single = new Bagging(schema, spec, 'bench-parallel');
       single.ensureClasses(2);
       const verdict = new Verdict();
-      const expected = new Float64Array(count);
-      let t0 = 0n;
-      for (let i = 0; i < count; i++) {
-        if (i === warm) t0 = process.hrtime.bigint();
-        single.scoreTrain(values, i * width, labels[i]!, verdict);
-        expected[i] = verdict.probabilities[1]!;
-      }
-      one.push((count - warm) / (Number(process.hrtime.bigint() - t0) / 1e9));
       const parallel = await ParallelBagging.start(schema, spec, 'bench-parallel', 2);
       parallel.ensureClasses(2);
       const outs = [new BatchVerdicts(), new BatchVerdicts()];
-      const check = async (done: Promise<void>, s: number): Promise<void> => {
+      const alone = (from: number, to: number): void => {
+        for (let i = from; i < to; i++) {
+          single.scoreTrain(values, i * width, labels[i]!, verdict);
+          expected[i] = verdict.probabilities[1]!;
+        }
+      };
+      const read = async (done: Promise<void>, s: number): Promise<void> => {
         await done;
         const out = outs[(s / BATCH) % 2]!;
-        for (let r = 0; r < BATCH; r++)
-          if (out.probabilities[r * 2 + 1] !== expected[s + r]) identical = false;
+        for (let r = 0; r < BATCH; r++) got[s + r] = out.probabilities[r * 2 + 1]!;
       };
-      let ahead: Promise<void> = Promise.resolve();
-      for (let s = 0; s < count; s += BATCH) {
-        if (s === warm) t0 = process.hrtime.bigint();
-        const out = outs[(s / BATCH) % 2]!;
-        const done = parallel.scoreTrainBatch(values.subarray(s * width), labels.subarray(s), BATCH, out);
+      const threaded = async (from: number, to: number): Promise<void> => {
+        let ahead: Promise<void> = Promise.resolve();
+        for (let s = from; s < to; s += BATCH) {
+          const out = outs[(s / BATCH) % 2]!;
+          const done = parallel.scoreTrainBatch(values.subarray(s * width), labels.subarray(s), BATCH, out);
+          await ahead;
+          ahead = read(done, s);
+        }
         await ahead;
-        ahead = check(done, s);
+      };
+      let secondsOne = 0;
+      let secondsTwo = 0;
+      for (let from = 0, block = 0; from < count; from += BLOCK * BATCH, block++) {
+        const to = Math.min(count, from + BLOCK * BATCH);
+        for (const side of block % 2 === 0 ? ['one', 'two'] : ['two', 'one']) {
+          const t0 = process.hrtime.bigint();
+          if (side === 'one') alone(from, to);
+          else await threaded(from, to);
+          const seconds = Number(process.hrtime.bigint() - t0) / 1e9;
+          if (from < warm) continue;
+          if (side === 'one') secondsOne += seconds;
+          else secondsTwo += seconds;
+        }
       }
-      await ahead;
-      two.push((count - warm) / (Number(process.hrtime.bigint() - t0) / 1e9));
       await parallel.close();
+      one.push((count - warm) / secondsOne);
+      two.push((count - warm) / secondsTwo);
+      if (got.some((p, i) => p !== expected[i])) identical = false;
     }
     const speedup = median(two) / median(one);
     rows.push({ name: `${label}, one thread`, rate: median(one), unit: 'rows/s' });
