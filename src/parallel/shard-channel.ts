@@ -19,19 +19,33 @@ import {
  * scrapes) runs while a batch is out — request number, number of requests done, a progress counter the
  * shard bumps every 256 rows, so that the waiting side can tell a long batch from a worker that stopped,
  * and a ready flag the worker raises once its shard is built; a tally all shards share wakes the main
- * thread once every shard has answered (see `answerTally`). A request is a message on a port that the
- * worker reads synchronously when woken: the batch's size and slot, and the slot's shared buffers only
- * when they changed (a message carrying some twenty shared buffers costs tens of microseconds to send
- * and to read). Two batches may be out at once, in slots of their own (see `SLOTS`): a worker through
- * with one finds the next waiting, while the main thread reads the answers of the first. The worker writes its status (rows, classes, size, its seats) in
- * the batch's slot of shared memory once its seats are through a batch (before it combines votes), and
- * a reply comes back the same way only when it has news (the lifecycle changes of the batch, an error, a
- * snapshot when asked), numbered by its request, before the request is marked done.
+ * thread once every shard has answered (see `answerTally`). A batch request (its size, slot, ledger)
+ * is written in a ring in the control words; one whose shared buffers changed (a message carrying some
+ * twenty shared buffers costs tens of microseconds to send and to read), a snapshot or a stop goes as a
+ * message on a port that the worker reads synchronously when woken. Two batches may be out at once, in
+ * slots of their own (see `SLOTS`): a worker through with one finds the next waiting, while the main
+ * thread reads the answers of the first. The worker writes its status (rows, classes, size, its seats)
+ * in the batch's slot of shared memory once its seats are through a batch (before it combines votes),
+ * and a reply comes back as a message only when it has news (the lifecycle changes of the batch, an
+ * error, a snapshot when asked), numbered by its request, before the request is marked done.
  */
 const C_REQUEST = 0;
 const C_DONE = 1;
 const C_PROGRESS = 2;
 const C_READY = 3;
+/**
+ * Where the ring of requests starts in the control words (a cache line on: the words before it are the
+ * worker's to write). A batch whose buffers did not change is written there, rather than sent as a
+ * message (which costs each side some microseconds, and the sender a wake-up of the worker's loop);
+ * anything else goes as a message, and its entry in the ring says so.
+ */
+const C_RING = 16;
+/** Entries of the ring: more than requests can be out at once (SLOTS batches, and a stop sent meanwhile). */
+const RING = 4;
+/** Words of an entry: how the request is sent, then a batch's slot, rows, classes, train, ledger, cap. */
+const ENTRY = 8;
+const BY_MESSAGE = 0;
+const IN_WORDS = 1;
 const PROGRESS_EVERY = 256;
 /** Rows the workers combine at a time. */
 const CHUNK = 64;
@@ -284,7 +298,24 @@ function combineChunks(ledger: ShardLedger, rows: number, combiner: RowCombiner)
 
 /** The control words of a channel, in shared memory. */
 export function channelControl(): Int32Array {
-  return new Int32Array(new SharedArrayBuffer(4 * 4));
+  return new Int32Array(new SharedArrayBuffer(4 * (C_RING + RING * ENTRY)));
+}
+
+/** Request number `n`, as the main thread sent it (see `ShardClient.post`). */
+function takeRequest(control: Int32Array, port: MessagePort, n: number): ShardRequest {
+  const at = C_RING + (n % RING) * ENTRY;
+  if (control[at] === BY_MESSAGE) return receiveMessageOnPort(port)!.message as ShardRequest;
+  return {
+    kind: 'batch',
+    slot: control[at + 1]!,
+    rows: control[at + 2]!,
+    classes: control[at + 3]!,
+    train: control[at + 4] === 1,
+    buffers: null,
+    ledger: control[at + 5]!,
+    words: null,
+    cap: control[at + 6]!,
+  };
 }
 
 // Atomics.waitAsync is in Node 16 and later, but not yet in TypeScript's ES2022 library.
@@ -326,9 +357,25 @@ export class ShardClient {
     this.control = control;
   }
 
-  /** Send a request (the worker reads it once woken). */
+  /**
+   * Send a request (the worker reads it once woken): in the ring of the control words when it is a
+   * batch with no new buffers, else as a message.
+   */
   post(request: ShardRequest): void {
-    this.port.postMessage(request);
+    const control = this.control;
+    const at = C_RING + ((this.sent + 1) % RING) * ENTRY;
+    if (request.kind !== 'batch' || request.buffers !== null || request.words !== null) {
+      control[at] = BY_MESSAGE;
+      this.port.postMessage(request);
+      return;
+    }
+    control[at] = IN_WORDS;
+    control[at + 1] = request.slot;
+    control[at + 2] = request.rows;
+    control[at + 3] = request.classes;
+    control[at + 4] = request.train ? 1 : 0;
+    control[at + 5] = request.ledger;
+    control[at + 6] = request.cap;
   }
 
   /**
@@ -436,9 +483,9 @@ export function serveShard(
   for (;;) {
     // A request that comes within a few microseconds (the next batch, sent at once) finds this thread awake.
     if (poll(control, C_REQUEST, done + 1) === done) Atomics.wait(control, C_REQUEST, done);
-    // Requests are answered in order, one message each, however many arrived while this thread worked.
-    for (let m = receiveMessageOnPort(port); m !== undefined; m = receiveMessageOnPort(port)) {
-      const request = m.message as ShardRequest;
+    // Requests are answered in order, however many arrived while this thread worked.
+    while (Atomics.load(control, C_REQUEST) > done) {
+      const request = takeRequest(control, port, done + 1);
       if (request.kind === 'stop') {
         port.close();
         return;
