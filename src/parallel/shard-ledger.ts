@@ -323,17 +323,24 @@ export class LedgerHost {
     const shards = this.shards;
     const next = new Int32Array(shards);
     let epoch = this.epoch;
-    for (let i = 0; i < steps; i++) {
-      if (epochs !== null) epochs[i] = epoch;
+    // The replacements in the one-thread order — by step, then by shard — merged from the shards' logs
+    // (each in step order); a step's epoch is that before its replacements.
+    for (let from = 0; ; ) {
+      let first = -1;
+      let step = steps;
       for (let v = 0; v < shards; v++) {
         const at = base(shards, cap, v);
-        const count = words[at + 1]!;
-        while (next[v]! < count && words[at + PER_SHARD_HEAD + cap + next[v]!] === i) {
-          this.history.push(words[at + PER_SHARD_HEAD + 2 * cap + next[v]!]!);
-          next[v]!++;
-          epoch++;
+        if (next[v]! < words[at + 1]! && words[at + PER_SHARD_HEAD + cap + next[v]!]! < step) {
+          first = v;
+          step = words[at + PER_SHARD_HEAD + cap + next[v]!]!;
         }
       }
+      if (epochs !== null) epochs.fill(epoch, from, step + (first < 0 ? 0 : 1));
+      if (first < 0) break;
+      from = step + 1;
+      this.history.push(words[base(shards, cap, first) + PER_SHARD_HEAD + 2 * cap + next[first]!]!);
+      next[first]!++;
+      epoch++;
     }
     this.epoch = epoch;
     for (let v = 0; v < shards; v++) this.nextId += words[base(shards, cap, v)]!;
