@@ -8,18 +8,21 @@ import { benchStream } from './stream.js';
  * Parallel members: online bagging (λ = 1) of 10 and 30 Hoeffding trees, without the member lifecycle
  * and with it (ADWIN monitors, understudies, the proof gate), with the members split over two worker
  * threads (the build in dist/ is used, since workers load compiled files), against the same ensemble in
- * one thread. The two go through the same rows side by side, taking turns a block of 20,000 rows at a
- * time (which goes first alternates), so that both see the same machine however its load moves; each
- * is timed from its first quarter of rows on (a worker's compiler starts cold), three times over. Rows
- * go to the threads in batches of 1,000, each sent before the verdicts of the one before it are read
- * (two out at a time, as `ParallelBagging` allows), so the workers do not wait while this thread checks
- * them (only the last batch of a block is read with none behind it). The verdicts are checked to be
- * identical.
+ * one thread. They go through the same rows side by side, taking turns a block of 20,000 rows at a time
+ * (the order of turns rotates), so that all see the same machine however its load moves; each is timed
+ * from its first quarter of rows on (a worker's compiler starts cold), three times over. Rows go to the
+ * threads in batches of 1,000, each sent before the verdicts of the one before it are read (two out at a
+ * time, as `ParallelBagging` allows), so the workers do not wait while this thread checks them (only the
+ * last batch of a block is read with none behind it); a second pair of threads takes one batch at a time
+ * (each awaited before the next is sent), to show what having two out gains. The verdicts are checked to
+ * be identical.
  */
 const BATCH = 1000;
-/** Batches one side runs before the other takes its turn. */
+/** Batches one side runs before the next takes its turn. */
 const BLOCK = 20;
 const RUNS = 3;
+type Side = 'one' | 'two' | 'single-file';
+const SIDES: readonly Side[] = ['one', 'two', 'single-file'];
 
 export const bench: BenchFn = async ({ quick }) => {
   const count = quick ? 40_000 : 400_000;
@@ -36,7 +39,7 @@ export const bench: BenchFn = async ({ quick }) => {
     block: BLOCK * BATCH,
   };
   const expected = new Float64Array(count);
-  const got = new Float64Array(count);
+  const got = { two: new Float64Array(count), 'single-file': new Float64Array(count) };
   for (const [members, lifecycle] of [
     [10, false],
     [30, false],
@@ -45,68 +48,79 @@ export const bench: BenchFn = async ({ quick }) => {
   ] as const) {
     const spec = { members, lambda: 1, lifecycle: { enabled: lifecycle } };
     const label = `bagging ×${members}${lifecycle ? ', lifecycle on' : ''}`;
-    const one: number[] = [];
-    const two: number[] = [];
+    const rates: Record<Side, number[]> = { one: [], two: [], 'single-file': [] };
     let identical = true;
     for (let run = 0; run < RUNS; run++) {
       const single = new Bagging(schema, spec, 'bench-parallel');
       single.ensureClasses(2);
       const verdict = new Verdict();
-      const parallel = await ParallelBagging.start(schema, spec, 'bench-parallel', 2);
-      parallel.ensureClasses(2);
-      const outs = [new BatchVerdicts(), new BatchVerdicts()];
       const alone = (from: number, to: number): void => {
         for (let i = from; i < to; i++) {
           single.scoreTrain(values, i * width, labels[i]!, verdict);
           expected[i] = verdict.probabilities[1]!;
         }
       };
-      const read = async (done: Promise<void>, s: number): Promise<void> => {
-        await done;
-        const out = outs[(s / BATCH) % 2]!;
-        for (let r = 0; r < BATCH; r++) got[s + r] = out.probabilities[r * 2 + 1]!;
+      const pairs = {
+        two: await ParallelBagging.start(schema, spec, 'bench-parallel', 2),
+        'single-file': await ParallelBagging.start(schema, spec, 'bench-parallel', 2),
       };
-      const threaded = async (from: number, to: number): Promise<void> => {
+      const outs = [new BatchVerdicts(), new BatchVerdicts()];
+      const threaded = async (side: 'two' | 'single-file', from: number, to: number): Promise<void> => {
+        const parallel = pairs[side];
+        const into = got[side];
+        const read = async (done: Promise<void>, s: number): Promise<void> => {
+          await done;
+          const out = outs[(s / BATCH) % 2]!;
+          for (let r = 0; r < BATCH; r++) into[s + r] = out.probabilities[r * 2 + 1]!;
+        };
         let ahead: Promise<void> = Promise.resolve();
         for (let s = from; s < to; s += BATCH) {
           const out = outs[(s / BATCH) % 2]!;
           const done = parallel.scoreTrainBatch(values.subarray(s * width), labels.subarray(s), BATCH, out);
+          if (side === 'single-file') await done;
           await ahead;
           ahead = read(done, s);
         }
         await ahead;
       };
-      let secondsOne = 0;
-      let secondsTwo = 0;
+      for (const pair of Object.values(pairs)) pair.ensureClasses(2);
+      const seconds: Record<Side, number> = { one: 0, two: 0, 'single-file': 0 };
       for (let from = 0, block = 0; from < count; from += BLOCK * BATCH, block++) {
         const to = Math.min(count, from + BLOCK * BATCH);
-        for (const side of block % 2 === 0 ? ['one', 'two'] : ['two', 'one']) {
+        for (let k = 0; k < SIDES.length; k++) {
+          const side = SIDES[(block + k) % SIDES.length]!;
           const t0 = process.hrtime.bigint();
           if (side === 'one') alone(from, to);
-          else await threaded(from, to);
-          const seconds = Number(process.hrtime.bigint() - t0) / 1e9;
-          if (from < warm) continue;
-          if (side === 'one') secondsOne += seconds;
-          else secondsTwo += seconds;
+          else await threaded(side, from, to);
+          if (from >= warm) seconds[side] += Number(process.hrtime.bigint() - t0) / 1e9;
         }
       }
-      await parallel.close();
-      one.push((count - warm) / secondsOne);
-      two.push((count - warm) / secondsTwo);
-      if (got.some((p, i) => p !== expected[i])) identical = false;
+      for (const pair of Object.values(pairs)) await pair.close();
+      for (const side of SIDES) rates[side].push((count - warm) / seconds[side]);
+      if (Object.values(got).some((g) => g.some((p, i) => p !== expected[i]))) identical = false;
     }
-    const speedup = median(two) / median(one);
-    rows.push({ name: `${label}, one thread`, rate: median(one), unit: 'rows/s' });
+    const one = median(rates.one);
+    const speedup = median(rates.two) / one;
+    const singleFile = median(rates['single-file']) / one;
+    rows.push({ name: `${label}, one thread`, rate: one, unit: 'rows/s' });
     rows.push({
       name: `${label}, two threads`,
-      rate: median(two),
+      rate: median(rates.two),
       unit: 'rows/s',
       note: `speed-up ${speedup.toFixed(2)}×, verdicts ${identical ? 'identical' : 'DIFFERENT'} to one thread`,
     });
+    rows.push({
+      name: `${label}, two threads, one batch out at a time`,
+      rate: median(rates['single-file']),
+      unit: 'rows/s',
+      note: `speed-up ${singleFile.toFixed(2)}×`,
+    });
     json[`bagging${members}${lifecycle ? 'Lifecycle' : ''}`] = {
-      oneThread: median(one),
-      twoThreads: median(two),
+      oneThread: one,
+      twoThreads: median(rates.two),
       speedup,
+      oneBatchOut: median(rates['single-file']),
+      speedupOneBatchOut: singleFile,
       identical,
     };
   }
