@@ -269,7 +269,7 @@ export class ParallelBagging {
     try {
       await this.last;
       this.alive();
-      parts = (await this.answers(this.post(() => ({ kind: 'snapshot' })))).map((r) => r.snapshot!);
+      parts = (await this.answers(this.post({ kind: 'snapshot' }))).map((r) => r.snapshot!);
     } finally {
       this.snapshotting = false;
     }
@@ -359,7 +359,7 @@ export class ParallelBagging {
     // The workers keep the buffers of the slot's last batch: new ones go out only when one changed.
     const changed = slot.sent === null || !sameBuffers(slot.sent, buffers);
     if (changed) slot.sent = buffers;
-    const request = this.post(() => ({
+    const request = this.post({
       kind: 'batch',
       slot: slot.index,
       rows,
@@ -369,7 +369,7 @@ export class ParallelBagging {
       ledger: set,
       words: fresh ? words : null,
       cap: ledger.cap,
-    }));
+    });
     const done = this.collect(request, slot, ledger, rows, stride, out, this.last);
     this.last = done.then(
       () => {},
@@ -430,12 +430,10 @@ export class ParallelBagging {
   }
 
   /** Send every shard a request and wake it; the request's number. */
-  private post(request: (shard: RemoteShard, i: number) => ShardRequest): number {
+  private post(request: ShardRequest): number {
     // A pending Atomics.waitAsync does not keep the process alive; a ref'd worker does.
     if (this.out++ === 0) for (const s of this.shards) s.worker.ref();
-    this.shards.forEach((s, i) => {
-      s.client.post(request(s, i));
-    });
+    for (const s of this.shards) s.client.post(request);
     for (const s of this.shards) s.client.wake();
     return this.clients[0]!.sent;
   }

@@ -113,52 +113,27 @@ describe('parallel bagging with the member lifecycle', () => {
       expect(promoted[i]! - promoted[i - 1]!).toBeGreaterThanOrEqual(WINDOW);
   });
 
-  it.each([2, 3])(
-    'over %i threads gives the verdicts, lifecycle changes and snapshot of one thread',
-    async (threads) => {
+  const changing = [1, 130, 64, 700, 65, 2, 1200, 333];
+  const readLate = 'each sent before the answers of the one before are read';
+  it.each([
+    { threads: 2, sizes: [BATCH], ahead: false, how: `batches of ${BATCH}` },
+    { threads: 3, sizes: [BATCH], ahead: false, how: `batches of ${BATCH}` },
+    // Shared buffers grow and go out again.
+    { threads: 3, sizes: changing, ahead: false, how: 'batches of changing sizes' },
+    { threads: 2, sizes: changing, ahead: true, how: `batches of changing sizes, ${readLate}` },
+    { threads: 3, sizes: changing, ahead: true, how: `batches of changing sizes, ${readLate}` },
+  ])(
+    'over $threads threads, in $how, gives the verdicts, lifecycle changes, seats and snapshot of one thread',
+    async ({ threads, sizes, ahead }) => {
       const got: LifecycleChange[] = [];
       const parallel = await ParallelBagging.start(schema, SPEC, 'life', threads, (c) => got.push(c));
       try {
         const t: number[] = [];
-        await threaded(parallel, 0, ROWS, t, got);
+        await threaded(parallel, 0, ROWS, t, got, sizes, ahead);
         expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
         expect(got).toEqual(records);
         expect(parallel.epoch).toBe(bag.epoch);
         expect(parallel.rows).toBe(bag.rows);
-        expect(parallel.seats()).toEqual(bag.seats());
-        expect(JSON.stringify(await parallel.snapshot())).toBe(snapshot);
-      } finally {
-        await parallel.close();
-      }
-    },
-  );
-
-  it('gives the same over 3 threads in batches of changing sizes (shared buffers grow and go out again)', async () => {
-    const got: LifecycleChange[] = [];
-    const parallel = await ParallelBagging.start(schema, SPEC, 'life', 3, (c) => got.push(c));
-    try {
-      const t: number[] = [];
-      await threaded(parallel, 0, ROWS, t, got, [1, 130, 64, 700, 65, 2, 1200, 333]);
-      expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
-      expect(got).toEqual(records);
-      expect(parallel.seats()).toEqual(bag.seats());
-      expect(JSON.stringify(await parallel.snapshot())).toBe(snapshot);
-    } finally {
-      await parallel.close();
-    }
-  });
-
-  it.each([2, 3])(
-    'gives the same over %i threads with each batch sent before the answers of the one before are read',
-    async (threads) => {
-      const got: LifecycleChange[] = [];
-      const parallel = await ParallelBagging.start(schema, SPEC, 'life', threads, (c) => got.push(c));
-      try {
-        const t: number[] = [];
-        await threaded(parallel, 0, ROWS, t, got, [1, 130, 64, 700, 65, 2, 1200, 333], true);
-        expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
-        expect(got).toEqual(records);
-        expect(parallel.epoch).toBe(bag.epoch);
         expect(parallel.seats()).toEqual(bag.seats());
         expect(JSON.stringify(await parallel.snapshot())).toBe(snapshot);
       } finally {
