@@ -9,6 +9,7 @@ export {
   erfc,
   gini,
   hoeffdingBound,
+  hoeffdingCount,
   logGamma,
   normalCdf,
   normalizeInPlace,

@@ -14,7 +14,9 @@ import {
  * The leaves of a Hoeffding tree: a head per leaf and, for each active leaf, a slot of the statistics
  * pool.
  *
- * A head is [last attempt, majority right, naive Bayes right, weight observed | class counts (C)].
+ * A head is [split clock, majority right, naive Bayes right, weight observed | class counts (C)]; the
+ * split clock is the observed weight the next split attempt waits `checkInterval` past (the last
+ * attempt's, or later when the Hoeffding bound said the next ones could not settle it).
  * A slot's numeric region holds, first, each numeric attribute's per-class [mean, 1/variance] side by
  * side (all that naive Bayes reads, so a prediction touches a third of the slot), then, class by class,
  * each numeric attribute's [weight, M2, min, max] (West's weighted Welford, with the mean in front);
@@ -36,7 +38,7 @@ import {
  * feature subsets all leaves share one plan.
  */
 
-export const H_LAST_ATTEMPT = 0;
+export const H_SPLIT_CLOCK = 0;
 export const H_MC_CORRECT = 1;
 export const H_NB_CORRECT = 2;
 /**
@@ -191,7 +193,7 @@ export class TreeLeaves {
     const head = leaf * this.headSize;
     this.heads[head + H_MC_CORRECT] = 0;
     this.heads[head + H_NB_CORRECT] = 0;
-    this.heads[head + H_LAST_ATTEMPT] = 0;
+    this.heads[head + H_SPLIT_CLOCK] = 0;
     this.heads[head + H_OBSERVED] = 0;
     this.slotOf[leaf] = this.allocateSlot();
   }

@@ -18,10 +18,10 @@ import {
   observe,
 } from './hoeffding-tree-leaf-model.js';
 import {
-  H_LAST_ATTEMPT,
   H_MC_CORRECT,
   H_NB_CORRECT,
   H_OBSERVED,
+  H_SPLIT_CLOCK,
   HEAD,
   type LeavesState,
   TreeLeaves,
@@ -400,13 +400,18 @@ export class HoeffdingTree implements Classifier {
     heads[head + H_OBSERVED]! += weight;
     const observed = heads[head + H_OBSERVED]!;
     const o = this.options;
-    if (observed - heads[head + H_LAST_ATTEMPT]! >= o.checkInterval) {
-      heads[head + H_LAST_ATTEMPT] = observed;
+    if (observed - heads[head + H_SPLIT_CLOCK]! >= o.checkInterval) {
+      heads[head + H_SPLIT_CLOCK] = observed;
       if (this.nodes.depth[node]! < o.depthLimit) {
         const f = this.search.choose(leaves, leaf);
         if (f >= 0) {
           splitLeaf(this.nodes, leaves, node, leaf, f, this.search.threshold, o.checkInterval, this.probe);
           this.splits++;
+        } else {
+          // Skip the attempts of the check-interval grid that come before the bound could settle the
+          // ranking (see `SplitSearch.ready`): each would fail unless the merits moved apart meanwhile.
+          const skipped = Math.ceil((this.search.ready - observed) / o.checkInterval) - 1;
+          if (skipped > 0) heads[head + H_SPLIT_CLOCK] = observed + skipped * o.checkInterval;
         }
       }
     }
