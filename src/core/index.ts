@@ -1,4 +1,4 @@
-export { decodeF64, decodeI32, encodeF64, encodeI32 } from './encoding.js';
+export { decodeF32, decodeF64, decodeI32, encodeF32, encodeF64, encodeI32 } from './encoding.js';
 export type { ConfigIssue, ConfigIssueCode, ShoalErrorCode, ShoalErrorOptions } from './errors.js';
 export { ConfigError, issueLine, ShoalError } from './errors.js';
 export type { ChangePoints, Feature, FeatureKind, FeatureSchema } from './features.js';
@@ -9,6 +9,7 @@ export {
   erfc,
   gini,
   hoeffdingBound,
+  hoeffdingCount,
   logGamma,
   normalCdf,
   normalizeInPlace,

@@ -12,6 +12,11 @@ export function hoeffdingBound(range: number, delta: number, n: number): number 
   return Math.sqrt((range * range * Math.log(1 / delta)) / (2 * n));
 }
 
+/** The n at which the Hoeffding bound falls to `epsilon`: R² ln(1/δ) / 2ε² (the bound solved for n). */
+export function hoeffdingCount(range: number, delta: number, epsilon: number): number {
+  return (range * range * Math.log(1 / delta)) / (2 * epsilon * epsilon);
+}
+
 /** Index of the largest of `length` values starting at `offset` (the first on ties). */
 export function argmax(values: ArrayLike<number>, offset: number, length: number): number {
   let best = 0;

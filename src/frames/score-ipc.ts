@@ -91,7 +91,7 @@ export function encodeScores(s: ScoreRows, eventTimes: Float64Array, from = 0, t
     makeData({
       type: new TimestampMillisecond(),
       length: n,
-      data: BigInt64Array.from(times, (t) => BigInt(Math.round(t))),
+      data: int64Millis(times),
     }),
     makeData({ type: new Float64(), length: n, data: latency }),
   );
@@ -101,6 +101,25 @@ export function encodeScores(s: ScoreRows, eventTimes: Float64Array, from = 0, t
 }
 
 const utf8 = new TextEncoder();
+const TWO_32 = 2 ** 32;
+
+/**
+ * Whole milliseconds as Arrow's int64 values, each written as its low and high 32-bit words (low first:
+ * little-endian, the byte order of the IPC stream and of the hosts Node runs on here), since a BigInt per
+ * row cost some 130 µs per 1,000 rows against 20 µs. Exact for every time a `Date` can hold
+ * (|t| ≤ 8.64·10¹⁵ < 2⁵³); the high word is the floor of t / 2³², so times before 1970 come out in
+ * two's complement.
+ */
+function int64Millis(times: Float64Array): BigInt64Array {
+  const words = new Int32Array(2 * times.length);
+  for (let r = 0; r < times.length; r++) {
+    const t = Math.round(times[r]!);
+    const high = Math.floor(t / TWO_32);
+    words[2 * r] = t - high * TWO_32;
+    words[2 * r + 1] = high;
+  }
+  return new BigInt64Array(words.buffer);
+}
 
 /**
  * A utf8 column of `n` values (`text(r)`, null for a missing one) built directly as Arrow's offsets and

@@ -25,7 +25,7 @@ const PRIOR_SHARE = 0.25;
 
 /** What a split hands its children: a copy of the parent's slot and what is needed to read it. */
 interface ParentStats {
-  readonly stats: Float64Array;
+  readonly stats: Float32Array;
   /** Where each feature sits in the parent's slot (see `TreeLeaves.layoutOf`). */
   readonly where: Int32Array;
   /** Each class's weight in the split attribute's statistics. */

@@ -404,7 +404,7 @@ function observeNumeric(
 }
 
 /** One weighted Welford step of the statistics at `pred` (mean, 1/variance) and `train` (weight, M2, range). */
-function welford(stats: Float64Array, pred: number, train: number, x: number, weight: number): void {
+function welford(stats: Float32Array, pred: number, train: number, x: number, weight: number): void {
   const before = stats[train + T_W]!;
   const total = before + weight;
   const mean = stats[pred + P_MEAN]!;

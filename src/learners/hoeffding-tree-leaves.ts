@@ -1,15 +1,36 @@
-import { decodeF64, decodeI32, encodeF64, encodeI32, Rng, type RngState, type Seed } from '../core/index.js';
+import {
+  decodeF32,
+  decodeF64,
+  decodeI32,
+  encodeF32,
+  encodeF64,
+  encodeI32,
+  Rng,
+  type RngState,
+  type Seed,
+} from '../core/index.js';
 
 /**
  * The leaves of a Hoeffding tree: a head per leaf and, for each active leaf, a slot of the statistics
  * pool.
  *
- * A head is [last attempt, majority right, naive Bayes right, weight observed | class counts (C)].
+ * A head is [split clock, majority right, naive Bayes right, weight observed | class counts (C)]; the
+ * split clock is the observed weight the next split attempt waits `checkInterval` past (the last
+ * attempt's, or later when the Hoeffding bound said the next ones could not settle it).
  * A slot's numeric region holds, first, each numeric attribute's per-class [mean, 1/variance] side by
  * side (all that naive Bayes reads, so a prediction touches a third of the slot), then, class by class,
  * each numeric attribute's [weight, M2, min, max] (West's weighted Welford, with the mean in front);
  * nominal statistics follow as counts[category][class] and per-class totals. Deactivating a leaf frees
  * its slot.
+ *
+ * Slots hold single-precision values (`STAT_BYTES`), heads double ones. Half the bytes of a double slot
+ * halve the cache lines a member-row touches (a slot of 10 numeric attributes and two classes is 480
+ * bytes instead of 960) and let ten trees' active leaves sit in a 2 MiB L2 under the default cap.
+ * A 24-bit significand holds a mean or a range to 6e-8 of its size and counts exactly up to 2²⁴ of
+ * weight; past that a leaf's statistics stop moving, where 16 million rows of one leaf would barely
+ * move them anyway. The weight a leaf observed, which the Hoeffding bound and the split clock read, and
+ * its class counts stay doubles in its head. On the bench stream bagging ×10 scores the same
+ * prequential accuracy to four decimals as with double slots (0.8956 over 1 M rows).
  *
  * Every leaf reads its attributes through a plan: the features it considers, numeric ones first, then
  * nominal ones, each group in feature order — the order of the slot's regions. So every loop over a
@@ -17,7 +38,7 @@ import { decodeF64, decodeI32, encodeF64, encodeI32, Rng, type RngState, type Se
  * feature subsets all leaves share one plan.
  */
 
-export const H_LAST_ATTEMPT = 0;
+export const H_SPLIT_CLOCK = 0;
 export const H_MC_CORRECT = 1;
 export const H_NB_CORRECT = 2;
 /**
@@ -37,6 +58,8 @@ export const T_M2 = 1;
 export const T_MIN = 2;
 export const T_MAX = 3;
 export const TRAIN = 4;
+/** Bytes per value of a statistics slot (single precision; heads are doubles). */
+export const STAT_BYTES = Float32Array.BYTES_PER_ELEMENT;
 
 export interface LeavesState {
   readonly leaves: number;
@@ -59,6 +82,12 @@ function grownF64(a: Float64Array, size: number): Float64Array<ArrayBuffer> {
   return b;
 }
 
+function grownF32(a: Float32Array, size: number): Float32Array<ArrayBuffer> {
+  const b = new Float32Array(size);
+  b.set(a.subarray(0, Math.min(a.length, size)));
+  return b;
+}
+
 export class TreeLeaves {
   c = 1;
   count = 0;
@@ -66,9 +95,9 @@ export class TreeLeaves {
   heads = new Float64Array(16 * (HEAD + 1));
   /** Each leaf's slot in `stats`, −1 for an inactive leaf. */
   slotOf = new Int32Array(16);
-  stats = new Float64Array(0);
+  stats = new Float32Array(0);
   slotSize = 0;
-  /** Doubles of a slot that naive Bayes reads (means and inverse variances), and of its numeric region. */
+  /** Values of a slot that naive Bayes reads (means and inverse variances), and of its numeric region. */
   predSize = 0;
   numericSize = 0;
   /** Room in a slot for this many numeric attributes. */
@@ -164,7 +193,7 @@ export class TreeLeaves {
     const head = leaf * this.headSize;
     this.heads[head + H_MC_CORRECT] = 0;
     this.heads[head + H_NB_CORRECT] = 0;
-    this.heads[head + H_LAST_ATTEMPT] = 0;
+    this.heads[head + H_SPLIT_CLOCK] = 0;
     this.heads[head + H_OBSERVED] = 0;
     this.slotOf[leaf] = this.allocateSlot();
   }
@@ -201,7 +230,7 @@ export class TreeLeaves {
 
   /** Bytes of the heads and the active slots. */
   sizeBytes(): number {
-    return this.count * this.headSize * 8 + this.activeSlots * this.slotSize * 8;
+    return this.count * this.headSize * 8 + this.activeSlots * this.slotSize * STAT_BYTES;
   }
 
   /**
@@ -220,7 +249,7 @@ export class TreeLeaves {
       if (leaf < 0) break;
       this.release(leaf);
     }
-    const slotBytes = this.slotSize * 8;
+    const slotBytes = this.slotSize * STAT_BYTES;
     while (fixedBytes + this.sizeBytes() + slotBytes <= cap) {
       const leaf = this.extremeLeaf(promise, false, 1);
       if (leaf < 0) break;
@@ -248,7 +277,7 @@ export class TreeLeaves {
       );
     }
     const cap = this.numericCap;
-    const stats = new Float64Array(this.slotCapacity * this.slotSize);
+    const stats = new Float32Array(this.slotCapacity * this.slotSize);
     for (let leaf = 0; leaf < this.count; leaf++) {
       const slot = this.slotOf[leaf]!;
       if (slot < 0) continue;
@@ -282,7 +311,7 @@ export class TreeLeaves {
     for (let leaf = 0; leaf < this.count; leaf++) {
       const slot = this.slotOf[leaf]!;
       stats.push(
-        slot < 0 ? null : encodeF64(this.stats.subarray(slot * this.slotSize, (slot + 1) * this.slotSize)),
+        slot < 0 ? null : encodeF32(this.stats.subarray(slot * this.slotSize, (slot + 1) * this.slotSize)),
       );
     }
     return {
@@ -307,14 +336,14 @@ export class TreeLeaves {
       for (let leaf = 0; leaf < s.leaves; leaf++)
         this.fillPlan(leaf, this.subsets.subarray(leaf * this.perLeaf, (leaf + 1) * this.perLeaf));
     }
-    this.stats = new Float64Array(0);
+    this.stats = new Float32Array(0);
     this.slotCapacity = 0;
     this.activeSlots = 0;
     this.freeCount = 0;
     s.stats.forEach((text, leaf) => {
       if (text === null) return;
       const slot = this.allocateSlot();
-      this.stats.set(decodeF64(text, `${owner} stats`), slot * this.slotSize);
+      this.stats.set(decodeF32(text, `${owner} stats`), slot * this.slotSize);
       this.slotOf[leaf] = slot;
     });
     this.rng = Rng.fromState(s.rng);
@@ -391,7 +420,7 @@ export class TreeLeaves {
       slot = this.activeSlots + this.freeCount;
       if (slot >= this.slotCapacity) {
         this.slotCapacity = Math.max(4, this.slotCapacity * 2);
-        this.stats = grownF64(this.stats, this.slotCapacity * this.slotSize);
+        this.stats = grownF32(this.stats, this.slotCapacity * this.slotSize);
         this.freeSlots = grownI32(this.freeSlots, this.slotCapacity);
       }
     }

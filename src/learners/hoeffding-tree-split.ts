@@ -1,4 +1,4 @@
-import { erfc, hoeffdingBound, normalCdf } from '../core/index.js';
+import { erfc, hoeffdingBound, hoeffdingCount, normalCdf } from '../core/index.js';
 import {
   H_OBSERVED,
   HEAD,
@@ -40,6 +40,14 @@ const F_CUT = 1;
 export class SplitSearch {
   /** The threshold of the split `choose` accepted. */
   threshold = 0;
+  /**
+   * After `choose` found no split: the weight observed at which the Hoeffding bound could first settle
+   * the ranking it saw — ε below the gap between the two best merits, or below the tie threshold τR,
+   * whichever comes first; 0 when it cannot say (fewer than two classes, no merit, or τ = 0, where the
+   * wait for two equal merits would have no end). Hoeffding trees with n_min adaptation (García-Martín,
+   * Lavesson, Grahn, Casalicchio & Boeva, 2018, from memory) wait that long before the next attempt.
+   */
+  ready = 0;
   private pair = new Float64Array(2);
   private scale = new Float64Array(1);
   private means = new Float64Array(1);
@@ -72,6 +80,7 @@ export class SplitSearch {
     const head = leaf * leaves.headSize;
     let seenClasses = 0;
     for (let k = 0; k < c; k++) if (heads[head + HEAD + k]! > 0) seenClasses++;
+    this.ready = 0;
     if (seenClasses < 2) return -1;
     const o = this.settings;
     const range = o.merit === 'gini' ? 1 : Math.log2(c);
@@ -110,9 +119,14 @@ export class SplitSearch {
         second = merit;
       }
     }
-    if (bestFeature >= 0 && (bestMerit - second > epsilon || epsilon < o.tieBreak * range)) {
+    const gap = bestMerit - second;
+    if (bestFeature >= 0 && (gap > epsilon || epsilon < o.tieBreak * range)) {
       this.threshold = bestThreshold;
       return bestFeature;
+    }
+    if (bestFeature >= 0 && o.tieBreak > 0) {
+      const tie = hoeffdingCount(range, o.hoeffdingDelta, o.tieBreak * range);
+      this.ready = gap > 0 ? Math.min(tie, hoeffdingCount(range, o.hoeffdingDelta, gap)) : tie;
     }
     return -1;
   }

@@ -13,7 +13,7 @@ export const INV_LN2 = 1 / Math.LN2;
 /** Impurity of `classes` non-negative weights at `offset` (0 when they sum to 0). */
 export function impurity(
   criterion: SplitCriterion,
-  counts: Float64Array,
+  counts: Float64Array | Float32Array,
   offset: number,
   classes: number,
 ): number {
@@ -44,7 +44,7 @@ export function impurity(
  */
 export function splitMerit(
   criterion: SplitCriterion,
-  table: Float64Array,
+  table: Float64Array | Float32Array,
   offset: number,
   branches: number,
   classes: number,

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { erfc, hoeffdingBound, logGamma } from '../../src/core/index.js';
+import { erfc, hoeffdingBound, hoeffdingCount, logGamma } from '../../src/core/index.js';
 
 describe('hoeffdingBound', () => {
   // PUBLISHED.md [derived] from ε = √(R² ln(1/δ) / 2n), Domingos & Hulten, KDD 2000.
@@ -9,6 +9,14 @@ describe('hoeffdingBound', () => {
     [10000, 0.028388],
   ])('R = 1, δ = 1e-7, n = %i gives ε = %f', (n, epsilon) => {
     expect(Math.abs(hoeffdingBound(1, 1e-7, n) - epsilon)).toBeLessThan(1e-6);
+  });
+  it.each([
+    [200, 0.200737],
+    [1000, 0.089772],
+    [10000, 0.028388],
+  ])('hoeffdingCount inverts it: R = 1, δ = 1e-7, n = %i for ε = %f', (n, epsilon) => {
+    // The same pairs read backwards; ε to 6 decimals gives n to within 2 · 0.5e-6 / ε (4e-5 at 0.028).
+    expect(Math.abs(hoeffdingCount(1, 1e-7, epsilon) / n - 1)).toBeLessThan(1e-4);
   });
 });
 

@@ -21,6 +21,16 @@ table = pa.ipc.open_stream(open(sys.argv[1], 'rb')).read_all()
 print(json.dumps({name: table.column(name).to_pylist() for name in ('id', 'predicted')}))
 `;
 
+/** Prints the event_time column of an Arrow IPC stream as int64 milliseconds (JSON). */
+const READ_TIMES = `
+import json, sys
+import pyarrow as pa
+table = pa.ipc.open_stream(open(sys.argv[1], 'rb')).read_all()
+column = table.column('event_time')
+assert column.type == pa.timestamp('ms'), column.type
+print(json.dumps(column.cast(pa.int64()).to_pylist()))
+`;
+
 function scores(
   ids: readonly string[] | null,
   predicted: readonly number[],
@@ -65,6 +75,21 @@ describe('the scores message (Arrow IPC stream)', () => {
       encodeScores(scores(['a', 'bb', 'ccc'], [1, 0, 1], ['no', 'yes']), new Float64Array(3)),
     );
     expect(ascii).toEqual({ id: ['a', 'bb', 'ccc'], predicted: ['yes', 'no', 'yes'] });
+  });
+
+  // The event times pyarrow reads back as whole milliseconds (int64): around 1970 on both sides (two's
+  // complement below it), today, and the largest time a Date holds, 8.64·10¹⁵ ms (ECMA-262, Time Values
+  // and Time Range); a fraction of a millisecond rounds as Math.round does.
+  it('carries event times as int64 milliseconds, before 1970 too, as pyarrow reads them', async () => {
+    const times = [0, -1, 1, -4_294_967_296, 4_294_967_296, 1_764_750_000_123, 2.5, -31_536_000_000, 8.64e15];
+    const file = join(await scratch(), 'times.arrows');
+    const n = times.length;
+    await writeFile(
+      file,
+      encodeScores(scores(null, new Array<number>(n).fill(0), ['a']), Float64Array.from(times)),
+    );
+    const { stdout } = await run(python, ['-c', READ_TIMES, file]);
+    expect(JSON.parse(stdout)).toEqual(times.map(Math.round));
   });
 
   it('writes null ids without an id column, and a null class before any class is known', async () => {
