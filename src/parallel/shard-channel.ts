@@ -72,11 +72,8 @@ export interface BatchBuffers {
  */
 export const SLOTS = 2;
 
-/**
- * Sets of ledger words, batch k using set k mod LEDGERS: one more than the slots, since a shard takes in
- * a batch's ledger only when the next batch needs it or ends (see `ShardLedger.end`).
- */
-export const LEDGERS = SLOTS + 1;
+/** Sets of ledger words, batch k using set k mod LEDGERS: one a batch out. */
+export const LEDGERS = SLOTS;
 
 /**
  * A batch for a shard: its rows, trained on (labels NaN: score only) or scored, in slot `slot`; the
@@ -286,14 +283,15 @@ function runShard(
 }
 
 /**
- * Combine chunks of the batch's rows as long as the next one is answered by every shard; the last shard
- * through its seats finds all of them answered, and combines the rest (none when a shard failed: the
- * batch fails as a whole). A shard never waits here, so one through with its seats goes on to the next
- * batch, if one is out, rather than sleep until the others are through.
+ * Combine chunks of the batch's rows until none is left, each once every shard has answered its rows
+ * (none when a shard failed: the batch fails as a whole).
  */
 function combineChunks(ledger: ShardLedger, rows: number, combiner: RowCombiner): void {
-  for (let k = ledger.claim(CHUNK, rows); k >= 0; k = ledger.claim(CHUNK, rows))
-    combiner.rows(k * CHUNK, Math.min(rows, (k + 1) * CHUNK));
+  for (let from = ledger.claim() * CHUNK; from < rows; from = ledger.claim() * CHUNK) {
+    const to = Math.min(rows, from + CHUNK);
+    if (!ledger.awaitAll(to)) return;
+    combiner.rows(from, to);
+  }
 }
 
 /** The control words of a channel, in shared memory. */

@@ -98,8 +98,6 @@ export class ShardLedger implements SeatLedger {
   private readonly between: LedgerHost;
   private words: Int32Array = new Int32Array(0);
   private cap = 0;
-  /** The last batch ended and not yet taken in (see `end`). */
-  private pending: { words: Int32Array; cap: number; steps: number; rows: number } | null = null;
   /** The step of the batch being run. */
   step = 0;
 
@@ -125,24 +123,12 @@ export class ShardLedger implements SeatLedger {
   }
 
   /**
-   * End a batch of `steps` steps, after which the ensemble has trained on `rows` rows. Its events are
-   * taken in (as the main thread does) only when the next batch needs the ledger, or ends: by then
-   * every shard is through this one, so a shard through with its seats goes on without waiting for the
-   * others. The words stay untouched until then: the main thread reuses them only for the batch
-   * LEDGERS batches later, sent once every shard has answered the one after this (see `LedgerWords`).
+   * End a batch of `steps` steps, after which the ensemble has trained on `rows` rows: once every shard
+   * is through it (or failed), take in its events as the main thread does.
    */
   end(steps: number, rows: number): void {
-    this.catchUp();
-    this.pending = { words: this.words, cap: this.cap, steps, rows };
-  }
-
-  /** Take in the last batch ended, once every shard is through it (or failed). */
-  private catchUp(): void {
-    const last = this.pending;
-    if (last === null) return;
-    for (let v = 0; v < this.shards; v++) if (v !== this.shard) this.reach(v, last.steps, last.words);
-    this.between.settle(last.words, last.cap, last.steps, last.rows, null);
-    this.pending = null;
+    for (let v = 0; v < this.shards; v++) if (v !== this.shard) this.reach(v, steps);
+    this.between.settle(this.words, this.cap, steps, rows, null);
   }
 
   /**
@@ -165,23 +151,17 @@ export class ShardLedger implements SeatLedger {
     if (woken) Atomics.notify(words, at);
   }
 
+  /** The next chunk of rows this shard combines (each chunk goes to the first shard that asks). */
+  claim(): number {
+    return Atomics.add(this.words, chunkWord(this.shards), 1);
+  }
+
   /**
-   * The next chunk of rows to combine, taken by this shard, if every shard has done its `chunk` rows
-   * (`rows` rows in the batch); −1 when none is left, when the next is not ready (the last shard through
-   * the batch combines the rest: it finds them all ready), or when a shard failed (the batch fails).
+   * Wait until every shard has done `steps` steps; false when one failed (the batch fails as a whole).
    */
-  claim(chunk: number, rows: number): number {
-    const { words, shards } = this;
-    const at = chunkWord(shards);
-    for (let k = Atomics.load(words, at); k * chunk < rows; k = Atomics.load(words, at)) {
-      const to = Math.min(rows, (k + 1) * chunk);
-      for (let v = 0; v < shards; v++) {
-        const p = Atomics.load(words, progress(shards, v));
-        if (p < to || p === FAILED) return -1;
-      }
-      if (Atomics.compareExchange(words, at, k, k + 1) === k) return k;
-    }
-    return -1;
+  awaitAll(steps: number): boolean {
+    for (let v = 0; v < this.shards; v++) if (this.reach(v, steps) === FAILED) return false;
+    return true;
   }
 
   nextId(_row: number): number {
@@ -224,16 +204,15 @@ export class ShardLedger implements SeatLedger {
 
   /** Wait until every event before this shard's at this step is in the logs. */
   private settle(): void {
-    this.catchUp();
     const { shards, step } = this;
     for (let v = 0; v < shards; v++) if (v !== this.shard) this.reach(v, v < this.shard ? step + 1 : step);
   }
 
   /**
-   * Wait until shard `v` has done `steps` steps of the batch of `words` (polling a while, then asleep);
-   * its progress then.
+   * Wait until shard `v` has done `steps` steps (polling a while, then asleep); its progress then.
    */
-  private reach(v: number, steps: number, words = this.words): number {
+  private reach(v: number, steps: number): number {
+    const words = this.words;
     const from = progress(this.shards, v);
     let p = poll(words, from, steps);
     if (p >= steps) return p;
