@@ -16,7 +16,6 @@ import {
   answerTally,
   type BatchBuffers,
   channelControl,
-  LEDGERS,
   ShardAnswers,
   ShardClient,
   type ShardReply,
@@ -105,10 +104,10 @@ export class ParallelBagging {
   private readonly tally: Int32Array;
   /** The shared memory of the batches out: batch k (from 0) goes in slot k mod SLOTS. */
   private readonly slots: Slot[];
-  /** The sets of ledger words: batch k uses set k mod LEDGERS (see `LEDGERS`). */
+  /** The sets of ledger words, one a slot: batch k uses set k mod SLOTS. */
   private readonly ledgers: LedgerWords[];
   /** The words of each set the workers were last sent. */
-  private readonly ledgersSent: (SharedArrayBuffer | null)[] = Array.from({ length: LEDGERS }, () => null);
+  private readonly ledgersSent: (SharedArrayBuffer | null)[] = Array.from({ length: SLOTS }, () => null);
   private batches = 0;
   /** Requests out (batches and a snapshot). */
   private out = 0;
@@ -157,7 +156,7 @@ export class ParallelBagging {
     this.announced = whole.classes;
     this.reach = whole.classes;
     this.slots = Array.from({ length: SLOTS }, (_, i) => new Slot(i, shards.length));
-    this.ledgers = Array.from({ length: LEDGERS }, () => new LedgerWords(shards.length));
+    this.ledgers = Array.from({ length: SLOTS }, () => new LedgerWords(shards.length));
     this.views = whole.seats();
     this.kinds = this.views.map((v) => v.kind);
     this.status = shards.map((s) => new Float64Array(s.status[0]!.length));
@@ -328,7 +327,7 @@ export class ParallelBagging {
       return Promise.reject(e);
     }
     const slot = this.slots[this.batches % SLOTS]!;
-    const set = this.batches++ % LEDGERS;
+    const set = this.batches++ % SLOTS;
     const ledger = this.ledgers[set]!;
     let classes = Math.max(this.reach, this.announced);
     if (labels !== null) {

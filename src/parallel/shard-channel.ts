@@ -72,9 +72,6 @@ export interface BatchBuffers {
  */
 export const SLOTS = 2;
 
-/** Sets of ledger words, batch k using set k mod LEDGERS: one a batch out. */
-export const LEDGERS = SLOTS;
-
 /**
  * A batch for a shard: its rows, trained on (labels NaN: score only) or scored, in slot `slot`; the
  * ledger's layout (`cap`). The ledger's start is the shard's own (see `ShardLedger.end`).
