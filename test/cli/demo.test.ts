@@ -21,12 +21,12 @@ import { note } from '../support/note.js';
  * within the tolerance; no seed has a signal or replacement in the first 6,000 legs):
  *
  *   seed  seafood rule     firmware      new carrier
- *   1     none / none      +400 / +600   +400 / +1,000
- *   2     +600 / +1,200    +400 / +600   +400 / +1,200
- *   3     none / none      +400 / +600   +400 / +1,200
- *   4     +600 / none      +400 / +600   +400 / +1,400
+ *   1     none / none      +400 / +600   +400 / none
+ *   2     +600 / none      +400 / +600   +400 / +1,000
+ *   3     +800 / +1,400    +400 / +600   +400 / +1,200
+ *   4     +800 / none      +400 / +600   +400 / none
  *   5     +600 / none      +400 / +600   +400 / +1,400
- *   7     +400 / +1,000    +400 / +800   +400 / +800     (the default seed, run here)
+ *   7     +400 / +1,000    +400 / +800   +400 / +1,000   (the default seed, run here)
  *
  * Signals and replacements come in steps of 200 legs (the demo's batch), and a signal needs the leg's
  * inspection result, 2–8 scenario hours (about 60–240 legs) later.
