@@ -425,14 +425,15 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
       // After the last checkpoint nothing more is handled: what it does not cover is read again later.
       if (stopping) return null;
       const began = performance.now();
-      const handled = await models.handle(batch);
-      if (handled.scored > 0) endpoint?.batch(handled.scored, (performance.now() - began) / 1000);
-      for (const d of handled.dead) {
-        log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
-      }
+      const { handled: handling } = await models.handle(batch);
       // The outputs go out while the next batch is handled, after those of the batch before.
       const previous = delivering;
       const acknowledged = (async () => {
+        const handled = await handling;
+        if (handled.scored > 0) endpoint?.batch(handled.scored, (performance.now() - began) / 1000);
+        for (const d of handled.dead) {
+          log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
+        }
         if (!(await previous)) return false;
         // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
         const delivered = await producer

@@ -273,7 +273,7 @@ async function modelSideRate(messages: readonly Buffer[], rows: number, runs: nu
     const t0 = process.hrtime.bigint();
     const models = new ServeModels(config, settings, eventOptions(config, settings), 'bench', null, false);
     for (const batch of batches)
-      await models.handle({ topic: 'bench-events', partition: 0, messages: batch, lag: 0 });
+      await (await models.handle({ topic: 'bench-events', partition: 0, messages: batch, lag: 0 })).handled;
     if (run >= 0) rates.push(rows / (Number(process.hrtime.bigint() - t0) / 1e9));
   }
   return median(rates);
