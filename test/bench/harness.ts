@@ -61,6 +61,42 @@ export function medianRate(items: number, body: () => number, runs = 3, warmup =
 }
 
 /**
+ * `medianRate` for a measured body and its reference taken in turns, each timed run of one next to a
+ * timed run of the other (the order swapped every pair), so that both see the same load of a shared
+ * host. `ratio` is the median of the pairs' ratios (body over reference): on a host whose speed drifts
+ * it is steadier than the ratio of the two medians.
+ */
+export function pairedRates(
+  items: number,
+  reference: () => number,
+  body: () => number,
+  runs = 5,
+  warmup = 1,
+): { reference: number; rate: number; ratio: number } {
+  let sink = 0;
+  for (let i = 0; i < warmup; i++) sink += reference() + body();
+  const timed = (fn: () => number): number => {
+    const t0 = process.hrtime.bigint();
+    sink += fn();
+    return items / (Number(process.hrtime.bigint() - t0) / 1e9);
+  };
+  const refs: number[] = [];
+  const rates: number[] = [];
+  const ratios: number[] = [];
+  for (let i = 0; i < runs; i++) {
+    const first = i % 2 === 0;
+    const a = first ? timed(reference) : 0;
+    const b = timed(body);
+    const r = first ? a : timed(reference);
+    refs.push(r);
+    rates.push(b);
+    ratios.push(b / r);
+  }
+  if (Number.isNaN(sink)) process.stdout.write('');
+  return { reference: median(refs), rate: median(rates), ratio: median(ratios) };
+}
+
+/**
  * The floor: a bare loop that reads every value of every row once, over the same data as the
  * measured work. A learner's rate divided by this shows its cost per row in units of "one pass".
  */
