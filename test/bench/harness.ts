@@ -61,39 +61,38 @@ export function medianRate(items: number, body: () => number, runs = 3, warmup =
 }
 
 /**
- * `medianRate` for a measured body and its reference taken in turns, each timed run of one next to a
- * timed run of the other (the order swapped every pair), so that both see the same load of a shared
- * host. `ratio` is the median of the pairs' ratios (body over reference): on a host whose speed drifts
- * it is steadier than the ratio of the two medians.
+ * Several bodies timed in rounds: each round times every body once (after `warmup` untimed rounds),
+ * starting one further along the list each round, so that all of them see the same load of a shared
+ * host however it moves. Returns each body's rates (items per second), one a timed round, in the order
+ * of `bodies`; `items[i]` is what body i processes per call.
  */
-export function pairedRates(
-  items: number,
-  reference: () => number,
-  body: () => number,
-  runs = 5,
+export function roundRates(
+  items: readonly number[],
+  bodies: readonly (() => number)[],
+  rounds = 3,
   warmup = 1,
-): { reference: number; rate: number; ratio: number } {
+): number[][] {
   let sink = 0;
-  for (let i = 0; i < warmup; i++) sink += reference() + body();
-  const timed = (fn: () => number): number => {
-    const t0 = process.hrtime.bigint();
-    sink += fn();
-    return items / (Number(process.hrtime.bigint() - t0) / 1e9);
-  };
-  const refs: number[] = [];
-  const rates: number[] = [];
-  const ratios: number[] = [];
-  for (let i = 0; i < runs; i++) {
-    const first = i % 2 === 0;
-    const a = first ? timed(reference) : 0;
-    const b = timed(body);
-    const r = first ? a : timed(reference);
-    refs.push(r);
-    rates.push(b);
-    ratios.push(b / r);
+  const rates = bodies.map((): number[] => []);
+  for (let round = 0; round < warmup + rounds; round++) {
+    for (let k = 0; k < bodies.length; k++) {
+      const i = (round + k) % bodies.length;
+      const t0 = process.hrtime.bigint();
+      sink += bodies[i]!();
+      const ns = Number(process.hrtime.bigint() - t0);
+      if (round >= warmup) rates[i]!.push(items[i]! / (ns / 1e9));
+    }
   }
   if (Number.isNaN(sink)) process.stdout.write('');
-  return { reference: median(refs), rate: median(rates), ratio: median(ratios) };
+  return rates;
+}
+
+/**
+ * The median of the rounds' ratios of two bodies' rates from `roundRates`: on a host whose speed drifts
+ * it is steadier than the ratio of the two medians.
+ */
+export function roundRatio(rates: readonly number[], reference: readonly number[]): number {
+  return median(rates.map((r, i) => r / reference[i]!));
 }
 
 /**
