@@ -38,7 +38,8 @@ Options:
                   optionally telemetry: { listen: HOST:PORT } for /metrics, /healthz, /readyz, /status
   --threads N     train the members of a bagging on N worker threads (ensemble.threads; default 1):
                   the same scores, journal and checkpoints as one thread; the consumer's event loop
-                  (heartbeats, scrapes) keeps turning while they train
+                  (heartbeats, scrapes) keeps turning while they train, and with labels only inline
+                  (no labels topic) the next batch goes to them while this one's scores are encoded
   --check         print the effective configuration, or every problem with its path, and exit`;
 
 export async function serve(args: readonly string[], terminal: Terminal): Promise<number> {
