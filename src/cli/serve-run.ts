@@ -55,59 +55,47 @@ export class ServeModels {
     this.checkpointed?.get(key)?.checkpointed();
   }
 
-  /**
-   * Take one batch in: resolves once it is taken, with `handled`, which resolves with the batch's output
-   * messages (its scores, dead letters and journal records) once they are made. While the session runs
-   * ahead (`LearningSession.runsAhead`: members on worker threads, labels only inline) an events batch
-   * is taken once it is decoded and sent to the threads, so the next one can be fetched, decoded and
-   * sent while the threads score this one and this thread replays and encodes the one before; its
-   * outputs are still made in turn, exactly as one batch at a time. Otherwise `handled` has resolved.
-   */
-  async handle(batch: FetchedBatch): Promise<{ readonly handled: Promise<Handled> }> {
-    const stream = `${batch.topic}/${batch.partition}`;
-    const key = this.key(stream);
+  /** The output messages for one batch (its scores, dead letters and journal records). */
+  async handle(
+    batch: FetchedBatch,
+  ): Promise<{ outputs: TopicOutputs[]; scored: number; rows: number; dead: DeadLetter[] }> {
+    const key = this.key(`${batch.topic}/${batch.partition}`);
     const state = this.state(key);
     const dead: DeadLetter[] = [];
-    const last = batch.messages[batch.messages.length - 1];
-    /** The outputs, once the batch's rows went through the session (in its turn, after those before). */
-    const made = (scores: OutputMessage[], scored: number, rows: number): Handled => {
-      // Every handled message moves its stream on, dead letters too: the session's positions are the
-      // offsets a checkpoint of it covers.
-      if (last !== undefined) state.session.advance(stream, BigInt(last.offset) + 1n);
-      if (dead.length > 0) state.session.reject(dead.length);
-      for (const d of dead) this.telemetry.deadLettered(d.code);
-      return { outputs: this.outputs(key, state, scores, dead), scored, rows, dead };
-    };
+    const scores: OutputMessage[] = [];
+    let scored = 0;
+    let rows = 0;
     if (batch.topic === this.settings.labels?.topic) {
       const labels = this.labels(state).decode(batch.topic, batch.partition, batch.messages, dead);
-      if (labels !== null) await state.session.learnAsync(labels.frame, state.decoder.classes);
-      return { handled: Promise.resolve(made([], 0, labels?.frame.rows ?? 0)) };
-    }
-    // Two batches may be out: this one's frame is decoded into the buffers of the batch before last.
-    const buffers = state.taken++ % 2;
-    await state.frames[buffers];
-    const ahead = state.session.runsAhead;
-    const events = state.events[buffers]!.decode(batch.topic, batch.partition, batch.messages, dead);
-    if (events === null) {
-      await state.session.idle();
-      return { handled: Promise.resolve(made([], 0, 0)) };
-    }
-    const handled = state.session.scoreAhead(events.frame, state.decoder.classes, (out) => {
-      const scores: OutputMessage[] = [];
-      for (let from = 0; from < out.rows; from += SCORE_ROWS_PER_MESSAGE) {
-        const ipc = encodeScores(
-          out,
-          events.eventTimes,
-          from,
-          Math.min(out.rows, from + SCORE_ROWS_PER_MESSAGE),
-        );
-        scores.push(scoresMessage(events.stream, ipc, SCORES_CONTENT_TYPE));
+      if (labels !== null) {
+        await state.session.learnAsync(labels.frame, state.decoder.classes);
+        rows = labels.frame.rows;
       }
-      return made(scores, out.rows, out.rows);
-    });
-    state.frames[buffers] = handled.catch(() => undefined);
-    if (!ahead) await handled;
-    return { handled };
+    } else {
+      const events = state.events.decode(batch.topic, batch.partition, batch.messages, dead);
+      if (events !== null) {
+        const out = await state.session.scoreAsync(events.frame, state.decoder.classes);
+        for (let from = 0; from < out.rows; from += SCORE_ROWS_PER_MESSAGE) {
+          const ipc = encodeScores(
+            out,
+            events.eventTimes,
+            from,
+            Math.min(out.rows, from + SCORE_ROWS_PER_MESSAGE),
+          );
+          scores.push(scoresMessage(events.stream, ipc, SCORES_CONTENT_TYPE));
+        }
+        scored = out.rows;
+        rows = out.rows;
+      }
+    }
+    // Every handled message moves its stream on, dead letters too: the session's positions are the
+    // offsets a checkpoint of it covers.
+    const last = batch.messages[batch.messages.length - 1];
+    if (last !== undefined)
+      state.session.advance(`${batch.topic}/${batch.partition}`, BigInt(last.offset) + 1n);
+    if (dead.length > 0) state.session.reject(dead.length);
+    for (const d of dead) this.telemetry.deadLettered(d.code);
+    return { outputs: this.outputs(key, state, scores, dead), scored, rows, dead };
   }
 
   /** Whether a `topic/partition` stream is one of the labels topic. */
@@ -169,7 +157,6 @@ export class ServeModels {
   async finish(): Promise<TopicOutputs[]> {
     const out: TopicOutputs[] = [];
     for (const [key, state] of this.states) {
-      await state.session.idle();
       if (state.session.scored > 0) state.session.finish(state.decoder.classes);
       await state.session.close();
       out.push(...this.outputs(key, state, [], []));
@@ -238,11 +225,7 @@ export class ServeModels {
       };
       state = {
         decoder,
-        events: [0, 1].map(
-          () => new BatchDecoder(decoder, this.settings.events.format, this.settings.events.maxMessageBytes),
-        ),
-        taken: 0,
-        frames: [Promise.resolve(), Promise.resolve()],
+        events: new BatchDecoder(decoder, this.settings.events.format, this.settings.events.maxMessageBytes),
         labels: null,
         session:
           restored === null
@@ -262,22 +245,9 @@ export class ServeModels {
   }
 }
 
-/** What one batch gave: its output messages, the rows it scored and read, and its dead letters. */
-export interface Handled {
-  readonly outputs: TopicOutputs[];
-  readonly scored: number;
-  readonly rows: number;
-  readonly dead: DeadLetter[];
-}
-
 interface ScopeState {
   readonly decoder: FrameDecoder;
-  /** Two events decoders sharing `decoder`'s dictionaries: batch k's frame is in the buffers of k mod 2. */
-  readonly events: readonly BatchDecoder[];
-  /** Events batches taken so far. */
-  taken: number;
-  /** Settles once the batch last decoded into each decoder's buffers is done with its frame. */
-  readonly frames: Promise<unknown>[];
+  readonly events: BatchDecoder;
   labels: BatchDecoder | null;
   readonly session: LearningSession;
   /** Journal records of the batch being handled (sent with its outputs). */

@@ -38,8 +38,7 @@ Options:
                   optionally telemetry: { listen: HOST:PORT } for /metrics, /healthz, /readyz, /status
   --threads N     train the members of a bagging on N worker threads (ensemble.threads; default 1):
                   the same scores, journal and checkpoints as one thread; the consumer's event loop
-                  (heartbeats, scrapes) keeps turning while they train, and with labels only inline
-                  (no labels topic) the next batch goes to them while this one's scores are encoded
+                  (heartbeats, scrapes) keeps turning while they train
   --check         print the effective configuration, or every problem with its path, and exit`;
 
 export async function serve(args: readonly string[], terminal: Terminal): Promise<number> {
@@ -426,15 +425,14 @@ async function run(checked: ServeConfig, terminal: Terminal): Promise<number> {
       // After the last checkpoint nothing more is handled: what it does not cover is read again later.
       if (stopping) return null;
       const began = performance.now();
-      const { handled: handling } = await models.handle(batch);
+      const handled = await models.handle(batch);
+      if (handled.scored > 0) endpoint?.batch(handled.scored, (performance.now() - began) / 1000);
+      for (const d of handled.dead) {
+        log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
+      }
       // The outputs go out while the next batch is handled, after those of the batch before.
       const previous = delivering;
       const acknowledged = (async () => {
-        const handled = await handling;
-        if (handled.scored > 0) endpoint?.batch(handled.scored, (performance.now() - began) / 1000);
-        for (const d of handled.dead) {
-          log.warn({ code: d.code, topic: d.topic, partition: d.partition, offset: d.offset }, d.reason);
-        }
         if (!(await previous)) return false;
         // While outputs cannot be delivered: stop fetching, and keep the group membership alive.
         const delivered = await producer

@@ -126,28 +126,13 @@ export class LearningSession {
   private ensemble: SessionModel | null = null;
   /** The ensemble once it is on worker threads (then `ensemble` is null). */
   private threaded: ThreadedEnsemble | null = null;
-  /** The threaded ensemble's answers for the batch being replayed (one of `answers`). */
-  private batch: BatchVerdicts;
-  /** Where the answers of the batches out go: batch k of `scoreAhead` takes set k mod 2. */
-  private readonly answers = [new BatchVerdicts(), new BatchVerdicts()];
-  private sentAhead = 0;
-  /** The classes the threaded ensemble knew right after the batch being replayed was in. */
-  private batchClasses = 0;
+  /** The threaded ensemble's answers for the batch being replayed. */
+  private readonly batch = new BatchVerdicts();
   /** The row of `batch` the next model step takes (−1: steps run the model in this thread). */
   private step = -1;
   private nextChange = 0;
-  /** Each seat's recent accuracy before the batch `learnAsync` sent (unread while a scored batch replays). */
+  /** Each seat's recent accuracy before the batch. */
   private before: readonly number[] = [];
-  /**
-   * The turns of `scoreAhead`, `learnAsync` and `snapshotAsync` calls in the order they were made:
-   * `turn` settles once the last call's work on this thread is over, `turnBefore` once the one before
-   * it is; `sending` once the last batch sent ahead was handed to the threads.
-   */
-  private turn: Promise<unknown> = Promise.resolve();
-  private turnBefore: Promise<unknown> = Promise.resolve();
-  private sending: Promise<unknown> = Promise.resolve();
-  /** `learnAsync` and `snapshotAsync` calls not over yet: no batch goes ahead of them. */
-  private barriers = 0;
   private batchLabels = new Float64Array(0);
   /** Rows and labels `learnAsync` gathers to train on, and its journal records held until they ran. */
   private gathered = new Float64Array(0);
@@ -183,7 +168,6 @@ export class LearningSession {
     });
     this.early = new EarlyLabels(options.config.labels.early);
     this.metrics = metricsOf(this);
-    this.batch = this.answers[0]!;
   }
 
   /** The ensemble (built from the first batch's schema), or null before it. */
@@ -224,7 +208,7 @@ export class LearningSession {
     const verdict = this.verdict;
     const monitor = this.monitor;
     const pending = this.pending!;
-    const out = this.scores.reserve(from, to - from, this.known(ensemble), classes, ids, now);
+    const out = this.scores.reserve(from, to - from, ensemble.classes, classes, ids, now);
     const counts = this.counts;
     const early = this.early;
     const settles = ids !== null && this.options.lateLabels !== false;
@@ -285,8 +269,7 @@ export class LearningSession {
     if (ready === null) return;
     this.joining = true;
     try {
-      // In the turn of the `scoreAhead` call that scored their events.
-      await this.learnInTurn(ready, classes, 0, ready.rows);
+      await this.learnAsync(ready, classes);
     } finally {
       this.joining = false;
       this.early.clearReady();
@@ -370,142 +353,25 @@ export class LearningSession {
   /**
    * `score`, with the ensemble on worker threads when the configuration asks for them: the workers score
    * (and train on the rows with labels) the whole range while this thread stays free, then `score`
-   * replays their answers row by row. The batch returned stays valid until the next call's scores are
-   * made (a caller that keeps two calls out takes its scores with `scoreAhead`).
+   * replays their answers row by row.
    */
-  scoreAsync(frame: Frame, classes: readonly string[], from = 0, to = frame.rows): Promise<ScoreBatch> {
-    return this.scoreAhead(frame, classes, (out) => out, from, to);
-  }
-
-  /**
-   * Whether a batch given to `scoreAhead` now goes to the worker threads at once, before the batches
-   * given before it are replayed: when the ensemble is on threads and nothing can train it between two
-   * batches — labels come only inline (`lateLabels` false: no label joins a pending prediction later),
-   * no label is held for its event (joined and trained on right after its event's batch), and no
-   * `learnAsync` (nor `snapshotAsync`) call is out. Otherwise each batch waits for the one before it.
-   */
-  get runsAhead(): boolean {
-    return (
-      this.threaded !== null &&
-      this.options.lateLabels === false &&
-      this.early.size === 0 &&
-      this.barriers === 0
-    );
-  }
-
-  /**
-   * `scoreAsync`, for a caller that keeps two batches out: the batches are taken in the order given, and
-   * while `runsAhead` a batch goes to the worker threads at once, so that they score it while this
-   * thread replays and the caller encodes the batch before it. `take` gets the batch's scores as soon as
-   * they are made (they are valid only during the call) and the promise resolves with what it returns.
-   * The frame must stay as it is until then. The scores, journal and snapshots are those of one call at
-   * a time: the batch's verdicts are replayed after those of the batches before it, and the classes and
-   * figures it is replayed with are those right after it was in.
-   */
-  async scoreAhead<T>(
-    frame: Frame,
-    classes: readonly string[],
-    take: (out: ScoreBatch) => T,
-    from = 0,
-    to = frame.rows,
-  ): Promise<T> {
-    // In one thread every call is over when it returns: there is nothing to take turns for.
-    if (this.config.threads <= 1) return take(this.score(frame, classes, from, to));
-    const ahead = this.runsAhead && frame.schema.features.length === this.threaded!.schema.features.length;
-    // A batch decoded after this one may add classes before this one is replayed.
-    const names = ahead ? [...classes] : classes;
-    const earlier = this.turn;
-    const sent = ahead ? this.sendAhead(frame, names.length, from, to, this.turnBefore) : null;
-    return this.inTurn(async () => {
-      await earlier;
-      if (sent !== null) {
-        ({ answers: this.batch, known: this.batchClasses } = await sent);
-        return this.replayScores(frame, names, take, from, to);
-      }
-      this.ensure(frame.schema, classes);
-      const threaded = await this.onThreads();
-      if (threaded === null) return take(this.score(frame, classes, from, to));
-      this.batch = this.answers[0]!;
-      const labels = this.frameLabels(frame, from, to);
-      await this.runBatch(threaded, frame.values.subarray(from * frame.width), labels, to - from);
-      const out = this.replayScores(frame, classes, take, from, to);
-      await this.joinEarlyAsync(classes);
-      return out;
-    });
-  }
-
-  /** Run `work` as the next turn: the next call's turn begins once it is over. */
-  private inTurn<T>(work: () => Promise<T>): Promise<T> {
-    this.turnBefore = this.turn;
-    const mine = work();
-    this.turn = mine.then(
-      () => undefined,
-      () => undefined,
-    );
-    return mine;
-  }
-
-  /**
-   * Send a batch to the worker threads once the batch two before it is replayed (its set of answers is
-   * free) and the one before it was sent; resolves with its answers once they are in.
-   */
-  private sendAhead(
-    frame: Frame,
-    classes: number,
-    from: number,
-    to: number,
-    twoBefore: Promise<unknown>,
-  ): Promise<{ readonly answers: BatchVerdicts; readonly known: number }> {
-    const threaded = this.threaded!;
-    const answers = this.answers[this.sentAhead++ % 2]!;
-    const sent = Promise.all([twoBefore, this.sending]).then(() => {
-      threaded.ensureClasses(classes);
-      const labels = this.frameLabels(frame, from, to);
-      const done = threaded.scoreTrainBatch(
-        frame.values.subarray(from * frame.width),
-        labels,
-        to - from,
-        answers,
-      );
-      // Taken when the batch is in, before the next batch out can be (its answers wait for this one's).
-      return done.then(() => threaded.classes);
-    });
-    this.sending = sent.then(
-      () => undefined,
-      () => undefined,
-    );
-    return sent.then((known) => ({ answers, known }));
-  }
-
-  /** A batch's labels (NaN for a row without one), in a buffer reused from batch to batch. */
-  private frameLabels(frame: Frame, from: number, to: number): Float64Array {
+  async scoreAsync(frame: Frame, classes: readonly string[], from = 0, to = frame.rows): Promise<ScoreBatch> {
+    this.ensure(frame.schema, classes);
+    const threaded = await this.onThreads();
+    if (threaded === null) return this.score(frame, classes, from, to);
     const n = to - from;
     if (this.batchLabels.length < n) this.batchLabels = new Float64Array(n);
     const labels = frame.labels;
     for (let r = 0; r < n; r++) this.batchLabels[r] = labels === null ? Number.NaN : labels[from + r]!;
-    return this.batchLabels.subarray(0, n);
-  }
-
-  /** Replay the answers in `batch` through `score` and hand the scores to `take`. */
-  private replayScores<T>(
-    frame: Frame,
-    classes: readonly string[],
-    take: (out: ScoreBatch) => T,
-    from: number,
-    to: number,
-  ): T {
-    this.step = 0;
-    this.nextChange = 0;
+    await this.runBatch(threaded, frame.values.subarray(from * frame.width), this.batchLabels, n);
+    let out: ScoreBatch;
     try {
-      return take(this.score(frame, classes, from, to));
+      out = this.score(frame, classes, from, to);
     } finally {
       this.step = -1;
     }
-  }
-
-  /** The classes the ensemble knows: while a batch is replayed, those right after it was in. */
-  private known(model: SessionModel | ThreadedEnsemble): number {
-    return this.step >= 0 ? this.batchClasses : model.classes;
+    await this.joinEarlyAsync(classes);
+    return out;
   }
 
   /**
@@ -514,33 +380,6 @@ export class LearningSession {
    * them, then their lifecycle changes and the held records are written in the order of one thread.
    */
   async learnAsync(frame: Frame, classes: readonly string[], from = 0, to = frame.rows): Promise<number> {
-    if (this.config.threads <= 1) return this.learn(frame, classes, from, to);
-    return this.barrier(() => this.learnInTurn(frame, classes, from, to));
-  }
-
-  /**
-   * Run `work` as the next turn, with no batch sent ahead until it is over (it trains the ensemble or
-   * snapshots it): it begins once the calls before it are over.
-   */
-  private barrier<T>(work: () => Promise<T>): Promise<T> {
-    this.barriers++;
-    const earlier = this.turn;
-    return this.inTurn(async () => {
-      try {
-        await earlier;
-        return await work();
-      } finally {
-        this.barriers--;
-      }
-    });
-  }
-
-  private async learnInTurn(
-    frame: Frame,
-    classes: readonly string[],
-    from: number,
-    to: number,
-  ): Promise<number> {
     const threaded = await this.onThreads();
     if (threaded === null) return this.learn(frame, classes, from, to);
     const held: (number | WindowRecord)[] = [];
@@ -554,10 +393,8 @@ export class LearningSession {
     }
     const width = threaded.schema.features.length;
     const rows = this.gatheredRows;
-    if (rows > 0) {
-      this.batch = this.answers[0]!;
+    if (rows > 0)
       await this.runBatch(threaded, this.gathered.subarray(0, rows * width), this.gatheredLabels, rows);
-    }
     try {
       for (const item of held) {
         if (typeof item === 'number') this.replay(null);
@@ -571,20 +408,11 @@ export class LearningSession {
 
   /** `snapshot`, waiting for the workers' part when the ensemble is on worker threads. */
   async snapshotAsync(): Promise<SessionSnapshot> {
-    if (this.config.threads <= 1) return this.snapshot();
-    return this.barrier(async () =>
-      this.snapshotWith(this.threaded === null ? undefined : await this.threaded.snapshot()),
-    );
+    return this.snapshotWith(this.threaded === null ? undefined : await this.threaded.snapshot());
   }
 
-  /** Once every call given so far is over. */
-  async idle(): Promise<void> {
-    await this.turn;
-  }
-
-  /** Stop the worker threads, if any, once the calls given so far are over (the session cannot score after). */
+  /** Stop the worker threads, if any (the session cannot score after). */
   async close(): Promise<void> {
-    await this.turn;
     await this.threaded?.close();
   }
 
@@ -782,7 +610,6 @@ export class LearningSession {
   ): Promise<void> {
     this.before = threaded.seats().map((seat) => seat.recentAccuracy);
     await threaded.scoreTrainBatch(values, labels, rows, this.batch);
-    this.batchClasses = threaded.classes;
     this.step = 0;
     this.nextChange = 0;
   }
@@ -829,7 +656,7 @@ export class LearningSession {
   private announce(classes: readonly string[]): void {
     const n = Math.max(1, classes.length);
     const model = this.model!;
-    if (n > this.known(model)) {
+    if (n > model.classes) {
       model.ensureClasses(n);
       this.scorecard.ensureClasses(n);
     }

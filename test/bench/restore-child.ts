@@ -16,13 +16,12 @@ const { models, checkpoints } = restoreService(dir);
 const taken = await checkpoints.load(models, 'global');
 if (taken === null) throw new Error(`no checkpoint in ${dir}`);
 const restored = performance.now();
-const { handled: handling } = await models.handle({
+const handled = await models.handle({
   topic: EVENTS_TOPIC,
   partition: 0,
   messages: [{ offset, timestamp: String(Date.now()), value }],
   lag: 0,
 });
-const handled = await handling;
 const scored = performance.now();
 process.stdout.write(
   JSON.stringify({

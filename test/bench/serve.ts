@@ -59,21 +59,18 @@ import { type BenchFn, type BenchRow, machine, median, medianRate } from './harn
  *   scores record that holds the row (LogAppendTime): the score is on the topic, readable. Latency is
  *   their difference, per row; `latency_ms` in the scores (produce time to the moment of scoring, before
  *   the scores are sent) is printed beside it. Both clocks are this machine's.
- * - Two configurations of the service take turns on the one broker, three runs each (each run on topics
- *   of its own), and each figure is the median of its runs: the default (one thread), and the members on
- *   two worker threads, where, labels being inline, a batch goes to the threads before the one before it
- *   is replayed and encoded (`LearningSession.runsAhead`). `serveRuns` in the JSON keeps every run.
  */
 const SPEC = { kind: 'bagging', members: 10, lambda: 1, lifecycle: { enabled: false } } as const;
 const RUN = { seed: 'bench-serve', ensemble: SPEC, inputs: { id: 'id', label: 'label' } };
 /** Messages per in-process batch: about what one kafkajs fetch of 1 MiB per partition holds. */
 const FETCH_MESSAGES = 8;
 
-/** The pass-through's topics and group (each run of serve has its own, `serveRun`). */
 interface Topics {
   readonly events: string;
+  readonly scores: string;
   readonly passScores: string;
   readonly dead: string;
+  readonly group: string;
   readonly passGroup: string;
 }
 
@@ -101,11 +98,13 @@ export const bench: BenchFn = async ({ quick }) => {
     const base = uniqueName('bench-serve');
     const t: Topics = {
       events: `${base}-events`,
+      scores: `${base}-scores`,
       passScores: `${base}-pass-scores`,
       dead: `${base}-dead`,
+      group: `${base}-group`,
       passGroup: `${base}-pass-group`,
     };
-    await createTopics(brokers, [t.events, t.dead], t.passScores);
+    await createTopics(brokers, t);
     await produce(
       brokers,
       t.events,
@@ -116,26 +115,39 @@ export const bench: BenchFn = async ({ quick }) => {
     const passScores = await readAll(brokers, t.passScores);
     const pass = spanRate(passScores);
 
-    // The configurations take turns on the one broker, `serveRuns` times each, so that a busy spell of
-    // the machine falls on both; each run reads its own topics. The figures are the runs' medians.
-    const runs: Record<ServeMode, ServeFigures[]> = { inProcess: [], ahead: [] };
-    for (let k = 0; k < (quick ? 1 : SERVE_RUNS); k++) {
-      for (const mode of SERVE_MODES)
-        runs[mode].push(
-          await serveRun(brokers, dir, base, `${mode}-${k}`, mode, messages, paced, latencySeconds),
-        );
+    const config = join(dir, 'serve.yaml');
+    await writeFile(config, stringify({ ...RUN, kafka: kafkaSection(brokers, t, t.group, t.scores) }));
+    const serve = new ServeProcess(config);
+    let latency: Latency;
+    let served: number;
+    let servedCpu: number;
+    try {
+      // Its CPU time from joining the group (it fetches at once: the events are on the topic) to the end.
+      await serve.waitFor('joined the group', 120_000);
+      const joined = cpuSeconds(serve.pid);
+      await waitCommitted(brokers, t.group, { [t.events]: messages.length }, 600_000);
+      servedCpu = rows / (cpuSeconds(serve.pid) - joined);
+      const scoresBefore = await readAll(brokers, t.scores);
+      served = spanRate(scoresBefore);
+      // Half the measured maximum, one message at a time, for a bounded time and count.
+      const offered = served / 2;
+      const count = Math.max(
+        5,
+        Math.min(paced.length, Math.floor((offered * latencySeconds) / ROWS_PER_MESSAGE)),
+      );
+      const cpu0 = cpuSeconds(serve.pid);
+      const wall0 = performance.now();
+      await pace(brokers, t.events, paced.slice(0, count), offered);
+      await waitCommitted(brokers, t.group, { [t.events]: messages.length + count }, 120_000);
+      const busy = (cpuSeconds(serve.pid) - cpu0) / ((performance.now() - wall0) / 1000);
+      const all = await readAll(brokers, t.scores);
+      latency = { offered, ...latencies(all.slice(scoresBefore.length)), messages: count, busy };
+      serve.signal('SIGTERM');
+      const code = await serve.exited;
+      if (code !== 0) throw new Error(`shoal serve exited ${code}: ${serve.stderr}`);
+    } finally {
+      serve.signal('SIGKILL');
     }
-    const figures = (mode: ServeMode): ServeFigures => {
-      const all = runs[mode];
-      const mid = (f: (x: ServeFigures) => number): number => median(all.map(f));
-      return {
-        served: mid((x) => x.served),
-        servedCpu: mid((x) => x.servedCpu),
-        latency: { ...all[0]!.latency, p50: mid((x) => x.latency.p50), p99: mid((x) => x.latency.p99) },
-      };
-    };
-    const { served, servedCpu, latency } = figures('inProcess');
-    const ahead = figures('ahead');
 
     const ofCore = served / core.wall;
     const cpuOfCore = servedCpu / core.cpu;
@@ -185,25 +197,6 @@ export const bench: BenchFn = async ({ quick }) => {
         unit: 'ms',
         note: `target ≤ 50 ms; to scoring ${latency.scoredP99.toFixed(1)} ms; ${latency.rows} rows in ${latency.messages} messages; serve busy ${Math.round(100 * latency.busy)}% of a core`,
       },
-      {
-        name: `shoal serve, ${AHEAD_THREADS} worker threads, batches sent ahead`,
-        rate: ahead.served,
-        unit: 'rows/s',
-        note: `${(ahead.served / core.wall).toFixed(2)}× core, ${(ahead.served / served).toFixed(2)}× serve in one thread; serve's process: ${perCpu(ahead.servedCpu)}`,
-      },
-      { name: 'serve ahead ÷ core', rate: ahead.served / core.wall, unit: '×', note: 'target ≥ 0.7' },
-      {
-        name: `serve ahead: latency at ${Math.round(ahead.latency.offered).toLocaleString('en-US')} rows/s offered, p50`,
-        rate: ahead.latency.p50,
-        unit: 'ms',
-        note: `produce → score on topic; to scoring ${ahead.latency.scoredP50.toFixed(1)} ms`,
-      },
-      {
-        name: `serve ahead: latency at ${Math.round(ahead.latency.offered).toLocaleString('en-US')} rows/s offered, p99`,
-        rate: ahead.latency.p99,
-        unit: 'ms',
-        note: `target ≤ 50 ms; to scoring ${ahead.latency.scoredP99.toFixed(1)} ms; serve busy ${Math.round(100 * ahead.latency.busy)}% of a core`,
-      },
     ];
     return {
       title: `End to end over a real broker (${external ? `KAFKA_BROKERS ${external}` : 'Apache Kafka 4.1.1, one KRaft node'}): ${rows.toLocaleString('en-US')} rows in ${ROWS_PER_MESSAGE}-row Arrow messages, inline labels`,
@@ -224,16 +217,6 @@ export const bench: BenchFn = async ({ quick }) => {
           ofPassThrough: served / pass,
         },
         latency,
-        serveAhead: {
-          threads: AHEAD_THREADS,
-          rowsPerSecond: ahead.served,
-          rowsPerCpuSecond: ahead.servedCpu,
-          ofCore: ahead.served / core.wall,
-          ofCoreByCpu: ahead.servedCpu / core.cpu,
-          ofServe: ahead.served / served,
-          latency: ahead.latency,
-        },
-        serveRuns: runs,
       },
     };
   } finally {
@@ -241,83 +224,6 @@ export const bench: BenchFn = async ({ quick }) => {
     await broker?.destroy();
   }
 };
-
-/** Runs of `shoal serve` of each configuration in one bench run (they take turns). */
-const SERVE_RUNS = 3;
-/** `ensemble.threads` of the configuration with batches sent ahead. */
-const AHEAD_THREADS = 2;
-/** The configurations: one thread (the default), and the members on worker threads with batches sent ahead. */
-const SERVE_MODES = ['inProcess', 'ahead'] as const;
-type ServeMode = (typeof SERVE_MODES)[number];
-
-interface ServeFigures {
-  /** Rows/s from the first scores record's append to the last's, with every event on the topic at start. */
-  readonly served: number;
-  /** Rows per CPU second of serve's process over the same. */
-  readonly servedCpu: number;
-  readonly latency: Latency;
-}
-
-/**
- * One run of `shoal serve` (as a child process) on topics of its own: the events, all on the topic
- * before it starts, to the scores at full speed; then events one message at a time at half that rate.
- */
-async function serveRun(
-  brokers: string,
-  dir: string,
-  base: string,
-  name: string,
-  mode: ServeMode,
-  messages: readonly Buffer[],
-  paced: readonly Buffer[],
-  latencySeconds: number,
-): Promise<ServeFigures> {
-  const t = {
-    events: `${base}-${name}-events`,
-    scores: `${base}-${name}-scores`,
-    dead: `${base}-${name}-dead`,
-    group: `${base}-${name}-group`,
-  };
-  await createTopics(brokers, [t.events, t.dead], t.scores);
-  await produce(
-    brokers,
-    t.events,
-    messages.map((value) => ({ value })),
-  );
-  const rows = messages.length * ROWS_PER_MESSAGE;
-  const config = join(dir, `${name}.yaml`);
-  const run = mode === 'ahead' ? { ...RUN, ensemble: { ...SPEC, threads: AHEAD_THREADS } } : RUN;
-  await writeFile(config, stringify({ ...run, kafka: kafkaSection(brokers, t, t.group, t.scores) }));
-  const serve = new ServeProcess(config);
-  try {
-    // Its CPU time from joining the group (it fetches at once: the events are on the topic) to the end.
-    await serve.waitFor('joined the group', 120_000);
-    const joined = cpuSeconds(serve.pid);
-    await waitCommitted(brokers, t.group, { [t.events]: messages.length }, 600_000);
-    const servedCpu = rows / (cpuSeconds(serve.pid) - joined);
-    const scoresBefore = await readAll(brokers, t.scores);
-    const served = spanRate(scoresBefore);
-    // Half the measured maximum, one message at a time, for a bounded time and count.
-    const offered = served / 2;
-    const count = Math.max(
-      5,
-      Math.min(paced.length, Math.floor((offered * latencySeconds) / ROWS_PER_MESSAGE)),
-    );
-    const cpu0 = cpuSeconds(serve.pid);
-    const wall0 = performance.now();
-    await pace(brokers, t.events, paced.slice(0, count), offered);
-    await waitCommitted(brokers, t.group, { [t.events]: messages.length + count }, 120_000);
-    const busy = (cpuSeconds(serve.pid) - cpu0) / ((performance.now() - wall0) / 1000);
-    const all = await readAll(brokers, t.scores);
-    const latency = { offered, ...latencies(all.slice(scoresBefore.length)), messages: count, busy };
-    serve.signal('SIGTERM');
-    const code = await serve.exited;
-    if (code !== 0) throw new Error(`shoal serve exited ${code}: ${serve.stderr}`);
-    return { served, servedCpu, latency };
-  } finally {
-    serve.signal('SIGKILL');
-  }
-}
 
 /** The learning core: prequential rows/s of the same ensemble on the same rows, one thread. */
 function coreRate(
@@ -367,7 +273,7 @@ async function modelSideRate(messages: readonly Buffer[], rows: number, runs: nu
     const t0 = process.hrtime.bigint();
     const models = new ServeModels(config, settings, eventOptions(config, settings), 'bench', null, false);
     for (const batch of batches)
-      await (await models.handle({ topic: 'bench-events', partition: 0, messages: batch, lag: 0 })).handled;
+      await models.handle({ topic: 'bench-events', partition: 0, messages: batch, lag: 0 });
     if (run >= 0) rates.push(rows / (Number(process.hrtime.bigint() - t0) / 1e9));
   }
   return median(rates);
@@ -399,16 +305,17 @@ function serveSettings(
   };
 }
 
-/** One-partition topics, and a scores topic that stamps each record with the broker's append time. */
-async function createTopics(brokers: string, topics: readonly string[], scores: string): Promise<void> {
+async function createTopics(brokers: string, t: Topics): Promise<void> {
   const admin = client(brokers).admin();
   await admin.connect();
   // The broker's append time on each scores record: the moment the score is on the topic.
   const appendTime = [{ name: 'message.timestamp.type', value: 'LogAppendTime' }];
   await admin.createTopics({
     topics: [
-      ...topics.map((topic) => ({ topic, numPartitions: 1 })),
-      { topic: scores, numPartitions: 1, configEntries: appendTime },
+      { topic: t.events, numPartitions: 1 },
+      { topic: t.dead, numPartitions: 1 },
+      { topic: t.scores, numPartitions: 1, configEntries: appendTime },
+      { topic: t.passScores, numPartitions: 1, configEntries: appendTime },
     ],
     waitForLeaders: true,
   });

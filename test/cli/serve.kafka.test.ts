@@ -79,11 +79,9 @@ describe('shoal serve on a real broker', () => {
     ])
       expect(summary[key], key).toBe(offline[key]);
   });
-  it('serves 20,000 events with the members on two worker threads (batches sent ahead) into the scores of one thread and the model and journal of replay', async () => {
+  it('serves 20,000 events with the members on two worker threads into the scores of one thread and the model and journal of replay', async () => {
     // The default lifecycle (ADWIN monitors, understudies, the proof gate) on a 6-member bagging: seats
     // are watched and put on trial; the threads keep member ids and the replacement cap as one thread.
-    // Labels come inline only, so the service sends the next batch to the threads before it has replayed
-    // and encoded the one before (the events are all on the topic: batches come back to back).
     const run = { ...RUN, seed: 13, ensemble: { kind: 'bagging', members: 6 } };
     const rows = 20_000;
     const brokers = inject('kafkaBrokers');

@@ -8,7 +8,6 @@ import {
   type EnsembleThreads,
   LearningSession,
   resolveConfig,
-  type ScoreBatch,
   type SessionSnapshot,
 } from '../../src/pipeline/index.js';
 import { buildStream, type StreamGenerator } from '../../src/streams/index.js';
@@ -43,7 +42,7 @@ interface Run {
   readonly scores: number[];
 }
 
-function start(threads: number, lateLabels = true): Run {
+function start(threads: number): Run {
   const journal = memoryJournal();
   const session = new LearningSession({
     config: resolveConfig(raw(threads), 'test'),
@@ -52,7 +51,6 @@ function start(threads: number, lateLabels = true): Run {
     clock: manualClock(),
     version: '0.0.0-test',
     workers: onThreads,
-    lateLabels,
   });
   return { session, records: journal.records, scores: [] };
 }
@@ -76,7 +74,16 @@ async function drive(
     );
     if (async) await s.learnAsync(before, gen.classes);
     else s.learn(before, gen.classes);
-    keep(run, async ? await s.scoreAsync(frame, gen.classes) : s.score(frame, gen.classes));
+    const out = async ? await s.scoreAsync(frame, gen.classes) : s.score(frame, gen.classes);
+    for (let r = 0; r < out.rows; r++) {
+      run.scores.push(
+        out.probabilities[2 * r]!,
+        out.predicted[r]!,
+        out.agreement[r]!,
+        out.voters[r]!,
+        out.epoch[r]!,
+      );
+    }
     const ids: string[] = [];
     const labels: number[] = [];
     for (let r = 0; r < BATCH; r++) {
@@ -88,40 +95,6 @@ async function drive(
     if (async) await s.learnAsync(labelsFrame(ids, labels), gen.classes);
     else s.learn(labelsFrame(ids, labels), gen.classes);
   }
-}
-
-/** A batch's scores, as `drive` keeps them. */
-function keep(run: Run, out: ScoreBatch): void {
-  for (let r = 0; r < out.rows; r++) {
-    run.scores.push(
-      out.probabilities[2 * r]!,
-      out.predicted[r]!,
-      out.agreement[r]!,
-      out.voters[r]!,
-      out.epoch[r]!,
-    );
-  }
-}
-
-/**
- * Every batch of the stream with its labels inline and ids, as `serve` gives them with no labels topic:
- * one call at a time, or (`ahead`) with the next batch given before the one before it is replayed.
- */
-async function driveInline(run: Run, gen: StreamGenerator, ahead: boolean): Promise<boolean[]> {
-  const s = run.session;
-  const sentAhead: boolean[] = [];
-  let out: Promise<void> = Promise.resolve();
-  for (let b = 0; b < ROWS / BATCH; b++) {
-    const frame = frameOf(gen, BATCH, { ids: true, first: b * BATCH });
-    sentAhead.push(s.runsAhead);
-    const scored = s.scoreAhead(frame, gen.classes, (batch) => keep(run, batch));
-    if (!ahead) await scored;
-    // Two batches out: this one and the one before it, whose scores are awaited now.
-    await out;
-    out = scored;
-  }
-  await out;
-  return sentAhead;
 }
 
 /** A snapshot without `config.threads`, the one thing threads change. */
@@ -202,37 +175,6 @@ describe('a learning session on worker threads', () => {
     expect(last.scores).toEqual(one.scores);
     expect(last.records).toEqual(one.records);
     expect(model(last.session.snapshot())).toEqual(model(one.session.snapshot()));
-  });
-
-  it('sends a batch with labels inline to the threads before the one before it is replayed, with the results of one thread', async () => {
-    const inline = start(1, false);
-    await driveInline(inline, stream(), false);
-    // Replacements happen under the cap: the lifecycle's changes are replayed between batches out.
-    expect(
-      inline.records.filter((r) => r.type === 'lifecycle' && r.cause === 'promoted').length,
-    ).toBeGreaterThan(2);
-    for (const threads of [2, 3]) {
-      const run = start(threads, false);
-      try {
-        const ahead = await driveInline(run, stream(), true);
-        // The first batch moves the ensemble onto the threads, and the second waits for it; every later
-        // one goes ahead.
-        expect(ahead.filter((a) => a).length).toBe(ROWS / BATCH - 2);
-        expect(run.scores).toEqual(inline.scores);
-        expect(run.records).toEqual(inline.records);
-        expect(model(await run.session.snapshotAsync())).toEqual(model(inline.session.snapshot()));
-      } finally {
-        await run.session.close();
-      }
-    }
-    // With late labels possible nothing goes ahead (a label may train the ensemble between two batches).
-    const late = start(2);
-    try {
-      expect((await driveInline(late, stream(), true)).some((a) => a)).toBe(false);
-      expect(late.scores).toEqual(inline.scores);
-    } finally {
-      await late.session.close();
-    }
   });
 
   it('names ensemble.threads when it cannot be honoured', () => {
