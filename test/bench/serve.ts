@@ -59,20 +59,15 @@ import { type BenchFn, type BenchRow, machine, median, medianRate } from './harn
  *   scores record that holds the row (LogAppendTime): the score is on the topic, readable. Latency is
  *   their difference, per row; `latency_ms` in the scores (produce time to the moment of scoring, before
  *   the scores are sent) is printed beside it. Both clocks are this machine's.
+ * - Three runs of serve (one with `--quick`), each on topics and a group of its own and each right after
+ *   a timed run of the core, so that each run's ratio to the core is of one moment's load; the figures
+ *   are the medians over the runs (a single run of 200,000 rows lasts a few seconds, and one busy spell
+ *   of the shared host moved it by ±40%), and each run's ratio and p99 are printed beside them.
  */
 const SPEC = { kind: 'bagging', members: 10, lambda: 1, lifecycle: { enabled: false } } as const;
 const RUN = { seed: 'bench-serve', ensemble: SPEC, inputs: { id: 'id', label: 'label' } };
 /** Messages per in-process batch: about what one kafkajs fetch of 1 MiB per partition holds. */
 const FETCH_MESSAGES = 8;
-
-interface Topics {
-  readonly events: string;
-  readonly scores: string;
-  readonly passScores: string;
-  readonly dead: string;
-  readonly group: string;
-  readonly passGroup: string;
-}
 
 export const bench: BenchFn = async ({ quick }) => {
   const rows = quick ? 20_000 : 200_000;
@@ -82,10 +77,10 @@ export const bench: BenchFn = async ({ quick }) => {
   const messages = stream.messages.slice(0, rows / ROWS_PER_MESSAGE);
   const paced = stream.messages.slice(rows / ROWS_PER_MESSAGE);
   const runs = quick ? 1 : 3;
+  const core = () => coreRate(stream.rows, stream.labels, rows, stream.width);
 
-  const core = await cpuTimed(rows * (runs + (runs > 1 ? 1 : 0)), () =>
-    coreRate(stream.rows, stream.labels, rows, stream.width, runs),
-  );
+  // The core's compiler warms up before any of its runs is timed.
+  core();
   const inProcess = await cpuTimed(rows * (runs + (runs > 1 ? 1 : 0)), () =>
     modelSideRate(messages, rows, runs),
   );
@@ -96,75 +91,65 @@ export const bench: BenchFn = async ({ quick }) => {
   const dir = await mkdtemp(join(tmpdir(), 'shoal-bench-serve-'));
   try {
     const base = uniqueName('bench-serve');
-    const t: Topics = {
-      events: `${base}-events`,
-      scores: `${base}-scores`,
-      passScores: `${base}-pass-scores`,
-      dead: `${base}-dead`,
-      group: `${base}-group`,
-      passGroup: `${base}-pass-group`,
-    };
-    await createTopics(brokers, t);
+    const dead = `${base}-dead`;
+    const passEvents = `${base}-pass-events`;
+    const passScores = `${base}-pass-scores`;
+    await createTopics(brokers, [passEvents, dead], [passScores]);
     await produce(
       brokers,
-      t.events,
+      passEvents,
       messages.map((value) => ({ value })),
     );
+    await passThrough(brokers, { events: passEvents, scores: passScores, dead }, messages.length);
+    const pass = spanRate(await readAll(brokers, passScores));
 
-    await passThrough(brokers, t, messages.length);
-    const passScores = await readAll(brokers, t.passScores);
-    const pass = spanRate(passScores);
-
-    const config = join(dir, 'serve.yaml');
-    await writeFile(config, stringify({ ...RUN, kafka: kafkaSection(brokers, t, t.group, t.scores) }));
-    const serve = new ServeProcess(config);
-    let latency: Latency;
-    let served: number;
-    let servedCpu: number;
-    try {
-      // Its CPU time from joining the group (it fetches at once: the events are on the topic) to the end.
-      await serve.waitFor('joined the group', 120_000);
-      const joined = cpuSeconds(serve.pid);
-      await waitCommitted(brokers, t.group, { [t.events]: messages.length }, 600_000);
-      servedCpu = rows / (cpuSeconds(serve.pid) - joined);
-      const scoresBefore = await readAll(brokers, t.scores);
-      served = spanRate(scoresBefore);
-      // Half the measured maximum, one message at a time, for a bounded time and count.
-      const offered = served / 2;
-      const count = Math.max(
-        5,
-        Math.min(paced.length, Math.floor((offered * latencySeconds) / ROWS_PER_MESSAGE)),
+    // Each run of serve right after a timed run of the core, so that each ratio is of one moment's load.
+    const rounds: Round[] = [];
+    for (let run = 0; run < runs; run++) {
+      const coreNow = await cpuTimed(rows, core);
+      const t = {
+        events: `${base}-events-${run}`,
+        scores: `${base}-scores-${run}`,
+        dead,
+        group: `${base}-group-${run}`,
+      };
+      await createTopics(brokers, [t.events], [t.scores]);
+      await produce(
+        brokers,
+        t.events,
+        messages.map((value) => ({ value })),
       );
-      const cpu0 = cpuSeconds(serve.pid);
-      const wall0 = performance.now();
-      await pace(brokers, t.events, paced.slice(0, count), offered);
-      await waitCommitted(brokers, t.group, { [t.events]: messages.length + count }, 120_000);
-      const busy = (cpuSeconds(serve.pid) - cpu0) / ((performance.now() - wall0) / 1000);
-      const all = await readAll(brokers, t.scores);
-      latency = { offered, ...latencies(all.slice(scoresBefore.length)), messages: count, busy };
-      serve.signal('SIGTERM');
-      const code = await serve.exited;
-      if (code !== 0) throw new Error(`shoal serve exited ${code}: ${serve.stderr}`);
-    } finally {
-      serve.signal('SIGKILL');
+      const config = join(dir, `serve-${run}.yaml`);
+      await writeFile(config, stringify({ ...RUN, kafka: kafkaSection(brokers, t, t.group, t.scores) }));
+      rounds.push({
+        core: coreNow,
+        ...(await serveOnce(config, brokers, t, messages.length, paced, latencySeconds)),
+      });
     }
 
-    const ofCore = served / core.wall;
-    const cpuOfCore = servedCpu / core.cpu;
+    const served = median(rounds.map((r) => r.served));
+    const servedCpu = median(rounds.map((r) => r.servedCpu));
+    const coreWall = median(rounds.map((r) => r.core.wall));
+    const coreCpu = median(rounds.map((r) => r.core.cpu));
+    const ofCore = median(rounds.map((r) => r.served / r.core.wall));
+    const cpuOfCore = median(rounds.map((r) => r.servedCpu / r.core.cpu));
+    const latency = medianLatency(rounds.map((r) => r.latency));
+    const each = (f: (r: Round) => number, digits: number): string =>
+      rounds.map((r) => f(r).toFixed(digits)).join(', ');
     const perCpu = (rate: number): string =>
       `${Math.round(rate).toLocaleString('en-US')} rows per CPU second`;
     const rowsOut: BenchRow[] = [
       {
         name: 'core: bagging ×10 in process, no Kafka',
-        rate: core.wall,
+        rate: coreWall,
         unit: 'rows/s',
-        note: perCpu(core.cpu),
+        note: perCpu(coreCpu),
       },
       {
         name: 'model side in process (decode, session, encode)',
         rate: inProcess.wall,
         unit: 'rows/s',
-        note: `${(inProcess.wall / core.wall).toFixed(2)}× core; ${perCpu(inProcess.cpu)}`,
+        note: `${(inProcess.wall / coreWall).toFixed(2)}× core; ${perCpu(inProcess.cpu)}`,
       },
       {
         name: 'pass-through over the broker (no model)',
@@ -176,37 +161,43 @@ export const bench: BenchFn = async ({ quick }) => {
         name: 'shoal serve over the broker, bagging ×10',
         rate: served,
         unit: 'rows/s',
-        note: `${ofCore.toFixed(2)}× core (target ≥ 0.7×), ${(served / pass).toFixed(2)}× pass-through; serve's process: ${perCpu(servedCpu)}`,
+        note: `${(served / pass).toFixed(2)}× pass-through; serve's process: ${perCpu(servedCpu)}`,
       },
-      { name: 'serve ÷ core', rate: ofCore, unit: '×', note: 'target ≥ 0.7' },
+      {
+        name: 'serve ÷ core',
+        rate: ofCore,
+        unit: '×',
+        note: `target ≥ 0.7; runs ${each((r) => r.served / r.core.wall, 2)}`,
+      },
       {
         name: 'serve ÷ core, by CPU time',
         rate: cpuOfCore,
         unit: '×',
-        note: "rows per CPU second of serve's process ÷ the core's: steadier on a busy machine",
+        note: `rows per CPU second of serve's process ÷ the core's; runs ${each((r) => r.servedCpu / r.core.cpu, 2)}`,
       },
       {
-        name: `latency at ${Math.round(latency.offered).toLocaleString('en-US')} rows/s offered, p50`,
+        name: `latency at half the serve rate, p50`,
         rate: latency.p50,
         unit: 'ms',
         note: `produce → score on topic; to scoring ${latency.scoredP50.toFixed(1)} ms`,
       },
       {
-        name: `latency at ${Math.round(latency.offered).toLocaleString('en-US')} rows/s offered, p99`,
+        name: `latency at half the serve rate, p99`,
         rate: latency.p99,
         unit: 'ms',
-        note: `target ≤ 50 ms; to scoring ${latency.scoredP99.toFixed(1)} ms; ${latency.rows} rows in ${latency.messages} messages; serve busy ${Math.round(100 * latency.busy)}% of a core`,
+        note: `target ≤ 50 ms; runs ${each((r) => r.latency.p99, 0)} ms; to scoring ${latency.scoredP99.toFixed(1)} ms; ${latency.messages} messages a run; serve busy ${Math.round(100 * latency.busy)}% of a core`,
       },
     ];
     return {
-      title: `End to end over a real broker (${external ? `KAFKA_BROKERS ${external}` : 'Apache Kafka 4.1.1, one KRaft node'}): ${rows.toLocaleString('en-US')} rows in ${ROWS_PER_MESSAGE}-row Arrow messages, inline labels`,
+      title: `End to end over a real broker (${external ? `KAFKA_BROKERS ${external}` : 'Apache Kafka 4.1.1, one KRaft node'}): ${rows.toLocaleString('en-US')} rows in ${ROWS_PER_MESSAGE}-row Arrow messages, inline labels, ${runs} run${runs > 1 ? 's' : ''} (medians)`,
       rows: rowsOut,
       json: {
         machine: machine(),
         rows,
         rowsPerMessage: ROWS_PER_MESSAGE,
         ensemble: SPEC,
-        core: { rowsPerSecond: core.wall, rowsPerCpuSecond: core.cpu },
+        runs,
+        core: { rowsPerSecond: coreWall, rowsPerCpuSecond: coreCpu },
         modelSide: { rowsPerSecond: inProcess.wall, rowsPerCpuSecond: inProcess.cpu },
         passThrough: { rowsPerSecond: pass },
         serve: {
@@ -217,6 +208,14 @@ export const bench: BenchFn = async ({ quick }) => {
           ofPassThrough: served / pass,
         },
         latency,
+        each: rounds.map((r) => ({
+          core: r.core.wall,
+          served: r.served,
+          ofCore: r.served / r.core.wall,
+          ofCoreByCpu: r.servedCpu / r.core.cpu,
+          p50: r.latency.p50,
+          p99: r.latency.p99,
+        })),
       },
     };
   } finally {
@@ -225,14 +224,72 @@ export const bench: BenchFn = async ({ quick }) => {
   }
 };
 
-/** The learning core: prequential rows/s of the same ensemble on the same rows, one thread. */
-function coreRate(
-  values: Float64Array,
-  labels: Int32Array,
-  rows: number,
-  width: number,
-  runs: number,
-): number {
+/** One run of serve with the core timed just before it. */
+interface Round {
+  readonly core: { wall: number; cpu: number };
+  readonly served: number;
+  readonly servedCpu: number;
+  readonly latency: Latency;
+}
+
+/**
+ * `shoal serve` as a child process on an events topic holding `messages` messages: its rate (from the
+ * scores' append times) and rows per CPU second from joining the group to the last commit; then the
+ * latency at half that rate, `paced` messages produced one at a time for `seconds` at most.
+ */
+async function serveOnce(
+  config: string,
+  brokers: string,
+  t: { events: string; scores: string; group: string },
+  messages: number,
+  paced: readonly Buffer[],
+  seconds: number,
+): Promise<Omit<Round, 'core'>> {
+  const serve = new ServeProcess(config);
+  try {
+    // Its CPU time from joining the group (it fetches at once: the events are on the topic) to the end.
+    await serve.waitFor('joined the group', 120_000);
+    const joined = cpuSeconds(serve.pid);
+    await waitCommitted(brokers, t.group, { [t.events]: messages }, 600_000);
+    const servedCpu = (messages * ROWS_PER_MESSAGE) / (cpuSeconds(serve.pid) - joined);
+    const scoresBefore = await readAll(brokers, t.scores);
+    const served = spanRate(scoresBefore);
+    // Half the measured maximum, one message at a time, for a bounded time and count.
+    const offered = served / 2;
+    const count = Math.max(5, Math.min(paced.length, Math.floor((offered * seconds) / ROWS_PER_MESSAGE)));
+    const cpu0 = cpuSeconds(serve.pid);
+    const wall0 = performance.now();
+    await pace(brokers, t.events, paced.slice(0, count), offered);
+    await waitCommitted(brokers, t.group, { [t.events]: messages + count }, 120_000);
+    const busy = (cpuSeconds(serve.pid) - cpu0) / ((performance.now() - wall0) / 1000);
+    const all = await readAll(brokers, t.scores);
+    const latency = { offered, ...latencies(all.slice(scoresBefore.length)), messages: count, busy };
+    serve.signal('SIGTERM');
+    const code = await serve.exited;
+    if (code !== 0) throw new Error(`shoal serve exited ${code}: ${serve.stderr}`);
+    return { served, servedCpu, latency };
+  } finally {
+    serve.signal('SIGKILL');
+  }
+}
+
+/** Each field of the runs' latencies, the median over the runs. */
+function medianLatency(runs: readonly Latency[]): Latency {
+  const of = (f: (l: Latency) => number): number => median(runs.map(f));
+  return {
+    offered: of((l) => l.offered),
+    messages: of((l) => l.messages),
+    busy: of((l) => l.busy),
+    rows: of((l) => l.rows),
+    p50: of((l) => l.p50),
+    p99: of((l) => l.p99),
+    scoredP50: of((l) => l.scoredP50),
+    scoredP99: of((l) => l.scoredP99),
+  };
+}
+
+/** The learning core: prequential rows/s of the same ensemble on the same rows, one thread, one run. */
+function coreRate(values: Float64Array, labels: Int32Array, rows: number, width: number): number {
   const schema = numericSchema(width);
   const verdict = new Verdict();
   return medianRate(
@@ -247,8 +304,8 @@ function coreRate(
       }
       return correct;
     },
-    runs,
-    runs > 1 ? 1 : 0,
+    1,
+    0,
   );
 }
 
@@ -281,7 +338,7 @@ async function modelSideRate(messages: readonly Buffer[], rows: number, runs: nu
 
 function kafkaSection(
   brokers: string,
-  t: Pick<Topics, 'events' | 'dead'>,
+  t: { readonly events: string; readonly dead: string },
   group: string,
   scores: string,
 ): Record<string, unknown> {
@@ -305,17 +362,20 @@ function serveSettings(
   };
 }
 
-async function createTopics(brokers: string, t: Topics): Promise<void> {
+/** Topics of one partition; those of `appended` carry the broker's append time on each record. */
+async function createTopics(
+  brokers: string,
+  plain: readonly string[],
+  appended: readonly string[],
+): Promise<void> {
   const admin = client(brokers).admin();
   await admin.connect();
   // The broker's append time on each scores record: the moment the score is on the topic.
   const appendTime = [{ name: 'message.timestamp.type', value: 'LogAppendTime' }];
   await admin.createTopics({
     topics: [
-      { topic: t.events, numPartitions: 1 },
-      { topic: t.dead, numPartitions: 1 },
-      { topic: t.scores, numPartitions: 1, configEntries: appendTime },
-      { topic: t.passScores, numPartitions: 1, configEntries: appendTime },
+      ...plain.map((topic) => ({ topic, numPartitions: 1 })),
+      ...appended.map((topic) => ({ topic, numPartitions: 1, configEntries: appendTime })),
     ],
     waitForLeaders: true,
   });
@@ -326,13 +386,12 @@ async function createTopics(brokers: string, t: Topics): Promise<void> {
  * The pass-through: the service's consumer, batch decoder, scores encoder and output producer, with no
  * model (every row gets zero probabilities), until `messages` events messages were handled.
  */
-async function passThrough(brokers: string, t: Topics, messages: number): Promise<void> {
-  const { config, settings } = serveSettings(brokers, {
-    events: t.events,
-    scores: t.passScores,
-    dead: t.dead,
-    group: t.passGroup,
-  });
+async function passThrough(
+  brokers: string,
+  t: { events: string; scores: string; dead: string },
+  messages: number,
+): Promise<void> {
+  const { config, settings } = serveSettings(brokers, { ...t, group: `${t.events}-group` });
   const log = quietLogger();
   const kafka = createKafka(settings, readSecrets(settings, {}, 'bench'), log);
   const producer = new OutputProducer(kafka, log);
@@ -352,7 +411,7 @@ async function passThrough(brokers: string, t: Topics, messages: number): Promis
     const dead: DeadLetter[] = [];
     const events = decoder.decode(batch.topic, batch.partition, batch.messages, dead);
     const outputs: TopicOutputs[] =
-      events === null ? [] : [{ topic: t.passScores, messages: noModelScores(events, frames.classes) }];
+      events === null ? [] : [{ topic: t.scores, messages: noModelScores(events, frames.classes) }];
     const acknowledged = delivering.then(async (before) => {
       const delivered = before && (await producer.deliver(outputs, async () => undefined));
       handled += batch.messages.length;
