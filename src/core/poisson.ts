@@ -16,11 +16,16 @@ import type { Rng } from './random.js';
  * const draw = new PoissonSampler(1);
  * const k = draw.sample(rng); // P(k = 0) = e^-1
  */
+/** Entries of the inversion table counted without branches, and how many of them lie below ⌊λ⌋. */
+const WINDOW = 8;
+const WINDOW_BELOW = 3;
+
 export class PoissonSampler {
   readonly lambda: number;
+  /** F(0), F(1), …, up to 1, then padded with 1s so that the window below always fits. */
   private readonly cdf: Float64Array;
-  /** Where the inversion's search starts: ⌊λ⌋, within the table. */
-  private readonly start: number;
+  /** The first entry of the window of `WINDOW` entries counted without branches, a little below ⌊λ⌋. */
+  private readonly low: number;
   private readonly rejection: RejectionConstants | null;
 
   constructor(lambda: number) {
@@ -38,24 +43,38 @@ export class PoissonSampler {
       }
       cdf[cdf.length - 1] = 1;
     }
+    this.low = Math.max(0, Math.min(Math.floor(lambda), cdf.length - 1) - WINDOW_BELOW);
+    while (cdf.length < this.low + WINDOW + 1) cdf.push(1);
     this.cdf = Float64Array.from(cdf);
-    this.start = Math.min(Math.floor(lambda), Math.max(0, cdf.length - 1));
   }
 
   /**
-   * One draw k ~ Poisson(λ): the least k with u < F(k). The search starts at ⌊λ⌋, next to the mode, and
-   * walks down or up from there: the same k as a search from 0, in one or two steps instead of λ + 1.
+   * One draw k ~ Poisson(λ): the least k with u < F(k), which is the number of entries F(j) ≤ u, the
+   * table being non-decreasing. Counted without branches over a window of entries around ⌊λ⌋, the
+   * mode (for λ = 1 it holds 98% of the draws, for λ = 6 about 90%), and searched down or up from
+   * there beyond it: a search, whose steps go either way on each draw, mispredicted about one
+   * branch a draw.
    */
   sample(rng: Rng): number {
     if (this.rejection !== null) return transformedRejection(rng, this.lambda, this.rejection);
     const u = rng.next();
     const cdf = this.cdf;
-    let k = this.start;
-    if (u < cdf[k]!) {
+    let k = this.low;
+    if (k > 0 && u < cdf[k - 1]!) {
+      k--;
       while (k > 0 && u < cdf[k - 1]!) k--;
-    } else {
-      while (u >= cdf[k]!) k++;
+      return k;
     }
+    k +=
+      Number(u >= cdf[k]!) +
+      Number(u >= cdf[k + 1]!) +
+      Number(u >= cdf[k + 2]!) +
+      Number(u >= cdf[k + 3]!) +
+      Number(u >= cdf[k + 4]!) +
+      Number(u >= cdf[k + 5]!) +
+      Number(u >= cdf[k + 6]!) +
+      Number(u >= cdf[k + 7]!);
+    while (u >= cdf[k]!) k++;
     return k;
   }
 }
