@@ -15,7 +15,6 @@ import {
   majorityInto,
   NaiveBayesScratch,
   naiveBayesInto,
-  naiveBayesObserve,
   observe,
 } from './hoeffding-tree-leaf-model.js';
 import {
@@ -284,45 +283,6 @@ export class HoeffdingTree implements Classifier {
     let predicted: number;
     let majority = -1;
     let nb = -1;
-    if (slot >= 0 && mode !== PREDICT_MAJORITY && leaves.c === 2 && leaves.allNumeric && label < 2) {
-      // The common case: naive Bayes and the statistics' update in one pass (see `naiveBayesObserve`).
-      if (mode === PREDICT_NB || leaves.heads[head + H_NB_CORRECT]! > leaves.heads[head + H_MC_CORRECT]!) {
-        nb = naiveBayesObserve(
-          leaves,
-          this.naiveBayes,
-          leaf,
-          head,
-          slot,
-          row,
-          offset,
-          label,
-          weight,
-          out,
-          outOffset,
-        );
-        if (mode === PREDICT_ADAPTIVE) majority = majorityClass(leaves, head);
-        predicted = nb;
-      } else {
-        majority = majorityInto(leaves, head, out, outOffset);
-        nb = naiveBayesObserve(
-          leaves,
-          this.naiveBayes,
-          leaf,
-          head,
-          slot,
-          row,
-          offset,
-          label,
-          weight,
-          this.probe,
-          0,
-        );
-        predicted = majority;
-      }
-      this.tally(leaf, label, weight, majority, nb);
-      this.grow(node, leaf, weight);
-      return predicted;
-    }
     if (mode === PREDICT_MAJORITY || slot < 0) {
       majority = majorityInto(leaves, head, out, outOffset);
       predicted = majority;
@@ -426,33 +386,17 @@ export class HoeffdingTree implements Classifier {
     majority: number,
     nb: number,
   ): void {
-    this.tally(leaf, label, weight, majority, nb);
-    const slot = this.leaves.slotOf[leaf]!;
-    if (slot < 0) return;
-    observe(this.leaves, leaf, slot, row, offset, label, weight);
-    this.grow(node, leaf, weight);
-  }
-
-  /** Count a labelled row in leaf `leaf`'s head: its class, and which of the two models had it right. */
-  private tally(leaf: number, label: number, weight: number, majority: number, nb: number): void {
     const leaves = this.leaves;
     const head = leaf * leaves.headSize;
     const heads = leaves.heads;
-    if (this.mode === PREDICT_ADAPTIVE && leaves.slotOf[leaf]! >= 0) {
+    const slot = leaves.slotOf[leaf]!;
+    if (this.mode === PREDICT_ADAPTIVE && slot >= 0) {
       if (majority === label) heads[head + H_MC_CORRECT]! += weight;
       if (nb === label) heads[head + H_NB_CORRECT]! += weight;
     }
     heads[head + HEAD + label]! += weight;
-  }
-
-  /**
-   * After active leaf `leaf` at node `node` observed a row of `weight`: attempt a split when its clock
-   * says so, and check the memory cap now and then.
-   */
-  private grow(node: number, leaf: number, weight: number): void {
-    const leaves = this.leaves;
-    const head = leaf * leaves.headSize;
-    const heads = leaves.heads;
+    if (slot < 0) return;
+    observe(leaves, leaf, slot, row, offset, label, weight);
     heads[head + H_OBSERVED]! += weight;
     const observed = heads[head + H_OBSERVED]!;
     const o = this.options;
