@@ -6,8 +6,9 @@ import type { Rng } from './random.js';
  * Exact Poisson sampling for any λ ≥ 0, the weight of online bagging (Oza & Russell, "Online bagging
  * and boosting", AISTATS 2001: each member trains on each example k ~ Poisson(λ) times).
  *
- * - λ < 10: inversion by sequential search over a cumulative table built once per sampler; one uniform
- *   per draw, which is what the hot path of an ensemble needs for λ = 1 and λ = 6.
+ * - λ < 10: inversion over a cumulative table built once per sampler (a count without branches near the
+ *   mode, a search beyond it); one uniform per draw, which is what the hot path of an ensemble needs
+ *   for λ = 1 and λ = 6.
  * - λ ≥ 10: Hörmann's transformed rejection with squeeze, PTRS ("The transformed rejection method for
  *   generating Poisson random variables", Insurance: Mathematics and Economics 12, 1993), exact and
  *   O(1) expected time for large λ.
