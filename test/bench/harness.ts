@@ -61,6 +61,41 @@ export function medianRate(items: number, body: () => number, runs = 3, warmup =
 }
 
 /**
+ * Several bodies timed in rounds: each round times every body once (after `warmup` untimed rounds),
+ * starting one further along the list each round, so that all of them see the same load of a shared
+ * host however it moves. Returns each body's rates (items per second), one a timed round, in the order
+ * of `bodies`; `items[i]` is what body i processes per call.
+ */
+export function roundRates(
+  items: readonly number[],
+  bodies: readonly (() => number)[],
+  rounds = 3,
+  warmup = 1,
+): number[][] {
+  let sink = 0;
+  const rates = bodies.map((): number[] => []);
+  for (let round = 0; round < warmup + rounds; round++) {
+    for (let k = 0; k < bodies.length; k++) {
+      const i = (round + k) % bodies.length;
+      const t0 = process.hrtime.bigint();
+      sink += bodies[i]!();
+      const ns = Number(process.hrtime.bigint() - t0);
+      if (round >= warmup) rates[i]!.push(items[i]! / (ns / 1e9));
+    }
+  }
+  if (Number.isNaN(sink)) process.stdout.write('');
+  return rates;
+}
+
+/**
+ * The median of the rounds' ratios of two bodies' rates from `roundRates`: on a host whose speed drifts
+ * it is steadier than the ratio of the two medians.
+ */
+export function roundRatio(rates: readonly number[], reference: readonly number[]): number {
+  return median(rates.map((r, i) => r / reference[i]!));
+}
+
+/**
  * The floor: a bare loop that reads every value of every row once, over the same data as the
  * measured work. A learner's rate divided by this shows its cost per row in units of "one pass".
  */

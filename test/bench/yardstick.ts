@@ -1,5 +1,4 @@
 import { Rng } from '../../src/core/index.js';
-import { medianRate } from './harness.js';
 
 /**
  * A yardstick for the learning core: the least arithmetic a 10-member bagging of naive-Bayes-leaf trees
@@ -46,15 +45,18 @@ function fixedTree(rng: Rng, width: number): FixedTree {
   };
 }
 
-/** Rows per second of the yardstick; with `train` false, only the draw-free walk and naive Bayes (scoring). */
-export function yardstickRate(
+/**
+ * One run of the yardstick over `rows` rows, to be timed; returns its correct predictions. With `train`
+ * false, only the draw-free walk and naive Bayes (scoring).
+ */
+export function yardstickRun(
   values: Float64Array,
   labels: Int32Array,
   rows: number,
   width: number,
   train: boolean,
-): number {
-  return medianRate(rows, () => {
+): () => number {
+  return () => {
     const rng = new Rng('bench-yardstick');
     const trees = Array.from({ length: MEMBERS }, () => fixedTree(rng, width));
     let correct = 0;
@@ -109,5 +111,5 @@ export function yardstickRate(
       if ((vote > MEMBERS / 2 ? 1 : 0) === label) correct++;
     }
     return correct;
-  });
+  };
 }

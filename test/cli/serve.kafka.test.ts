@@ -79,15 +79,20 @@ describe('shoal serve on a real broker', () => {
     ])
       expect(summary[key], key).toBe(offline[key]);
   });
-  it('serves 20,000 events with the members on two worker threads into the model and journal of replay in one thread', async () => {
+  it('serves 20,000 events with the members on two worker threads into the scores of one thread and the model and journal of replay', async () => {
     // The default lifecycle (ADWIN monitors, understudies, the proof gate) on a 6-member bagging: seats
     // are watched and put on trial; the threads keep member ids and the replacement cap as one thread.
     const run = { ...RUN, seed: 13, ensemble: { kind: 'bagging', members: 6 } };
     const rows = 20_000;
-    const { dir, journal, events } = await serveInline(inject('kafkaBrokers'), run, rows, 6, [
-      '--threads',
-      '2',
-    ]);
+    const brokers = inject('kafkaBrokers');
+    const { dir, journal, events, scores } = await serveInline(brokers, run, rows, 6, ['--threads', '2']);
+    const oneThread = await serveInline(brokers, run, rows, 6);
+    // What a score row says but the moment it was made: every row's id, class, probabilities, votes.
+    const verdicts = (messages: typeof scores) =>
+      scoreRows(messages).map(({ event_time: _, latency_ms: __, ...row }) => JSON.stringify(row));
+    const threaded = verdicts(scores);
+    expect(threaded.length).toBe(rows);
+    expect(threaded).toEqual(verdicts(oneThread.scores));
     const { replay, journal: replayJournal } = await replayOf(dir, run, events, rows);
     expect(replay.code, replay.err).toBe(0);
     const checkpoint = await newest(join(dir, 'serve-checkpoints'));
