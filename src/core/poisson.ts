@@ -6,8 +6,9 @@ import type { Rng } from './random.js';
  * Exact Poisson sampling for any λ ≥ 0, the weight of online bagging (Oza & Russell, "Online bagging
  * and boosting", AISTATS 2001: each member trains on each example k ~ Poisson(λ) times).
  *
- * - λ < 10: inversion by sequential search over a cumulative table built once per sampler; one uniform
- *   per draw, which is what the hot path of an ensemble needs for λ = 1 and λ = 6.
+ * - λ < 10: inversion over a cumulative table built once per sampler (a count without branches near the
+ *   mode, a search beyond it); one uniform per draw, which is what the hot path of an ensemble needs
+ *   for λ = 1 and λ = 6.
  * - λ ≥ 10: Hörmann's transformed rejection with squeeze, PTRS ("The transformed rejection method for
  *   generating Poisson random variables", Insurance: Mathematics and Economics 12, 1993), exact and
  *   O(1) expected time for large λ.
@@ -16,11 +17,16 @@ import type { Rng } from './random.js';
  * const draw = new PoissonSampler(1);
  * const k = draw.sample(rng); // P(k = 0) = e^-1
  */
+/** Entries of the inversion table counted without branches, and how many of them lie below ⌊λ⌋. */
+const WINDOW = 8;
+const WINDOW_BELOW = 3;
+
 export class PoissonSampler {
   readonly lambda: number;
+  /** F(0), F(1), …, up to 1, then padded with 1s so that the window below always fits. */
   private readonly cdf: Float64Array;
-  /** Where the inversion's search starts: ⌊λ⌋, within the table. */
-  private readonly start: number;
+  /** The first entry of the window of `WINDOW` entries counted without branches, a little below ⌊λ⌋. */
+  private readonly low: number;
   private readonly rejection: RejectionConstants | null;
 
   constructor(lambda: number) {
@@ -38,24 +44,38 @@ export class PoissonSampler {
       }
       cdf[cdf.length - 1] = 1;
     }
+    this.low = Math.max(0, Math.min(Math.floor(lambda), cdf.length - 1) - WINDOW_BELOW);
+    while (cdf.length < this.low + WINDOW + 1) cdf.push(1);
     this.cdf = Float64Array.from(cdf);
-    this.start = Math.min(Math.floor(lambda), Math.max(0, cdf.length - 1));
   }
 
   /**
-   * One draw k ~ Poisson(λ): the least k with u < F(k). The search starts at ⌊λ⌋, next to the mode, and
-   * walks down or up from there: the same k as a search from 0, in one or two steps instead of λ + 1.
+   * One draw k ~ Poisson(λ): the least k with u < F(k), which is the number of entries F(j) ≤ u, the
+   * table being non-decreasing. Counted without branches over a window of entries around ⌊λ⌋, the
+   * mode (for λ = 1 it holds 98% of the draws, for λ = 6 about 90%), and searched down or up from
+   * there beyond it: a search, whose steps go either way on each draw, mispredicted about one
+   * branch a draw.
    */
   sample(rng: Rng): number {
     if (this.rejection !== null) return transformedRejection(rng, this.lambda, this.rejection);
     const u = rng.next();
     const cdf = this.cdf;
-    let k = this.start;
-    if (u < cdf[k]!) {
+    let k = this.low;
+    if (k > 0 && u < cdf[k - 1]!) {
+      k--;
       while (k > 0 && u < cdf[k - 1]!) k--;
-    } else {
-      while (u >= cdf[k]!) k++;
+      return k;
     }
+    k +=
+      Number(u >= cdf[k]!) +
+      Number(u >= cdf[k + 1]!) +
+      Number(u >= cdf[k + 2]!) +
+      Number(u >= cdf[k + 3]!) +
+      Number(u >= cdf[k + 4]!) +
+      Number(u >= cdf[k + 5]!) +
+      Number(u >= cdf[k + 6]!) +
+      Number(u >= cdf[k + 7]!);
+    while (u >= cdf[k]!) k++;
     return k;
   }
 }

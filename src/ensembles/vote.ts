@@ -84,8 +84,10 @@ export function combineVotes(
 }
 
 /**
- * `combineVotes` for two classes, the common case: the same sums in the same order, bit for bit, kept
- * in two locals rather than written to the verdict member by member.
+ * `combineVotes` for two classes, the common case: the same sums in the same order, bit for bit, in one
+ * pass over the members (a second only when no member has a weight, and all vote with weight 1), kept in
+ * locals rather than written to the verdict member by member, with each class's agreeing voters counted
+ * on the way.
  */
 function combineTwo(
   hard: boolean,
@@ -98,34 +100,31 @@ function combineTwo(
 ): void {
   let total = 0;
   let voters = 0;
-  for (let m = 0; m < members; m++) {
-    const w = weights[m]!;
-    if (w > 0) {
-      total += w;
-      voters++;
-    }
-  }
-  const everyone = voters === 0;
-  if (everyone) {
-    total = members;
-    voters = members;
-  }
   let zero = 0;
   let one = 0;
-  for (let m = 0; m < members; m++) {
-    const w = everyone ? 1 : weights[m]!;
-    if (!(w > 0)) continue;
-    const c = confidence[m]!;
-    const spread = (w * (1 - c)) / 2;
-    if (hard) {
-      zero += spread;
-      one += spread;
-      if (preds[m] === 0) zero += w * c;
-      else one += w * c;
-    } else {
-      const wc = w * c;
-      zero += wc * probs[2 * m]! + spread;
-      one += wc * probs[2 * m + 1]! + spread;
+  let zeros = 0;
+  let ones = 0;
+  for (let everyone = 0; everyone < 2 && voters === 0; everyone++) {
+    for (let m = 0; m < members; m++) {
+      const w = everyone === 1 ? 1 : weights[m]!;
+      if (!(w > 0)) continue;
+      total += w;
+      voters++;
+      const c = confidence[m]!;
+      const spread = (w * (1 - c)) / 2;
+      const pred = preds[m]!;
+      if (hard) {
+        zero += spread;
+        one += spread;
+        if (pred === 0) zero += w * c;
+        else one += w * c;
+      } else {
+        const wc = w * c;
+        zero += wc * probs[2 * m]! + spread;
+        one += wc * probs[2 * m + 1]! + spread;
+      }
+      if (pred === 0) zeros++;
+      else if (pred === 1) ones++;
     }
   }
   if (total > 0) {
@@ -137,12 +136,10 @@ function combineTwo(
     one = 0.5;
   }
   const best = one > zero ? 1 : 0;
-  let agree = 0;
-  for (let m = 0; m < members; m++) if ((everyone || weights[m]! > 0) && preds[m] === best) agree++;
   const out = verdict.fit(2);
   out[0] = zero;
   out[1] = one;
   verdict.predicted = best;
   verdict.voters = voters;
-  verdict.agreement = voters > 0 ? agree / voters : 0;
+  verdict.agreement = voters > 0 ? (best === 1 ? ones : zeros) / voters : 0;
 }

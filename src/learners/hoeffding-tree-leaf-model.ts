@@ -50,6 +50,21 @@ export function majorityClass(leaves: TreeLeaves, head: number): number {
 export function majorityInto(leaves: TreeLeaves, head: number, out: Float64Array, outOffset: number): number {
   const heads = leaves.heads;
   const c = leaves.c;
+  if (c === 2) {
+    // Two classes, the common case: the same sums, in one pass.
+    const n0 = heads[head + HEAD]!;
+    const n1 = heads[head + HEAD + 1]!;
+    const total = n0 + n1;
+    if (total > 0) {
+      const inv = 1 / total;
+      out[outOffset] = n0 * inv;
+      out[outOffset + 1] = n1 * inv;
+    } else {
+      out[outOffset] = 0.5;
+      out[outOffset + 1] = 0.5;
+    }
+    return n1 > n0 ? 1 : 0;
+  }
   let total = 0;
   for (let k = 0; k < c; k++) total += heads[head + HEAD + k]!;
   if (total > 0) {
