@@ -240,7 +240,7 @@ class BatchViews {
 
 /**
  * Score (label NaN) or score and train a shard on each row of a batch, writing every member's answers
- * row by row; the ledger is told each step and, now and then, the steps done (see `ShardLedger.stepped`).
+ * row by row; the ledger is told each step and each step done.
  */
 function runShard(
   shard: Bagging,
@@ -274,7 +274,7 @@ function runShard(
       accuracy[at + i] = shard.recentAccuracy(i);
       for (let k = 0, from = i * c, to = (at + i) * stride; k < c; k++) probs[to + k] = answered[from + k]!;
     }
-    ledger.stepped(r + 1, rows);
+    ledger.done(r + 1);
     if (r % PROGRESS_EVERY === 0) Atomics.add(control, C_PROGRESS, 1);
   }
 }

@@ -11,11 +11,9 @@ import { inWindow, type LifecycleSnapshot, type SeatLedger } from '../ensembles/
  *   of its own; then per shard: ids handed out, replacements, the step of each id, the step and the
  *   row of each replacement.
  *
- * A shard writes its progress every PUBLISH_EVERY steps, at the last step of a batch and before it
- * waits for another (so whatever a waiting shard has done is known), and reads the steps waited for
- * when it writes; each shard's line holds only what its own steps touch (64 bytes, a cache line on x86
- * and most ARM): with every progress word on one line, each step of one shard took the line from the
- * other's core.
+ * A shard writes its progress at every step and reads the steps waited for, so each shard's line holds
+ * only what its own steps touch (64 bytes, a cache line on x86 and most ARM): with every progress word
+ * on one line, each step of one shard took the line from the other's core.
  *
  * Shard w holds seats below those of shard w + 1, so an event of shard v at step q comes before the
  * event of shard w at step i in the one-thread order exactly when q < i, or q = i and v < w. A shard
@@ -23,8 +21,7 @@ import { inWindow, type LifecycleSnapshot, type SeatLedger } from '../ensembles/
  * every shard after it step i − 1 (blocking its own thread, never the main one), then counts the
  * events before its own in the logs. Events are rare (a warning, a drift, a replacement), so the shards
  * otherwise run freely; waits never form a cycle, since the earliest waiting (step, shard) has all it
- * waits for (a shard that has it and runs on writes it at its next PUBLISH_EVERY step at the latest; a
- * shard that has it and waits wrote it before waiting). Between batches the ledger is the next id, the recent replacement rows and the epoch
+ * waits for. Between batches the ledger is the next id, the recent replacement rows and the epoch
  * (`LedgerHost`), which the main thread and every shard each take in from a finished batch's logs.
  *
  * A shard waiting for another's progress first polls it for a few microseconds, then sleeps having
@@ -42,11 +39,6 @@ const REPLACEMENTS = 1;
 /** Progress of a shard that failed: nobody waits for it (the batch fails as a whole). */
 export const FAILED = 0x7fffffff;
 const WAIT_MS = 1000;
-/**
- * Steps between two writes of a shard's progress: each write is an atomic store and takes the line from
- * a core polling it. A divisor of the 64-row chunks the shards combine, so a chunk's wait is no longer.
- */
-const PUBLISH_EVERY = 16;
 
 /** Words of a ledger for `shards` shards with room for `cap` events of each kind per shard. */
 export function ledgerWords(shards: number, cap: number): Int32Array<SharedArrayBuffer> {
@@ -108,8 +100,6 @@ export class ShardLedger implements SeatLedger {
   private cap = 0;
   /** The step of the batch being run. */
   step = 0;
-  /** The progress last written (see `done`). */
-  private published = 0;
 
   constructor(
     shard: number,
@@ -130,12 +120,6 @@ export class ShardLedger implements SeatLedger {
     this.words = words;
     this.cap = cap;
     this.step = 0;
-    this.published = 0;
-  }
-
-  /** `steps` steps of a batch of `rows` are done: written every PUBLISH_EVERY steps and at the last. */
-  stepped(steps: number, rows: number): void {
-    if (steps % PUBLISH_EVERY === 0 || steps === rows) this.done(steps);
   }
 
   /**
@@ -155,7 +139,6 @@ export class ShardLedger implements SeatLedger {
   done(steps: number): void {
     const { words, shard, shards } = this;
     const at = progress(shards, shard);
-    this.published = steps;
     Atomics.store(words, at, steps);
     let woken = false;
     for (let w = 0; w < shards; w++) {
@@ -231,8 +214,6 @@ export class ShardLedger implements SeatLedger {
   private reach(v: number, steps: number): number {
     const words = this.words;
     const from = progress(this.shards, v);
-    // What this shard has done is written before it waits: the one waited for may wait on it in turn.
-    if (this.step > this.published) this.done(this.step);
     let p = poll(words, from, steps);
     if (p >= steps) return p;
     // The shard waited for clears the step when it wakes this one (see `done`).
