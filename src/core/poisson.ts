@@ -2,6 +2,10 @@ import { logGamma } from './numeric.js';
 import { nonNegative } from './params.js';
 import type { Rng } from './random.js';
 
+/** Entries of the inversion table counted without branches, and how many of them lie below ⌊λ⌋. */
+const WINDOW = 8;
+const WINDOW_BELOW = 3;
+
 /**
  * Exact Poisson sampling for any λ ≥ 0, the weight of online bagging (Oza & Russell, "Online bagging
  * and boosting", AISTATS 2001: each member trains on each example k ~ Poisson(λ) times).
@@ -17,10 +21,6 @@ import type { Rng } from './random.js';
  * const draw = new PoissonSampler(1);
  * const k = draw.sample(rng); // P(k = 0) = e^-1
  */
-/** Entries of the inversion table counted without branches, and how many of them lie below ⌊λ⌋. */
-const WINDOW = 8;
-const WINDOW_BELOW = 3;
-
 export class PoissonSampler {
   readonly lambda: number;
   /** F(0), F(1), …, up to 1, then padded with 1s so that the window below always fits. */
