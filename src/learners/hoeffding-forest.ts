@@ -1,6 +1,14 @@
 import { HoeffdingTree } from './hoeffding-tree.js';
-import { forestLeaf } from './hoeffding-tree-nodes.js';
+import * as nodes from './hoeffding-tree-nodes.js';
+import { type ForestArena, forestLeaf } from './hoeffding-tree-nodes.js';
 import type { Classifier } from './learner.js';
+
+/**
+ * How a step packs its feature and child (`hoeffding-tree-nodes.ts`), as this module's own constants:
+ * V8 folds a module's own `const`s into the walk, but reads an imported binding from its cell at every
+ * use.
+ */
+const { FEATURE_BITS, FEATURE_MASK } = nodes;
 
 /**
  * Trees walked per lane group: each group's walks run side by side in registers, so their memory reads
@@ -15,19 +23,22 @@ const MIN_ROOM = 64;
 
 /**
  * Walking the Hoeffding trees of an ensemble together. Every tree's nodes are copied into one arena of
- * 16-byte records (`TreeNodes.copyInto`), each tree in a region of its own with room to grow, where a
- * leaf points to itself and no value leaves it. Trees are walked five at a time, their positions held in
- * locals: each step of every lane is `first + (x > threshold)`, with no test for leaves, and the group
- * stops at the first step on which no lane moved (a split's children always come after it, so a lane
- * that did not move stands on its leaf). The walks are independent, so the processor overlaps their
- * memory reads; a group walks as deep as its deepest lane, not as the deepest tree of the forest. Trees
- * left over after the groups (fewer than five) walk one by one.
+ * two dense columns, thresholds and packed steps (`ForestArena`, `TreeNodes.copyInto`), each tree in a
+ * region of its own with room to grow, where a leaf points to itself and no value leaves it. A step
+ * reads 12 bytes in two loads, where the tree's own 16-byte records take three: on the same trained
+ * trees the columns walked 1.4× faster, and bagging ×10 trained 1.05–1.09× and scored 1.14–1.16× faster
+ * (alternated builds in one process, Intel Xeon, 2 MiB L2). Trees are walked five at a time, their
+ * positions held in locals: each step of every lane is `first + (x > threshold)`, with no test for
+ * leaves, and the group stops at the first step on which no lane moved (a split's children always come
+ * after it, so a lane that did not move stands on its leaf). The walks are independent, so the
+ * processor overlaps their memory reads; a group walks as deep as its deepest lane, not as the deepest
+ * tree of the forest. Trees left over after the groups (fewer than five) walk one by one.
  *
  * Members are compared to the arena on each walk: a seat that changed learner rebuilds it, a tree that
  * split since its copy is copied again into its own region (the whole arena only when the region is
  * full), so the cost of a split does not grow with the number of trees. Forests with a nominal split,
  * seats held by other learners, and rows with a missing value are left to the members' own walks
- * (`walk` returns false).
+ * (`walk` returns false), and so are schemas whose features and nodes do not fit a packed step.
  *
  * Training takes the same walk: a member's leaf stays right until that member itself learns from the
  * row, so every member can be walked before any of them trains, and the members' own argument checks
@@ -49,8 +60,7 @@ export class TreeForest {
   private room = new Int32Array(0);
   /** The node each walk stands on. */
   private at = new Int32Array(0);
-  private hotF = new Float64Array(0);
-  private hotI = new Int32Array(0);
+  private arena: ForestArena = emptyArena(0);
   private width = 0;
   /** Every seat holds a Hoeffding tree, and none has a nominal split: the walk can run. */
   private usable = false;
@@ -74,8 +84,7 @@ export class TreeForest {
     let sum = 0;
     for (let j = 0; j < this.width; j++) sum += row[offset + j]!;
     if (Number.isNaN(sum)) return false;
-    const hotF = this.hotF;
-    const hotI = this.hotI;
+    const { thresholds, steps } = this.arena;
     const starts = this.starts;
     const at = this.at;
     let m = 0;
@@ -86,11 +95,16 @@ export class TreeForest {
       let d = starts[m + 3]!;
       let e = starts[m + 4]!;
       for (;;) {
-        const a1 = hotI[4 * a + 3]! + Number(row[offset + hotI[4 * a + 2]!]! > hotF[2 * a]!);
-        const b1 = hotI[4 * b + 3]! + Number(row[offset + hotI[4 * b + 2]!]! > hotF[2 * b]!);
-        const c1 = hotI[4 * c + 3]! + Number(row[offset + hotI[4 * c + 2]!]! > hotF[2 * c]!);
-        const d1 = hotI[4 * d + 3]! + Number(row[offset + hotI[4 * d + 2]!]! > hotF[2 * d]!);
-        const e1 = hotI[4 * e + 3]! + Number(row[offset + hotI[4 * e + 2]!]! > hotF[2 * e]!);
+        const pa = steps[a]!;
+        const pb = steps[b]!;
+        const pc = steps[c]!;
+        const pd = steps[d]!;
+        const pe = steps[e]!;
+        const a1 = (pa >>> FEATURE_BITS) + Number(row[offset + (pa & FEATURE_MASK)]! > thresholds[a]!);
+        const b1 = (pb >>> FEATURE_BITS) + Number(row[offset + (pb & FEATURE_MASK)]! > thresholds[b]!);
+        const c1 = (pc >>> FEATURE_BITS) + Number(row[offset + (pc & FEATURE_MASK)]! > thresholds[c]!);
+        const d1 = (pd >>> FEATURE_BITS) + Number(row[offset + (pd & FEATURE_MASK)]! > thresholds[d]!);
+        const e1 = (pe >>> FEATURE_BITS) + Number(row[offset + (pe & FEATURE_MASK)]! > thresholds[e]!);
         const moved = (a1 ^ a) | (b1 ^ b) | (c1 ^ c) | (d1 ^ d) | (e1 ^ e);
         a = a1;
         b = b1;
@@ -108,7 +122,8 @@ export class TreeForest {
     for (; m < count; m++) {
       let a = starts[m]!;
       for (;;) {
-        const a1 = hotI[4 * a + 3]! + Number(row[offset + hotI[4 * a + 2]!]! > hotF[2 * a]!);
+        const pa = steps[a]!;
+        const a1 = (pa >>> FEATURE_BITS) + Number(row[offset + (pa & FEATURE_MASK)]! > thresholds[a]!);
         if (a1 === a) break;
         a = a1;
       }
@@ -119,7 +134,7 @@ export class TreeForest {
 
   /** Member `m`'s `score` at the leaf the last `walk` reached. */
   score(m: number, row: Float64Array, offset: number, out: Float64Array, outOffset: number): number {
-    return this.trees[m]!.scoreLeaf(forestLeaf(this.hotI, this.at[m]!), row, offset, out, outOffset);
+    return this.trees[m]!.scoreLeaf(forestLeaf(this.arena, this.at[m]!), row, offset, out, outOffset);
   }
 
   /** Member `m`'s `scoreTrain` at the leaf the last `walk` reached, unchecked (see `scoreTrainAt`). */
@@ -135,7 +150,7 @@ export class TreeForest {
     const at = this.at[m]!;
     return this.trees[m]!.scoreTrainAt(
       at - this.starts[m]!,
-      forestLeaf(this.hotI, at),
+      forestLeaf(this.arena, at),
       row,
       offset,
       label,
@@ -162,11 +177,8 @@ export class TreeForest {
       this.room[m] = Math.max(MIN_ROOM, ROOM_FACTOR * this.trees[m]!.nodeCount);
       total += this.room[m]!;
     }
-    if (this.hotF.length < 2 * total) {
-      this.hotF = new Float64Array(2 * total);
-      this.hotI = new Int32Array(this.hotF.buffer);
-    }
     this.width = this.trees[0]?.schema.features.length ?? 0;
+    if (this.arena.thresholds.length < total) this.arena = emptyArena(total);
     for (let m = 0; m < count && this.usable; m++) this.copy(m);
   }
 
@@ -178,6 +190,11 @@ export class TreeForest {
       return;
     }
     this.copied[m] = tree.structure;
-    this.usable = tree.copyNodesInto(this.hotF, this.hotI, this.starts[m]!);
+    this.usable = tree.copyNodesInto(this.arena, this.starts[m]!);
   }
+}
+
+function emptyArena(nodes: number): ForestArena {
+  const thresholds = new Float64Array(nodes);
+  return { thresholds, words: new Int32Array(thresholds.buffer), steps: new Int32Array(nodes) };
 }

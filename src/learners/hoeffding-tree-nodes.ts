@@ -25,9 +25,30 @@ const QUIET_NAN_HIGH = 0x7ff80000;
 const HIGH_WORD = new Int32Array(new Float64Array([-0]).buffer)[1] !== 0 ? 1 : 0;
 const LOW_WORD = 1 - HIGH_WORD;
 
+/**
+ * A step of a forest arena packs the first child above the feature: `first << FEATURE_BITS | feature`.
+ * So a forest walks schemas of up to 1,024 features and arenas of up to 4,194,304 nodes (wider schemas
+ * and larger forests walk member by member). The widths are constants: V8 folds them into the walk,
+ * where a shift read from a field cost bagging ×10 6% (alternated builds in one process).
+ */
+export const FEATURE_BITS = 10;
+export const FEATURE_MASK = (1 << FEATURE_BITS) - 1;
+const MAX_ARENA_NODES = 2 ** (32 - FEATURE_BITS);
+
+/**
+ * A forest's walk records (see `TreeForest`), one per node in two columns: the threshold, and the
+ * feature and first child packed in one int32 step, so that a step reads 12 bytes from two dense
+ * columns. `words` views the thresholds as int32 pairs.
+ */
+export interface ForestArena {
+  readonly thresholds: Float64Array;
+  readonly words: Int32Array;
+  readonly steps: Int32Array;
+}
+
 /** The leaf index a forest arena's leaf record `n` carries in its threshold (see `copyInto`). */
-export function forestLeaf(hotI: Int32Array, n: number): number {
-  return hotI[4 * n + LOW_WORD]!;
+export function forestLeaf(arena: ForestArena, n: number): number {
+  return arena.words[2 * n + LOW_WORD]!;
 }
 
 export interface NodesState {
@@ -108,27 +129,28 @@ export class TreeNodes {
   }
 
   /**
-   * Copy the hot records into a forest arena (see `TreeForest`) at node `base`: children shifted by
-   * `base`, and each leaf a record that points to itself and that no value leaves, so that a walk can
-   * take every step without testing for leaves. A leaf's threshold is a quiet NaN whose low 32 bits are
-   * its leaf index (`forestLeaf`): no number is above a NaN, and the walk that stops on the record reads
-   * the leaf from the cache line it already holds, not from the cold column. Returns false, copying
-   * nothing more, at the first nominal split: a forest walk compares numbers only.
+   * Copy the nodes into a forest arena (see `TreeForest`) at node `base`: children shifted by `base`, and
+   * each leaf a record that points to itself and that no value leaves, so that a walk can take every
+   * step without testing for leaves. A leaf's threshold is a quiet NaN whose low 32 bits are its leaf
+   * index (`forestLeaf`): no number is above a NaN, and the walk that stops on the record reads the
+   * leaf from the threshold it already holds, not from the cold column. Returns false, copying nothing
+   * more, at the first nominal split (a forest walk compares numbers only), or when the nodes or the
+   * features do not fit a step.
    */
-  copyInto(hotF: Float64Array, hotI: Int32Array, base: number, cardinality: Int32Array): boolean {
+  copyInto(arena: ForestArena, base: number, cardinality: Int32Array): boolean {
+    const { thresholds, words, steps } = arena;
+    if (base + this.count > MAX_ARENA_NODES || cardinality.length > FEATURE_MASK + 1) return false;
     for (let n = 0; n < this.count; n++) {
       const at = base + n;
       const f = this.hotI[4 * n + I_FEATURE]!;
       if (f < 0) {
-        hotI[4 * at + LOW_WORD] = this.leafOf[n]!;
-        hotI[4 * at + HIGH_WORD] = QUIET_NAN_HIGH;
-        hotI[4 * at + I_FEATURE] = 0;
-        hotI[4 * at + I_FIRST] = at;
+        words[2 * at + LOW_WORD] = this.leafOf[n]!;
+        words[2 * at + HIGH_WORD] = QUIET_NAN_HIGH;
+        steps[at] = at << FEATURE_BITS;
       } else {
         if (cardinality[f] !== 0) return false;
-        hotF[HOT * at] = this.hotF[HOT * n]!;
-        hotI[4 * at + I_FEATURE] = f;
-        hotI[4 * at + I_FIRST] = base + this.hotI[4 * n + I_FIRST]!;
+        thresholds[at] = this.hotF[HOT * n]!;
+        steps[at] = ((base + this.hotI[4 * n + I_FIRST]!) << FEATURE_BITS) | f;
       }
     }
     return true;

@@ -26,7 +26,7 @@ import {
   type LeavesState,
   TreeLeaves,
 } from './hoeffding-tree-leaves.js';
-import { NODE_BYTES, type NodesState, TreeNodes } from './hoeffding-tree-nodes.js';
+import { type ForestArena, NODE_BYTES, type NodesState, TreeNodes } from './hoeffding-tree-nodes.js';
 import { SplitSearch } from './hoeffding-tree-split.js';
 import {
   type Classifier,
@@ -317,9 +317,9 @@ export class HoeffdingTree implements Classifier {
     return this.nodes.count;
   }
 
-  /** Copy the nodes into a forest arena at node `base` (see `TreeNodes.copyInto`); false if a split is nominal. */
-  copyNodesInto(hotF: Float64Array, hotI: Int32Array, base: number): boolean {
-    return this.nodes.copyInto(hotF, hotI, base, this.leaves.cardinalities);
+  /** Copy the nodes into a forest arena at node `base` (see `TreeNodes.copyInto`); false if they cannot walk there. */
+  copyNodesInto(arena: ForestArena, base: number): boolean {
+    return this.nodes.copyInto(arena, base, this.leaves.cardinalities);
   }
 
   /**

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { Rng } from '../../src/core/index.js';
+import { numericSchema, Rng } from '../../src/core/index.js';
 import { HoeffdingTree, TreeForest } from '../../src/learners/index.js';
 import { sea, stagger } from '../../src/streams/index.js';
 
@@ -78,5 +78,27 @@ describe('TreeForest', () => {
     for (let i = 0; i < 10_000; i++) nominal[0]!.member.train(r, 0, gen.next(r, 0), 1);
     expect(nominal[0]!.member.shape.nodes).toBeGreaterThan(1);
     expect(forest.walk(nominal, r, 0)).toBe(false);
+  });
+
+  it('walks schemas of up to 1,024 features, the most a packed step holds, and leaves wider ones to the trees', () => {
+    for (const [width, walks] of [
+      [1024, true],
+      [1025, false],
+    ] as const) {
+      const seats = [{ member: new HoeffdingTree(numericSchema(width), {}, 1) }];
+      const row = new Float64Array(width).fill(1);
+      const out = new Float64Array(2);
+      seats[0]!.member.ensureClasses(2);
+      for (let i = 0; i < 300; i++) {
+        row[width - 1] = i % 2;
+        seats[0]!.member.train(row, 0, i % 2, 1);
+      }
+      // The tree splits on the last feature, the highest index a step has to hold.
+      expect(seats[0]!.member.shape.nodes).toBe(3);
+      const forest = new TreeForest();
+      expect(forest.walk(seats, row, 0)).toBe(walks);
+      const own = seats[0]!.member.score(row, 0, out, 0);
+      if (walks) expect(forest.score(0, row, 0, new Float64Array(2), 0)).toBe(own);
+    }
   });
 });
