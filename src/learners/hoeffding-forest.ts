@@ -194,6 +194,7 @@ export class TreeForest {
   }
 }
 
+/** An arena with room for `nodes` nodes (the thresholds' int32 words a view of the same memory). */
 function emptyArena(nodes: number): ForestArena {
   const thresholds = new Float64Array(nodes);
   return { thresholds, words: new Int32Array(thresholds.buffer), steps: new Int32Array(nodes) };
