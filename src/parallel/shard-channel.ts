@@ -2,7 +2,7 @@ import { type MessagePort, receiveMessageOnPort } from 'node:worker_threads';
 import { ShoalError, type ShoalErrorCode } from '../core/index.js';
 import { type Bagging, type EnsembleSnapshot, type SeatView, Verdict } from '../ensembles/index.js';
 import { type LifecycleChange, MEMBER_STATES } from '../journal/index.js';
-import { FAILED, poll, type ShardLedger } from './shard-ledger.js';
+import { FAILED, NONE_LEFT, NOT_READY, poll, type ShardLedger } from './shard-ledger.js';
 import {
   type AnswerBuffers,
   type AnswerViews,
@@ -248,6 +248,7 @@ function runShard(
   request: BatchRequest,
   views: BatchViews,
   control: Int32Array,
+  meanwhile: () => void,
 ): void {
   const { rows, train } = request;
   const { values, labels, stride } = views;
@@ -276,18 +277,37 @@ function runShard(
     }
     ledger.done(r + 1);
     if (r % PROGRESS_EVERY === 0) Atomics.add(control, C_PROGRESS, 1);
+    if (r % CHUNK === CHUNK - 1) meanwhile();
   }
 }
 
 /**
- * Combine chunks of the batch's rows until none is left, each once every shard has answered its rows
- * (none when a shard failed: the batch fails as a whole).
+ * A batch this shard is through (its rows answered, its status written) but has not answered yet: the
+ * other shards may still be on it, and chunks of its rows may be left to combine.
  */
-function combineChunks(ledger: ShardLedger, rows: number, combiner: RowCombiner): void {
-  for (let from = ledger.claim() * CHUNK; from < rows; from = ledger.claim() * CHUNK) {
-    const to = Math.min(rows, from + CHUNK);
-    if (!ledger.awaitAll(to)) return;
-    combiner.rows(from, to);
+interface ClosedBatch {
+  /** The request's number. */
+  readonly request: number;
+  readonly rows: number;
+  readonly combiner: RowCombiner;
+  /** The batch's ledger words. */
+  readonly words: Int32Array;
+  /** The shard's lifecycle changes in the batch, the step of each, and its error. */
+  readonly changes: LifecycleChange[];
+  readonly steps: number[];
+  readonly error: ShardReply['error'];
+}
+
+/**
+ * Combine the chunks of a closed batch that every shard has answered, never waiting; true when none is
+ * left (every chunk claimed).
+ */
+function combineReady(ledger: ShardLedger, batch: ClosedBatch): boolean {
+  for (;;) {
+    const chunk = ledger.claim(batch.words, batch.rows, CHUNK);
+    if (chunk === NONE_LEFT) return true;
+    if (chunk === NOT_READY) return false;
+    batch.combiner.rows(chunk * CHUNK, Math.min(batch.rows, (chunk + 1) * CHUNK));
   }
 }
 
@@ -411,12 +431,15 @@ export class ShardClient {
 }
 
 /**
- * The shards' tally of answers, in shared memory: every shard adds one when it answers a request, and
- * the one that completes a request's answers wakes the main thread — once a request, rather than once
- * a shard (a wake-up costs the main thread a turn of its event loop, and a core a worker may be using).
+ * The shards' tally of answers, in shared memory, a word for each entry of the ring (request n's at
+ * n mod RING): every shard adds one to a request's word when it answers it, and the one that completes
+ * the request's answers wakes the main thread — once a request, rather than once a shard (a wake-up
+ * costs the main thread a turn of its event loop, and a core a worker may be using). A word a request:
+ * a shard may answer a batch before another has answered the one ahead of it. The main thread clears a
+ * request's word once it has its answers, before the entry is used again.
  */
 export function answerTally(): Int32Array {
-  return new Int32Array(new SharedArrayBuffer(4));
+  return new Int32Array(new SharedArrayBuffer(4 * RING));
 }
 
 /**
@@ -428,11 +451,11 @@ export async function allAnswered(
   clients: readonly ShardClient[],
   request: number,
 ): Promise<void> {
-  const expected = clients.length * request;
+  const at = request % RING;
   let progress = clients.map((c) => c.progress());
   let silent = 0;
-  for (let n = Atomics.load(tally, 0); n < expected; n = Atomics.load(tally, 0)) {
-    if ((await waitAsync(tally, 0, n, WAIT_MS)) !== 'timed-out') continue;
+  for (let n = Atomics.load(tally, at); n < clients.length; n = Atomics.load(tally, at)) {
+    if ((await waitAsync(tally, at, n, WAIT_MS)) !== 'timed-out') continue;
     const now = clients.map((c) => c.progress());
     const moved = clients.some((c, i) => !c.answered(request) && now[i] !== progress[i]);
     silent = moved ? 0 : silent + WAIT_MS;
@@ -444,6 +467,7 @@ export async function allAnswered(
       );
     }
   }
+  Atomics.store(tally, at, 0);
 }
 
 /**
@@ -452,13 +476,16 @@ export async function allAnswered(
  */
 function markAnswered(control: Int32Array, done: number, tally: Int32Array, shards: number): void {
   Atomics.store(control, C_DONE, done);
-  if (Atomics.add(tally, 0, 1) + 1 === shards * done) Atomics.notify(tally, 0);
+  if (Atomics.add(tally, done % RING, 1) + 1 === shards) Atomics.notify(tally, done % RING);
 }
 
 /**
  * The worker's end: answer requests with `shard` until a stop request arrives, writing its status after
  * each batch into the batch's slot of `status`; `changes` and `steps` collect the lifecycle changes of a
- * batch (the shard's journal). Blocks its thread between requests.
+ * batch (the shard's journal). Requests are answered in order, but a batch through this shard's seats
+ * is answered only once every shard is through it and its votes are combined: with the next batch
+ * already out, this shard goes on with that one meanwhile, combining the closed batch's chunks between
+ * its rows as they become ready (see `ClosedBatch`). Blocks its thread between requests.
  */
 export function serveShard(
   shard: Bagging,
@@ -472,55 +499,108 @@ export function serveShard(
 ): void {
   Atomics.store(control, C_READY, 1);
   Atomics.notify(control, C_READY);
-  let done = 0;
+  /** Requests taken so far. */
+  let taken = 0;
+  /** A batch through this shard, answered once every shard is through it (see `ClosedBatch`). */
+  let closed: ClosedBatch | null = null;
   const views: (BatchViews | null)[] = Array.from({ length: SLOTS }, () => null);
   const ledgers: Int32Array[] = [];
+  /** Answer a closed batch, its ledger settled (every shard through it) and its chunks all combined. */
+  const answer = (batch: ClosedBatch): void => {
+    ledger.settleClosed();
+    const { request, error, changes, steps } = batch;
+    if (error !== null || changes.length > 0)
+      port.postMessage({ request, error, changes, steps, snapshot: null });
+    markAnswered(control, request, tally, ledger.shards);
+  };
+  /** Combine the rest of a closed batch as the other shards answer its rows, then answer it. */
+  const finish = (batch: ClosedBatch): void => {
+    while (!combineReady(ledger, batch)) ledger.awaitChunk(batch.words, batch.rows, CHUNK);
+    answer(batch);
+  };
+  /** While a batch runs, the closed one before it: combine what is ready, answer it once none is left. */
+  const meanwhile = (): void => {
+    if (closed !== null && combineReady(ledger, closed)) {
+      answer(closed);
+      closed = null;
+    }
+  };
   for (;;) {
-    // A request that comes within a few microseconds (the next batch, sent at once) finds this thread awake.
-    if (poll(control, C_REQUEST, done + 1) === done) Atomics.wait(control, C_REQUEST, done);
+    if (Atomics.load(control, C_REQUEST) === taken) {
+      // Nothing else to do: the closed batch is answered as soon as it can be.
+      if (closed !== null) {
+        finish(closed);
+        closed = null;
+      }
+      // A request that comes within a few microseconds (the next batch, sent at once) finds this thread awake.
+      if (poll(control, C_REQUEST, taken + 1) === taken) Atomics.wait(control, C_REQUEST, taken);
+    }
     // Requests are answered in order, however many arrived while this thread worked.
-    while (Atomics.load(control, C_REQUEST) > done) {
-      const request = takeRequest(control, port, done + 1);
+    while (Atomics.load(control, C_REQUEST) > taken) {
+      const request = takeRequest(control, port, ++taken);
+      if (request.kind !== 'batch' && closed !== null) {
+        finish(closed);
+        closed = null;
+      }
       if (request.kind === 'stop') {
         port.close();
         return;
       }
-      changes.length = 0;
-      steps.length = 0;
-      let error: ShardReply['error'] = null;
-      let snapshot: EnsembleSnapshot | null = null;
-      try {
-        if (request.kind === 'snapshot') snapshot = shard.snapshot();
-        else {
-          if (request.buffers !== null) {
-            const hard = shard.options.vote === 'hard';
-            views[request.slot] = new BatchViews(request.buffers, ledger.shard, hard);
-          }
-          const slot = views[request.slot]!;
-          if (request.words !== null) ledgers[request.ledger] = new Int32Array(request.words);
-          ledger.begin(ledgers[request.ledger]!, request.cap);
-          runShard(shard, ledger, request, slot, control);
-          // Combining leaves the shard as it is: its status goes out now, while another shard may
-          // still train, rather than after the last chunk, when the main thread waits on it.
-          writeStatus(status[request.slot]!, shard);
-          combineChunks(ledger, request.rows, slot.combiner);
+      if (request.kind === 'snapshot') {
+        let error: ShardReply['error'] = null;
+        let snapshot: EnsembleSnapshot | null = null;
+        try {
+          snapshot = shard.snapshot();
+        } catch (e) {
+          error = failure(e);
         }
+        port.postMessage({ request: taken, error, changes: [], steps: [], snapshot });
+        markAnswered(control, taken, tally, ledger.shards);
+        continue;
+      }
+      let error: ShardReply['error'] = null;
+      if (request.buffers !== null) {
+        const hard = shard.options.vote === 'hard';
+        views[request.slot] = new BatchViews(request.buffers, ledger.shard, hard);
+      }
+      const slot = views[request.slot]!;
+      if (request.words !== null) ledgers[request.ledger] = new Int32Array(request.words);
+      ledger.begin(ledgers[request.ledger]!, request.cap);
+      try {
+        runShard(shard, ledger, request, slot, control, meanwhile);
       } catch (e) {
         // Shards stop at the same bad row; one that waits on this one must not wait for good.
-        if (request.kind === 'batch') ledger.done(FAILED);
-        error =
-          e instanceof ShoalError
-            ? { code: e.code, message: e.message }
-            : { code: 'worker-failure', message: `parallel bagging: a worker failed: ${String(e)}` };
-        if (request.kind === 'batch') writeStatus(status[request.slot]!, shard);
+        ledger.done(FAILED);
+        error = failure(e);
       }
-      // The next batch may already be out: it starts from the ledger after this one.
-      if (request.kind === 'batch') ledger.end(request.rows, shard.rows);
-      if (error !== null || changes.length > 0 || snapshot !== null) {
-        const reply: ShardReply = { request: done + 1, error, changes, steps, snapshot };
-        port.postMessage(reply);
-      }
-      markAnswered(control, ++done, tally, ledger.shards);
+      // Combining leaves the shard as it is: its status goes out now, while another shard may still
+      // train, rather than after the last chunk, when the main thread waits on it.
+      writeStatus(status[request.slot]!, shard);
+      // Batches are answered in order: the one before this is answered first.
+      if (closed !== null) finish(closed);
+      const batch: ClosedBatch = {
+        request: taken,
+        rows: request.rows,
+        combiner: slot.combiner,
+        words: ledger.close(request.rows, shard.rows),
+        changes: changes.splice(0),
+        steps: steps.splice(0),
+        error,
+      };
+      closed = null;
+      // The last shard through a batch leaves its chunks to the others, which are through it too and
+      // combine them before they answer it — so combining falls to the shards that were faster.
+      if (ledger.leave(batch.words) && ledger.shards > 1) answer(batch);
+      else if (combineReady(ledger, batch)) answer(batch);
+      // With the next batch out, this shard goes on with it rather than wait for the others here.
+      else if (Atomics.load(control, C_REQUEST) > taken) closed = batch;
+      else finish(batch);
     }
   }
+}
+
+function failure(e: unknown): NonNullable<ShardReply['error']> {
+  return e instanceof ShoalError
+    ? { code: e.code, message: e.message }
+    : { code: 'worker-failure', message: `parallel bagging: a worker failed: ${String(e)}` };
 }

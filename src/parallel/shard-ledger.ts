@@ -24,6 +24,12 @@ import { inWindow, type LifecycleSnapshot, type SeatLedger } from '../ensembles/
  * waits for. Between batches the ledger is the next id, the recent replacement rows and the epoch
  * (`LedgerHost`), which the main thread and every shard each take in from a finished batch's logs.
  *
+ * A shard through with its rows of a batch need not wait for the others: it closes the batch (`close`)
+ * and may start the next one, taking the closed batch's events in (`settleClosed`) only once every
+ * shard is through it — before it answers the batch, or earlier when an event of the next batch needs
+ * the ledger. The main thread clears a set of words for a new batch only once every shard has answered
+ * the batch that used it last, so a closed batch's words stay until its shard has settled them.
+ *
  * A shard waiting for another's progress first polls it for a few microseconds, then sleeps having
  * written the step it waits for, and the other wakes it only once that step is done: a sleeper costs a
  * wake-up (a system call on each side, tens of microseconds on a virtual machine), so a shard neither
@@ -38,6 +44,9 @@ const IDS = 0;
 const REPLACEMENTS = 1;
 /** Progress of a shard that failed: nobody waits for it (the batch fails as a whole). */
 export const FAILED = 0x7fffffff;
+/** What `claim` returns when no chunk is left, and when the next chunk's rows are not all answered. */
+export const NONE_LEFT = -1;
+export const NOT_READY = -2;
 const WAIT_MS = 1000;
 
 /** Words of a ledger for `shards` shards with room for `cap` events of each kind per shard. */
@@ -73,7 +82,7 @@ function wanted(shards: number, w: number, v: number): number {
   return progress(shards, v) + 1 + w;
 }
 
-/** The word that hands out chunks of rows to combine. */
+/** The word that hands out chunks of rows to combine; the shards that left the batch follow it. */
 function chunkWord(shards: number): number {
   return shards * lineWords(shards);
 }
@@ -98,6 +107,11 @@ export class ShardLedger implements SeatLedger {
   private readonly between: LedgerHost;
   private words: Int32Array = new Int32Array(0);
   private cap = 0;
+  /** The batch closed and not yet settled: its words, their layout, its steps, the rows after it. */
+  private closed: Int32Array | null = null;
+  private closedCap = 0;
+  private closedSteps = 0;
+  private closedRows = 0;
   /** The step of the batch being run. */
   step = 0;
 
@@ -123,12 +137,27 @@ export class ShardLedger implements SeatLedger {
   }
 
   /**
-   * End a batch of `steps` steps, after which the ensemble has trained on `rows` rows: once every shard
-   * is through it (or failed), take in its events as the main thread does.
+   * This shard is through the batch begun last, of `steps` steps, after which the ensemble has trained
+   * on `rows` rows; its events are taken in by `settleClosed` (the batch closed before must be settled).
    */
-  end(steps: number, rows: number): void {
-    for (let v = 0; v < this.shards; v++) if (v !== this.shard) this.reach(v, steps);
-    this.between.settle(this.words, this.cap, steps, rows, null);
+  close(steps: number, rows: number): Int32Array {
+    this.closed = this.words;
+    this.closedCap = this.cap;
+    this.closedSteps = steps;
+    this.closedRows = rows;
+    return this.words;
+  }
+
+  /**
+   * Once every shard is through the closed batch (or failed), take in its events as the main thread
+   * does; nothing when there is none.
+   */
+  settleClosed(): void {
+    const words = this.closed;
+    if (words === null) return;
+    for (let v = 0; v < this.shards; v++) if (v !== this.shard) this.reach(v, this.closedSteps, words);
+    this.between.settle(words, this.closedCap, this.closedSteps, this.closedRows, null);
+    this.closed = null;
   }
 
   /**
@@ -151,20 +180,44 @@ export class ShardLedger implements SeatLedger {
     if (woken) Atomics.notify(words, at);
   }
 
-  /** The next chunk of rows this shard combines (each chunk goes to the first shard that asks). */
-  claim(): number {
-    return Atomics.add(this.words, chunkWord(this.shards), 1);
+  /**
+   * Claim the next chunk of `chunk` rows to combine of a batch of `rows` rows (in `words`) if every
+   * shard has answered its rows, never waiting: its number, or NONE_LEFT when every chunk is claimed
+   * (or a shard failed: the batch fails as a whole), or NOT_READY. A chunk goes to the first shard that
+   * claims it.
+   */
+  claim(words: Int32Array, rows: number, chunk: number): number {
+    const at = chunkWord(this.shards);
+    for (;;) {
+      const next = Atomics.load(words, at);
+      const from = next * chunk;
+      if (from >= rows) return NONE_LEFT;
+      const to = Math.min(rows, from + chunk);
+      for (let v = 0; v < this.shards; v++) {
+        const p = Atomics.load(words, progress(this.shards, v));
+        if (p === FAILED) return NONE_LEFT;
+        if (p < to) return NOT_READY;
+      }
+      if (Atomics.compareExchange(words, at, next, next + 1) === next) return next;
+    }
   }
 
   /**
-   * Wait until every shard has done `steps` steps; false when one failed (the batch fails as a whole).
+   * Count this shard out of the batch in `words`, once, after its last step: whether it is the last
+   * shard to leave it (all the others are through it then).
    */
-  awaitAll(steps: number): boolean {
-    for (let v = 0; v < this.shards; v++) if (this.reach(v, steps) === FAILED) return false;
-    return true;
+  leave(words: Int32Array): boolean {
+    return Atomics.add(words, chunkWord(this.shards) + 1, 1) === this.shards - 1;
+  }
+
+  /** Wait until every shard has answered the rows of the next chunk to claim in `words` (see `claim`). */
+  awaitChunk(words: Int32Array, rows: number, chunk: number): void {
+    const to = Math.min(rows, (Atomics.load(words, chunkWord(this.shards)) + 1) * chunk);
+    for (let v = 0; v < this.shards; v++) if (v !== this.shard) this.reach(v, to, words);
   }
 
   nextId(_row: number): number {
+    this.settleClosed();
     this.settle();
     let n = 0;
     for (let v = 0; v < this.shards; v++) n += this.before(v, IDS);
@@ -176,6 +229,7 @@ export class ShardLedger implements SeatLedger {
   }
 
   capReached(row: number): boolean {
+    this.settleClosed();
     this.settle();
     let n = inWindow(this.between.history, row, this.window);
     const { words, cap } = this;
@@ -209,10 +263,10 @@ export class ShardLedger implements SeatLedger {
   }
 
   /**
-   * Wait until shard `v` has done `steps` steps (polling a while, then asleep); its progress then.
+   * Wait until shard `v` has done `steps` steps of the batch in `words` (polling a while, then asleep);
+   * its progress then.
    */
-  private reach(v: number, steps: number): number {
-    const words = this.words;
+  private reach(v: number, steps: number, words = this.words): number {
     const from = progress(this.shards, v);
     let p = poll(words, from, steps);
     if (p >= steps) return p;
