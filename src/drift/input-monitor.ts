@@ -68,12 +68,18 @@ const VERSION = 1;
 /** `marks` bits: the feature's values moved, its missing share moved. */
 const MOVED = 1;
 const GONE = 2;
+/**
+ * Values read per block of rows: the block is read once per feature and test, so it is kept within a
+ * core's L1 data cache (16 KiB of doubles; L1d is 32 or 48 KiB on current x86 cores, from memory)
+ * instead of streaming a whole batch through L2 twice per feature.
+ */
+const BLOCK_VALUES = 2048;
 
 /**
  * One test per feature of the schema: Page-Hinkley on standardised values for a numeric feature,
  * a windowed χ² test of category frequencies for a nominal one; and a missing-share watch on each.
- * Rows are read feature by feature: each test runs down its column and marks the rows it flags in a
- * rows × features grid, which is then read row by row, so the flags come out in the order and with the
+ * Rows are read in blocks, feature by feature: each test runs down its column of the block and marks
+ * the rows it flags in a rows × features grid, which is then read row by row, so the flags come out in the order and with the
  * values of a row-by-row pass (the features' tests are independent of one another).
  */
 class FeatureDriftMonitor implements InputMonitor {
@@ -89,8 +95,8 @@ class FeatureDriftMonitor implements InputMonitor {
   /** Each feature's χ² test, or null for a numeric feature. */
   private readonly nominal: readonly (CategoryShift | null)[];
   private readonly missing: MissingShifts;
-  /** The rows × features grid of MOVED | GONE marks of the rows being read. */
-  private marks = new Uint8Array(0);
+  /** The rows × features grid of MOVED | GONE marks of the block being read. */
+  private readonly marks: Uint8Array;
 
   constructor(schema: FeatureSchema, spec: InputMonitorSpec) {
     this.schema = checkSchema(KIND, schema);
@@ -112,6 +118,7 @@ class FeatureDriftMonitor implements InputMonitor {
       return null;
     });
     this.numeric = new NumericShifts(slots, this.options.numeric);
+    this.marks = new Uint8Array(Math.max(1, Math.floor(BLOCK_VALUES / this.width)) * this.width);
   }
 
   update(row: Float64Array, offset: number): number {
@@ -140,27 +147,35 @@ class FeatureDriftMonitor implements InputMonitor {
 
   private read(values: Float64Array, offset: number, rows: number): number {
     const width = this.width;
+    const block = this.marks.length / width;
+    let count = 0;
+    for (let first = 0; first < rows; first += block)
+      count = this.readBlock(values, offset + first * width, first, Math.min(block, rows - first), count);
+    return count;
+  }
+
+  /** Rows `first` … `first + rows − 1` of the call, at values[at …]: append their flags after `count`. */
+  private readBlock(values: Float64Array, at: number, first: number, rows: number, count: number): number {
+    const width = this.width;
     const cells = rows * width;
-    if (this.marks.length < cells) this.marks = new Uint8Array(Math.max(cells, 2 * this.marks.length));
     const marks = this.marks;
     marks.fill(0, 0, cells);
     for (let j = 0; j < width; j++) {
       const slot = this.numericSlot[j]!;
-      if (slot >= 0) this.numeric.column(slot, values, offset + j, width, rows, marks, j, MOVED);
+      if (slot >= 0) this.numeric.column(slot, values, at + j, width, rows, marks, j, MOVED);
       else {
         const test = this.nominal[j]!;
-        for (let i = 0, p = offset + j; i < rows; i++, p += width)
+        for (let i = 0, p = at + j; i < rows; i++, p += width)
           if (test.update(values[p]!)) marks[i * width + j]! |= MOVED;
       }
-      this.missing.column(j, values, offset + j, width, rows, marks, j, GONE);
+      this.missing.column(j, values, at + j, width, rows, marks, j, GONE);
     }
-    let count = 0;
     for (let c = 0; c < cells; c++) {
       const mark = marks[c]!;
       if (mark === 0) continue;
       if (count === this.flagged.length) this.grow();
       const row = (c / width) | 0;
-      this.flagRows[count] = row;
+      this.flagRows[count] = first + row;
       this.flagged[count] = c - row * width;
       this.missingFlags[count++] = mark & GONE ? 1 : 0;
     }
