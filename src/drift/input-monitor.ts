@@ -79,8 +79,8 @@ const BLOCK_VALUES = 2048;
  * One test per feature of the schema: Page-Hinkley on standardised values for a numeric feature,
  * a windowed χ² test of category frequencies for a nominal one; and a missing-share watch on each.
  * Rows are read in blocks, feature by feature: each test runs down its column of the block and marks
- * the rows it flags in a rows × features grid, which is then read row by row, so the flags come out in the order and with the
- * values of a row-by-row pass (the features' tests are independent of one another).
+ * the rows it flags in a rows × features grid, which is then read row by row, so the flags come out
+ * in the order and with the values of a row-by-row pass (the features' tests are independent).
  */
 class FeatureDriftMonitor implements InputMonitor {
   readonly schema: FeatureSchema;
