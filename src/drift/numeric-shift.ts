@@ -1,13 +1,12 @@
+import { integerAtLeast, nonNegative, positive, WELFORD_SLOTS } from '../core/index.js';
 import {
-  integerAtLeast,
-  nonNegative,
-  positive,
-  WELFORD_SLOTS,
-  welfordAdd,
-  welfordSampleVariance,
-} from '../core/index.js';
-import { type DetectorSnapshot, packScalars, stateField, unpackScalars } from './detector.js';
-import { PageHinkley } from './page-hinkley.js';
+  checkFiniteValue,
+  type DetectorSnapshot,
+  packScalars,
+  stateField,
+  unpackScalars,
+} from './detector.js';
+import { PageHinkley, type PageHinkleyOptions } from './page-hinkley.js';
 
 /**
  * Input drift on one numeric feature: the two-sided Page-Hinkley test (Page 1954; see page-hinkley.ts)
@@ -56,52 +55,133 @@ export function resolveNumericShift(
   return { delta: o.delta, lambda: o.lambda, warmup: o.warmup, clip: o.clip };
 }
 
-export class NumericShift {
-  private readonly options: NumericShiftOptions;
-  private readonly stats = new Float64Array(WELFORD_SLOTS);
-  private test: PageHinkley;
+/** Per feature: the Welford triple (count, mean, M2), then the Page-Hinkley state (n, x̄, m, M, m′, M′). */
+const SLOTS = WELFORD_SLOTS + 6;
 
-  constructor(options: NumericShiftOptions) {
+/**
+ * The test of every numeric feature of a schema, their states in one column-major buffer so that a
+ * column of values runs through one monomorphic loop with the state in locals. Feature `k` here is the
+ * k-th watched feature; `column` feeds it values and marks the rows where it drifted.
+ *
+ * @example
+ * const shifts = new NumericShifts(2, resolveNumericShift('demo', {}));
+ * shifts.column(0, values, 0, width, rows, marks, 0, 1); // marks[r·width] |= 1 on a drift at row r
+ */
+export class NumericShifts {
+  private readonly options: NumericShiftOptions;
+  /** The Page-Hinkley options each feature's test runs with (two-sided, alarms from the first value). */
+  private readonly test: PageHinkleyOptions;
+  private readonly testKind: string;
+  private readonly state: Float64Array;
+
+  constructor(features: number, options: NumericShiftOptions) {
     this.options = options;
-    this.test = new PageHinkley({
+    const test = new PageHinkley({
       delta: options.delta,
       lambda: options.lambda,
       direction: 'both',
       minCount: 1,
     });
+    this.test = test.options;
+    this.testKind = test.kind;
+    this.state = new Float64Array(features * SLOTS);
   }
 
-  /** Feed one value; true when the feature has drifted (the statistics have then restarted). */
-  update(value: number): boolean {
-    if (Number.isNaN(value)) return false;
-    const stats = this.stats;
-    if (stats[0]! < this.options.warmup) {
-      welfordAdd(stats, 0, value, 1);
-      return false;
+  /**
+   * Feed feature `k` the `rows` values `values[at + i·stride]`; on a drift at value i (after which its
+   * statistics restart), `marks[markAt + i·stride] |= bit`. Missing values (NaN) are skipped. The
+   * arithmetic is Welford's update (core/running-stats.ts) and the Page-Hinkley step (page-hinkley.ts)
+   * written out, operation for operation, so the flags are those of the two applied value by value.
+   */
+  column(
+    k: number,
+    values: Float64Array,
+    at: number,
+    stride: number,
+    rows: number,
+    marks: Uint8Array,
+    markAt: number,
+    bit: number,
+  ): void {
+    const { warmup, clip } = this.options;
+    const { delta, lambda } = this.test;
+    const kind = this.testKind;
+    const s = this.state;
+    const base = k * SLOTS;
+    let count = s[base]!;
+    let mean = s[base + 1]!;
+    let m2 = s[base + 2]!;
+    let n = s[base + 3]!;
+    let testMean = s[base + 4]!;
+    let up = s[base + 5]!;
+    let upMin = s[base + 6]!;
+    let down = s[base + 7]!;
+    let downMax = s[base + 8]!;
+    try {
+      for (let i = 0, p = at, m = markAt; i < rows; i++, p += stride, m += stride) {
+        const x = values[p]!;
+        if (Number.isNaN(x)) continue;
+        if (count < warmup) {
+          const total = count + 1;
+          const d = x - mean;
+          const next = mean + (1 / total) * d;
+          count = total;
+          mean = next;
+          m2 += d * (x - next);
+          continue;
+        }
+        const sd = Math.sqrt(count > 1 ? Math.max(0, m2) / (count - 1) : 0);
+        const d = x - mean;
+        let z = sd > 0 ? d / sd : d === 0 ? 0 : Math.sign(d) * clip;
+        if (z > clip) z = clip;
+        else if (z < -clip) z = -clip;
+        const total = count + 1;
+        const next = mean + (1 / total) * d;
+        count = total;
+        mean = next;
+        m2 += d * (x - next);
+        checkFiniteValue(kind, z);
+        testMean += (z - testMean) / ++n;
+        const deviation = z - testMean;
+        up = up + deviation - delta;
+        if (up < upMin) upMin = up;
+        down = down + deviation + delta;
+        if (down > downMax) downMax = down;
+        if (up - upMin > lambda || downMax - down > lambda) {
+          count = mean = m2 = n = testMean = up = upMin = down = downMax = 0;
+          marks[m]! |= bit;
+        }
+      }
+    } finally {
+      s[base] = count;
+      s[base + 1] = mean;
+      s[base + 2] = m2;
+      s[base + 3] = n;
+      s[base + 4] = testMean;
+      s[base + 5] = up;
+      s[base + 6] = upMin;
+      s[base + 7] = down;
+      s[base + 8] = downMax;
     }
-    const sd = Math.sqrt(welfordSampleVariance(stats, 0));
-    const clip = this.options.clip;
-    const d = value - stats[1]!;
-    let z = sd > 0 ? d / sd : d === 0 ? 0 : Math.sign(d) * clip;
-    if (z > clip) z = clip;
-    else if (z < -clip) z = -clip;
-    welfordAdd(stats, 0, value, 1);
-    if (this.test.update(z) !== 'drift') return false;
-    stats.fill(0);
-    return true;
   }
 
   reset(): void {
-    this.stats.fill(0);
-    this.test.reset();
+    this.state.fill(0);
   }
 
-  state(): unknown {
-    return { stats: packScalars(Array.from(this.stats)), test: this.test.snapshot() };
+  /** Feature `k`'s state: its Welford triple and its Page-Hinkley snapshot. */
+  stateOf(k: number): unknown {
+    const s = Array.from(this.state.subarray(k * SLOTS, (k + 1) * SLOTS));
+    return {
+      stats: packScalars(s.slice(0, WELFORD_SLOTS)),
+      test: PageHinkley.snapshotOf(this.test, s.slice(WELFORD_SLOTS)),
+    };
   }
 
-  load(state: unknown): void {
-    this.stats.set(unpackScalars(KIND, stateField(KIND, state, 'stats'), WELFORD_SLOTS));
-    this.test = PageHinkley.restore(stateField(KIND, state, 'test') as DetectorSnapshot);
+  load(k: number, state: unknown): void {
+    const stats = unpackScalars(KIND, stateField(KIND, state, 'stats'), WELFORD_SLOTS);
+    const test = PageHinkley.scalarsOf(stateField(KIND, state, 'test') as DetectorSnapshot);
+    this.state.set(stats, k * SLOTS);
+    this.state.set(test, k * SLOTS + WELFORD_SLOTS);
   }
 }

@@ -132,18 +132,38 @@ export class PageHinkley implements DriftDetector {
   }
 
   snapshot(): DetectorSnapshot {
+    return PageHinkley.snapshotOf(this.options, [
+      this.n,
+      this.mean,
+      this.up,
+      this.upMin,
+      this.down,
+      this.downMax,
+    ]);
+  }
+
+  /**
+   * The snapshot of a test with these options whose state is `scalars`: n, x̄, m, M, m′, M′ (the
+   * input monitor keeps many tests' state in columns and writes each one's snapshot through this).
+   */
+  static snapshotOf(options: PageHinkleyOptions, scalars: readonly number[]): DetectorSnapshot {
     return {
       kind: KIND,
       version: VERSION,
-      options: { ...this.options },
-      state: { scalars: packScalars([this.n, this.mean, this.up, this.upMin, this.down, this.downMax]) },
+      options: { ...options },
+      state: { scalars: packScalars(scalars) },
     };
   }
 
-  static restore(snapshot: DetectorSnapshot): PageHinkley {
+  /** The state of a snapshot as `snapshotOf` takes it, after checking its kind, version and length. */
+  static scalarsOf(snapshot: DetectorSnapshot): Float64Array {
     checkSnapshot(snapshot, KIND, VERSION);
+    return unpackScalars(KIND, stateField(KIND, snapshot.state, 'scalars'), 6);
+  }
+
+  static restore(snapshot: DetectorSnapshot): PageHinkley {
+    const s = PageHinkley.scalarsOf(snapshot);
     const ph = new PageHinkley(snapshot.options as Partial<PageHinkleyOptions>);
-    const s = unpackScalars(KIND, stateField(KIND, snapshot.state, 'scalars'), 6);
     ph.n = s[0]!;
     ph.mean = s[1]!;
     ph.up = s[2]!;

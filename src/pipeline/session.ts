@@ -212,12 +212,12 @@ export class LearningSession {
     const counts = this.counts;
     const early = this.early;
     const settles = ids !== null && this.options.lateLabels !== false;
+    // The monitor reads the rows feature by feature first; each flag is journaled at its row.
+    const flags = monitor === null ? 0 : monitor.updateRows(values, from * width, to - from);
+    let flag = 0;
     for (let r = from; r < to; r++) {
       const offset = r * width;
-      if (monitor !== null) {
-        const flagged = monitor.update(values, offset);
-        if (flagged > 0) this.inputDrift(monitor, flagged);
-      }
+      if (flag < flags && monitor!.flagRows[flag] === r - from) flag = this.inputDrift(monitor!, flag, flags);
       counts.scored++;
       const label = labels === null ? Number.NaN : labels[r]!;
       if (Number.isNaN(label)) {
@@ -710,10 +710,13 @@ export class LearningSession {
     this.options.journal.write({ ...change, scored: c.scored });
   }
 
-  private inputDrift(monitor: InputMonitor, count: number): void {
+  /** Journal the monitor's flags from `first` on that are of the row of flag `first`; returns the next. */
+  private inputDrift(monitor: InputMonitor, first: number, count: number): number {
     const features = this.schema!.features;
     const c = this.counts;
-    for (let i = 0; i < count; i++) {
+    const row = monitor.flagRows[first]!;
+    let i = first;
+    for (; i < count && monitor.flagRows[i] === row; i++) {
       const j = monitor.flagged[i]!;
       const f = features[j]!;
       c.inputDrifts++;
@@ -727,6 +730,7 @@ export class LearningSession {
         cause: monitor.missingFlags[i] === 1 ? 'missing-share' : 'distribution',
       });
     }
+    return i;
   }
 
   private window(): void {

@@ -136,6 +136,41 @@ describe('input-drift monitors', () => {
     expect(flags).toBe(1);
   });
 
+  it('flags a run of rows read at once exactly as row by row, in the same order', () => {
+    // The features' tests are independent, so reading the rows feature by feature (updateRows) must give
+    // the flags of a row-by-row pass: a mean shift, a nominal shift, and a missing share that jumps.
+    const wide: FeatureSchema = {
+      features: [numeric('box_temp'), nominal('carrier', 5), numeric('door_open_s')],
+    };
+    const rng = new Rng('input-monitor/rows');
+    const rows = 30_000;
+    const values = new Float64Array(rows * 3);
+    for (let t = 0; t < rows; t++) {
+      fillRow(rng, t % LENGTH, { shift: 1, newCarrier: 0.5 }, values.subarray(t * 3, t * 3 + 2));
+      const gone = t >= 20_000 && t < 25_000 ? 0.5 : 0.01;
+      values[t * 3 + 2] = rng.next() < gone ? Number.NaN : 30 + 10 * rng.next();
+    }
+    const byRow = createInputMonitor(wide, { numeric: { lambda: 8 } });
+    const atOnce = createInputMonitor(wide, { numeric: { lambda: 8 } });
+    const want: string[] = [];
+    const got: string[] = [];
+    for (let from = 0, run = 1; from < rows; from += run, run = 1 + ((run * 7919) % 4000)) {
+      const to = Math.min(rows, from + run);
+      for (let t = from; t < to; t++) {
+        const count = byRow.update(values, t * 3);
+        for (let k = 0; k < count; k++) want.push(`${t} ${byRow.flagged[k]} ${byRow.missingFlags[k]}`);
+      }
+      const count = atOnce.updateRows(values, from * 3, to - from);
+      for (let k = 0; k < count; k++)
+        got.push(`${from + atOnce.flagRows[k]!} ${atOnce.flagged[k]} ${atOnce.missingFlags[k]}`);
+      expect(JSON.stringify(atOnce.snapshot())).toBe(JSON.stringify(byRow.snapshot()));
+    }
+    // Each feature is flagged: the mean shift (0), the new carrier (1) and the missing share (2, both ways).
+    for (const f of [0, 1]) expect(want.some((w) => w.split(' ')[1] === `${f}`)).toBe(true);
+    expect(want.filter((w) => w.endsWith(' 2 1')).length).toBeGreaterThanOrEqual(2);
+    expect(got).toEqual(want);
+  });
+
   it('restores from a JSON snapshot and flags identically on the next 10,000 rows', () => {
     const monitor = createInputMonitor(schema, { nominal: { window: 200 }, numeric: { lambda: 8 } });
     const rng = new Rng(77);
@@ -177,6 +212,7 @@ describe('input-drift monitors', () => {
       [() => createInputMonitor(schema, { numeric: { warmup: 1 } }), 'invalid-parameter', /numeric\.warmup/],
       [() => createInputMonitor({ features: [] }), 'invalid-parameter', /at least one feature/],
       [() => createInputMonitor(schema).update(new Float64Array(3), 2), 'invalid-row', /offset 2/],
+      [() => createInputMonitor(schema).updateRows(new Float64Array(5), 0, 3), 'invalid-row', /3 rows/],
       [() => createInputMonitor(schema).update(Float64Array.of(1, 7), 0), 'invalid-row', /carrier.*got 7/],
       [() => createInputMonitor(schema).update(Float64Array.of(1, 1.5), 0), 'invalid-row', /got 1\.5/],
       [
