@@ -117,52 +117,56 @@ export class NumericShifts {
     let upMin = s[base + 6]!;
     let down = s[base + 7]!;
     let downMax = s[base + 8]!;
-    try {
-      for (let i = 0, p = at, m = markAt; i < rows; i++, p += stride, m += stride) {
-        const x = values[p]!;
-        if (Number.isNaN(x)) continue;
-        if (count < warmup) {
-          const total = count + 1;
-          const d = x - mean;
-          const next = mean + (1 / total) * d;
-          count = total;
-          mean = next;
-          m2 += d * (x - next);
-          continue;
-        }
-        const sd = Math.sqrt(count > 1 ? Math.max(0, m2) / (count - 1) : 0);
-        const d = x - mean;
-        let z = sd > 0 ? d / sd : d === 0 ? 0 : Math.sign(d) * clip;
-        if (z > clip) z = clip;
-        else if (z < -clip) z = -clip;
+    // A value the test refuses stops the loop; the state up to it is written back before the error.
+    let refused = false;
+    let z = 0;
+    for (let i = 0, p = at, m = markAt; i < rows; i++, p += stride, m += stride) {
+      const x = values[p]!;
+      if (Number.isNaN(x)) continue;
+      if (count < warmup) {
         const total = count + 1;
+        const d = x - mean;
         const next = mean + (1 / total) * d;
         count = total;
         mean = next;
         m2 += d * (x - next);
-        checkFiniteValue(kind, z);
-        testMean += (z - testMean) / ++n;
-        const deviation = z - testMean;
-        up = up + deviation - delta;
-        if (up < upMin) upMin = up;
-        down = down + deviation + delta;
-        if (down > downMax) downMax = down;
-        if (up - upMin > lambda || downMax - down > lambda) {
-          count = mean = m2 = n = testMean = up = upMin = down = downMax = 0;
-          marks[m]! |= bit;
-        }
+        continue;
       }
-    } finally {
-      s[base] = count;
-      s[base + 1] = mean;
-      s[base + 2] = m2;
-      s[base + 3] = n;
-      s[base + 4] = testMean;
-      s[base + 5] = up;
-      s[base + 6] = upMin;
-      s[base + 7] = down;
-      s[base + 8] = downMax;
+      const sd = Math.sqrt(count > 1 ? Math.max(0, m2) / (count - 1) : 0);
+      const d = x - mean;
+      z = sd > 0 ? d / sd : d === 0 ? 0 : Math.sign(d) * clip;
+      if (z > clip) z = clip;
+      else if (z < -clip) z = -clip;
+      const total = count + 1;
+      const next = mean + (1 / total) * d;
+      count = total;
+      mean = next;
+      m2 += d * (x - next);
+      if (!Number.isFinite(z)) {
+        refused = true;
+        break;
+      }
+      testMean += (z - testMean) / ++n;
+      const deviation = z - testMean;
+      up = up + deviation - delta;
+      if (up < upMin) upMin = up;
+      down = down + deviation + delta;
+      if (down > downMax) downMax = down;
+      if (up - upMin > lambda || downMax - down > lambda) {
+        count = mean = m2 = n = testMean = up = upMin = down = downMax = 0;
+        marks[m]! |= bit;
+      }
     }
+    s[base] = count;
+    s[base + 1] = mean;
+    s[base + 2] = m2;
+    s[base + 3] = n;
+    s[base + 4] = testMean;
+    s[base + 5] = up;
+    s[base + 6] = upMin;
+    s[base + 7] = down;
+    s[base + 8] = downMax;
+    if (refused) checkFiniteValue(kind, z);
   }
 
   reset(): void {
