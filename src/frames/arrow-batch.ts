@@ -1,6 +1,6 @@
 import { type Data, DataType, makeVector, Precision, type Schema, type Vector } from 'apache-arrow';
 import { type ChangePoints, readChangePoints } from '../core/index.js';
-import { type ColumnType, showCell } from './cells.js';
+import { type ColumnType, numericProblem, showCell } from './cells.js';
 import type { Binding, SourceColumn } from './columns.js';
 import type { DeclaredSchema, FrameDecoder } from './decoder.js';
 import { describePosition, type Rejection } from './frame.js';
@@ -121,6 +121,36 @@ function copyColumn(
   for (let r = 0, o = start; r < n; r++, o += width) out[o] = src[r]!;
 }
 
+/**
+ * `copyColumn` for floats, telling on the way whether every value is finite: false when one is ±∞ or
+ * NaN (x · 0 is NaN then), so that only a column holding NaN or ±∞ is looked at row by row.
+ */
+function copyFloats(
+  out: Float64Array,
+  width: number,
+  start: number,
+  src: Float32Array | Float64Array,
+  n: number,
+): boolean {
+  let a = 0;
+  let b = 0;
+  let r = 0;
+  for (let o = start; r + 1 < n; r += 2, o += 2 * width) {
+    const x = src[r]!;
+    const y = src[r + 1]!;
+    out[o] = x;
+    out[o + width] = y;
+    a += x * 0;
+    b += y * 0;
+  }
+  if (r < n) {
+    const x = src[r]!;
+    out[start + r * width] = x;
+    a += x * 0;
+  }
+  return a + b === 0;
+}
+
 /** Overwrite with NaN the rows whose validity bit is 0 (only called when the column has nulls). */
 function clearNulls(out: Float64Array, width: number, start: number, data: Data, n: number): void {
   const bitmap = data.nullBitmap;
@@ -220,7 +250,10 @@ export class ArrowBatchFiller {
     const out = this.decoder.buffer.values;
     const start = at * width + j;
     const type = data.type;
-    if (isPlainNumeric(type)) copyColumn(out, width, start, data.values as ArrayLike<number>, n);
+    let finite = true;
+    if (DataType.isFloat(type) && isPlainNumeric(type))
+      finite = copyFloats(out, width, start, data.values as Float32Array | Float64Array, n);
+    else if (isPlainNumeric(type)) copyColumn(out, width, start, data.values as ArrayLike<number>, n);
     else if (isInt64(type)) copyInt64(out, width, start, data, n);
     else if (DataType.isBool(type)) copyBool(out, width, start, data, n);
     else {
@@ -228,13 +261,25 @@ export class ArrowBatchFiller {
       for (let r = 0, o = start; r < n; r++, o += width) {
         const value = vector.get(r);
         const x = this.decoder.cells.numeric(value);
-        if (x === undefined)
-          this.refuse(at + r, `${this.decoder.column(j)}: expected a number, got ${showCell(value)}`);
-        else out[o] = x;
+        const problem = numericProblem(x, value);
+        if (problem !== null) this.refuse(at + r, `${this.decoder.column(j)}: ${problem}`);
+        else out[o] = x!;
       }
       return;
     }
     if (data.nullCount > 0) clearNulls(out, width, start, data, n);
+    if (!finite) this.refuseInfinite(j, width, at, n);
+  }
+
+  /** Refuse the rows of column `j` (copied into rows at … at + n − 1) whose value is infinite. */
+  private refuseInfinite(j: number, width: number, at: number, n: number): void {
+    const out = this.decoder.buffer.values;
+    for (let r = 0, o = at * width + j; r < n; r++, o += width) {
+      const x = out[o]!;
+      // x − x is NaN only for ±∞ and NaN (missing, which is fine).
+      if (Number.isNaN(x - x) && !Number.isNaN(x))
+        this.refuse(at + r, `${this.decoder.column(j)}: ${numericProblem(x, x)}`);
+    }
   }
 
   private fillNominal(data: Data, j: number, width: number, at: number, n: number): void {

@@ -95,6 +95,19 @@ export class CellReader {
 }
 
 /** Show a refused cell in a message: quoted text, or the JSON of anything else. */
+/**
+ * Why a numeric cell read as `n` (by `CellReader.numeric`) cannot be a feature's value, or null: it is
+ * not a number, or it is infinite ("Infinity", 1e999, an Arrow float's ±∞), which would turn a model's
+ * statistics into NaN. Missing values (NaN) are fine.
+ */
+export function numericProblem(n: number | undefined, value: unknown): string | null {
+  if (n === undefined) return `expected a number, got ${showCell(value)}`;
+  if (n === Number.POSITIVE_INFINITY || n === Number.NEGATIVE_INFINITY) {
+    return `expected a finite number, got ${typeof value === 'number' ? String(value) : showCell(value)}`;
+  }
+  return null;
+}
+
 export function showCell(value: unknown): string {
   if (typeof value === 'bigint') return String(value);
   const text = JSON.stringify(value);

@@ -6,7 +6,7 @@ import {
   ShoalError,
   type Snapshot,
 } from '../core/index.js';
-import { CellReader, showCell } from './cells.js';
+import { CellReader, numericProblem, showCell } from './cells.js';
 import { type Binding, type BindProblem, bindColumns, type SourceColumn } from './columns.js';
 import type { Frame, PositionUnit } from './frame.js';
 import { FrameBuffer } from './frame-buffer.js';
@@ -229,8 +229,9 @@ export class FrameDecoder {
       const vocabulary = this.vocabularies[j];
       if (vocabulary === null) {
         const n = this.cells.numeric(value);
-        if (n === undefined) return `${this.column(j)}: expected a number, got ${showCell(value)}`;
-        out[base + j] = n;
+        const problem = numericProblem(n, value);
+        if (problem !== null) return `${this.column(j)}: ${problem}`;
+        out[base + j] = n!;
         continue;
       }
       const name = this.cells.category(value);

@@ -171,6 +171,35 @@ describe('input-drift monitors', () => {
     expect(got).toEqual(want);
   });
 
+  it('refuses an infinite reading with the same error read at once as row by row', () => {
+    // Past the warm-up an infinite value makes the standardised value NaN on the next reading; both ways
+    // of reading stop there with the same error. (The frame decoders refuse infinite values before a
+    // session sees them; this is the monitor's own guard.)
+    const rng = new Rng('input-monitor/infinite');
+    const rows = 200;
+    const values = new Float64Array(rows * 2);
+    for (let t = 0; t < rows; t++)
+      fillRow(rng, t, { shift: 0, newCarrier: 0 }, values.subarray(2 * t, 2 * t + 2));
+    values[2 * 120] = Number.POSITIVE_INFINITY;
+    const byRow = createInputMonitor(schema);
+    const atOnce = createInputMonitor(schema);
+    const refusal = (read: () => void): string => {
+      try {
+        read();
+      } catch (e) {
+        expect(e).toBeInstanceOf(ShoalError);
+        return (e as Error).message;
+      }
+      return 'no error';
+    };
+    const one = refusal(() => {
+      for (let t = 0; t < rows; t++) byRow.update(values, 2 * t);
+    });
+    const all = refusal(() => atOnce.updateRows(values, 0, rows));
+    expect(one).toMatch(/expects a finite value/);
+    expect(all).toBe(one);
+  });
+
   it('restores from a JSON snapshot and flags identically on the next 10,000 rows', () => {
     const monitor = createInputMonitor(schema, { nominal: { window: 200 }, numeric: { lambda: 8 } });
     const rng = new Rng(77);

@@ -149,6 +149,22 @@ describe('malformed text', () => {
     );
   });
 
+  it('an infinite number names file, line and column (a model cannot learn from it)', async () => {
+    // IEEE 754 doubles: "Infinity" and 1e999 (beyond the largest double, ~1.8e308) read as ±∞, which
+    // would turn the running means and variances of a feature into NaN.
+    const temp: FrameOptions = { features: [{ name: 'temp', kind: 'numeric' }] };
+    await expectShoalError(
+      () => read(file('infinite.csv', 'temp,label\n1.5,a\n-Infinity,b\n'), temp),
+      'invalid-input',
+      /infinite\.csv line 3: column "temp": expected a finite number, got "-Infinity"/,
+    );
+    await expectShoalError(
+      () => read(file('huge.ndjson', '{"temp":1,"label":"a"}\n{"temp":1e999,"label":"a"}\n'), temp),
+      'invalid-input',
+      /huge\.ndjson line 2: column "temp": expected a finite number, got Infinity/,
+    );
+  });
+
   it('a value after the first batch that does not fit the inferred kind is refused', async () => {
     const path = file('late.csv', 'temp,label\n1.5,a\n2.5,b\nwarm,a\n');
     await expectShoalError(
@@ -267,6 +283,21 @@ describe('single messages (Kafka): problems are values, nothing is thrown', () =
     expect(result.ok && result.rejected.map((r) => r.reason)).toEqual([
       'm row 1: column "size": "huge" is not one of "small", "large"',
       'm row 3: column "size": "huge" is not one of "small", "large"',
+    ]);
+  });
+
+  it('infinite floats of an Arrow column are refused row by row; NaN and null are missing values', () => {
+    const table = tableFromArrays({
+      temp: Float64Array.from([1.5, Number.POSITIVE_INFINITY, Number.NaN, -2.5]),
+      humidity: Float32Array.from([0.5, 0.25, 0.75, Number.NEGATIVE_INFINITY]),
+      label: ['a', 'b', 'a', 'b'],
+    });
+    const result = decodeArrowMessage(new FrameDecoder(), tableToIPC(table, 'stream'), 'm');
+    expect(result.ok && result.frame.rows).toBe(2);
+    expect(result.ok && Array.from(result.frame.values)).toEqual([1.5, 0.5, Number.NaN, 0.75]);
+    expect(result.ok && result.rejected.map((r) => r.reason)).toEqual([
+      'm row 1: column "temp": expected a finite number, got Infinity',
+      'm row 3: column "humidity": expected a finite number, got -Infinity',
     ]);
   });
 

@@ -59,9 +59,27 @@ function badMessages(): { message: Message; code: string }[] {
     value: JSON.stringify({ id: `b${i}`, f1: 1, f2: 2, f3: 3, label: { rejected: true } }),
     headers: NDJSON,
   }));
-  add(6, 'bad-value', (i) => ({
+  add(3, 'bad-value', (i) => ({
     value: JSON.stringify({ id: `v${i}`, f1: 'warm', f2: 2, f3: 3, label: '1' }),
     headers: NDJSON,
+  }));
+  // An IEEE 754 infinity in a float64 column: a number, but not one a model can learn from.
+  add(3, 'bad-value', (i) => ({
+    value: Buffer.from(
+      tableToIPC(
+        new Table({
+          id: vectorFromArray([`inf${i}`], new Utf8()),
+          f1: makeVector(new Float64Array([1])),
+          f2: makeVector(
+            new Float64Array([i % 2 === 0 ? Number.POSITIVE_INFINITY : Number.NEGATIVE_INFINITY]),
+          ),
+          f3: makeVector(new Float64Array([3])),
+          label: vectorFromArray(['0'], new Utf8()),
+        }),
+        'stream',
+      ),
+    ),
+    headers: ARROW,
   }));
   add(6, 'oversize', () => ({ value: Buffer.alloc(70_000, 7), headers: ARROW }));
   add(5, 'empty', () => ({ value: Buffer.alloc(0) }));
@@ -127,6 +145,13 @@ describe('dead letters', () => {
     }
     const undecodable = dead.find((d) => d.headers!['shoal-reason']!.toString() === 'undecodable')!;
     expect(undecodable.value!.toString()).toMatch(/^not arrow \d$/);
+    const infinite = dead.filter((d) =>
+      /expected a finite number/.test(d.headers!['shoal-message']!.toString()),
+    );
+    expect(infinite.length).toBe(3);
+    expect(infinite[0]!.headers!['shoal-message']!.toString()).toMatch(
+      /column "f2": expected a finite number, got Infinity/,
+    );
     // The service never restarted its consumer: it joined the group once.
     expect(serve.logs().filter((l) => l.msg === 'joined the group').length).toBe(1);
   });
