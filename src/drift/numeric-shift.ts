@@ -73,6 +73,8 @@ export class NumericShifts {
   private readonly test: PageHinkleyOptions;
   private readonly testKind: string;
   private readonly state: Float64Array;
+  /** A run of values standardised (see `column`). */
+  private z = new Float64Array(0);
 
   constructor(features: number, options: NumericShiftOptions) {
     this.options = options;
@@ -92,6 +94,13 @@ export class NumericShifts {
    * statistics restart), `marks[markAt + i·stride] |= bit`. Missing values (NaN) are skipped. The
    * arithmetic is Welford's update (core/running-stats.ts) and the Page-Hinkley step (page-hinkley.ts)
    * written out, operation for operation, so the flags are those of the two applied value by value.
+   *
+   * In two passes over the values: first every standardised value (`standardise`), then the test over
+   * them (`runTest`); an alarm restarts both from the value after it. The test's two running extremes
+   * are updated on most values but not all, a branch the processor cannot predict; in one loop each
+   * wrong guess also threw away the square root and divisions of the values after it in flight. Two
+   * passes ran 1.20-1.28x as fast as one loop (alternated in one process, 10 features × 2,048 rows);
+   * a third pass, the sums apart from their extremes, was slower (0.9x).
    */
   column(
     k: number,
@@ -103,25 +112,41 @@ export class NumericShifts {
     markAt: number,
     bit: number,
   ): void {
-    const { warmup, clip } = this.options;
-    const { delta, lambda } = this.test;
-    const kind = this.testKind;
-    const s = this.state;
+    if (this.z.length < rows) this.z = new Float64Array(rows);
+    const z = this.z;
     const base = k * SLOTS;
+    for (let from = 0; from < rows; ) {
+      const left = rows - from;
+      const refused = this.standardise(base, values, at + from * stride, stride, left);
+      const tested = refused < 0 ? left : refused;
+      const alarm = this.runTest(base, tested, marks, markAt + from * stride, stride, bit);
+      if (alarm >= 0) {
+        // The statistics start again after the value that raised the alarm.
+        this.state.fill(0, base, base + WELFORD_SLOTS);
+        from += alarm + 1;
+        continue;
+      }
+      if (refused >= 0) checkFiniteValue(this.testKind, z[refused]!);
+      return;
+    }
+  }
+
+  /**
+   * Welford's update of feature `base`'s statistics with `n` values from `values[p]` on, and into `z`
+   * each value standardised before it joins them (NaN where there is none: missing, or in the warm-up).
+   * Stops after a value whose standardised value is not finite: its index (−1 when none was).
+   */
+  private standardise(base: number, values: Float64Array, p: number, stride: number, n: number): number {
+    const { warmup, clip } = this.options;
+    const s = this.state;
+    const z = this.z;
     let count = s[base]!;
     let mean = s[base + 1]!;
     let m2 = s[base + 2]!;
-    let n = s[base + 3]!;
-    let testMean = s[base + 4]!;
-    let up = s[base + 5]!;
-    let upMin = s[base + 6]!;
-    let down = s[base + 7]!;
-    let downMax = s[base + 8]!;
-    // A value the test refuses stops the loop; the state up to it is written back before the error.
-    let refused = false;
-    let z = 0;
-    for (let i = 0, p = at, m = markAt; i < rows; i++, p += stride, m += stride) {
+    let refused = -1;
+    for (let i = 0; i < n; i++, p += stride) {
       const x = values[p]!;
+      z[i] = Number.NaN;
       if (Number.isNaN(x)) continue;
       if (count < warmup) {
         const total = count + 1;
@@ -134,39 +159,72 @@ export class NumericShifts {
       }
       const sd = Math.sqrt(count > 1 ? Math.max(0, m2) / (count - 1) : 0);
       const d = x - mean;
-      z = sd > 0 ? d / sd : d === 0 ? 0 : Math.sign(d) * clip;
-      if (z > clip) z = clip;
-      else if (z < -clip) z = -clip;
+      let v = sd > 0 ? d / sd : d === 0 ? 0 : Math.sign(d) * clip;
+      if (v > clip) v = clip;
+      else if (v < -clip) v = -clip;
       const total = count + 1;
       const next = mean + (1 / total) * d;
       count = total;
       mean = next;
       m2 += d * (x - next);
-      if (!Number.isFinite(z)) {
-        refused = true;
+      z[i] = v;
+      if (!Number.isFinite(v)) {
+        refused = i;
         break;
-      }
-      testMean += (z - testMean) / ++n;
-      const deviation = z - testMean;
-      up = up + deviation - delta;
-      if (up < upMin) upMin = up;
-      down = down + deviation + delta;
-      if (down > downMax) downMax = down;
-      if (up - upMin > lambda || downMax - down > lambda) {
-        count = mean = m2 = n = testMean = up = upMin = down = downMax = 0;
-        marks[m]! |= bit;
       }
     }
     s[base] = count;
     s[base + 1] = mean;
     s[base + 2] = m2;
-    s[base + 3] = n;
+    return refused;
+  }
+
+  /**
+   * The Page-Hinkley step of feature `base` on each of the first `n` standardised values (NaN skipped);
+   * on an alarm at value i the test starts again, `marks[m + i·stride] |= bit`, and i is returned (−1
+   * when there was none).
+   */
+  private runTest(
+    base: number,
+    n: number,
+    marks: Uint8Array,
+    m: number,
+    stride: number,
+    bit: number,
+  ): number {
+    const { delta, lambda } = this.test;
+    const s = this.state;
+    const z = this.z;
+    let count = s[base + 3]!;
+    let testMean = s[base + 4]!;
+    let up = s[base + 5]!;
+    let upMin = s[base + 6]!;
+    let down = s[base + 7]!;
+    let downMax = s[base + 8]!;
+    let alarm = -1;
+    for (let i = 0; i < n; i++, m += stride) {
+      const v = z[i]!;
+      if (Number.isNaN(v)) continue;
+      testMean += (v - testMean) / ++count;
+      const deviation = v - testMean;
+      up = up + deviation - delta;
+      if (up < upMin) upMin = up;
+      down = down + deviation + delta;
+      if (down > downMax) downMax = down;
+      if (up - upMin > lambda || downMax - down > lambda) {
+        count = testMean = up = upMin = down = downMax = 0;
+        marks[m]! |= bit;
+        alarm = i;
+        break;
+      }
+    }
+    s[base + 3] = count;
     s[base + 4] = testMean;
     s[base + 5] = up;
     s[base + 6] = upMin;
     s[base + 7] = down;
     s[base + 8] = downMax;
-    if (refused) checkFiniteValue(kind, z);
+    return alarm;
   }
 
   reset(): void {

@@ -1,12 +1,22 @@
 import quantile from '@stdlib/stats-base-dists-chisquare-quantile';
 import { describe, expect, it } from 'vitest';
-import { type FeatureSchema, nominal, numeric, Rng, ShoalError } from '../../src/core/index.js';
+import {
+  type FeatureSchema,
+  nominal,
+  numeric,
+  Rng,
+  ShoalError,
+  WELFORD_SLOTS,
+  welfordAdd,
+  welfordSampleVariance,
+} from '../../src/core/index.js';
 import {
   type ChiSquareResult,
   chiSquareHomogeneity,
   createInputMonitor,
   type InputMonitor,
   type InputMonitorSnapshot,
+  PageHinkley,
   restoreInputMonitor,
 } from '../../src/drift/index.js';
 import { median } from '../support/drift-streams.js';
@@ -168,6 +178,55 @@ describe('input-drift monitors', () => {
     // Each feature is flagged: the mean shift (0), the new carrier (1) and the missing share (2, both ways).
     for (const f of [0, 1]) expect(want.some((w) => w.split(' ')[1] === `${f}`)).toBe(true);
     expect(want.filter((w) => w.endsWith(' 2 1')).length).toBeGreaterThanOrEqual(2);
+    expect(got).toEqual(want);
+  });
+
+  it('flags a numeric feature where Page-Hinkley on Welford-standardised values alarms, bit for bit', () => {
+    // The definition the monitor's numeric test writes out in one kernel: z = (x − x̄)/s from Welford's
+    // running mean and sample deviation (Welford 1962; core/running-stats.ts) before x joins them, clipped,
+    // fed to the two-sided Page-Hinkley test (Page 1954; drift/page-hinkley.ts); missing values skipped,
+    // the first `warmup` values only standardising, and everything starting again after an alarm.
+    const options = { delta: 0.5, lambda: 6, warmup: 12, clip: 5 };
+    const one: FeatureSchema = { features: [numeric('box_temp')] };
+    const rng = new Rng('input-monitor/definition');
+    const rows = 40_000;
+    const values = new Float64Array(rows);
+    for (let t = 0; t < rows; t++) {
+      const regime = Math.floor(t / 1500) % 3;
+      values[t] = rng.next() < 0.03 ? Number.NaN : 4 + regime * 0.8 + 1.5 * rng.normal();
+    }
+    const want: number[] = [];
+    const stats = new Float64Array(WELFORD_SLOTS);
+    const test = new PageHinkley({
+      delta: options.delta,
+      lambda: options.lambda,
+      direction: 'both',
+      minCount: 1,
+    });
+    for (let t = 0; t < rows; t++) {
+      const x = values[t]!;
+      if (Number.isNaN(x)) continue;
+      if (stats[0]! < options.warmup) {
+        welfordAdd(stats, 0, x, 1);
+        continue;
+      }
+      const sd = Math.sqrt(welfordSampleVariance(stats, 0));
+      const d = x - stats[1]!;
+      const z = sd > 0 ? d / sd : d === 0 ? 0 : Math.sign(d) * options.clip;
+      welfordAdd(stats, 0, x, 1);
+      if (test.update(Math.max(-options.clip, Math.min(options.clip, z))) === 'drift') {
+        want.push(t);
+        stats.fill(0);
+      }
+    }
+    const monitor = createInputMonitor(one, { numeric: options });
+    const got: number[] = [];
+    for (let from = 0, run = 1; from < rows; from += run, run = 1 + ((run * 7919) % 3000)) {
+      const count = monitor.updateRows(values, from, Math.min(run, rows - from));
+      for (let k = 0; k < count; k++)
+        if (monitor.missingFlags[k] === 0) got.push(from + monitor.flagRows[k]!);
+    }
+    expect(want.length).toBeGreaterThan(20);
     expect(got).toEqual(want);
   });
 
