@@ -117,7 +117,10 @@ class FeatureDriftMonitor implements InputMonitor {
       this.numericSlot[j] = slots++;
       return null;
     });
-    this.numeric = new NumericShifts(slots, this.options.numeric);
+    this.numeric = new NumericShifts(
+      schema.features.filter((f) => f.kind !== 'nominal').map((f) => f.name),
+      this.options.numeric,
+    );
     this.marks = new Uint8Array(Math.max(1, Math.floor(BLOCK_VALUES / this.width)) * this.width);
   }
 

@@ -1,4 +1,4 @@
-import { integerAtLeast, nonNegative, positive, WELFORD_SLOTS } from '../core/index.js';
+import { integerAtLeast, nonNegative, positive, ShoalError, WELFORD_SLOTS } from '../core/index.js';
 import {
   checkFiniteValue,
   type DetectorSnapshot,
@@ -64,7 +64,7 @@ const SLOTS = WELFORD_SLOTS + 6;
  * k-th watched feature; `column` feeds it values and marks the rows where it drifted.
  *
  * @example
- * const shifts = new NumericShifts(2, resolveNumericShift('demo', {}));
+ * const shifts = new NumericShifts(['box_temp', 'door_open_s'], resolveNumericShift('demo', {}));
  * shifts.column(0, values, 0, width, rows, marks, 0, 1); // marks[r·width] |= 1 on a drift at row r
  */
 export class NumericShifts {
@@ -73,11 +73,15 @@ export class NumericShifts {
   private readonly test: PageHinkleyOptions;
   private readonly testKind: string;
   private readonly state: Float64Array;
+  /** The watched features' names, for errors. */
+  private readonly names: readonly string[];
   /** A run of values standardised (see `column`). */
   private z = new Float64Array(0);
 
-  constructor(features: number, options: NumericShiftOptions) {
+  /** `names`: the watched features', in order (feature k is names[k]). */
+  constructor(names: readonly string[], options: NumericShiftOptions) {
     this.options = options;
+    this.names = names;
     const test = new PageHinkley({
       delta: options.delta,
       lambda: options.lambda,
@@ -86,7 +90,7 @@ export class NumericShifts {
     });
     this.test = test.options;
     this.testKind = test.kind;
-    this.state = new Float64Array(features * SLOTS);
+    this.state = new Float64Array(names.length * SLOTS);
   }
 
   /**
@@ -113,7 +117,6 @@ export class NumericShifts {
     bit: number,
   ): void {
     if (this.z.length < rows) this.z = new Float64Array(rows);
-    const z = this.z;
     const base = k * SLOTS;
     for (let from = 0; from < rows; ) {
       const left = rows - from;
@@ -126,7 +129,15 @@ export class NumericShifts {
         from += alarm + 1;
         continue;
       }
-      if (refused >= 0) checkFiniteValue(this.testKind, z[refused]!);
+      if (refused >= 0) {
+        const x = values[at + (from + refused) * stride]!;
+        // Infinite, or the statistics overflowed and its standardised value is not finite.
+        if (Number.isFinite(x)) checkFiniteValue(this.testKind, this.z[refused]!);
+        throw new ShoalError(
+          'invalid-input',
+          `${KIND}: feature "${this.names[k]}" got ${x} at value ${from + refused} of those read at once; feature values must be finite`,
+        );
+      }
       return;
     }
   }
@@ -134,7 +145,8 @@ export class NumericShifts {
   /**
    * Welford's update of feature `base`'s statistics with `n` values from `values[p]` on, and into `z`
    * each value standardised before it joins them (NaN where there is none: missing, or in the warm-up).
-   * Stops after a value whose standardised value is not finite: its index (−1 when none was).
+   * Stops at an infinite value, before it joins them, or after a value whose standardised value is not
+   * finite (the statistics overflowed): its index (−1 when there was none).
    */
   private standardise(base: number, values: Float64Array, p: number, stride: number, n: number): number {
     const { warmup, clip } = this.options;
@@ -147,7 +159,12 @@ export class NumericShifts {
     for (let i = 0; i < n; i++, p += stride) {
       const x = values[p]!;
       z[i] = Number.NaN;
-      if (Number.isNaN(x)) continue;
+      // x − x is 0 for a finite x, NaN for a missing or infinite one.
+      if (x - x !== 0) {
+        if (Number.isNaN(x)) continue;
+        refused = i;
+        break;
+      }
       if (count < warmup) {
         const total = count + 1;
         const d = x - mean;

@@ -230,16 +230,17 @@ describe('input-drift monitors', () => {
     expect(got).toEqual(want);
   });
 
-  it('refuses an infinite reading with the same error read at once as row by row', () => {
-    // Past the warm-up an infinite value makes the standardised value NaN on the next reading; both ways
-    // of reading stop there with the same error. (The frame decoders refuse infinite values before a
-    // session sees them; this is the monitor's own guard.)
+  it('refuses an infinite reading, naming the feature, before it joins the statistics', () => {
+    // An infinite value (IEEE 754 ±∞) would make the running mean infinite and every later standardised
+    // value NaN: it is refused at its own row, read at once or row by row, and leaves the state as it was.
     const rng = new Rng('input-monitor/infinite');
     const rows = 200;
     const values = new Float64Array(rows * 2);
     for (let t = 0; t < rows; t++)
       fillRow(rng, t, { shift: 0, newCarrier: 0 }, values.subarray(2 * t, 2 * t + 2));
-    values[2 * 120] = Number.POSITIVE_INFINITY;
+    const clean = createInputMonitor(schema);
+    clean.updateRows(values, 0, 120);
+    values[2 * 120] = Number.NEGATIVE_INFINITY;
     const byRow = createInputMonitor(schema);
     const atOnce = createInputMonitor(schema);
     const refusal = (read: () => void): string => {
@@ -255,8 +256,10 @@ describe('input-drift monitors', () => {
       for (let t = 0; t < rows; t++) byRow.update(values, 2 * t);
     });
     const all = refusal(() => atOnce.updateRows(values, 0, rows));
-    expect(one).toMatch(/expects a finite value/);
-    expect(all).toBe(one);
+    expect(one).toMatch(/feature "box_temp" got -Infinity at value 0 of those read at once/);
+    expect(all).toMatch(/feature "box_temp" got -Infinity at value 120 of those read at once/);
+    // Row by row, every test had read rows 0–119 and nothing of row 120 when the refusal came.
+    expect(JSON.stringify(byRow.snapshot())).toBe(JSON.stringify(clean.snapshot()));
   });
 
   it('restores from a JSON snapshot and flags identically on the next 10,000 rows', () => {
