@@ -19,6 +19,17 @@ import {
 const ARROW = { 'content-type': 'application/vnd.apache.arrow.stream' };
 const NDJSON = { 'content-type': 'application/x-ndjson' };
 
+/** A one-row Arrow message: string (or null) columns as utf8, numbers as float64. */
+function arrowRow(row: Record<string, string | number | null>): Message {
+  const columns = Object.fromEntries(
+    Object.entries(row).map(([name, v]) => [
+      name,
+      typeof v === 'number' ? makeVector(new Float64Array([v])) : vectorFromArray([v], new Utf8()),
+    ]),
+  );
+  return { value: Buffer.from(tableToIPC(new Table(columns), 'stream')), headers: ARROW };
+}
+
 /** One bad message of each kind, with the reason code the service must give it. */
 function badMessages(): { message: Message; code: string }[] {
   const out: { message: Message; code: string }[] = [];
@@ -26,35 +37,8 @@ function badMessages(): { message: Message; code: string }[] {
     for (let i = 0; i < count; i++) out.push({ message: make(i), code });
   };
   add(7, 'undecodable', (i) => ({ value: Buffer.from(`not arrow ${i}`), headers: ARROW }));
-  add(7, 'schema-mismatch', (i) => ({
-    value: Buffer.from(
-      tableToIPC(
-        new Table({
-          id: vectorFromArray([`s${i}`], new Utf8()),
-          f1: makeVector(new Float64Array([1])),
-          f3: makeVector(new Float64Array([1])),
-          label: vectorFromArray(['0'], new Utf8()),
-        }),
-        'stream',
-      ),
-    ),
-    headers: ARROW,
-  }));
-  add(7, 'missing-id', () => ({
-    value: Buffer.from(
-      tableToIPC(
-        new Table({
-          id: vectorFromArray([null], new Utf8()),
-          f1: makeVector(new Float64Array([1])),
-          f2: makeVector(new Float64Array([2])),
-          f3: makeVector(new Float64Array([3])),
-          label: vectorFromArray(['0'], new Utf8()),
-        }),
-        'stream',
-      ),
-    ),
-    headers: ARROW,
-  }));
+  add(7, 'schema-mismatch', (i) => arrowRow({ id: `s${i}`, f1: 1, f3: 1, label: '0' }));
+  add(7, 'missing-id', () => arrowRow({ id: null, f1: 1, f2: 2, f3: 3, label: '0' }));
   add(7, 'bad-label', (i) => ({
     value: JSON.stringify({ id: `b${i}`, f1: 1, f2: 2, f3: 3, label: { rejected: true } }),
     headers: NDJSON,
@@ -64,23 +48,15 @@ function badMessages(): { message: Message; code: string }[] {
     headers: NDJSON,
   }));
   // An IEEE 754 infinity in a float64 column: a number, but not one a model can learn from.
-  add(3, 'bad-value', (i) => ({
-    value: Buffer.from(
-      tableToIPC(
-        new Table({
-          id: vectorFromArray([`inf${i}`], new Utf8()),
-          f1: makeVector(new Float64Array([1])),
-          f2: makeVector(
-            new Float64Array([i % 2 === 0 ? Number.POSITIVE_INFINITY : Number.NEGATIVE_INFINITY]),
-          ),
-          f3: makeVector(new Float64Array([3])),
-          label: vectorFromArray(['0'], new Utf8()),
-        }),
-        'stream',
-      ),
-    ),
-    headers: ARROW,
-  }));
+  add(3, 'bad-value', (i) =>
+    arrowRow({
+      id: `inf${i}`,
+      f1: 1,
+      f2: i % 2 === 0 ? Number.POSITIVE_INFINITY : Number.NEGATIVE_INFINITY,
+      f3: 3,
+      label: '0',
+    }),
+  );
   add(6, 'oversize', () => ({ value: Buffer.alloc(70_000, 7), headers: ARROW }));
   add(5, 'empty', () => ({ value: Buffer.alloc(0) }));
   add(5, 'unsupported-content-type', (i) => ({
