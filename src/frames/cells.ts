@@ -94,7 +94,6 @@ export class CellReader {
   }
 }
 
-/** Show a refused cell in a message: quoted text, or the JSON of anything else. */
 /**
  * Why a numeric cell read as `n` (by `CellReader.numeric`) cannot be a feature's value, or null: it is
  * not a number, or it is infinite ("Infinity", 1e999, an Arrow float's ±∞), which would turn a model's
@@ -108,6 +107,7 @@ export function numericProblem(n: number | undefined, value: unknown): string | 
   return null;
 }
 
+/** Show a refused cell in a message: quoted text, or the JSON of anything else. */
 export function showCell(value: unknown): string {
   if (typeof value === 'bigint') return String(value);
   const text = JSON.stringify(value);
