@@ -73,13 +73,34 @@ export interface LearnerSnapshot extends ConfiguredSnapshot {
 /** Labels above this are refused: a label is a class code, not an arbitrary number. */
 export const MAX_CLASSES = 4096;
 
-/** Check a (buffer, offset) row reference; the message is built only on failure. */
+/**
+ * Check a (buffer, offset) row reference and its values; the message is built only on failure. NaN marks
+ * a missing value and passes; an infinite value is refused, since one would turn a leaf's mean and
+ * variance into NaN for good (the decoders refuse it in frames and files; this is the library's door).
+ * One sum tells: it is finite unless a value is NaN or infinite (or finite values overflow it), and
+ * only then are the values looked at one by one.
+ */
 export function checkRow(owner: string, row: Float64Array, offset: number, width: number): void {
   if (!(offset >= 0 && Number.isInteger(offset) && offset + width <= row.length)) {
     throw new ShoalError(
       'invalid-row',
       `${owner}: a row needs ${width} values at offset ${offset}, but the buffer holds ${row.length}`,
     );
+  }
+  let sum = 0;
+  for (let j = 0; j < width; j++) sum += row[offset + j]!;
+  if (sum - sum !== 0) refuseInfinite(owner, row, offset, width);
+}
+
+function refuseInfinite(owner: string, row: Float64Array, offset: number, width: number): void {
+  for (let j = 0; j < width; j++) {
+    const v = row[offset + j]!;
+    if (v === Number.POSITIVE_INFINITY || v === Number.NEGATIVE_INFINITY) {
+      throw new ShoalError(
+        'invalid-row',
+        `${owner}: feature ${j} of the row at offset ${offset} is ${v}; feature values must be finite (NaN marks a missing value)`,
+      );
+    }
   }
 }
 

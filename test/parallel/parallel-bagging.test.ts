@@ -40,13 +40,16 @@ describe('parallel bagging', () => {
   });
 
   it.each([
-    ['after it', false],
-    ['while it is out', true],
+    ['label', 'after it', false],
+    ['label', 'while it is out', true],
+    ['feature value', 'after it', false],
+    ['feature value', 'while it is out', true],
   ])(
-    'raises a bad label from every thread as the shard would, and goes on with the next batch sent %s',
-    async (_, early) => {
+    'raises a bad %s from every thread as the shard would, and goes on with the next batch sent %s',
+    async (bad, _, early) => {
       const gen = sea({ noise: 0.1 }, 5);
       const block = take(gen, 300);
+      const rows = Float64Array.from(block.rows);
       const spec = { members: 4, lambda: 1, lifecycle: { enabled: false } } as const;
       const single = new Bagging(gen.schema, spec, 'p');
       single.ensureClasses(2);
@@ -56,18 +59,24 @@ describe('parallel bagging', () => {
         const out = new BatchVerdicts();
         const next = new BatchVerdicts();
         const labels = Float64Array.from(block.labels);
-        labels[10] = 1.5;
-        const failing = parallel.scoreTrainBatch(block.rows, labels, 100, out);
+        // A label that is no class code, or an infinite value (IEEE 754's ±∞ is no feature value), at row 10.
+        if (bad === 'label') labels[10] = 1.5;
+        else rows[10 * 3 + 1] = Number.NEGATIVE_INFINITY;
+        const failing = parallel.scoreTrainBatch(rows, labels, 100, out);
         const sent = early
-          ? parallel.scoreTrainBatch(block.rows.subarray(300), labels.subarray(100), 100, next)
+          ? parallel.scoreTrainBatch(rows.subarray(300), labels.subarray(100), 100, next)
           : null;
-        await expect(failing).rejects.toMatchObject({
-          code: 'invalid-label',
-          message: expect.stringMatching(/label must be an integer/),
-        });
+        await expect(failing).rejects.toMatchObject(
+          bad === 'label'
+            ? { code: 'invalid-label', message: expect.stringMatching(/label must be an integer/) }
+            : {
+                code: 'invalid-row',
+                message: expect.stringMatching(/feature 1 of the row at offset 30 is -Infinity/),
+              },
+        );
         const verdict = new Verdict();
         for (let r = 0; r < 10; r++) single.scoreTrain(block.rows, r * 3, block.labels[r]!, verdict);
-        await (sent ?? parallel.scoreTrainBatch(block.rows.subarray(300), labels.subarray(100), 100, next));
+        await (sent ?? parallel.scoreTrainBatch(rows.subarray(300), labels.subarray(100), 100, next));
         for (let r = 0; r < 100; r++) {
           single.scoreTrain(block.rows, (100 + r) * 3, block.labels[100 + r]!, verdict);
           expect(next.probabilities[r * 2 + 1]).toBe(verdict.probabilities[1]);

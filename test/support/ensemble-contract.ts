@@ -9,6 +9,7 @@ import {
 } from '../../src/ensembles/index.js';
 import type { LifecycleChange } from '../../src/journal/index.js';
 import { buildStream, type ConceptSchedule } from '../../src/streams/index.js';
+import { expectShoalError } from './errors.js';
 
 /**
  * The contract suite every ensemble kind passes (one suite, every implementation — see DEVELOPERS.md),
@@ -17,7 +18,9 @@ import { buildStream, type ConceptSchedule } from '../../src/streams/index.js';
  *   journal and the same final snapshot. A service scores a row when it arrives and trains when its label
  *   comes; a replay does both at once; the two must agree.
  * - the same seed gives the same verdicts, journal and snapshot;
- * - a snapshot taken mid-run (through JSON) restores to an ensemble that continues identically.
+ * - a snapshot taken mid-run (through JSON) restores to an ensemble that continues identically;
+ * - a row with an infinite value is refused, naming the feature, and changes nothing (IEEE 754 gives
+ *   ±∞ no place on a feature's scale; NaN is the missing-value marker and passes).
  *
  * The stream is SEA (Street & Kim, KDD 2001; PUBLISHED.md) with abrupt changes θ = 7 → 9.5 → 7 → 9.5 every
  * 2,000 rows, 5% label noise: the changes make members drift, so with the lifecycle on seats are
@@ -101,6 +104,24 @@ export function describeEnsembleContract(c: EnsembleCase): void {
       expect(b.records).toEqual(a.records);
       expect(JSON.stringify(b.ensemble.snapshot())).toBe(JSON.stringify(a.ensemble.snapshot()));
       expect(bytes(run(c, together, ROWS / 2, SEED + 1).trace).equals(bytes(a.trace))).toBe(false);
+    });
+
+    it('refuses a row with an infinite value, naming the feature, and learns nothing from it', () => {
+      const { ensemble } = run(c, together, 500);
+      const before = JSON.stringify(ensemble.snapshot());
+      const row = Float64Array.of(Number.NaN, 4, 5, 6, Number.POSITIVE_INFINITY, 7);
+      const v = new Verdict();
+      expectShoalError(
+        () => ensemble.scoreTrain(row, 2, 1, v),
+        'invalid-row',
+        /feature 2 .*offset 2 is Infinity/,
+      );
+      row[4] = Number.NEGATIVE_INFINITY;
+      expectShoalError(() => ensemble.train(row, 2, 0), 'invalid-row', /feature 2 .*-Infinity/);
+      expectShoalError(() => ensemble.score(row, 2, v), 'invalid-row', /feature 2 .*-Infinity/);
+      expect(JSON.stringify(ensemble.snapshot())).toBe(before);
+      ensemble.scoreTrain(row, 0, 1, v);
+      expect(v.probabilities[0]! + v.probabilities[1]!).toBeCloseTo(1, 12);
     });
 
     it('restores from a JSON snapshot mid-run and ends identically', () => {
