@@ -9,7 +9,7 @@ import {
   T_W,
   type TreeLeaves,
 } from './hoeffding-tree-leaves.js';
-import { INV_LN2, impurity, type SplitCriterion, splitMerit } from './split-merit.js';
+import { binaryGainBound, INV_LN2, impurity, type SplitCriterion, splitMerit } from './split-merit.js';
 
 /**
  * The split search of a Hoeffding tree (Domingos & Hulten, "Mining high-speed data streams", KDD 2000):
@@ -23,7 +23,12 @@ import { INV_LN2, impurity, type SplitCriterion, splitMerit } from './split-meri
  * The common case — information gain over two classes — has its own candidate loop: the merit of
  * `splitMerit` written out for two branches of two classes, with each branch's entropy taken as
  * Σ n ln(B/n) (four logarithms per candidate instead of six), no call and no merit handed back as a
- * boxed number.
+ * boxed number. A candidate's logarithms are skipped when a bound without them (`binaryGainBound`, a
+ * χ² bound on the gain) shows that its merit can matter to nobody: a candidate bound below both the
+ * attribute's best merit so far and the second-best merit of the attributes ranked before it can be
+ * neither the attribute's best nor change the best or second-best attribute, so the ranking, the
+ * threshold and `ready` are exactly those of the full search. On the benchmark stream this skips the
+ * logarithms of most candidates, and a split attempt of bagging ×10 takes about a quarter less time.
  */
 
 export interface SplitSettings {
@@ -36,6 +41,13 @@ export interface SplitSettings {
 
 const F_MERIT = 0;
 const F_CUT = 1;
+
+/**
+ * Relative and absolute slack of the χ² bound against rounding: the bound and the merit are computed
+ * along different paths, each within a few ulps (about 1e-15 of the merit).
+ */
+const BOUND_SLACK = 1e-9;
+const BOUND_FLOOR = 1e-12;
 
 export class SplitSearch {
   /** The threshold of the split `choose` accepted. */
@@ -100,7 +112,7 @@ export class SplitSearch {
     for (let j = 0; j < leaves.perLeaf; j++) {
       const f = plan[p + j]!;
       if (j < numeric) {
-        if (binaryGain) this.bestBinaryGain(leaves, base, j);
+        if (binaryGain) this.bestBinaryGain(leaves, base, j, second);
         else this.bestThreshold(leaves, base, j);
       } else {
         const v = leaves.cardinalities[f]!;
@@ -185,8 +197,12 @@ export class SplitSearch {
     }
   }
 
-  /** `bestThreshold` for information gain over two classes, the merit written out. */
-  private bestBinaryGain(leaves: TreeLeaves, base: number, numeric: number): void {
+  /**
+   * `bestThreshold` for information gain over two classes, the merit written out, with the logarithms
+   * of a candidate skipped when its χ² bound is below both the best merit so far and `second`, the
+   * second-best merit of the attributes before this one (see the module's comment).
+   */
+  private bestBinaryGain(leaves: TreeLeaves, base: number, numeric: number, second: number): void {
     const stats = leaves.stats;
     const found = this.found;
     found[F_MERIT] = 0;
@@ -248,6 +264,8 @@ export class SplitSearch {
       // A split that sends less than the floor's share to either side separates nothing that matters.
       const floor = minShare * total;
       if (!(total > 0 && below > 0 && below >= floor && above > 0 && above >= floor)) continue;
+      const bound = binaryGainBound(b0, b1, a0, a1);
+      if (bound * (1 + BOUND_SLACK) + BOUND_FLOOR < Math.max(best, second)) continue;
       // Each branch's B·H = Σ n ln(B/n): two logarithms and one division per branch.
       let weighted = 0;
       let inv = 1 / below;
