@@ -85,8 +85,8 @@ export function splitMerit(
  * class weights below the cut, a₀, a₁ above — that needs no logarithm: the gain is the mutual
  * information of class and branch, a Kullback-Leibler divergence, and KL(P‖Q) ≤ ln(1 + χ²(P‖Q)) ≤
  * χ²(P‖Q) (Gibbs & Su, "On choosing and bounding probability metrics", International Statistical Review
- * 70, 2002), which for this 2×2 table is (b₀a₁ − b₁a₀)² / (B·A·W₀·W₁) nats. NaN when a row or column of
- * the table is empty.
+ * 70, 2002; from memory), which for this 2×2 table is (b₀a₁ − b₁a₀)² / (B·A·W₀·W₁) nats. NaN when a
+ * row or column of the table is empty.
  */
 export function binaryGainBound(b0: number, b1: number, a0: number, a1: number): number {
   const cross = b0 * a1 - b1 * a0;

@@ -23,9 +23,10 @@ function gain(b0: number, b1: number, a0: number, a1: number): number {
 }
 
 describe('the χ² bound on the information gain of a two-class binary split', () => {
-  // KL(P‖Q) ≤ ln(1 + χ²(P‖Q)) ≤ χ²(P‖Q) (Gibbs & Su, International Statistical Review 70, 2002), and
-  // the gain is the mutual information of class and branch, KL of the joint from the product of its
-  // margins (Cover & Thomas, Elements of Information Theory, 2nd ed., eq. 2.28).
+  // KL(P‖Q) ≤ ln(1 + χ²(P‖Q)) ≤ χ²(P‖Q) (Gibbs & Su, International Statistical Review 70, 2002; from
+  // memory), and the gain is the mutual information of class and branch, KL of the joint from the
+  // product of its margins (Cover & Thomas, Elements of Information Theory, 2nd ed., §2.3; from
+  // memory). The first test checks the inequality itself against the gain's definition.
   it('is never below the gain, on tables from even to pure, tiny to huge weights', () => {
     const rng = new Rng(41);
     const scales = [1e-6, 1, 200, 1e6];
