@@ -1,7 +1,5 @@
 import type { Assigner, PartitionAssigner } from 'kafkajs';
-import kafkajs from 'kafkajs';
-
-const { AssignerProtocol } = kafkajs;
+import { kafkajsModule } from './kafkajs.js';
 
 /**
  * How `serve` spreads partitions over the instances of a group: partition number p of *every*
@@ -35,7 +33,7 @@ export const samePartitionAssigner: PartitionAssigner = ({ cluster }) => {
       }
       return ids.map((memberId) => ({
         memberId,
-        memberAssignment: AssignerProtocol.MemberAssignment.encode({
+        memberAssignment: kafkajsModule().AssignerProtocol.MemberAssignment.encode({
           version: assigner.version,
           assignment: plan.get(memberId)!,
           userData: Buffer.alloc(0),
@@ -45,7 +43,7 @@ export const samePartitionAssigner: PartitionAssigner = ({ cluster }) => {
     protocol({ topics }) {
       return {
         name: assigner.name,
-        metadata: AssignerProtocol.MemberMetadata.encode({
+        metadata: kafkajsModule().AssignerProtocol.MemberMetadata.encode({
           version: assigner.version,
           topics,
           userData: Buffer.alloc(0),

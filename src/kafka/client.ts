@@ -1,12 +1,9 @@
-import type { SASLOptions } from 'kafkajs';
-import kafkajs from 'kafkajs';
+import type { Kafka, SASLOptions } from 'kafkajs';
 import type { Logger } from 'pino';
 import { registerCodecs } from './codecs.js';
 import type { KafkaSettings, Secrets } from './config.js';
+import { kafkajsModule } from './kafkajs.js';
 import { kafkaLogCreator } from './log.js';
-
-/** kafkajs is a CommonJS module whose named exports Node cannot detect: take them from its default. */
-const { Kafka, logLevel } = kafkajs;
 
 /**
  * A kafkajs client for the settings: brokers, TLS and SASL (PLAIN, SCRAM-SHA-256/512) with secrets read
@@ -16,8 +13,9 @@ export function createKafka(
   settings: Pick<KafkaSettings, 'clientId' | 'brokers' | 'tls' | 'sasl'>,
   secrets: Secrets,
   log: Logger,
-): kafkajs.Kafka {
+): Kafka {
   registerCodecs();
+  const { Kafka, logLevel } = kafkajsModule();
   const tls = settings.tls;
   const sasl = settings.sasl;
   return new Kafka({

@@ -1,8 +1,8 @@
 import { decompress as zstdDecompress } from 'fzstd';
-import kafkajs from 'kafkajs';
 import { decompressBlock } from 'lz4js';
 import { hash as xxh32 } from 'lz4js/xxh32.js';
 import { compress as snappyCompress, uncompress as snappyUncompress } from 'snappyjs';
+import { kafkajsModule } from './kafkajs.js';
 
 /**
  * The record-batch codecs kafkajs lacks. kafkajs decodes only gzip; a batch compressed with another
@@ -32,8 +32,6 @@ import { compress as snappyCompress, uncompress as snappyUncompress } from 'snap
  * through kafkajs call it too.
  */
 
-const { CompressionCodecs, CompressionTypes } = kafkajs;
-
 /** snappy-java's stream magic (the first 8 of its 16 header bytes). */
 const SNAPPY_FRAMED = Buffer.from([0x82, 0x53, 0x4e, 0x41, 0x50, 0x50, 0x59, 0x00]);
 const SNAPPY_HEADER_BYTES = 16;
@@ -50,6 +48,7 @@ const LZ4_BLOCK = 64 * 1024;
 const LZ4_STORED = 0x80000000;
 
 export function registerCodecs(): void {
+  const { CompressionCodecs, CompressionTypes } = kafkajsModule();
   CompressionCodecs[CompressionTypes.ZSTD] = () => ({
     compress: async () => {
       throw new Error('shoal writes gzip, snappy, lz4 or uncompressed batches, not zstd');

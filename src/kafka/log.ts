@@ -1,6 +1,7 @@
 import { Writable } from 'node:stream';
-import kafkajs, { type LogEntry } from 'kafkajs';
+import type { LogEntry } from 'kafkajs';
 import { type DestinationStream, type Logger, pino } from 'pino';
+import { kafkajsModule } from './kafkajs.js';
 
 /**
  * Structured logs of the service: JSON lines (pino) on a pipe, one readable line per record on a
@@ -103,7 +104,7 @@ export function kafkaLogCreator(log: Logger): () => (entry: LogEntry) => void {
         'retryTime' in extra ||
         TRANSIENT.test(message) ||
         TRANSIENT.test(String(extra.error ?? ''));
-      const { logLevel } = kafkajs;
+      const { logLevel } = kafkajsModule();
       if (level <= logLevel.WARN && transient) child.debug(fields, message);
       else if (level === logLevel.ERROR) child.error(fields, message);
       else if (level === logLevel.WARN) child.warn(fields, message);

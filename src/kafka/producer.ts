@@ -1,6 +1,7 @@
-import kafkajs, { type Kafka, type Producer, type TopicMessages, type Transaction } from 'kafkajs';
+import type { Kafka, Producer, TopicMessages, Transaction } from 'kafkajs';
 import type { Logger } from 'pino';
 import { persist } from './backoff.js';
+import { kafkajsModule } from './kafkajs.js';
 
 /**
  * The service's producer: every output of a fetched batch (scores, dead letters, journal records) goes
@@ -28,7 +29,7 @@ export class OutputProducer {
     // is possible either way (at-least-once; scores carry id and epoch so that consumers can drop
     // repeats). A transactional producer is idempotent, as Kafka requires.
     this.producer = kafka.producer({
-      createPartitioner: kafkajs.Partitioners.DefaultPartitioner,
+      createPartitioner: kafkajsModule().Partitioners.DefaultPartitioner,
       allowAutoTopicCreation: false,
       ...(transactionalId === null
         ? {}

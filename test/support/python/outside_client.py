@@ -42,8 +42,14 @@ def produce(brokers, topic, rows, seed, codec):
 
 
 def read(brokers, topic, rows):
+    # check.crcs: librdkafka verifies each record batch's CRC-32C, which kafkajs wrote with Shoal's.
     consumer = Consumer(
-        {"bootstrap.servers": brokers, "group.id": f"py-reader-{topic}", "auto.offset.reset": "earliest"}
+        {
+            "bootstrap.servers": brokers,
+            "group.id": f"py-reader-{topic}",
+            "auto.offset.reset": "earliest",
+            "check.crcs": True,
+        }
     )
     consumer.subscribe([topic])
     tables = []
