@@ -17,15 +17,16 @@ let loaded: typeof Kafkajs | null = null;
  * the first call, before kafkajs is loaded, `crc32c` takes the place of kafkajs's own CRC-32C module in
  * Node's module cache, so the record batches kafkajs produces are checksummed eight bytes per step
  * (the bytes are the same). When something in the process loaded kafkajs earlier (a test harness that
- * imports it), kafkajs keeps its own: the same checksums, slower.
+ * imports it), or a kafkajs other than the pinned one has no module at that path, kafkajs keeps its own:
+ * the same checksums, slower.
  *
  * @example
  * const { Kafka } = kafkajsModule();
  */
 export function kafkajsModule(): typeof Kafkajs {
   if (loaded !== null) return loaded;
-  const path = require.resolve(KAFKAJS_CRC32C);
-  if (require.cache[path] === undefined) {
+  const path = ownCrcSlot();
+  if (path !== null && require.cache[path] === undefined) {
     const own = new Module(path);
     own.filename = path;
     own.exports = crc32c;
@@ -34,4 +35,13 @@ export function kafkajsModule(): typeof Kafkajs {
   }
   loaded = require('kafkajs') as typeof Kafkajs;
   return loaded;
+}
+
+/** Where kafkajs keeps its CRC-32C module, or null when this kafkajs has none there. */
+function ownCrcSlot(): string | null {
+  try {
+    return require.resolve(KAFKAJS_CRC32C);
+  } catch {
+    return null;
+  }
 }
