@@ -3,9 +3,10 @@ import { dirname, join, resolve } from 'node:path';
 import { Writable } from 'node:stream';
 import { fileURLToPath } from 'node:url';
 import { tableFromIPC } from 'apache-arrow';
-import { Kafka, type KafkaMessage, logLevel, type Message } from 'kafkajs';
+import type { Kafka, KafkaMessage, Message } from 'kafkajs';
 import type { Logger } from 'pino';
 import { createLogger } from '../../src/kafka/index.js';
+import { kafkajsModule } from '../../src/kafka/kafkajs.js';
 import { uniqueName } from './kafka-names.js';
 
 /**
@@ -15,7 +16,9 @@ import { uniqueName } from './kafka-names.js';
 
 const repo = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
 
+/** A kafkajs client of the tests, loaded as Shoal loads it (with Shoal's CRC-32C when it loads first). */
 export function client(brokers: string): Kafka {
+  const { Kafka, logLevel } = kafkajsModule();
   return new Kafka({ clientId: 'shoal-test', brokers: brokers.split(','), logLevel: logLevel.NOTHING });
 }
 
