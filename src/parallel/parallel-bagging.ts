@@ -44,9 +44,9 @@ import { SharedVerdicts } from './shard-votes.js';
  * (`Atomics.waitAsync`), so its event loop keeps serving.
  *
  * A batch goes out when it is sent (its rows and labels copied at once), and its promise resolves once
- * its verdicts are in `out`; two batches may be out at once, run in the order sent, so the workers can
- * start on the next batch while this thread reads the verdicts of one (a third is refused until the
- * first is in). The figures (`rows`, `seats`, …) are those after the last batch in; a snapshot waits for
+ * its verdicts are in `out`; three batches may be out at once (`batchesOut`), run in the order sent,
+ * so the workers can start on the next batch while this thread reads the verdicts of one, and the
+ * worker ahead can run a batch further ahead of the other (a fourth is refused until the first is in). The figures (`rows`, `seats`, …) are those after the last batch in; a snapshot waits for
  * the batches out and is taken after them.
  *
  * @example
@@ -90,6 +90,8 @@ class Slot {
 }
 
 export class ParallelBagging {
+  /** Batches that may be out at once (sent, their verdicts not yet in). */
+  static readonly batchesOut = SLOTS;
   readonly kind = 'bagging';
   readonly schema: FeatureSchema;
   readonly options: BaggingOptions;

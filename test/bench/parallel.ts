@@ -11,11 +11,11 @@ import { benchStream } from './stream.js';
  * one thread. They go through the same rows side by side, taking turns a block of 20,000 rows at a time
  * (the order of turns rotates), so that all see the same machine however its load moves; each is timed
  * from its first quarter of rows on (a worker's compiler starts cold), three times over. Rows go to the
- * threads in batches of 1,000, each sent before the verdicts of the one before it are read (two out at a
- * time, as `ParallelBagging` allows), so the workers do not wait while this thread checks them (only the
- * last batch of a block is read with none behind it); a second pair of threads takes one batch at a time
- * (each awaited before the next is sent), to show what having two out gains. The verdicts are checked to
- * be identical.
+ * threads in batches of 1,000, each sent before the verdicts of the ones before it are read (as many out
+ * at a time as `ParallelBagging` allows, `batchesOut`: three), so the workers do not wait while this
+ * thread checks them (only the last batches of a block are read with none behind them); a second pair
+ * of threads takes one batch at a time (each awaited before the next is sent), to show what having
+ * several out gains. The verdicts are checked to be identical.
  */
 const BATCH = 1000;
 /** Batches one side runs before the next takes its turn. */
@@ -64,24 +64,27 @@ export const bench: BenchFn = async ({ quick }) => {
         two: await ParallelBagging.start(schema, spec, 'bench-parallel', 2),
         'single-file': await ParallelBagging.start(schema, spec, 'bench-parallel', 2),
       };
-      const outs = [new BatchVerdicts(), new BatchVerdicts()];
+      const out = ParallelBagging.batchesOut;
+      const outs = Array.from({ length: out }, () => new BatchVerdicts());
       const threaded = async (side: 'two' | 'single-file', from: number, to: number): Promise<void> => {
         const parallel = pairs[side];
         const into = got[side];
-        const read = async (done: Promise<void>, s: number): Promise<void> => {
+        const sent: { done: Promise<void>; s: number }[] = [];
+        const read = async (): Promise<void> => {
+          const { done, s } = sent.shift()!;
           await done;
-          const out = outs[(s / BATCH) % 2]!;
-          for (let r = 0; r < BATCH; r++) into[s + r] = out.probabilities[r * 2 + 1]!;
+          const verdicts = outs[(s / BATCH) % out]!;
+          for (let r = 0; r < BATCH; r++) into[s + r] = verdicts.probabilities[r * 2 + 1]!;
         };
-        let ahead: Promise<void> = Promise.resolve();
         for (let s = from; s < to; s += BATCH) {
-          const out = outs[(s / BATCH) % 2]!;
-          const done = parallel.scoreTrainBatch(values.subarray(s * width), labels.subarray(s), BATCH, out);
-          if (side === 'single-file') await done;
-          await ahead;
-          ahead = read(done, s);
+          if (sent.length === (side === 'two' ? out : 1)) await read();
+          const verdicts = outs[(s / BATCH) % out]!;
+          sent.push({
+            done: parallel.scoreTrainBatch(values.subarray(s * width), labels.subarray(s), BATCH, verdicts),
+            s,
+          });
         }
-        await ahead;
+        while (sent.length > 0) await read();
       };
       for (const pair of Object.values(pairs)) pair.ensureClasses(2);
       const seconds: Record<Side, number> = { one: 0, two: 0, 'single-file': 0 };

@@ -127,9 +127,9 @@ describe('parallel bagging', () => {
     expect(child.status).toBe(0);
   });
 
-  it('takes a second batch while one is out, refuses a third, and refuses batches while a snapshot is taken', async () => {
+  it('takes a second and a third batch while one is out, refuses a fourth, and refuses batches while a snapshot is taken', async () => {
     const gen = sea({}, 3);
-    const block = take(gen, 600);
+    const block = take(gen, 800);
     const spec = { members: 3, lambda: 1, lifecycle: { enabled: false } } as const;
     const single = new Bagging(gen.schema, spec, 1);
     single.ensureClasses(2);
@@ -137,20 +137,24 @@ describe('parallel bagging', () => {
     parallel.ensureClasses(2);
     const labels = Float64Array.from(block.labels);
     try {
-      const outs = [new BatchVerdicts(), new BatchVerdicts(), new BatchVerdicts()];
-      const first = parallel.scoreTrainBatch(block.rows, labels, 200, outs[0]!);
-      const second = parallel.scoreTrainBatch(block.rows.subarray(600), labels.subarray(200), 200, outs[1]!);
-      await expect(parallel.scoreBatch(block.rows, 200, outs[2]!)).rejects.toMatchObject({
+      const outs = Array.from({ length: 4 }, () => new BatchVerdicts());
+      const batch = (k: number): Promise<void> =>
+        parallel.scoreTrainBatch(block.rows.subarray(600 * k), labels.subarray(200 * k), 200, outs[k]!);
+      const first = batch(0);
+      const second = batch(1);
+      const third = batch(2);
+      await expect(parallel.scoreBatch(block.rows, 200, new BatchVerdicts())).rejects.toMatchObject({
         code: 'invalid-parameter',
-        message: expect.stringMatching(/2 batches are still out/),
+        message: expect.stringMatching(/3 batches are still out/),
       });
       await first;
-      const third = parallel.scoreTrainBatch(block.rows.subarray(1200), labels.subarray(400), 200, outs[2]!);
+      const fourth = batch(3);
       await second;
       await third;
+      await fourth;
       // In the order sent, as one thread row after row (members are independent: Oza & Russell 2001).
       const verdict = new Verdict();
-      for (let r = 0; r < 600; r++) {
+      for (let r = 0; r < 800; r++) {
         single.scoreTrain(block.rows, r * 3, block.labels[r]!, verdict);
         expect(outs[Math.floor(r / 200)]!.probabilities[(r % 200) * 2 + 1]).toBe(verdict.probabilities[1]);
       }

@@ -55,8 +55,8 @@ function single(bag: Bagging, from: number, to: number, trace: number[]): void {
 }
 
 /**
- * Threads, rows `from` … `to` − 1 in batches of `sizes` rows (cycled); with `ahead`, each batch is sent
- * before the answers of the one before it are read (two out at a time).
+ * Threads, rows `from` … `to` − 1 in batches of `sizes` rows (cycled), `out` batches out at a time: each
+ * batch is sent before the answers of the `out` − 1 before it are read.
  */
 async function threaded(
   bag: ParallelBagging,
@@ -65,7 +65,7 @@ async function threaded(
   trace: number[],
   records: LifecycleChange[],
   sizes: readonly number[] = [BATCH],
-  ahead = false,
+  out = 1,
 ): Promise<void> {
   const verdict = new Verdict();
   const take = (out: BatchVerdicts, n: number): void => {
@@ -76,22 +76,23 @@ async function threaded(
       for (let m = 0; m < MEMBERS; m++) trace.push(out.accuracy[r * MEMBERS + m]!);
     }
   };
-  let out: { done: Promise<void>; verdicts: BatchVerdicts; rows: number } | null = null;
+  const sent: { done: Promise<void>; verdicts: BatchVerdicts; rows: number }[] = [];
+  const read = async (): Promise<void> => {
+    const first = sent.shift()!;
+    await first.done;
+    take(first.verdicts, first.rows);
+  };
   for (let s = from, k = 0, n = 0; s < to; s += n, k++) {
     n = Math.min(sizes[k % sizes.length]!, to - s);
+    if (sent.length === out) await read();
     const verdicts = new BatchVerdicts();
-    const done = bag.scoreTrainBatch(rows.subarray(s * width), labels.subarray(s), n, verdicts);
-    if (!ahead) await done;
-    if (out !== null) {
-      await out.done;
-      take(out.verdicts, out.rows);
-    }
-    out = { done, verdicts, rows: n };
+    sent.push({
+      done: bag.scoreTrainBatch(rows.subarray(s * width), labels.subarray(s), n, verdicts),
+      verdicts,
+      rows: n,
+    });
   }
-  if (out !== null) {
-    await out.done;
-    take(out.verdicts, out.rows);
-  }
+  while (sent.length > 0) await read();
 }
 
 function firstDifference(a: number[], b: number[]): number {
@@ -114,22 +115,23 @@ describe('parallel bagging with the member lifecycle', () => {
   });
 
   const changing = [1, 130, 64, 700, 65, 2, 1200, 333];
-  const readLate = 'each sent before the answers of the one before are read';
   it.each([
-    { threads: 2, sizes: [BATCH], ahead: false, how: `batches of ${BATCH}` },
-    { threads: 3, sizes: [BATCH], ahead: false, how: `batches of ${BATCH}` },
+    { threads: 2, sizes: [BATCH], out: 1, how: `batches of ${BATCH}` },
+    { threads: 3, sizes: [BATCH], out: 1, how: `batches of ${BATCH}` },
     // Shared buffers grow and go out again.
-    { threads: 3, sizes: changing, ahead: false, how: 'batches of changing sizes' },
-    { threads: 2, sizes: changing, ahead: true, how: `batches of changing sizes, ${readLate}` },
-    { threads: 3, sizes: changing, ahead: true, how: `batches of changing sizes, ${readLate}` },
+    { threads: 3, sizes: changing, out: 1, how: 'batches of changing sizes' },
+    { threads: 2, sizes: changing, out: 2, how: 'batches of changing sizes, two out at a time' },
+    { threads: 3, sizes: changing, out: 2, how: 'batches of changing sizes, two out at a time' },
+    { threads: 2, sizes: changing, out: 3, how: 'batches of changing sizes, three out at a time' },
+    { threads: 3, sizes: [BATCH], out: 3, how: `batches of ${BATCH}, three out at a time` },
   ])(
     'over $threads threads, in $how, gives the verdicts, lifecycle changes, seats and snapshot of one thread',
-    async ({ threads, sizes, ahead }) => {
+    async ({ threads, sizes, out }) => {
       const got: LifecycleChange[] = [];
       const parallel = await ParallelBagging.start(schema, SPEC, 'life', threads, (c) => got.push(c));
       try {
         const t: number[] = [];
-        await threaded(parallel, 0, ROWS, t, got, sizes, ahead);
+        await threaded(parallel, 0, ROWS, t, got, sizes, out);
         expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
         expect(got).toEqual(records);
         expect(parallel.epoch).toBe(bag.epoch);
