@@ -1,14 +1,6 @@
 import { spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
-import { bench as core } from './core.js';
-import { bench as decode } from './decode.js';
-import { bench as drift } from './drift.js';
-import { type BenchSection, machine } from './harness.js';
-import { bench as learners } from './learners.js';
-import { bench as memory } from './memory.js';
-import { bench as parallel } from './parallel.js';
-import { bench as restore } from './restore.js';
-import { bench as serve } from './serve.js';
+import { type BenchFn, type BenchSection, machine } from './harness.js';
 
 /**
  * `npm run bench [-- --quick] [-- --json]`: every benchmark section, printed as tables, or as one JSON
@@ -16,10 +8,22 @@ import { bench as serve } from './serve.js';
  *
  * Each section runs in a process of its own (this file again, with `--section NAME`), so that what the
  * compiler learnt in one section — call sites that saw several learner kinds, say — does not slow the
- * next, and one section's heap does not weigh on another's memory figures.
+ * next, and one section's heap does not weigh on another's memory figures. A section's process loads
+ * only that section's modules: with every section imported up front, the core section ran in a process
+ * that had loaded Apache Arrow, kafkajs and the service, and the engine and its yardstick both ran
+ * about a tenth slower there than in a process that had loaded only the core (alternated on 4 December;
+ * see DEVELOPERS.md, *Performance work*).
  */
-const SECTIONS = { learners, core, parallel, memory, drift, decode, serve, restore } as const;
-type SectionName = keyof typeof SECTIONS;
+const SECTIONS: Record<string, () => Promise<BenchFn>> = {
+  learners: async () => (await import('./learners.js')).bench,
+  core: async () => (await import('./core.js')).bench,
+  parallel: async () => (await import('./parallel.js')).bench,
+  memory: async () => (await import('./memory.js')).bench,
+  drift: async () => (await import('./drift.js')).bench,
+  decode: async () => (await import('./decode.js')).bench,
+  serve: async () => (await import('./serve.js')).bench,
+  restore: async () => (await import('./restore.js')).bench,
+};
 
 const argv = process.argv.slice(2);
 const quick = argv.includes('--quick');
@@ -27,8 +31,13 @@ const asJson = argv.includes('--json');
 const sectionAt = argv.indexOf('--section');
 
 if (sectionAt >= 0) {
-  const name = argv[sectionAt + 1] as SectionName;
-  const section: BenchSection = await SECTIONS[name]({ quick });
+  const name = argv[sectionAt + 1]!;
+  const load = SECTIONS[name];
+  if (load === undefined) {
+    console.error(`no bench section ${name}: one of ${Object.keys(SECTIONS).join(', ')}`);
+    process.exit(2);
+  }
+  const section: BenchSection = await (await load())({ quick });
   process.stdout.write(JSON.stringify(section));
 } else {
   const m = machine();
