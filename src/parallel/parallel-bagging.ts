@@ -45,9 +45,10 @@ import { SharedVerdicts } from './shard-votes.js';
  *
  * A batch goes out when it is sent (its rows and labels copied at once), and its promise resolves once
  * its verdicts are in `out`; three batches may be out at once (`batchesOut`), run in the order sent,
- * so the workers can start on the next batch while this thread reads the verdicts of one, and the
- * worker ahead can run a batch further ahead of the other (a fourth is refused until the first is in). The figures (`rows`, `seats`, …) are those after the last batch in; a snapshot waits for
- * the batches out and is taken after them.
+ * so the workers can start on the next batch while this thread reads the verdicts of one, and a worker
+ * through a batch finds the next one already sent (a fourth is refused until the first is in). The
+ * figures (`rows`, `seats`, …) are those after the last batch in; a snapshot waits for the batches out
+ * and is taken after them.
  *
  * @example
  * const bag = await ParallelBagging.start(schema, { members: 10 }, 7, 2);
