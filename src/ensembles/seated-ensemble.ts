@@ -62,20 +62,14 @@ export abstract class SeatedEnsemble implements Ensemble {
 
   abstract score(row: Float64Array, offset: number, verdict: Verdict): void;
 
-  // The label goes on as a small integer (`label | 0`, exact for a checked label): a frame's labels are
-  // a Float64Array, and a label read from one arrives as a double, with which every index the members
-  // compute from it (class counts, statistics slots) ran as floating-point arithmetic converted back
-  // at each use. Measured on bagging x10 with the lifecycle: 1.11x as fast on one thread, 1.2x on two.
   train(row: Float64Array, offset: number, label: number): void {
-    this.checked(row, offset, label);
-    const code = label | 0;
+    const code = this.checked(row, offset, label);
     this.step(row, offset, code, null);
     this.learnt(code);
   }
 
   scoreTrain(row: Float64Array, offset: number, label: number, verdict: Verdict): void {
-    this.checked(row, offset, label);
-    const code = label | 0;
+    const code = this.checked(row, offset, label);
     // The verdict is the model's as it was when the row came: a seat replaced while learning from the
     // row belongs to the next epoch, as it would had the label come later (`score`, then `train`).
     const epoch = this.lifecycle.epoch;
@@ -135,9 +129,17 @@ export abstract class SeatedEnsemble implements Ensemble {
     checkRow(this.kind, row, offset, this.width);
   }
 
-  private checked(row: Float64Array, offset: number, label: number): void {
+  /**
+   * Check a labelled row; returns the label as a small integer (`label | 0`, exact once checked). A
+   * frame's labels are a Float64Array, and a label read from one arrives as a double, with which every
+   * index the members compute from it (class counts, statistics slots) ran as floating-point arithmetic
+   * converted back at each use: bagging ×10 with the lifecycle ran 1.11× as fast on one thread with the
+   * integer, 1.2× on two.
+   */
+  private checked(row: Float64Array, offset: number, label: number): number {
     checkRow(this.kind, row, offset, this.width);
     checkLabel(this.kind, label);
+    return label | 0;
   }
 
   private learnt(label: number): void {
