@@ -166,21 +166,31 @@ export class Bagging extends SeatedEnsemble {
   }
 
   score(row: Float64Array, offset: number, verdict: Verdict): void {
+    this.scoreMembers(row, offset);
+    combineVotes(this.hard, this.scratch, this.lifecycle.seats.length, verdict);
+    verdict.epoch = this.lifecycle.epoch;
+  }
+
+  /**
+   * Every member's answer to a row, without the vote: where the answers go (see `answerInto`), another
+   * thread votes with them.
+   */
+  scoreMembers(row: Float64Array, offset: number): void {
     this.checkRowOnly(row, offset);
-    const { probs, preds, weights, confidence, classes } = this.scratch;
+    const { probs, preds, weights, confidence, accuracy, stride, at } = this.scratch;
     const seats = this.lifecycle.seats;
     const forest = this.forest;
     const walked = forest.walk(seats, row, offset);
     for (let m = 0; m < seats.length; m++) {
       const seat = seats[m]!;
-      preds[m] = walked
-        ? forest.score(m, row, offset, probs, m * classes)
-        : seat.member.score(row, offset, probs, m * classes);
-      weights[m] = this.weight(seat);
-      confidence[m] = seat.trust;
+      const s = at + m;
+      preds[s] = walked
+        ? forest.score(m, row, offset, probs, s * stride)
+        : seat.member.score(row, offset, probs, s * stride);
+      weights[s] = this.weight(seat);
+      confidence[s] = seat.trust;
+      if (accuracy !== null) accuracy[s] = seat.recentAccuracy;
     }
-    combineVotes(this.hard, probs, preds, weights, confidence, seats.length, classes, verdict);
-    verdict.epoch = this.lifecycle.epoch;
   }
 
   protected state(): BaggingState {
@@ -189,27 +199,29 @@ export class Bagging extends SeatedEnsemble {
 
   /** Score every member on the row, train it with its Poisson weight, judge it; vote when asked. */
   protected step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void {
-    const { probs, preds, weights, confidence, classes } = this.scratch;
+    const scratch = this.scratch;
+    const { probs, preds, weights, confidence, accuracy, classes, stride, at } = scratch;
     const seats = this.lifecycle.seats;
     const lifecycle = this.lifecycle;
     const forest = this.forest;
     const walked = forest.walk(seats, row, offset);
     for (let m = 0; m < seats.length; m++) {
       const seat = seats[m]!;
+      const s = at + m;
       const k = this.sampler.sample(this.poisson[m]!);
       this.draws[m] = k;
-      weights[m] = this.weight(seat);
-      confidence[m] = seat.trust;
+      weights[s] = this.weight(seat);
+      confidence[s] = seat.trust;
       const predicted = walked
-        ? forest.scoreTrain(m, row, offset, label, k, probs, m * classes)
-        : seat.member.scoreTrain(row, offset, label, k, probs, m * classes);
-      preds[m] = predicted;
-      seat.calibrate(label < classes ? probs[m * classes + label]! : 0, classes);
+        ? forest.scoreTrain(m, row, offset, label, k, probs, s * stride)
+        : seat.member.scoreTrain(row, offset, label, k, probs, s * stride);
+      preds[s] = predicted;
+      seat.calibrate(label < classes ? probs[s * stride + label]! : 0, classes);
       lifecycle.coach(seat, row, offset, label, k);
       lifecycle.judge(seat, predicted === label, this.rows);
+      if (accuracy !== null) accuracy[s] = seat.recentAccuracy;
     }
-    if (verdict !== null)
-      combineVotes(this.hard, probs, preds, weights, confidence, seats.length, classes, verdict);
+    if (verdict !== null) combineVotes(this.hard, scratch, seats.length, verdict);
   }
 
   private weight(seat: Seat): number {

@@ -193,8 +193,7 @@ export class Boosting extends SeatedEnsemble {
    * vote.ts), so that no class gets probability 0 when some member could be wrong.
    */
   private vote(verdict: Verdict): void {
-    const { probs, preds, weights, confidence, classes } = this.scratch;
-    combineVotes(true, probs, preds, weights, confidence, this.lifecycle.seats.length, classes, verdict);
+    combineVotes(true, this.scratch, this.lifecycle.seats.length, verdict);
     verdict.epoch = this.lifecycle.epoch;
   }
 }

@@ -26,4 +26,4 @@ export type { MetaSpec, StackingOptions, StackingSpec } from './stacking.js';
 export { STACKING_DEFAULTS, Stacking } from './stacking.js';
 export { Verdict } from './verdict.js';
 export type { VoteKind } from './vote.js';
-export { combineVotes, VOTE_KINDS } from './vote.js';
+export { combineVotes, type MemberAnswers, VOTE_KINDS } from './vote.js';

@@ -19,29 +19,37 @@ export type VoteKind = 'hard' | 'soft' | 'weighted';
 export const VOTE_KINDS: readonly VoteKind[] = ['hard', 'soft', 'weighted'];
 
 /**
- * Fill `verdict` from `members` rows of `classes` probabilities (`probs`, member-major), their predicted
- * classes (`preds`), vote weights (`weights`) and confidences (`confidence`). `hard` decides whether votes or probabilities are summed.
+ * Members' answers to one row: member `at + m`'s predicted class `preds[at + m]`, vote weight and
+ * confidence likewise, and its `classes` probabilities from `probs[(at + m) × stride]` on.
  */
-export function combineVotes(
-  hard: boolean,
-  probs: Float64Array,
-  preds: Int32Array,
-  weights: Float64Array,
-  confidence: Float64Array,
-  members: number,
-  classes: number,
-  verdict: Verdict,
-): void {
-  if (classes === 2) {
-    combineTwo(hard, probs, preds, weights, confidence, members, verdict);
+export interface MemberAnswers {
+  readonly probs: Float64Array;
+  readonly preds: Int32Array;
+  readonly weights: Float64Array;
+  readonly confidence: Float64Array;
+  readonly classes: number;
+  readonly stride: number;
+  readonly at: number;
+}
+
+/**
+ * Fill `verdict` from the answers of `members` members (see `MemberAnswers`); `hard` decides whether
+ * votes or probabilities are summed.
+ */
+export function combineVotes(hard: boolean, answers: MemberAnswers, members: number, verdict: Verdict): void {
+  if (answers.classes === 2) {
+    combineTwo(hard, answers, members, verdict);
     return;
   }
+  const { probs, preds, weights, confidence, classes, stride } = answers;
+  const at = answers.at;
+  const end = at + members;
   const out = verdict.fit(classes);
   out.fill(0, 0, classes);
   let total = 0;
   let voters = 0;
-  for (let m = 0; m < members; m++) {
-    const w = weights[m]!;
+  for (let s = at; s < end; s++) {
+    const w = weights[s]!;
     if (w > 0) {
       total += w;
       voters++;
@@ -52,16 +60,16 @@ export function combineVotes(
     total = members;
     voters = members;
   }
-  for (let m = 0; m < members; m++) {
-    const w = everyone ? 1 : weights[m]!;
+  for (let s = at; s < end; s++) {
+    const w = everyone ? 1 : weights[s]!;
     if (!(w > 0)) continue;
-    const c = confidence[m]!;
+    const c = confidence[s]!;
     const spread = (w * (1 - c)) / classes;
     if (hard) {
       for (let k = 0; k < classes; k++) out[k]! += spread;
-      out[preds[m]!]! += w * c;
+      out[preds[s]!]! += w * c;
     } else {
-      const base = m * classes;
+      const base = s * stride;
       const wc = w * c;
       for (let k = 0; k < classes; k++) out[k]! += wc * probs[base + k]! + spread;
     }
@@ -77,7 +85,7 @@ export function combineVotes(
     for (let k = 0; k < classes; k++) out[k] = 1 / classes;
   }
   let agree = 0;
-  for (let m = 0; m < members; m++) if ((everyone || weights[m]! > 0) && preds[m] === best) agree++;
+  for (let s = at; s < end; s++) if ((everyone || weights[s]! > 0) && preds[s] === best) agree++;
   verdict.predicted = best;
   verdict.voters = voters;
   verdict.agreement = voters > 0 ? agree / voters : 0;
@@ -89,15 +97,9 @@ export function combineVotes(
  * locals rather than written to the verdict member by member, with each class's agreeing voters counted
  * on the way.
  */
-function combineTwo(
-  hard: boolean,
-  probs: Float64Array,
-  preds: Int32Array,
-  weights: Float64Array,
-  confidence: Float64Array,
-  members: number,
-  verdict: Verdict,
-): void {
+function combineTwo(hard: boolean, answers: MemberAnswers, members: number, verdict: Verdict): void {
+  const { probs, preds, weights, confidence, stride } = answers;
+  const at = answers.at;
   let total = 0;
   let voters = 0;
   let zero = 0;
@@ -106,13 +108,14 @@ function combineTwo(
   let ones = 0;
   for (let everyone = 0; everyone < 2 && voters === 0; everyone++) {
     for (let m = 0; m < members; m++) {
-      const w = everyone === 1 ? 1 : weights[m]!;
+      const s = at + m;
+      const w = everyone === 1 ? 1 : weights[s]!;
       if (!(w > 0)) continue;
       total += w;
       voters++;
-      const c = confidence[m]!;
+      const c = confidence[s]!;
       const spread = (w * (1 - c)) / 2;
-      const pred = preds[m]!;
+      const pred = preds[s]!;
       if (hard) {
         zero += spread;
         one += spread;
@@ -120,8 +123,8 @@ function combineTwo(
         else one += w * c;
       } else {
         const wc = w * c;
-        zero += wc * probs[2 * m]! + spread;
-        one += wc * probs[2 * m + 1]! + spread;
+        zero += wc * probs[s * stride]! + spread;
+        one += wc * probs[s * stride + 1]! + spread;
       }
       if (pred === 0) zeros++;
       else if (pred === 1) ones++;

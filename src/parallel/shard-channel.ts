@@ -1,6 +1,6 @@
 import { type MessagePort, receiveMessageOnPort } from 'node:worker_threads';
 import { ShoalError, type ShoalErrorCode } from '../core/index.js';
-import { type Bagging, type EnsembleSnapshot, type SeatView, Verdict } from '../ensembles/index.js';
+import type { Bagging, EnsembleSnapshot, SeatView } from '../ensembles/index.js';
 import { type LifecycleChange, MEMBER_STATES } from '../journal/index.js';
 import { FAILED, NONE_LEFT, NOT_READY, poll, type ShardLedger } from './shard-ledger.js';
 import {
@@ -178,16 +178,17 @@ export function statusSeats(status: Float64Array, first: number, kinds: readonly
 }
 
 /**
- * Answer arrays in shared memory that grow with the batch, where one shard writes its members' answers,
- * row-major with `stride` classes a member: probabilities, classes, each member's vote weight and
- * confidence side by side in `weights`, the classes each row's answers cover (they grow when a label of
- * a new class is learnt), and each seat's recent accuracy after the row.
+ * Answer arrays in shared memory that grow with the batch, where one shard's members write their answers
+ * (`SeatedEnsemble.answerInto`), row-major with `stride` classes a member: probabilities, predicted
+ * classes, vote weights and confidences; beside them the classes each row's answers cover (they grow
+ * when a label of a new class is learnt), and each seat's recent accuracy after the row.
  */
 export class ShardAnswers {
   stride = 0;
   probs = new Float64Array(new SharedArrayBuffer(0));
   preds = new Int32Array(new SharedArrayBuffer(0));
   weights = new Float64Array(new SharedArrayBuffer(0));
+  confidence = new Float64Array(new SharedArrayBuffer(0));
   classes = new Int32Array(new SharedArrayBuffer(0));
   accuracy = new Float64Array(new SharedArrayBuffer(0));
 
@@ -204,7 +205,8 @@ export class ShardAnswers {
     }
     if (this.preds.length < rows * members) {
       this.preds = new Int32Array(new SharedArrayBuffer(4 * rows * members));
-      this.weights = new Float64Array(new SharedArrayBuffer(16 * rows * members));
+      this.weights = new Float64Array(new SharedArrayBuffer(8 * rows * members));
+      this.confidence = new Float64Array(new SharedArrayBuffer(8 * rows * members));
       this.accuracy = new Float64Array(new SharedArrayBuffer(8 * rows * members));
       changed = true;
     }
@@ -218,6 +220,7 @@ export class ShardAnswers {
       probs: this.probs.buffer,
       preds: this.preds.buffer,
       weights: this.weights.buffer,
+      confidence: this.confidence.buffer,
       classes: this.classes.buffer,
       accuracy: this.accuracy.buffer,
     };
@@ -257,29 +260,20 @@ function runShard(
 ): void {
   const { rows, train } = request;
   const { values, labels, stride } = views;
-  const { probs, preds, weights, classes, accuracy } = views.answers;
+  const classes = views.answers.classes;
   const width = shard.schema.features.length;
+  shard.answerInto(views.answers, stride);
   shard.ensureClasses(request.classes);
   const members = shard.options.members;
-  const verdict = new Verdict();
   for (let r = 0; r < rows; r++) {
     ledger.step = r;
-    const m = shard.members;
-    // A label of a new class grows the scratch after the row, into new arrays: answers are in these.
-    const c = m.classes;
-    const answered = m.probs;
-    const label = train ? labels[r]! : Number.NaN;
-    if (Number.isNaN(label)) shard.score(values, r * width, verdict);
-    else shard.train(values, r * width, label);
     const at = r * members;
-    classes[r] = c;
-    for (let i = 0; i < members; i++) {
-      preds[at + i] = m.preds[i]!;
-      weights[2 * (at + i)] = m.weights[i]!;
-      weights[2 * (at + i) + 1] = m.confidence[i]!;
-      accuracy[at + i] = shard.recentAccuracy(i);
-      for (let k = 0, from = i * c, to = (at + i) * stride; k < c; k++) probs[to + k] = answered[from + k]!;
-    }
+    shard.answerAt(at);
+    // The classes the row's answers cover: a label of a new class grows them after the row.
+    classes[r] = shard.classes;
+    const label = train ? labels[r]! : Number.NaN;
+    if (Number.isNaN(label)) shard.scoreMembers(values, r * width);
+    else shard.train(values, r * width, label);
     ledger.done(r + 1);
     if (r % PROGRESS_EVERY === 0) Atomics.add(control, C_PROGRESS, 1);
     if (r % CHUNK === CHUNK - 1) meanwhile();

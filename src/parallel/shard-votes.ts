@@ -1,4 +1,4 @@
-import { type BatchVerdicts, combineVotes, Verdict } from '../ensembles/index.js';
+import { type BatchVerdicts, combineVotes, type MemberAnswers, Verdict } from '../ensembles/index.js';
 
 /**
  * Combining the shards' answers into each row's verdict, as one thread's vote: every shard's members'
@@ -14,6 +14,7 @@ export interface AnswerBuffers {
   readonly probs: SharedArrayBuffer;
   readonly preds: SharedArrayBuffer;
   readonly weights: SharedArrayBuffer;
+  readonly confidence: SharedArrayBuffer;
   readonly classes: SharedArrayBuffer;
   readonly accuracy: SharedArrayBuffer;
 }
@@ -23,6 +24,7 @@ export interface AnswerViews {
   readonly probs: Float64Array;
   readonly preds: Int32Array;
   readonly weights: Float64Array;
+  readonly confidence: Float64Array;
   readonly classes: Int32Array;
   readonly accuracy: Float64Array;
 }
@@ -33,6 +35,7 @@ export function answerViews(a: AnswerBuffers): AnswerViews {
     probs: new Float64Array(a.probs),
     preds: new Int32Array(a.preds),
     weights: new Float64Array(a.weights),
+    confidence: new Float64Array(a.confidence),
     classes: new Int32Array(a.classes),
     accuracy: new Float64Array(a.accuracy),
   };
@@ -117,10 +120,8 @@ export class RowCombiner {
   private readonly voters: Int32Array;
   private readonly rowSpans: Int32Array;
   private readonly accuracy: Float64Array;
-  private readonly probs: Float64Array;
-  private readonly preds: Int32Array;
-  private readonly weights: Float64Array;
-  private readonly confidence: Float64Array;
+  /** One row's answers of every shard, in seat order, `stride` slots a member. */
+  private readonly gathered: { -readonly [K in keyof MemberAnswers]: MemberAnswers[K] };
   private readonly verdict = new Verdict();
 
   constructor(all: readonly AnswerBuffers[], counts: readonly number[], hard: boolean, into: VerdictBuffers) {
@@ -136,16 +137,21 @@ export class RowCombiner {
     this.voters = new Int32Array(into.voters);
     this.rowSpans = new Int32Array(into.spans);
     this.accuracy = new Float64Array(into.accuracy);
-    this.probs = new Float64Array(this.members * this.stride);
-    this.preds = new Int32Array(this.members);
-    this.weights = new Float64Array(this.members);
-    this.confidence = new Float64Array(this.members);
+    this.gathered = {
+      probs: new Float64Array(this.members * this.stride),
+      preds: new Int32Array(this.members),
+      weights: new Float64Array(this.members),
+      confidence: new Float64Array(this.members),
+      classes: 0,
+      stride: this.stride,
+      at: 0,
+    };
   }
 
   /** Combine rows `from` … `to` − 1. */
   rows(from: number, to: number): void {
-    const { counts, members, stride, shards, spans, probs, preds, weights, confidence, accuracy, verdict } =
-      this;
+    const { counts, members, stride, shards, spans, accuracy, gathered, verdict } = this;
+    const { probs, preds, weights, confidence } = gathered;
     for (let r = from; r < to; r++) {
       const c = spans[r]!;
       let seat = 0;
@@ -155,15 +161,16 @@ export class RowCombiner {
         const at = r * n;
         for (let m = 0; m < n; m++) {
           preds[seat + m] = shard.preds[at + m]!;
-          weights[seat + m] = shard.weights[2 * (at + m)]!;
-          confidence[seat + m] = shard.weights[2 * (at + m) + 1]!;
+          weights[seat + m] = shard.weights[at + m]!;
+          confidence[seat + m] = shard.confidence[at + m]!;
           accuracy[r * members + seat + m] = shard.accuracy[at + m]!;
-          for (let k = 0, a = (at + m) * stride, b = (seat + m) * c; k < c; k++)
+          for (let k = 0, a = (at + m) * stride, b = (seat + m) * stride; k < c; k++)
             probs[b + k] = shard.probs[a + k]!;
         }
         seat += n;
       }
-      combineVotes(this.hard, probs, preds, weights, confidence, members, c, verdict);
+      gathered.classes = c;
+      combineVotes(this.hard, gathered, members, verdict);
       const at = r * stride;
       for (let k = 0; k < stride; k++) this.probabilities[at + k] = k < c ? verdict.probabilities[k]! : 0;
       this.rowSpans[r] = c;

@@ -57,11 +57,43 @@ describe('combineVotes', () => {
         weights[m] = trial % 5 === 0 || rng.next() < 0.2 ? 0 : trial % 4 === 0 ? rng.next() : 1;
         confidence[m] = rng.next();
       }
-      combineVotes(hard, probs, preds, weights, confidence, members, classes, verdict);
+      combineVotes(
+        hard,
+        { probs, preds, weights, confidence, classes, stride: classes, at: 0 },
+        members,
+        verdict,
+      );
       const expected = reference(hard, probs, preds, weights, confidence, members, classes);
       expect(Array.from(verdict.probabilities.subarray(0, classes))).toEqual(expected);
       const best = expected.indexOf(Math.max(...expected));
       expect(verdict.predicted).toBe(best);
+      // The same answers placed among others' (from slot `at`, `stride` slots a member) vote the same.
+      const at = 1 + (trial % 3);
+      const stride = classes + (trial % 2);
+      const slots = at + members + 2;
+      const placed = {
+        probs: Float64Array.from({ length: slots * stride }, () => rng.next()),
+        preds: Int32Array.from({ length: slots }, () => Math.floor(rng.next() * classes)),
+        weights: Float64Array.from({ length: slots }, () => rng.next()),
+        confidence: Float64Array.from({ length: slots }, () => rng.next()),
+        classes,
+        stride,
+        at,
+      };
+      for (let m = 0; m < members; m++) {
+        placed.preds[at + m] = preds[m]!;
+        placed.weights[at + m] = weights[m]!;
+        placed.confidence[at + m] = confidence[m]!;
+        for (let k = 0; k < classes; k++) placed.probs[(at + m) * stride + k] = probs[m * classes + k]!;
+      }
+      const again = new Verdict();
+      combineVotes(hard, placed, members, again);
+      expect(Array.from(again.probabilities.subarray(0, classes))).toEqual(expected);
+      expect([again.predicted, again.voters, again.agreement]).toEqual([
+        verdict.predicted,
+        verdict.voters,
+        verdict.agreement,
+      ]);
       checked++;
     }
     expect(checked).toBe(400);

@@ -39,6 +39,41 @@ describe('parallel bagging', () => {
     }
   });
 
+  it('grows classes in the middle of a batch and gives the verdicts and seat accuracies of one thread', async () => {
+    // Members answer into shared memory with room for every class the batch's labels bring; a class
+    // learnt in the middle of a batch widens the rows after it (Oza & Russell 2001: members independent).
+    const gen = sea({ noise: 0.1 }, 3);
+    const block = take(gen, 3000);
+    const labels = Float64Array.from(block.labels, (l, i) =>
+      i >= 1800 && i % 7 === 0 ? 3 : i >= 700 && i % 5 === 0 ? 2 : l,
+    );
+    for (const enabled of [false, true]) {
+      const spec = { members: 5, lambda: 1, lifecycle: { enabled } } as const;
+      const single = new Bagging(gen.schema, spec, 'g');
+      single.ensureClasses(2);
+      const parallel = await ParallelBagging.start(gen.schema, spec, 'g', 2);
+      parallel.ensureClasses(2);
+      try {
+        const verdict = new Verdict();
+        const got = new Verdict();
+        const out = new BatchVerdicts();
+        for (let s = 0; s < 3000; s += 500) {
+          await parallel.scoreTrainBatch(block.rows.subarray(s * 3), labels.subarray(s), 500, out);
+          for (let r = 0; r < 500; r++) {
+            single.scoreTrain(block.rows, (s + r) * 3, labels[s + r]!, verdict);
+            out.verdictAt(r, got);
+            expect(Array.from(got.probabilities)).toEqual(Array.from(verdict.probabilities));
+            expect([got.predicted, got.agreement]).toEqual([verdict.predicted, verdict.agreement]);
+            for (let m = 0; m < 5; m++) expect(out.accuracy[r * 5 + m]).toBe(single.recentAccuracy(m));
+          }
+        }
+        expect(single.classes).toBe(4);
+      } finally {
+        await parallel.close();
+      }
+    }
+  });
+
   it.each([
     ['label', 'after it', false],
     ['label', 'while it is out', true],
