@@ -1,3 +1,4 @@
+import { ShoalError } from '../core/index.js';
 import type { MemberAnswers } from './vote.js';
 
 /**
@@ -30,17 +31,13 @@ export class MemberScratch implements MemberAnswers {
 
   fit(classes: number): void {
     if (this.placed) {
-      if (classes > this.stride)
-        throw new RangeError(`answers of ${classes} classes in slots of ${this.stride}`);
+      roomFor(classes, this.stride);
       this.classes = classes;
       return;
     }
     this.classes = classes;
     this.stride = classes;
     this.probs = new Float64Array(this.members * classes);
-    this.preds = new Int32Array(this.members);
-    this.weights = new Float64Array(this.members);
-    this.confidence = new Float64Array(this.members);
   }
 
   /**
@@ -48,8 +45,7 @@ export class MemberScratch implements MemberAnswers {
    * placed (more are refused); `at` then says where each row goes.
    */
   place(target: PlacedAnswers, stride: number): void {
-    if (stride < this.classes)
-      throw new RangeError(`answers of ${this.classes} classes in slots of ${stride}`);
+    roomFor(this.classes, stride);
     this.placed = true;
     this.stride = stride;
     this.at = 0;
@@ -58,6 +54,13 @@ export class MemberScratch implements MemberAnswers {
     this.weights = target.weights;
     this.confidence = target.confidence;
     this.accuracy = target.accuracy;
+  }
+}
+
+/** Refuse answers of more classes than the slots placed for them hold. */
+function roomFor(classes: number, stride: number): void {
+  if (classes > stride) {
+    throw new ShoalError('invalid-parameter', `answers of ${classes} classes placed in slots of ${stride}`);
   }
 }
 

@@ -47,8 +47,9 @@ export abstract class SeatedEnsemble implements Ensemble {
 
   /**
    * Write the members' answers to the rows scored or trained from now on into `target` (see
-   * `MemberAnswers`, and each seat's recent accuracy after the row), `stride` slots a member, each row's from the slot `answerAt` last named: a worker
-   * thread's shard answers straight into shared memory. `stride` must hold every class the rows bring.
+   * `MemberAnswers`; and each seat's recent accuracy after the row), `stride` slots a member, each row's
+   * from the slot `answerAt` last named: a worker thread's shard answers straight into shared memory.
+   * `stride` must hold every class the rows will bring.
    */
   answerInto(target: PlacedAnswers, stride: number): void {
     this.scratch.place(target, stride);
