@@ -167,7 +167,7 @@ export class Bagging extends SeatedEnsemble {
 
   score(row: Float64Array, offset: number, verdict: Verdict): void {
     this.scoreMembers(row, offset);
-    combineVotes(this.hard, this.scratch, this.lifecycle.seats.length, verdict);
+    combineVotes(this.hard, this.voteParts, this.voteCounts, verdict);
     verdict.epoch = this.lifecycle.epoch;
   }
 
@@ -199,8 +199,7 @@ export class Bagging extends SeatedEnsemble {
 
   /** Score every member on the row, train it with its Poisson weight, judge it; vote when asked. */
   protected step(row: Float64Array, offset: number, label: number, verdict: Verdict | null): void {
-    const scratch = this.scratch;
-    const { probs, preds, weights, confidence, accuracy, classes, stride, at } = scratch;
+    const { probs, preds, weights, confidence, accuracy, classes, stride, at } = this.scratch;
     const seats = this.lifecycle.seats;
     const lifecycle = this.lifecycle;
     const forest = this.forest;
@@ -221,7 +220,7 @@ export class Bagging extends SeatedEnsemble {
       lifecycle.judge(seat, predicted === label, this.rows);
       if (accuracy !== null) accuracy[s] = seat.recentAccuracy;
     }
-    if (verdict !== null) combineVotes(this.hard, scratch, seats.length, verdict);
+    if (verdict !== null) combineVotes(this.hard, this.voteParts, this.voteCounts, verdict);
   }
 
   private weight(seat: Seat): number {

@@ -193,7 +193,7 @@ export class Boosting extends SeatedEnsemble {
    * vote.ts), so that no class gets probability 0 when some member could be wrong.
    */
   private vote(verdict: Verdict): void {
-    combineVotes(true, this.scratch, this.lifecycle.seats.length, verdict);
+    combineVotes(true, this.voteParts, this.voteCounts, verdict);
     verdict.epoch = this.lifecycle.epoch;
   }
 }

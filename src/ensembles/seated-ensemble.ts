@@ -4,6 +4,7 @@ import type { Ensemble, EnsembleKind, EnsembleSnapshot } from './ensemble.js';
 import type { Lifecycle, SeatView } from './lifecycle.js';
 import { MemberScratch, type PlacedAnswers } from './scratch.js';
 import type { Verdict } from './verdict.js';
+import type { MemberAnswers } from './vote.js';
 
 /**
  * What bagging, boosting and stacking share: seats kept by a `Lifecycle`, per-row scratch for every
@@ -19,6 +20,9 @@ export abstract class SeatedEnsemble implements Ensemble {
   protected readonly width: number;
   protected readonly lifecycle: Lifecycle;
   protected readonly scratch: MemberScratch;
+  /** The scratch as the one part of the vote (see `combineVotes`), and its count of seats. */
+  protected readonly voteParts: readonly MemberAnswers[];
+  protected readonly voteCounts: readonly number[];
   private readonly version: number;
 
   protected constructor(
@@ -34,6 +38,8 @@ export abstract class SeatedEnsemble implements Ensemble {
     this.lifecycle = lifecycle;
     this.version = version;
     this.scratch = new MemberScratch(lifecycle.seats.length);
+    this.voteParts = [this.scratch];
+    this.voteCounts = [lifecycle.seats.length];
     if (restored !== undefined) this.rows = restored.rows;
   }
 

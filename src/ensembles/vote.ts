@@ -33,26 +33,37 @@ export interface MemberAnswers {
 }
 
 /**
- * Fill `verdict` from the answers of `members` members (see `MemberAnswers`); `hard` decides whether
- * votes or probabilities are summed.
+ * Fill `verdict` from the members' answers, held in parts (one for an ensemble in this thread, one a
+ * shard for members on worker threads): part p holds `counts[p]` members, the parts in seat order, every
+ * part with the same `classes`. `hard` decides whether votes or probabilities are summed. The sums run
+ * member by member in seat order, so the parts of a split ensemble vote bit for bit as the whole.
  */
-export function combineVotes(hard: boolean, answers: MemberAnswers, members: number, verdict: Verdict): void {
-  if (answers.classes === 2) {
-    combineTwo(hard, answers, members, verdict);
+export function combineVotes(
+  hard: boolean,
+  parts: readonly MemberAnswers[],
+  counts: readonly number[],
+  verdict: Verdict,
+): void {
+  const classes = parts[0]!.classes;
+  if (classes === 2) {
+    combineTwo(hard, parts, counts, verdict);
     return;
   }
-  const { probs, preds, weights, confidence, classes, stride } = answers;
-  const at = answers.at;
-  const end = at + members;
   const out = verdict.fit(classes);
   out.fill(0, 0, classes);
+  let members = 0;
   let total = 0;
   let voters = 0;
-  for (let s = at; s < end; s++) {
-    const w = weights[s]!;
-    if (w > 0) {
-      total += w;
-      voters++;
+  for (let p = 0; p < parts.length; p++) {
+    const { weights, at } = parts[p]!;
+    const end = at + counts[p]!;
+    members += counts[p]!;
+    for (let s = at; s < end; s++) {
+      const w = weights[s]!;
+      if (w > 0) {
+        total += w;
+        voters++;
+      }
     }
   }
   const everyone = voters === 0;
@@ -60,18 +71,22 @@ export function combineVotes(hard: boolean, answers: MemberAnswers, members: num
     total = members;
     voters = members;
   }
-  for (let s = at; s < end; s++) {
-    const w = everyone ? 1 : weights[s]!;
-    if (!(w > 0)) continue;
-    const c = confidence[s]!;
-    const spread = (w * (1 - c)) / classes;
-    if (hard) {
-      for (let k = 0; k < classes; k++) out[k]! += spread;
-      out[preds[s]!]! += w * c;
-    } else {
-      const base = s * stride;
-      const wc = w * c;
-      for (let k = 0; k < classes; k++) out[k]! += wc * probs[base + k]! + spread;
+  for (let p = 0; p < parts.length; p++) {
+    const { probs, preds, weights, confidence, stride, at } = parts[p]!;
+    const end = at + counts[p]!;
+    for (let s = at; s < end; s++) {
+      const w = everyone ? 1 : weights[s]!;
+      if (!(w > 0)) continue;
+      const c = confidence[s]!;
+      const spread = (w * (1 - c)) / classes;
+      if (hard) {
+        for (let k = 0; k < classes; k++) out[k]! += spread;
+        out[preds[s]!]! += w * c;
+      } else {
+        const base = s * stride;
+        const wc = w * c;
+        for (let k = 0; k < classes; k++) out[k]! += wc * probs[base + k]! + spread;
+      }
     }
   }
   let best = 0;
@@ -85,7 +100,11 @@ export function combineVotes(hard: boolean, answers: MemberAnswers, members: num
     for (let k = 0; k < classes; k++) out[k] = 1 / classes;
   }
   let agree = 0;
-  for (let s = at; s < end; s++) if ((everyone || weights[s]! > 0) && preds[s] === best) agree++;
+  for (let p = 0; p < parts.length; p++) {
+    const { preds, weights, at } = parts[p]!;
+    const end = at + counts[p]!;
+    for (let s = at; s < end; s++) if ((everyone || weights[s]! > 0) && preds[s] === best) agree++;
+  }
   verdict.predicted = best;
   verdict.voters = voters;
   verdict.agreement = voters > 0 ? agree / voters : 0;
@@ -97,9 +116,12 @@ export function combineVotes(hard: boolean, answers: MemberAnswers, members: num
  * locals rather than written to the verdict member by member, with each class's agreeing voters counted
  * on the way.
  */
-function combineTwo(hard: boolean, answers: MemberAnswers, members: number, verdict: Verdict): void {
-  const { probs, preds, weights, confidence, stride } = answers;
-  const at = answers.at;
+function combineTwo(
+  hard: boolean,
+  parts: readonly MemberAnswers[],
+  counts: readonly number[],
+  verdict: Verdict,
+): void {
   let total = 0;
   let voters = 0;
   let zero = 0;
@@ -107,27 +129,30 @@ function combineTwo(hard: boolean, answers: MemberAnswers, members: number, verd
   let zeros = 0;
   let ones = 0;
   for (let everyone = 0; everyone < 2 && voters === 0; everyone++) {
-    for (let m = 0; m < members; m++) {
-      const s = at + m;
-      const w = everyone === 1 ? 1 : weights[s]!;
-      if (!(w > 0)) continue;
-      total += w;
-      voters++;
-      const c = confidence[s]!;
-      const spread = (w * (1 - c)) / 2;
-      const pred = preds[s]!;
-      if (hard) {
-        zero += spread;
-        one += spread;
-        if (pred === 0) zero += w * c;
-        else one += w * c;
-      } else {
-        const wc = w * c;
-        zero += wc * probs[s * stride]! + spread;
-        one += wc * probs[s * stride + 1]! + spread;
+    for (let p = 0; p < parts.length; p++) {
+      const { probs, preds, weights, confidence, stride, at } = parts[p]!;
+      const end = at + counts[p]!;
+      for (let s = at; s < end; s++) {
+        const w = everyone === 1 ? 1 : weights[s]!;
+        if (!(w > 0)) continue;
+        total += w;
+        voters++;
+        const c = confidence[s]!;
+        const spread = (w * (1 - c)) / 2;
+        const pred = preds[s]!;
+        if (hard) {
+          zero += spread;
+          one += spread;
+          if (pred === 0) zero += w * c;
+          else one += w * c;
+        } else {
+          const wc = w * c;
+          zero += wc * probs[s * stride]! + spread;
+          one += wc * probs[s * stride + 1]! + spread;
+        }
+        if (pred === 0) zeros++;
+        else if (pred === 1) ones++;
       }
-      if (pred === 0) zeros++;
-      else if (pred === 1) ones++;
     }
   }
   if (total > 0) {

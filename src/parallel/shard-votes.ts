@@ -105,7 +105,8 @@ export class SharedVerdicts {
 
 /**
  * Combines rows of the shards' answers (`all`, in shard order, `counts` seats each) into `into`, with
- * hard or soft votes; made once a batch, then asked for chunk after chunk of rows.
+ * hard or soft votes, reading each shard's answers where its members wrote them; made once a batch, then
+ * asked for chunk after chunk of rows.
  */
 export class RowCombiner {
   private readonly counts: readonly number[];
@@ -120,8 +121,8 @@ export class RowCombiner {
   private readonly voters: Int32Array;
   private readonly rowSpans: Int32Array;
   private readonly accuracy: Float64Array;
-  /** One row's answers of every shard, in seat order, `stride` slots a member. */
-  private readonly gathered: { -readonly [K in keyof MemberAnswers]: MemberAnswers[K] };
+  /** Each shard's answers as a part of the vote, pointed at the row being combined. */
+  private readonly parts: { -readonly [K in keyof MemberAnswers]: MemberAnswers[K] }[];
   private readonly verdict = new Verdict();
 
   constructor(all: readonly AnswerBuffers[], counts: readonly number[], hard: boolean, into: VerdictBuffers) {
@@ -137,40 +138,34 @@ export class RowCombiner {
     this.voters = new Int32Array(into.voters);
     this.rowSpans = new Int32Array(into.spans);
     this.accuracy = new Float64Array(into.accuracy);
-    this.gathered = {
-      probs: new Float64Array(this.members * this.stride),
-      preds: new Int32Array(this.members),
-      weights: new Float64Array(this.members),
-      confidence: new Float64Array(this.members),
+    this.parts = this.shards.map((shard) => ({
+      probs: shard.probs,
+      preds: shard.preds,
+      weights: shard.weights,
+      confidence: shard.confidence,
       classes: 0,
       stride: this.stride,
       at: 0,
-    };
+    }));
   }
 
   /** Combine rows `from` … `to` − 1. */
   rows(from: number, to: number): void {
-    const { counts, members, stride, shards, spans, accuracy, gathered, verdict } = this;
-    const { probs, preds, weights, confidence } = gathered;
+    const { counts, members, stride, shards, spans, accuracy, parts, verdict } = this;
     for (let r = from; r < to; r++) {
       const c = spans[r]!;
-      let seat = 0;
+      let seat = r * members;
       for (let s = 0; s < shards.length; s++) {
-        const shard = shards[s]!;
+        const part = parts[s]!;
         const n = counts[s]!;
         const at = r * n;
-        for (let m = 0; m < n; m++) {
-          preds[seat + m] = shard.preds[at + m]!;
-          weights[seat + m] = shard.weights[at + m]!;
-          confidence[seat + m] = shard.confidence[at + m]!;
-          accuracy[r * members + seat + m] = shard.accuracy[at + m]!;
-          for (let k = 0, a = (at + m) * stride, b = (seat + m) * stride; k < c; k++)
-            probs[b + k] = shard.probs[a + k]!;
-        }
+        part.at = at;
+        part.classes = c;
+        const answered = shards[s]!.accuracy;
+        for (let m = 0; m < n; m++) accuracy[seat + m] = answered[at + m]!;
         seat += n;
       }
-      gathered.classes = c;
-      combineVotes(this.hard, gathered, members, verdict);
+      combineVotes(this.hard, parts, counts, verdict);
       const at = r * stride;
       for (let k = 0; k < stride; k++) this.probabilities[at + k] = k < c ? verdict.probabilities[k]! : 0;
       this.rowSpans[r] = c;

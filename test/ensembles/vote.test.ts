@@ -59,35 +59,43 @@ describe('combineVotes', () => {
       }
       combineVotes(
         hard,
-        { probs, preds, weights, confidence, classes, stride: classes, at: 0 },
-        members,
+        [{ probs, preds, weights, confidence, classes, stride: classes, at: 0 }],
+        [members],
         verdict,
       );
       const expected = reference(hard, probs, preds, weights, confidence, members, classes);
       expect(Array.from(verdict.probabilities.subarray(0, classes))).toEqual(expected);
       const best = expected.indexOf(Math.max(...expected));
       expect(verdict.predicted).toBe(best);
-      // The same answers placed among others' (from slot `at`, `stride` slots a member) vote the same.
-      const at = 1 + (trial % 3);
-      const stride = classes + (trial % 2);
-      const slots = at + members + 2;
-      const placed = {
-        probs: Float64Array.from({ length: slots * stride }, () => rng.next()),
-        preds: Int32Array.from({ length: slots }, () => Math.floor(rng.next() * classes)),
-        weights: Float64Array.from({ length: slots }, () => rng.next()),
-        confidence: Float64Array.from({ length: slots }, () => rng.next()),
-        classes,
-        stride,
-        at,
+      // The same answers split in two parts (as over two threads), each placed among others' (from slot
+      // `at`, `stride` slots a member), vote the same.
+      const split = Math.floor(members / 2);
+      const place = (first: number, count: number, at: number, stride: number) => {
+        const slots = at + count + 2;
+        const part = {
+          probs: Float64Array.from({ length: slots * stride }, () => rng.next()),
+          preds: Int32Array.from({ length: slots }, () => Math.floor(rng.next() * classes)),
+          weights: Float64Array.from({ length: slots }, () => rng.next()),
+          confidence: Float64Array.from({ length: slots }, () => rng.next()),
+          classes,
+          stride,
+          at,
+        };
+        for (let m = 0; m < count; m++) {
+          part.preds[at + m] = preds[first + m]!;
+          part.weights[at + m] = weights[first + m]!;
+          part.confidence[at + m] = confidence[first + m]!;
+          for (let k = 0; k < classes; k++)
+            part.probs[(at + m) * stride + k] = probs[(first + m) * classes + k]!;
+        }
+        return part;
       };
-      for (let m = 0; m < members; m++) {
-        placed.preds[at + m] = preds[m]!;
-        placed.weights[at + m] = weights[m]!;
-        placed.confidence[at + m] = confidence[m]!;
-        for (let k = 0; k < classes; k++) placed.probs[(at + m) * stride + k] = probs[m * classes + k]!;
-      }
+      const parts = [
+        place(0, split, 1 + (trial % 3), classes + (trial % 2)),
+        place(split, members - split, trial % 4, classes + 1),
+      ];
       const again = new Verdict();
-      combineVotes(hard, placed, members, again);
+      combineVotes(hard, parts, [split, members - split], again);
       expect(Array.from(again.probabilities.subarray(0, classes))).toEqual(expected);
       expect([again.predicted, again.voters, again.agreement]).toEqual([
         verdict.predicted,
