@@ -1,8 +1,8 @@
 import { type BatchVerdicts, combineVotes, type MemberAnswers, Verdict } from '../ensembles/index.js';
 
 /**
- * Combining the shards' answers into each row's verdict, as one thread's vote: every shard's members'
- * answers of a row gathered in seat order, then `combineVotes`. The workers combine the rows in chunks,
+ * Combining the shards' answers into each row's verdict, as one thread's vote: `combineVotes` over every
+ * shard's answers to the row as one part each, in seat order, read where the shard wrote them. The workers combine the rows in chunks,
  * each chunk by the first worker to ask for it once every shard has answered its rows — so a worker that
  * is through with its seats combines while another still trains — into verdicts in shared memory, and
  * the main thread only copies them out.
