@@ -23,6 +23,7 @@ import {
   type SeatLedger,
 } from './lifecycle.js';
 
+import type { PlacedAnswers } from './scratch.js';
 import { SeatedEnsemble } from './seated-ensemble.js';
 import type { Verdict } from './verdict.js';
 import { combineVotes } from './vote.js';
@@ -163,6 +164,21 @@ export class Bagging extends SeatedEnsemble {
   static restore(snapshot: EnsembleSnapshot, journal: LifecycleSink = () => {}): Bagging {
     checkSnapshot(snapshot, KIND, VERSION);
     return new Bagging(snapshot.schema, snapshot.options as BaggingSpec, snapshot.seed, journal, snapshot);
+  }
+
+  /**
+   * Write the members' answers to the rows scored or trained from now on into `target` (see
+   * `MemberAnswers`; and each seat's recent accuracy after the row), `stride` slots a member, each row's
+   * from the slot `answerAt` last named: a worker thread's shard answers straight into shared memory.
+   * `stride` must hold every class the rows will bring.
+   */
+  answerInto(target: PlacedAnswers, stride: number): void {
+    this.scratch.place(target, stride);
+  }
+
+  /** Where the next row's answers go: member m's to slot `slot + m` (see `answerInto`). */
+  answerAt(slot: number): void {
+    this.scratch.at = slot;
   }
 
   score(row: Float64Array, offset: number, verdict: Verdict): void {

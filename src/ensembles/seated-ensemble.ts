@@ -2,7 +2,7 @@ import type { FeatureSchema } from '../core/index.js';
 import { checkLabel, checkRow } from '../learners/index.js';
 import type { Ensemble, EnsembleKind, EnsembleSnapshot } from './ensemble.js';
 import type { Lifecycle, SeatView } from './lifecycle.js';
-import { MemberScratch, type PlacedAnswers } from './scratch.js';
+import { MemberScratch } from './scratch.js';
 import type { Verdict } from './verdict.js';
 import type { MemberAnswers } from './vote.js';
 
@@ -49,21 +49,6 @@ export abstract class SeatedEnsemble implements Ensemble {
 
   get epoch(): number {
     return this.lifecycle.epoch;
-  }
-
-  /**
-   * Write the members' answers to the rows scored or trained from now on into `target` (see
-   * `MemberAnswers`; and each seat's recent accuracy after the row), `stride` slots a member, each row's
-   * from the slot `answerAt` last named: a worker thread's shard answers straight into shared memory.
-   * `stride` must hold every class the rows will bring.
-   */
-  answerInto(target: PlacedAnswers, stride: number): void {
-    this.scratch.place(target, stride);
-  }
-
-  /** Where the next row's answers go: member m's to slot `slot + m` (see `answerInto`). */
-  answerAt(slot: number): void {
-    this.scratch.at = slot;
   }
 
   ensureClasses(n: number): void {

@@ -179,7 +179,7 @@ export function statusSeats(status: Float64Array, first: number, kinds: readonly
 
 /**
  * Answer arrays in shared memory that grow with the batch, where one shard's members write their answers
- * (`SeatedEnsemble.answerInto`), row-major with `stride` classes a member: probabilities, predicted
+ * (`Bagging.answerInto`), row-major with `stride` classes a member: probabilities, predicted
  * classes, vote weights and confidences; beside them the classes each row's answers cover (they grow
  * when a label of a new class is learnt), and each seat's recent accuracy after the row.
  */
