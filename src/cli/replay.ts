@@ -18,7 +18,7 @@ import { DEFAULT_CHECKPOINT_EVERY, ReplayCheckpoints } from './replay-checkpoint
 import { feed, type LabelTiming } from './replay-feed.js';
 import { describeSchema, overflowWarnings } from './schema-text.js';
 import { count, figure, type Terminal, table } from './terminal.js';
-import { onThreads } from './threads.js';
+import { threadsFrom } from './threads.js';
 import { shoalVersion } from './version.js';
 
 export const REPLAY_HELP = `shoal replay FILE [options]
@@ -279,7 +279,7 @@ export async function replay(args: readonly string[], terminal: Terminal): Promi
     clock,
     version: shoalVersion(),
     changes: await recordedChanges(file!, format),
-    workers: onThreads,
+    workers: threadsFrom(null),
     lateLabels: timing.kind !== 'inline',
   };
   const resumed =

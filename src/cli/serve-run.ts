@@ -18,9 +18,10 @@ import {
   scoresMessage,
   type TopicOutputs,
 } from '../kafka/index.js';
+import { ShardPool } from '../parallel/index.js';
 import { LearningSession, liveClock, type RunConfig, type SessionSnapshot } from '../pipeline/index.js';
 import { ServeTelemetry, SessionTelemetry } from '../telemetry/index.js';
-import { onThreads } from './threads.js';
+import { threadsFrom } from './threads.js';
 
 /** Rows per scores message: about 60 bytes a row (two classes), far below the broker's 1 MiB limit. */
 const SCORE_ROWS_PER_MESSAGE = 4096;
@@ -38,6 +39,11 @@ export class ServeModels {
   private readonly states = new Map<string, ScopeState>();
   /** Each session's telemetry, told when a checkpoint of it is written; null without checkpoints. */
   private readonly checkpointed: Map<string, SessionTelemetry> | null;
+  /**
+   * The worker threads of sessions on threads (`ensemble.threads` > 1): a session dropped on a
+   * rebalance gives its threads back, and the next one taken up from a checkpoint runs on them warm.
+   */
+  private readonly pool = new ShardPool();
 
   constructor(
     private readonly config: RunConfig,
@@ -161,6 +167,7 @@ export class ServeModels {
       await state.session.close();
       out.push(...this.outputs(key, state, [], []));
     }
+    await this.pool.close();
     return out;
   }
 
@@ -220,7 +227,7 @@ export class ServeModels {
         },
         clock: liveClock({ monotonic: () => performance.now(), wall: () => Date.now() }),
         version: this.version,
-        workers: onThreads,
+        workers: threadsFrom(this.pool),
         lateLabels: this.settings.labels !== null,
       };
       state = {

@@ -1,1 +1,2 @@
 export { ParallelBagging } from './parallel-bagging.js';
+export { ShardPool } from './shard-pool.js';

@@ -1,4 +1,4 @@
-import { MessageChannel, Worker } from 'node:worker_threads';
+import { MessageChannel } from 'node:worker_threads';
 import { type FeatureSchema, integerAtLeast, type Seed, ShoalError } from '../core/index.js';
 import {
   Bagging,
@@ -11,6 +11,7 @@ import {
   type SeatView,
 } from '../ensembles/index.js';
 import { MAX_CLASSES } from '../learners/index.js';
+import type { ShardHost } from './bagging-worker.js';
 import {
   allAnswered,
   answerTally,
@@ -28,6 +29,7 @@ import {
   statusSeats,
 } from './shard-channel.js';
 import { LedgerHost, LedgerWords } from './shard-ledger.js';
+import { type ShardPool, type ShardThread, startThread } from './shard-pool.js';
 import { SharedVerdicts } from './shard-votes.js';
 
 /**
@@ -62,14 +64,13 @@ import { SharedVerdicts } from './shard-votes.js';
  */
 /** A worker thread holding one shard, and the channel to it. */
 interface RemoteShard {
-  readonly worker: Worker;
+  /** The thread, and why it stopped once it has (noticed between batches). */
+  readonly thread: ShardThread;
   readonly client: ShardClient;
   /** Where the worker writes its status after each batch, by slot. */
   readonly status: readonly Float64Array[];
   /** Seats of the shards before it. */
   readonly first: number;
-  /** Why the worker stopped, once it has (noticed between batches). */
-  lost: string | null;
 }
 
 /** The shared memory of one batch out (see `SLOTS`), grown as needed. */
@@ -98,6 +99,8 @@ export class ParallelBagging {
   readonly options: BaggingOptions;
   readonly members: number;
   private readonly seed: string;
+  /** Where the threads go back when this closes (ended instead when null). */
+  private readonly pool: ShardPool | null;
   private readonly shards: RemoteShard[];
   private readonly clients: ShardClient[];
   /** Seats held by each shard. */
@@ -137,8 +140,10 @@ export class ParallelBagging {
     shards: RemoteShard[],
     counts: number[],
     tally: Int32Array,
+    pool: ShardPool | null,
   ) {
     const ledger = snapshot.lifecycle;
+    this.pool = pool;
     this.schema = whole.schema;
     this.options = whole.options;
     this.seed = snapshot.seed;
@@ -168,7 +173,8 @@ export class ParallelBagging {
 
   /**
    * Start a bagging ensemble with its seats over `threads` worker threads (as evenly as they go);
-   * `journal` hears the seats' creation, as from `new Bagging`.
+   * `journal` hears the seats' creation, as from `new Bagging`. The threads come from `pool` and go
+   * back to it on `close` (see `ShardPool`); without one they are started here and ended on `close`.
    */
   static start(
     schema: FeatureSchema,
@@ -176,16 +182,28 @@ export class ParallelBagging {
     seed: Seed,
     threads: number,
     journal: LifecycleSink = () => {},
+    pool: ShardPool | null = null,
   ): Promise<ParallelBagging> {
-    return ParallelBagging.launch(new Bagging(schema, spec, seed, journal), threads);
+    return ParallelBagging.launch(new Bagging(schema, spec, seed, journal), threads, pool);
   }
 
-  /** Go on from a bagging snapshot (of one thread or of any number of threads) over `threads` threads. */
-  static restore(snapshot: EnsembleSnapshot, threads: number): Promise<ParallelBagging> {
-    return ParallelBagging.launch(Bagging.restore(snapshot), threads);
+  /**
+   * Go on from a bagging snapshot (of one thread or of any number of threads) over `threads` threads,
+   * from `pool` when given (as `start`).
+   */
+  static restore(
+    snapshot: EnsembleSnapshot,
+    threads: number,
+    pool: ShardPool | null = null,
+  ): Promise<ParallelBagging> {
+    return ParallelBagging.launch(Bagging.restore(snapshot), threads, pool);
   }
 
-  private static async launch(whole: Bagging, threads: number): Promise<ParallelBagging> {
+  private static async launch(
+    whole: Bagging,
+    threads: number,
+    pool: ShardPool | null,
+  ): Promise<ParallelBagging> {
     integerAtLeast('parallel bagging', 'threads', threads, 1);
     const snapshot = whole.snapshot();
     const members = whole.options.members;
@@ -196,10 +214,11 @@ export class ParallelBagging {
     );
     const firsts = counts.map((_, i) => counts.slice(0, i).reduce((a, b) => a + b, 0));
     const tally = answerTally();
+    const hosts = counts.map(() => pool?.take() ?? startThread());
     const shards = await Promise.all(
-      counts.map((n, i) => startShard(snapshot, whole.options, tally, i, count, firsts[i]!, n)),
+      counts.map((n, i) => hostShard(hosts[i]!, snapshot, whole.options, tally, i, count, firsts[i]!, n)),
     );
-    return new ParallelBagging(whole, snapshot, shards, counts, tally);
+    return new ParallelBagging(whole, snapshot, shards, counts, tally, pool);
   }
 
   /** Classes known so far. */
@@ -296,13 +315,15 @@ export class ParallelBagging {
     };
   }
 
-  /** Stop the workers. */
+  /** Stop the shards: their threads go back to the pool, or end when there is none. */
   async close(): Promise<void> {
     for (const s of this.shards) {
       s.client.post({ kind: 'stop' });
       s.client.wake();
     }
-    await Promise.all(this.shards.map((s) => s.worker.terminate()));
+    const pool = this.pool;
+    if (pool !== null) for (const s of this.shards) pool.give(s.thread);
+    else await Promise.all(this.shards.map((s) => s.thread.worker.terminate()));
   }
 
   /**
@@ -426,15 +447,16 @@ export class ParallelBagging {
   /** Refuse a request when a worker stopped. */
   private alive(): void {
     for (const s of this.shards) {
-      if (s.lost !== null)
-        throw new ShoalError('worker-failure', `parallel bagging: a worker stopped: ${s.lost}`);
+      const lost = s.thread.lost;
+      if (lost !== null)
+        throw new ShoalError('worker-failure', `parallel bagging: a worker stopped: ${lost}`);
     }
   }
 
   /** Send every shard a request and wake it; the request's number. */
   private post(request: ShardRequest): number {
     // A pending Atomics.waitAsync does not keep the process alive; a ref'd worker does.
-    if (this.out++ === 0) for (const s of this.shards) s.worker.ref();
+    if (this.out++ === 0) for (const s of this.shards) s.thread.worker.ref();
     for (const s of this.shards) s.client.post(request);
     for (const s of this.shards) s.client.wake();
     return this.clients[0]!.sent;
@@ -446,7 +468,7 @@ export class ParallelBagging {
       await allAnswered(this.tally, this.clients, request);
       return this.clients.map((c) => c.reply(request));
     } finally {
-      if (--this.out === 0) for (const s of this.shards) s.worker.unref();
+      if (--this.out === 0) for (const s of this.shards) s.thread.worker.unref();
     }
   }
 }
@@ -463,8 +485,9 @@ function mergeChanges(replies: readonly ShardReply[], out: BatchVerdicts): void 
   }
 }
 
-/** Start the worker of shard `i`: seats `first` … `first + n − 1` of the ensemble in `snapshot`. */
-async function startShard(
+/** Host shard `i` on `thread`: seats `first` … `first + n − 1` of the ensemble in `snapshot`. */
+async function hostShard(
+  thread: ShardThread,
   snapshot: EnsembleSnapshot,
   options: BaggingOptions,
   tally: Int32Array,
@@ -483,55 +506,39 @@ async function startShard(
     lifecycle: { ...snapshot.lifecycle, seats: snapshot.lifecycle.seats.slice(first, first + n) },
     state: { poisson: state.poisson.slice(first, first + n) },
   };
-  // Started from a string that imports the entry file: a worker started from a file refuses the
-  // caller's --input-type (set by `node --input-type=module -e …`), which it inherits.
-  const entry = JSON.stringify(new URL('./bagging-worker.js', import.meta.url).href);
-  const worker = new Worker(`import(${entry})`, {
-    eval: true,
-    workerData: {
-      schema: snapshot.schema,
-      spec: part.options,
-      seed: snapshot.seed,
-      first,
-      shard: i,
-      shards,
-      restored: part,
-      port: port2,
-      control,
-      status,
-      tally,
-    },
-    transferList: [port2],
-  });
-  const shard: RemoteShard = {
-    worker,
-    client: new ShardClient(port1, control),
-    status,
+  const host: ShardHost = {
+    schema: snapshot.schema,
+    spec: part.options as ShardHost['spec'],
+    seed: snapshot.seed,
     first,
-    lost: null,
+    shard: i,
+    shards,
+    restored: part,
+    port: port2,
+    control,
+    status,
+    tally,
   };
+  const { worker } = thread;
+  // A pending Atomics.waitAsync does not keep the process alive while the shard is built; a ref'd worker does.
+  worker.ref();
+  worker.postMessage(host, [port2]);
   await new Promise<void>((resolve, reject) => {
     const failed = (e: unknown) =>
       reject(new ShoalError('worker-failure', `parallel bagging: a worker did not start: ${reason(e)}`));
     const exited = (code: number) => failed(`exited with code ${code}`);
     worker.once('error', failed);
     worker.once('exit', exited);
+    // A thread that stopped before these listeners were set has said so already.
+    if (thread.lost !== null) failed(thread.lost);
     shardReady(control).then(() => {
       worker.off('error', failed);
       worker.off('exit', exited);
       resolve();
     }, failed);
-  });
-  worker.on('error', (e) => {
-    shard.lost ??= reason(e);
-  });
-  worker.on('exit', (code) => {
-    shard.lost ??= `exited with code ${code}`;
-  });
-  // An idle worker need not keep the process alive; while a request is out, `ask` refs it.
-  worker.unref();
+  }).finally(() => worker.unref());
   port1.unref();
-  return shard;
+  return { thread, client: new ShardClient(port1, control), status, first };
 }
 
 function reason(e: unknown): string {

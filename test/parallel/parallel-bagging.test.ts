@@ -144,13 +144,19 @@ describe('parallel bagging', () => {
     }
   });
 
-  it('lets the process exit when the caller forgets to close it', () => {
+  it.each([
+    ['it', 'null', ''],
+    // Idle threads in a pool hold the process no more than a forgotten ensemble does.
+    ['the pool its threads went back to', 'new ShardPool()', 'await bag.close();'],
+  ])('lets the process exit when the caller forgets to close %s', (_, pool, close) => {
     const script = `
-      import { ParallelBagging } from ${JSON.stringify(new URL('../../dist/parallel/index.js', import.meta.url).href)};
+      import { ParallelBagging, ShardPool } from ${JSON.stringify(new URL('../../dist/parallel/index.js', import.meta.url).href)};
       import { BatchVerdicts } from ${JSON.stringify(new URL('../../dist/ensembles/index.js', import.meta.url).href)};
       import { numericSchema } from ${JSON.stringify(new URL('../../dist/core/index.js', import.meta.url).href)};
-      const bag = await ParallelBagging.start(numericSchema(2), { members: 2, lifecycle: { enabled: false } }, 1, 2);
+      const pool = ${pool};
+      const bag = await ParallelBagging.start(numericSchema(2), { members: 2, lifecycle: { enabled: false } }, 1, 2, () => {}, pool);
       await bag.scoreTrainBatch(new Float64Array([1, 2, 3, 4]), [0, 1], 2, new BatchVerdicts());
+      ${close}
       process.stdout.write('scored');
     `;
     const child = spawnSync(process.execPath, ['--input-type=module', '-e', script], {

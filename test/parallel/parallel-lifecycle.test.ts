@@ -8,7 +8,7 @@ import {
   Verdict,
 } from '../../dist/ensembles/index.js';
 import type { LifecycleChange } from '../../dist/journal/index.js';
-import { ParallelBagging } from '../../dist/parallel/index.js';
+import { ParallelBagging, ShardPool } from '../../dist/parallel/index.js';
 import { buildStream } from '../../src/streams/index.js';
 
 /**
@@ -168,6 +168,58 @@ describe('parallel bagging with the member lifecycle', () => {
     single(last, cuts[2]!, ROWS, t);
     expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
     expect(JSON.stringify(last.snapshot())).toBe(snapshot);
+  });
+
+  it('hosts one ensemble after another on the same pooled threads (three → two → three) with the results of one thread', async () => {
+    // A thread that hosted shard 2 of three hosts shard 1 of two next: nothing of the first may leak.
+    const cuts = [2100, 4300, 6500];
+    const first = new Bagging(schema, SPEC, 'life');
+    const t: number[] = [];
+    single(first, 0, cuts[0]!, t);
+    const pool = new ShardPool();
+    let saved: EnsembleSnapshot = JSON.parse(JSON.stringify(first.snapshot()));
+    try {
+      for (const [k, threads] of [3, 2, 3].entries()) {
+        const bag = await ParallelBagging.restore(saved, threads, pool);
+        expect(pool.size, 'threads left idle').toBe(3 - threads);
+        try {
+          await threaded(bag, cuts[k]!, cuts[k + 1] ?? ROWS, t, [], [BATCH], 3);
+          saved = JSON.parse(JSON.stringify(await bag.snapshot()));
+        } finally {
+          await bag.close();
+        }
+        // The pool never grows past the three threads the first ensemble needed.
+        expect(pool.size, 'threads back in the pool').toBe(3);
+      }
+    } finally {
+      await pool.close();
+    }
+    expect(pool.size).toBe(0);
+    expect(firstDifference(t, trace), 'first differing verdict value').toBe(-1);
+    expect(JSON.stringify(saved)).toBe(snapshot);
+  });
+
+  it('does not take back a pooled thread that stopped, and starts another in its place', async () => {
+    const pool = new ShardPool();
+    try {
+      const thread = pool.take();
+      await thread.worker.terminate();
+      await new Promise((resolve) => setImmediate(resolve));
+      expect(thread.lost).toMatch(/exited with code/);
+      pool.give(thread);
+      expect(pool.size).toBe(0);
+      const bag = await ParallelBagging.restore(JSON.parse(snapshot), 2, pool);
+      try {
+        const t: number[] = [];
+        await threaded(bag, 0, 1000, t, []);
+        expect(t.length).toBeGreaterThan(0);
+      } finally {
+        await bag.close();
+      }
+      expect(pool.size).toBe(2);
+    } finally {
+      await pool.close();
+    }
   });
 
   it('keeps this thread free while the workers train: the event loop turns during a batch', async () => {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 // Worker threads load compiled files, so the threads come from the build in dist/ (npm test builds first).
-import { ParallelBagging } from '../../dist/parallel/index.js';
+import { ParallelBagging, ShardPool } from '../../dist/parallel/index.js';
 import type { ConfigError } from '../../src/core/index.js';
 import type { EnsembleSnapshot } from '../../src/ensembles/index.js';
 import type { JournalRecord } from '../../src/journal/index.js';
@@ -42,7 +42,7 @@ interface Run {
   readonly scores: number[];
 }
 
-function start(threads: number): Run {
+function start(threads: number, workers = onThreads): Run {
   const journal = memoryJournal();
   const session = new LearningSession({
     config: resolveConfig(raw(threads), 'test'),
@@ -50,7 +50,7 @@ function start(threads: number): Run {
     journal,
     clock: manualClock(),
     version: '0.0.0-test',
-    workers: onThreads,
+    workers,
   });
   return { session, records: journal.records, scores: [] };
 }
@@ -137,10 +137,13 @@ describe('a learning session on worker threads', () => {
     }
   });
 
-  it('restores a checkpoint of two threads on three, then on one, and ends as one thread', async () => {
+  it('restores a checkpoint of two threads on three, then on one, and ends as one thread (threads from a pool)', async () => {
     await ready;
     const g = stream();
-    const two = start(2);
+    // As serve does: a session taken up again runs on the threads the one before gave back.
+    const pool = new ShardPool();
+    const pooled: EnsembleThreads = (snapshot, threads) => ParallelBagging.restore(snapshot, threads, pool);
+    const two = start(2, pooled);
     let saved: SessionSnapshot;
     try {
       await drive(two, g, 0, 7, true);
@@ -148,12 +151,13 @@ describe('a learning session on worker threads', () => {
     } finally {
       await two.session.close();
     }
+    expect(pool.size, 'threads back in the pool').toBe(2);
     const options = (records: JournalRecord[]) => ({
       source: 'stagger',
       journal: { write: (r: JournalRecord) => records.push(r), flush: async () => {} },
       clock: manualClock(),
       version: '0.0.0-test',
-      workers: onThreads,
+      workers: pooled,
     });
     const three: Run = {
       session: LearningSession.restore(saved, { ...options(two.records), threads: 3 }),
@@ -162,10 +166,13 @@ describe('a learning session on worker threads', () => {
     };
     try {
       await drive(three, g, 7, 15, true);
+      expect(pool.size, 'the two threads taken again, one started').toBe(0);
       saved = JSON.parse(JSON.stringify(await three.session.snapshotAsync()));
     } finally {
       await three.session.close();
     }
+    expect(pool.size).toBe(3);
+    await pool.close();
     const last: Run = {
       session: LearningSession.restore(saved, { ...options(two.records), threads: 1 }),
       records: two.records,
