@@ -1,5 +1,5 @@
 import { Bagging, BatchVerdicts, Verdict } from '../../dist/ensembles/index.js';
-import { ParallelBagging } from '../../dist/parallel/index.js';
+import { ParallelBagging, ShardPool } from '../../dist/parallel/index.js';
 import { numericSchema } from '../../src/core/index.js';
 import { type BenchFn, type BenchRow, machine, median } from './harness.js';
 import { benchStream } from './stream.js';
@@ -10,7 +10,9 @@ import { benchStream } from './stream.js';
  * threads (the build in dist/ is used, since workers load compiled files), against the same ensemble in
  * one thread. They go through the same rows side by side, taking turns a block of 20,000 rows at a time
  * (the order of turns rotates), so that all see the same machine however its load moves; each is timed
- * from its first quarter of rows on (a worker's compiler starts cold), three times over. Rows go to the
+ * from its first quarter of rows on, three times over. The worker threads come from one pool for the
+ * whole section (`ShardPool`), as a service's do, so that after the first run their compiled code is as
+ * warm as this thread's (new threads each run started cold, against a warm one thread). Rows go to the
  * threads in batches of 1,000, each sent before the verdicts of the ones before it are read (as many out
  * at a time as `ParallelBagging` allows, `batchesOut`: three), so the workers do not wait while this
  * thread checks them (only the last batches of a block are read with none behind them); a second pair
@@ -40,6 +42,8 @@ export const bench: BenchFn = async ({ quick }) => {
   };
   const expected = new Float64Array(count);
   const got = { two: new Float64Array(count), 'single-file': new Float64Array(count) };
+  // The threads go back to a pool between runs, so their code is as warm as this thread's.
+  const pool = new ShardPool();
   for (const [members, lifecycle] of [
     [10, false],
     [30, false],
@@ -61,8 +65,8 @@ export const bench: BenchFn = async ({ quick }) => {
         }
       };
       const pairs = {
-        two: await ParallelBagging.start(schema, spec, 'bench-parallel', 2),
-        'single-file': await ParallelBagging.start(schema, spec, 'bench-parallel', 2),
+        two: await ParallelBagging.start(schema, spec, 'bench-parallel', 2, () => {}, pool),
+        'single-file': await ParallelBagging.start(schema, spec, 'bench-parallel', 2, () => {}, pool),
       };
       const out = ParallelBagging.batchesOut;
       const outs = Array.from({ length: out }, () => new BatchVerdicts());
@@ -127,5 +131,6 @@ export const bench: BenchFn = async ({ quick }) => {
       identical,
     };
   }
+  await pool.close();
   return { title: 'Parallel members (two threads)', rows, json };
 };
