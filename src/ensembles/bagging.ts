@@ -88,7 +88,7 @@ export const BAGGING_DEFAULTS: BaggingOptions = {
 };
 
 const KIND = 'bagging';
-const VERSION = 2;
+const VERSION = 3;
 
 export type BaggingSpec = Partial<Omit<BaggingOptions, 'lifecycle'>> & {
   readonly lifecycle?: Partial<LifecycleOptions>;
@@ -123,7 +123,7 @@ export class Bagging extends SeatedEnsemble {
   /**
    * `firstSeat` > 0 builds seats `firstSeat` … `firstSeat + members − 1` of a larger ensemble (a shard
    * for another thread): their members and Poisson generators are seeded as in the whole ensemble, and
-   * the shards share a `ledger` of member ids and replacements (see `SeatLedger`).
+   * the shards share a `ledger` of the replacement cap (see `SeatLedger`).
    */
   constructor(
     schema: FeatureSchema,

@@ -59,7 +59,7 @@ export type BoostingSpec = Partial<Omit<BoostingOptions, 'lifecycle'>> & {
 };
 
 const KIND = 'boosting';
-const VERSION = 2;
+const VERSION = 3;
 /** Error rate used in place of 0 so that a perfect member gets a large, finite vote. */
 const MIN_ERROR = 1e-6;
 

@@ -111,36 +111,42 @@ export type LifecycleSink = (change: LifecycleChange) => void;
 export type MemberFactory = (seat: number, memberId: number) => Classifier;
 
 /**
- * What couples the seats of one ensemble: the member ids handed out (an id seeds its member) and the
- * replacement cap. One thread keeps both in a `LocalLedger`; the shards of an ensemble split over
- * threads keep one between them (src/parallel), handing out the same ids and reaching the cap on the same
- * rows. `row` is the ensemble's row count when the lifecycle asks.
+ * What couples the seats of one ensemble: the replacement cap, and the seat count that member ids are
+ * numbered by (see `memberId`). One thread keeps it in a `LocalLedger`; the shards of an ensemble split
+ * over threads keep one between them (src/parallel), reaching the cap on the same rows. `row` is the
+ * ensemble's row count when the lifecycle asks.
  */
 export interface SeatLedger {
-  /** The next member id. */
-  nextId(row: number): number;
+  /** Seats of the whole ensemble. */
+  readonly seats: number;
   /** Whether `maxReplacements` replacements already happened within the window ending at `row`. */
   capReached(row: number): boolean;
   /** Count a replacement at `row`. */
   replaced(row: number): void;
-  /** The ids handed out so far and the replacements still in the window at `row` and after. */
-  snapshot(row: number): Pick<LifecycleSnapshot, 'nextMemberId' | 'replacements'>;
+  /** The replacements still in the window at `row` and after. */
+  snapshot(row: number): Pick<LifecycleSnapshot, 'replacements'>;
+}
+
+/**
+ * The id of the member started `start`-th (from 0: the seat's first member) in seat `seat` of an
+ * ensemble of `seats` seats: seat + seats × start. Unique within the ensemble and never reused, and known
+ * to the seat alone — no seat waits for another to number its members, on whatever thread each runs —
+ * and it says where the member sat: in ten seats, member 23 is seat 3's third.
+ */
+export function memberId(seat: number, start: number, seats: number): number {
+  return seat + seats * start;
 }
 
 /** The ledger of an ensemble in one thread. */
 export class LocalLedger implements SeatLedger {
+  readonly seats: number;
   private readonly options: LifecycleOptions;
-  private next: number;
   private replacements: number[];
 
-  constructor(options: LifecycleOptions, next: number, replacements: readonly number[] = []) {
+  constructor(options: LifecycleOptions, seats: number, replacements: readonly number[] = []) {
     this.options = options;
-    this.next = next;
+    this.seats = seats;
     this.replacements = [...replacements];
-  }
-
-  nextId(_row: number): number {
-    return this.next++;
   }
 
   capReached(row: number): boolean {
@@ -158,9 +164,9 @@ export class LocalLedger implements SeatLedger {
    * Only the replacements that can still count: a row at or before `row − replacementWindow` never
    * counts again (later rows are larger), so the snapshot is the same however often the cap was asked.
    */
-  snapshot(row: number): Pick<LifecycleSnapshot, 'nextMemberId' | 'replacements'> {
+  snapshot(row: number): Pick<LifecycleSnapshot, 'replacements'> {
     const window = this.options.replacementWindow;
-    return { nextMemberId: this.next, replacements: this.replacements.filter((r) => r > row - window) };
+    return { replacements: this.replacements.filter((r) => r > row - window) };
   }
 }
 
@@ -184,6 +190,8 @@ export class Seat {
   readonly index: number;
   member: Classifier;
   memberId: number;
+  /** Members started in the seat so far (its first, understudies), which numbers the next (see `memberId`). */
+  starts = 1;
   state: MemberState;
   /** Rows judged since the member took the seat (an understudy brings its own count). */
   age = 0;
@@ -286,6 +294,7 @@ export class Seat {
     return {
       member: this.member.snapshot(),
       memberId: this.memberId,
+      starts: this.starts,
       state: this.state,
       age: this.age,
       errors: this.errors,
@@ -316,6 +325,7 @@ export class Seat {
       restoreDetector(s.monitor),
       window,
     );
+    seat.starts = s.starts;
     seat.age = s.age;
     seat.errors = s.errors;
     seat.understudy = s.understudy === null ? null : restoreClassifier(s.understudy);
@@ -346,6 +356,7 @@ export class Seat {
 export interface SeatSnapshot {
   readonly member: LearnerSnapshot;
   readonly memberId: number;
+  readonly starts: number;
   readonly state: MemberState;
   readonly age: number;
   readonly errors: number;
@@ -368,7 +379,6 @@ export interface SeatSnapshot {
 
 export interface LifecycleSnapshot {
   readonly seats: readonly SeatSnapshot[];
-  readonly nextMemberId: number;
   readonly epoch: number;
   readonly replacements: readonly number[];
   readonly classes: number;
@@ -416,16 +426,16 @@ export class Lifecycle {
     this.journal = journal;
     if (restored !== undefined) {
       this.seats = restored.seats.map((s, i) => Seat.restore(firstSeat + i, s, options.accuracyWindow));
-      this.ledger = ledger ?? new LocalLedger(options, restored.nextMemberId, restored.replacements);
+      this.ledger = ledger ?? new LocalLedger(options, seats, restored.replacements);
       this.epoch = restored.epoch;
       this.classes = restored.classes;
       return;
     }
     this.seats = [];
-    this.ledger = ledger ?? new LocalLedger(options, firstSeat + seats);
+    this.ledger = ledger ?? new LocalLedger(options, seats);
     const first: MemberState = options.enabled && options.warmup > 0 ? 'warming' : 'active';
     for (let i = 0; i < seats; i++) {
-      const id = firstSeat + i;
+      const id = memberId(firstSeat + i, 0, this.ledger.seats);
       const seat = new Seat(
         firstSeat + i,
         make(i, id),
@@ -549,12 +559,12 @@ export class Lifecycle {
   }
 
   private watch(seat: Seat, row: number): void {
-    const id = this.startUnderstudy(seat, row);
+    const id = this.startUnderstudy(seat);
     this.move(row, seat, 'watched', 'watched', `warning; understudy ${id} started`);
   }
 
-  private startUnderstudy(seat: Seat, row: number): number {
-    const id = this.ledger.nextId(row);
+  private startUnderstudy(seat: Seat): number {
+    const id = memberId(seat.index, seat.starts++, this.ledger.seats);
     const understudy = this.make(seat.index, id);
     understudy.ensureClasses(this.classes);
     seat.understudy = understudy;
@@ -602,7 +612,7 @@ export class Lifecycle {
       cause = 'drift-deferred';
       reason = `drift; understudy ${seat.understudyId} measurably better, replacement deferred (cap of ${o.maxReplacements} per ${o.replacementWindow} rows)`;
     } else if (seat.understudy === null) {
-      const id = this.startUnderstudy(seat, row);
+      const id = this.startUnderstudy(seat);
       reason = `drift; understudy ${id} started, on trial for ${o.trialRows} rows`;
     } else {
       reason = `drift; understudy ${seat.understudyId} on trial for ${o.trialRows} rows`;

@@ -77,7 +77,7 @@ export type StackingSpec = Partial<Omit<StackingOptions, 'lifecycle'>> & {
 };
 
 const KIND = 'stacking';
-const VERSION = 2;
+const VERSION = 3;
 
 function resolve(spec: StackingSpec): StackingOptions {
   const o: StackingOptions = {

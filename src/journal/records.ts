@@ -128,7 +128,7 @@ export interface LifecycleChange {
   /** Rows the ensemble had trained on when the change happened. */
   readonly trained: number;
   readonly seat: number;
-  /** The member's id, unique within the ensemble and never reused. */
+  /** The member's id, unique within the ensemble and never reused: seat + seats × the members its seat had before. */
   readonly member: number;
   /** The kind of learner the member is (`hoeffding-tree`, `naive-bayes`, …). */
   readonly learner: string;

@@ -13,6 +13,8 @@ export interface ShardHost {
   readonly first: number;
   readonly shard: number;
   readonly shards: number;
+  /** Seats of the whole ensemble. */
+  readonly seats: number;
   readonly restored: EnsembleSnapshot;
   readonly port: MessagePort;
   readonly control: Int32Array;
@@ -26,22 +28,12 @@ export interface ShardHost {
  * then waits for the next shard (see `ShardPool`). This file is a worker's entry point, loaded by URL;
  * only its types are imported.
  */
-function host({
-  schema,
-  spec,
-  seed,
-  first,
-  shard,
-  shards,
-  restored,
-  port,
-  control,
-  status,
-  tally,
-}: ShardHost): void {
+function host(h: ShardHost): void {
+  const { schema, spec, seed, first, shard, shards, restored } = h;
   const ledger = new ShardLedger(
     shard,
     shards,
+    h.seats,
     spec.lifecycle.replacementWindow,
     spec.lifecycle.maxReplacements,
     restored.lifecycle,
@@ -60,7 +52,7 @@ function host({
     first,
     ledger,
   );
-  serveShard(bagging, ledger, changes, steps, port, control, status, tally);
+  serveShard(bagging, ledger, changes, steps, h.port, h.control, h.status, h.tally);
 }
 
 parentPort!.on('message', host);

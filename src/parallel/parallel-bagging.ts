@@ -155,7 +155,6 @@ export class ParallelBagging {
     this.ledger = new LedgerHost(
       shards.length,
       whole.options.lifecycle.replacementWindow,
-      ledger.nextMemberId,
       ledger.replacements,
       ledger.epoch,
     );
@@ -298,7 +297,6 @@ export class ParallelBagging {
     const ledger = this.ledger;
     const lifecycle: LifecycleSnapshot = {
       seats: parts.flatMap((p) => p.lifecycle.seats),
-      nextMemberId: ledger.nextId,
       replacements: [...ledger.history],
       epoch: ledger.epoch,
       classes: first.lifecycle.classes,
@@ -513,6 +511,7 @@ async function hostShard(
     first,
     shard: i,
     shards,
+    seats: options.members,
     restored: part,
     port: port2,
     control,

@@ -1,15 +1,14 @@
 import { inWindow, type LifecycleSnapshot, type SeatLedger } from '../ensembles/index.js';
 
 /**
- * The member lifecycle couples the seats of an ensemble in two ways: member ids are handed out in the
- * order of (row, seat) — an id seeds its member — and at most `maxReplacements` replacements happen in
- * any `replacementWindow` rows. Shards of one bagging ensemble in different threads keep both exactly as
- * one thread would through this ledger, in shared memory while a batch is out:
+ * The member lifecycle couples the seats of an ensemble: at most `maxReplacements` replacements happen
+ * in any `replacementWindow` rows (member ids are the seats' own: see `memberId`). Shards of one bagging
+ * ensemble in different threads keep the cap exactly as one thread would through this ledger, in shared
+ * memory while a batch is out:
  *
  *   per shard a line of its own: its progress (steps of the batch done), then the step each other
  *   shard waits for it to reach (0: none); the next chunk of rows to combine (see `claim`), on a line
- *   of its own; then per shard: ids handed out, replacements, the step of each id, the step and the
- *   row of each replacement.
+ *   of its own; then per shard: replacements, the step and the row of each.
  *
  * A shard writes its progress at every step and reads the steps waited for, so each shard's line holds
  * only what its own steps touch (64 bytes, a cache line on x86 and most ARM): with every progress word
@@ -17,17 +16,16 @@ import { inWindow, type LifecycleSnapshot, type SeatLedger } from '../ensembles/
  *
  * Shard w holds seats below those of shard w + 1, so an event of shard v at step q comes before the
  * event of shard w at step i in the one-thread order exactly when q < i, or q = i and v < w. A shard
- * that needs an id or the cap at step i first waits until every shard before it has done step i and
- * every shard after it step i − 1 (blocking its own thread, never the main one), then counts the
- * events before its own in the logs. Events are rare (a warning, a drift, a replacement), so the shards
- * otherwise run freely; waits never form a cycle, since the earliest waiting (step, shard) has all it
- * waits for. Between batches the ledger is the next id, the recent replacement rows and the epoch
+ * that asks the cap at step i first waits until every shard before it has done step i and every shard
+ * after it step i − 1 (blocking its own thread, never the main one), then counts the replacements
+ * before its own in the logs. Questions are rare (a drift or a trial whose understudy proved better),
+ * so the shards otherwise run freely; waits never form a cycle, since the earliest waiting (step,
+ * shard) has all it waits for. Between batches the ledger is the recent replacement rows and the epoch
  * (`LedgerHost`), which the main thread and every shard each take in from a finished batch's logs.
  *
  * A shard through with its rows of a batch need not wait for the others: it closes the batch (`close`)
  * and may start the next one, taking the closed batch's events in (`settleClosed`) only once every
- * shard is through it — before it answers the batch, or earlier when an event of the next batch needs
- * the ledger. The main thread clears a set of words for a new batch only once every shard has answered
+ * shard is through it — before it answers the batch, or earlier when the next batch asks the cap. The main thread clears a set of words for a new batch only once every shard has answered
  * the batch that used it last, so a closed batch's words stay until its shard has settled them.
  *
  * A shard waiting for another's progress first polls it for a few microseconds, then sleeps having
@@ -35,13 +33,12 @@ import { inWindow, type LifecycleSnapshot, type SeatLedger } from '../ensembles/
  * wake-up (a system call on each side, tens of microseconds on a virtual machine), so a shard neither
  * sleeps on a short wait nor is woken at every row of a long one.
  */
-const PER_SHARD_HEAD = 2;
+/** A shard's count of replacements, before its logs. */
+const PER_SHARD_HEAD = 1;
 /** Loads of a word before a thread sleeps on it: some 10 µs (an atomic load takes some 20–30 ns in Node 20). */
 const SPINS = 512;
-const LOGS = 3;
-/** Kinds of event: the count word and step log of each (replacement rows follow the replacement steps). */
-const IDS = 0;
-const REPLACEMENTS = 1;
+/** A shard's logs: the step of each replacement, then its row. */
+const LOGS = 2;
 /** Progress of a shard that failed: nobody waits for it (the batch fails as a whole). */
 export const FAILED = 0x7fffffff;
 /** What `claim` returns when no chunk is left, and when the next chunk's rows are not all answered. */
@@ -49,7 +46,7 @@ export const NONE_LEFT = -1;
 export const NOT_READY = -2;
 const WAIT_MS = 1000;
 
-/** Words of a ledger for `shards` shards with room for `cap` events of each kind per shard. */
+/** Words of a ledger for `shards` shards with room for `cap` replacements per shard. */
 export function ledgerWords(shards: number, cap: number): Int32Array<SharedArrayBuffer> {
   return new Int32Array(new SharedArrayBuffer(4 * base(shards, cap, shards)));
 }
@@ -98,6 +95,8 @@ export class ShardLedger implements SeatLedger {
   readonly shard: number;
   /** Shards of the ensemble. */
   readonly shards: number;
+  /** Seats of the whole ensemble. */
+  readonly seats: number;
   private readonly window: number;
   private readonly max: number;
   /**
@@ -118,18 +117,20 @@ export class ShardLedger implements SeatLedger {
   constructor(
     shard: number,
     shards: number,
+    seats: number,
     window: number,
     max: number,
-    start: Pick<LifecycleSnapshot, 'nextMemberId' | 'replacements' | 'epoch'>,
+    start: Pick<LifecycleSnapshot, 'replacements' | 'epoch'>,
   ) {
     this.shard = shard;
     this.shards = shards;
+    this.seats = seats;
     this.window = window;
     this.max = max;
-    this.between = new LedgerHost(shards, window, start.nextMemberId, start.replacements, start.epoch);
+    this.between = new LedgerHost(shards, window, start.replacements, start.epoch);
   }
 
-  /** Start a batch on the ledger's words (laid out for `cap` events of each kind per shard). */
+  /** Start a batch on the ledger's words (laid out for `cap` replacements per shard). */
   begin(words: Int32Array, cap: number): void {
     this.words = words;
     this.cap = cap;
@@ -216,18 +217,6 @@ export class ShardLedger implements SeatLedger {
     for (let v = 0; v < this.shards; v++) if (v !== this.shard) this.reach(v, to, words);
   }
 
-  nextId(_row: number): number {
-    this.settleClosed();
-    this.settle();
-    let n = 0;
-    for (let v = 0; v < this.shards; v++) n += this.before(v, IDS);
-    const at = base(this.shards, this.cap, this.shard);
-    const own = this.words[at]!;
-    this.words[at + PER_SHARD_HEAD + own] = this.step;
-    Atomics.store(this.words, at, own + 1);
-    return this.between.nextId + n;
-  }
-
   capReached(row: number): boolean {
     this.settleClosed();
     this.settle();
@@ -235,8 +224,8 @@ export class ShardLedger implements SeatLedger {
     const { words, cap } = this;
     for (let v = 0; v < this.shards; v++) {
       const at = base(this.shards, cap, v);
-      const rows = at + PER_SHARD_HEAD + 2 * cap;
-      const count = this.before(v, REPLACEMENTS);
+      const rows = at + PER_SHARD_HEAD + cap;
+      const count = this.before(v);
       for (let i = 0; i < count; i++) if (words[rows + i]! > row - this.window) n++;
     }
     return n >= this.max;
@@ -245,18 +234,18 @@ export class ShardLedger implements SeatLedger {
   replaced(row: number): void {
     const { words, cap } = this;
     const at = base(this.shards, cap, this.shard);
-    const own = words[at + 1]!;
-    words[at + PER_SHARD_HEAD + cap + own] = this.step;
-    words[at + PER_SHARD_HEAD + 2 * cap + own] = row;
-    Atomics.store(words, at + 1, own + 1);
+    const own = words[at]!;
+    words[at + PER_SHARD_HEAD + own] = this.step;
+    words[at + PER_SHARD_HEAD + cap + own] = row;
+    Atomics.store(words, at, own + 1);
   }
 
-  /** The main thread keeps the ids and replacements of the whole ensemble; a shard's own say nothing. */
-  snapshot(_row: number): Pick<LifecycleSnapshot, 'nextMemberId' | 'replacements'> {
-    return { nextMemberId: this.between.nextId, replacements: [] };
+  /** The main thread keeps the replacements of the whole ensemble; a shard's own say nothing. */
+  snapshot(_row: number): Pick<LifecycleSnapshot, 'replacements'> {
+    return { replacements: [] };
   }
 
-  /** Wait until every event before this shard's at this step is in the logs. */
+  /** Wait until every replacement before this shard's at this step is in the logs. */
   private settle(): void {
     const { shards, step } = this;
     for (let v = 0; v < shards; v++) if (v !== this.shard) this.reach(v, v < this.shard ? step + 1 : step);
@@ -279,13 +268,13 @@ export class ShardLedger implements SeatLedger {
     return p;
   }
 
-  /** How many of shard `v`'s events of one kind (IDS or REPLACEMENTS) come before this shard's at this step. */
-  private before(v: number, kind: number): number {
-    const { words, cap } = this;
-    const at = base(this.shards, cap, v);
-    const count = Atomics.load(words, at + kind);
+  /** How many of shard `v`'s replacements come before this shard's at this step. */
+  private before(v: number): number {
+    const at = base(this.shards, this.cap, v);
+    const words = this.words;
+    const count = Atomics.load(words, at);
     if (v === this.shard) return count;
-    const from = at + PER_SHARD_HEAD + kind * cap;
+    const from = at + PER_SHARD_HEAD;
     const last = v < this.shard ? this.step : this.step - 1;
     let n = 0;
     while (n < count && words[from + n]! <= last) n++;
@@ -294,8 +283,8 @@ export class ShardLedger implements SeatLedger {
 }
 
 /**
- * The ledger's words for one batch in flight, in shared memory, laid out for `cap` events of each kind
- * per shard (the most a batch as large as the largest so far can make).
+ * The ledger's words for one batch in flight, in shared memory, laid out for `cap` replacements per
+ * shard (the most a batch as large as the largest so far can make).
  */
 export class LedgerWords {
   readonly shards: number;
@@ -325,32 +314,29 @@ export class LedgerWords {
 }
 
 /**
- * What the ledger holds between batches — the next member id, the replacement rows that can still count
- * towards the cap, the replacements so far — and how a finished batch's events move it on: kept by the
- * main thread, and by each shard for itself.
+ * What the ledger holds between batches — the replacement rows that can still count towards the cap,
+ * the replacements so far — and how a finished batch's replacements move it on: kept by the main
+ * thread, and by each shard for itself.
  */
 export class LedgerHost {
   readonly shards: number;
   private readonly window: number;
-  /** The next member id. */
-  nextId: number;
   /** Replacement rows that can still count towards the cap. */
   history: number[];
   /** Replacements so far. */
   epoch: number;
 
-  constructor(shards: number, window: number, nextId: number, history: readonly number[], epoch: number) {
+  constructor(shards: number, window: number, history: readonly number[], epoch: number) {
     this.shards = shards;
     this.window = window;
-    this.nextId = nextId;
     this.history = [...history];
     this.epoch = epoch;
   }
 
   /**
-   * Take in the events of a finished batch of `steps` steps in `words` (laid out for `cap`): the ids
-   * handed out, the replacement rows in the one-thread order, and (into `epochs`, when given) the epoch
-   * that served each step; `rows` is the ensemble's row count after it.
+   * Take in the replacements of a finished batch of `steps` steps in `words` (laid out for `cap`): their
+   * rows in the one-thread order, and (into `epochs`, when given) the epoch that served each step; `rows`
+   * is the ensemble's row count after it.
    */
   settle(words: Int32Array, cap: number, steps: number, rows: number, epochs: Int32Array | null): void {
     const shards = this.shards;
@@ -363,20 +349,19 @@ export class LedgerHost {
       let step = steps;
       for (let v = 0; v < shards; v++) {
         const at = base(shards, cap, v);
-        if (next[v]! < words[at + 1]! && words[at + PER_SHARD_HEAD + cap + next[v]!]! < step) {
+        if (next[v]! < words[at]! && words[at + PER_SHARD_HEAD + next[v]!]! < step) {
           first = v;
-          step = words[at + PER_SHARD_HEAD + cap + next[v]!]!;
+          step = words[at + PER_SHARD_HEAD + next[v]!]!;
         }
       }
       if (epochs !== null) epochs.fill(epoch, from, step + (first < 0 ? 0 : 1));
       if (first < 0) break;
       from = step + 1;
-      this.history.push(words[base(shards, cap, first) + PER_SHARD_HEAD + 2 * cap + next[first]!]!);
+      this.history.push(words[base(shards, cap, first) + PER_SHARD_HEAD + cap + next[first]!]!);
       next[first]!++;
       epoch++;
     }
     this.epoch = epoch;
-    for (let v = 0; v < shards; v++) this.nextId += words[base(shards, cap, v)]!;
     this.history = this.history.filter((r) => r > rows - this.window);
   }
 }

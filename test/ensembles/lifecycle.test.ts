@@ -95,6 +95,15 @@ describe('member lifecycle', () => {
     // Member ids are never reused.
     const born = records.filter((r) => r.from === null).map((r) => r.member);
     expect(new Set(born).size).toBe(born.length);
+    // Each is seat + seats × (members started in the seat before it): it names its seat, and a seat's
+    // members come in order — numbered by the seat alone, so shards on other threads never wait for it.
+    for (const r of records) expect(r.member % 4).toBe(r.seat);
+    for (const r of records.filter((r) => /understudy \d+ started/.test(r.reason)))
+      expect(Number(/understudy (\d+) started/.exec(r.reason)![1]) % 4).toBe(r.seat);
+    for (let seat = 0; seat < 4; seat++) {
+      const ids = born.filter((id) => id % 4 === seat);
+      expect(ids).toEqual([...ids].sort((a, b) => a - b));
+    }
   });
 
   it('caps replacements per window and defers the rest instead of dropping them', () => {
