@@ -35,7 +35,7 @@ const PER_MESSAGE = 250;
 describe('state that follows partitions (real broker)', () => {
   afterEach(killServes);
 
-  it('a survivor takes up a killed instance’s partition sessions from the Kafka store and ends with the uninterrupted models', {
+  it('a survivor takes up a killed instance’s partition sessions from the Kafka store and ends with the uninterrupted models (the pair on two threads each)', {
     timeout: 400_000,
   }, async () => {
     const brokers = inject('kafkaBrokers');
@@ -55,7 +55,10 @@ describe('state that follows partitions (real broker)', () => {
     };
     const perPartition = Array.from({ length: PARTITIONS }, () => ROWS / PER_MESSAGE / PARTITIONS);
     const dir = await scratch();
-    const config = await serveConfig(join(dir, 'pair.yaml'), brokers, t, store);
+    // The pair's members on worker threads: a session dropped in a rebalance gives its threads back to
+    // the instance's pool, and a session taken up from the store may run on them; the models must still
+    // be those of one thread, uninterrupted.
+    const config = await serveConfig(join(dir, 'pair.yaml'), brokers, t, store, null, 2);
 
     const counter = await ScoreCounter.start(brokers, t.scores);
     const first = new ServeProcess(config);
@@ -97,6 +100,7 @@ describe('state that follows partitions (real broker)', () => {
         expect(s.counts.trained, `partition ${p}`).toBe(rows);
         expect(s.positions).toEqual({ [`${t.events}/${p}`]: String(perPartition[p]) });
       }
+      expect(pair[p]!.config.threads, `partition ${p}`).toBe(2);
       expect(pair[p]!.ensemble, `partition ${p}`).toEqual(single[p]!.ensemble);
       expect(pair[p]!.evaluator, `partition ${p}`).toEqual(single[p]!.evaluator);
     }
@@ -200,11 +204,13 @@ async function serveConfig(
   t: ServeTopics,
   store: string,
   labelsTopic: string | null = null,
+  threads = 1,
 ): Promise<string> {
   await writeFile(
     path,
     stringify({
       ...RUN,
+      ensemble: { ...RUN.ensemble, threads },
       kafka: kafkaSection(brokers, t, {
         scope: 'partition',
         log: { level: 'info' },
