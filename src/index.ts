@@ -102,7 +102,7 @@ export {
   restoreClassifier,
   restoreRegressor,
 } from './learners/index.js';
-export { ParallelBagging } from './parallel/index.js';
+export { ParallelBagging, ShardPool } from './parallel/index.js';
 export type {
   Clock,
   JournalSink,
