@@ -313,14 +313,18 @@ export class ParallelBagging {
     };
   }
 
-  /** Stop the shards: their threads go back to the pool, or end when there is none. */
+  /**
+   * Stop the shards once the batches out are in: their threads go back to the pool, or end when there
+   * is none (or when a snapshot is still being taken, so that no thread goes back busy).
+   */
   async close(): Promise<void> {
+    await this.last;
     for (const s of this.shards) {
       s.client.post({ kind: 'stop' });
       s.client.wake();
     }
     const pool = this.pool;
-    if (pool !== null) for (const s of this.shards) pool.give(s.thread);
+    if (pool !== null && this.out === 0) for (const s of this.shards) pool.give(s.thread);
     else await Promise.all(this.shards.map((s) => s.thread.worker.terminate()));
   }
 

@@ -199,6 +199,45 @@ describe('parallel bagging with the member lifecycle', () => {
     expect(JSON.stringify(saved)).toBe(snapshot);
   });
 
+  it('closes after the batches still out, its threads back in the pool idle for the next ensemble', async () => {
+    const pool = new ShardPool();
+    try {
+      const bag = await ParallelBagging.start(schema, SPEC, 'life', 2, () => {}, pool);
+      const out = Array.from({ length: 3 }, () => new BatchVerdicts());
+      const sent = out.map((verdicts, k) =>
+        bag.scoreTrainBatch(rows.subarray(k * BATCH * width), labels.subarray(k * BATCH), BATCH, verdicts),
+      );
+      let answered = 0;
+      for (const done of sent) void done.then(() => answered++);
+      await bag.close();
+      expect(answered, 'batches in before close resolved').toBe(3);
+      expect(pool.size).toBe(2);
+      // The batches were answered in full before the threads went back (members independent: Oza &
+      // Russell 2001, so the verdicts are one thread's).
+      const t: number[] = [];
+      const verdict = new Verdict();
+      for (const verdicts of out) {
+        for (let r = 0; r < BATCH; r++) {
+          verdicts.verdictAt(r, verdict);
+          push(t, verdict);
+          for (let m = 0; m < MEMBERS; m++) t.push(verdicts.accuracy[r * MEMBERS + m]!);
+        }
+      }
+      expect(firstDifference(t, trace.slice(0, t.length)), 'first differing verdict value').toBe(-1);
+      const next = await ParallelBagging.restore(JSON.parse(snapshot), 2, pool);
+      expect(pool.size).toBe(0);
+      try {
+        const u: number[] = [];
+        await threaded(next, 0, BATCH, u, []);
+        expect(u.length).toBeGreaterThan(0);
+      } finally {
+        await next.close();
+      }
+    } finally {
+      await pool.close();
+    }
+  });
+
   it('does not take back a pooled thread that stopped, and starts another in its place', async () => {
     const pool = new ShardPool();
     try {
