@@ -214,10 +214,16 @@ export class ParallelBagging {
     const firsts = counts.map((_, i) => counts.slice(0, i).reduce((a, b) => a + b, 0));
     const tally = answerTally();
     const hosts = counts.map(() => pool?.take() ?? startThread());
-    const shards = await Promise.all(
-      counts.map((n, i) => hostShard(hosts[i]!, snapshot, whole.options, tally, i, count, firsts[i]!, n)),
-    );
-    return new ParallelBagging(whole, snapshot, shards, counts, tally, pool);
+    try {
+      const shards = await Promise.all(
+        counts.map((n, i) => hostShard(hosts[i]!, snapshot, whole.options, tally, i, count, firsts[i]!, n)),
+      );
+      return new ParallelBagging(whole, snapshot, shards, counts, tally, pool);
+    } catch (e) {
+      // A shard that did not start fails the ensemble: the threads that did start one hold it for good.
+      await Promise.all(hosts.map((t) => t.worker.terminate()));
+      throw e;
+    }
   }
 
   /** Classes known so far. */

@@ -1,4 +1,5 @@
 import { Worker } from 'node:worker_threads';
+import { ShoalError } from '../core/index.js';
 
 /** A worker thread that hosts one shard at a time (see `ShardPool`). */
 export interface ShardThread {
@@ -34,7 +35,8 @@ export class ShardPool {
 
   /** An idle thread that is still running, or a new one. */
   take(): ShardThread {
-    if (this.closed) throw new Error('the shard pool is closed');
+    if (this.closed)
+      throw new ShoalError('invalid-parameter', 'shard pool: closed, it hands out no more threads');
     for (let thread = this.idle.pop(); thread !== undefined; thread = this.idle.pop()) {
       if (thread.lost === null) return thread;
     }

@@ -9,6 +9,7 @@ import {
 } from '../../dist/ensembles/index.js';
 import type { LifecycleChange } from '../../dist/journal/index.js';
 import { ParallelBagging, ShardPool } from '../../dist/parallel/index.js';
+import { type ShardThread, startThread } from '../../dist/parallel/shard-pool.js';
 import { buildStream } from '../../src/streams/index.js';
 
 /**
@@ -236,6 +237,32 @@ describe('parallel bagging with the member lifecycle', () => {
     } finally {
       await pool.close();
     }
+  });
+
+  it('ends the threads it took when a shard does not start, and a closed pool hands out none', async () => {
+    const dead = startThread();
+    await dead.worker.terminate();
+    await new Promise((resolve) => setImmediate(resolve));
+    const live: ShardThread[] = [];
+    // A pool whose first thread stops after it is handed out (between take and host); the second runs.
+    let taken = 0;
+    class Failing extends ShardPool {
+      override take(): ShardThread {
+        if (taken++ === 0) return dead;
+        const thread = super.take();
+        live.push(thread);
+        return thread;
+      }
+    }
+    const pool = new Failing();
+    await expect(ParallelBagging.restore(JSON.parse(snapshot), 2, pool)).rejects.toMatchObject({
+      code: 'worker-failure',
+      message: expect.stringMatching(/did not start: exited with code/),
+    });
+    await new Promise((resolve) => setImmediate(resolve));
+    expect(live[0]!.lost, 'the thread that started a shard is ended').toMatch(/exited with code/);
+    await pool.close();
+    expect(() => pool.take()).toThrow(/shard pool: closed/);
   });
 
   it('does not take back a pooled thread that stopped, and starts another in its place', async () => {
