@@ -5,6 +5,7 @@ import {
   subtractTriple,
   varianceReduction,
 } from './hoeffding-regression-tree-split.js';
+import { doubledRoom } from './typed-arrays.js';
 
 /**
  * The split-point store of one numeric feature in one leaf: a binary search tree over the values
@@ -22,6 +23,10 @@ import {
 
 const F_STRIDE = 4;
 const L_STRIDE = 2;
+/** Bytes of one node's room: its four doubles and two links. */
+const NODE_BYTES = 8 * F_STRIDE + 4 * L_STRIDE;
+/** The room a store starts with (or the limit, when smaller). */
+const FIRST_CAPACITY = 16;
 
 /**
  * Check the child links of a snapshot's tree of `size` nodes (links at `first`, `first + 1` of each
@@ -62,7 +67,7 @@ export class ValueTree {
   private readonly total = new Float64Array(3);
 
   constructor(private readonly limit: number) {
-    const capacity = Math.min(limit, 16);
+    const capacity = doubledRoom(FIRST_CAPACITY, 1, limit);
     this.nodes = new Float64Array(F_STRIDE * capacity);
     this.links = new Int32Array(L_STRIDE * capacity);
   }
@@ -77,12 +82,16 @@ export class ValueTree {
     return this.total[0]!;
   }
 
-  /** Record value `x` (finite) with target `y` and weight `w` > 0. */
-  add(x: number, y: number, w: number): void {
+  /**
+   * Record value `x` (finite) with target `y` and weight `w` > 0; returns the bytes the store grew by
+   * (0 but when a new value doubles its room), so that its tree keeps its size without summing every store.
+   */
+  add(x: number, y: number, w: number): number {
     welfordAdd(this.total, 0, y, w);
+    const before = this.links.length;
     if (this.size === 0) {
       welfordAdd(this.nodes, this.newNode(x) * F_STRIDE + 1, y, w);
-      return;
+      return this.grownSince(before);
     }
     let n = 0;
     let floor = -1;
@@ -91,7 +100,7 @@ export class ValueTree {
       const key = this.nodes[n * F_STRIDE]!;
       if (x === key) {
         welfordAdd(this.nodes, n * F_STRIDE + 1, y, w);
-        return;
+        return 0;
       }
       const side = x < key ? 0 : 1;
       if (side === 0) ceiling = n;
@@ -109,6 +118,7 @@ export class ValueTree {
     else if (ceiling < 0) target = floor;
     else target = x - this.nodes[floor * F_STRIDE]! <= this.nodes[ceiling * F_STRIDE]! - x ? floor : ceiling;
     welfordAdd(this.nodes, target * F_STRIDE + 1, y, w);
+    return this.grownSince(before);
   }
 
   /**
@@ -179,12 +189,18 @@ export class ValueTree {
     if (total.length !== 3) bad('the total must be one (weight, mean, M2) triple');
     checkForwardLinks(links, L_STRIDE, 0, size, bad);
     const tree = new ValueTree(limit);
-    tree.ensure(Math.max(size, 1));
+    // The room the original had, so both report one size and the tree's byte limit acts at the same rows.
+    tree.ensure(doubledRoom(FIRST_CAPACITY, size, limit));
     tree.nodes.set(nodes);
     tree.links.set(links);
     tree.total.set(total);
     tree.size = size;
     return tree;
+  }
+
+  /** The bytes the room grew by since it held `links` links. */
+  private grownSince(links: number): number {
+    return ((this.links.length - links) / L_STRIDE) * NODE_BYTES;
   }
 
   private newNode(x: number): number {
@@ -196,11 +212,11 @@ export class ValueTree {
     return n;
   }
 
-  /** Room for `nodes` nodes, growing by doubling up to the limit. */
+  /** Room for `count` nodes, growing by doubling up to the limit. */
   private ensure(count: number): void {
     const capacity = this.links.length / L_STRIDE;
     if (count <= capacity) return;
-    const next = Math.min(this.limit, Math.max(count, 2 * capacity));
+    const next = doubledRoom(FIRST_CAPACITY, count, this.limit);
     const nodes = new Float64Array(F_STRIDE * next);
     nodes.set(this.nodes);
     const links = new Int32Array(L_STRIDE * next);

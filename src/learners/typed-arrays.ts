@@ -13,6 +13,17 @@ export function growF64(values: Float64Array, length: number, fill = 0): Float64
   return out;
 }
 
+/**
+ * The room a table grown by doubling holds once it holds `count` entries: `first`, doubled until it is
+ * at least `count`, never above `limit`. A table grown this way alone can be restored to the room it had,
+ * so a learner whose size counts its tables' room reports the same size after a restore.
+ */
+export function doubledRoom(first: number, count: number, limit = Number.POSITIVE_INFINITY): number {
+  let room = Math.min(limit, first);
+  while (room < count) room = Math.min(limit, 2 * room);
+  return room;
+}
+
 /** Decode a base64 array of doubles from a snapshot and check it holds exactly `length` values. */
 export function decodeF64Exact(text: unknown, length: number, what: string): Float64Array {
   const values = decodeF64(text as string, what);

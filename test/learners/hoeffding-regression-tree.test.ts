@@ -368,6 +368,26 @@ describe('hoeffding-regression-tree options and snapshots', () => {
     }
   });
 
+  it('a restored tree reports the size of the original, so its byte limit acts at the same rows', () => {
+    // Friedman #1 (Friedman 1991): the tree reaches a 600,000-byte limit after the snapshot, and leaves
+    // stop collecting split statistics; its node tables and value stores grew by doubling, and a copy
+    // whose tables were sized to what they held counted fewer bytes and stopped its leaves later.
+    const block = friedman1(16_000, 12);
+    const tree = new HoeffdingRegressionTree(block.schema, { byteLimit: 600_000, checkInterval: 100 });
+    const stopped = (t: HoeffdingRegressionTree): number =>
+      (t.snapshot().state as { leaves: { active: boolean }[] }).leaves.filter((l) => !l.active).length;
+    prequential(tree, block, 0, 6000);
+    expect(stopped(tree)).toBe(0);
+    const copy = HoeffdingRegressionTree.restore(JSON.parse(JSON.stringify(tree.snapshot())));
+    expect(copy.sizeBytes()).toBe(tree.sizeBytes());
+    const a = prequential(tree, block, 6000, 16_000);
+    const b = prequential(copy, block, 6000, 16_000);
+    expect(stopped(tree)).toBeGreaterThan(0);
+    expect(copy.sizeBytes()).toBe(tree.sizeBytes());
+    expect(Buffer.from(b.buffer).equals(Buffer.from(a.buffer))).toBe(true);
+    expect(JSON.stringify(copy.snapshot())).toBe(JSON.stringify(tree.snapshot()));
+  });
+
   it('refuses a snapshot whose structure is damaged', () => {
     const block = friedman1(3000, 10);
     const tree = new HoeffdingRegressionTree(block.schema, { checkInterval: 100 });
