@@ -16,7 +16,7 @@ import {
   welfordAdd,
 } from '../core/index.js';
 import { bestNominalSplit, SplitCandidate } from './hoeffding-regression-tree-split.js';
-import { checkForwardLinks, ValueTree, type ValueTreeState } from './hoeffding-regression-tree-values.js';
+import { ValueStore, type ValueStoreState } from './hoeffding-regression-tree-values.js';
 import { checkRow, checkTarget, checkWeight, type LearnerSnapshot, type Regressor } from './learner.js';
 import {
   CLOCK,
@@ -43,8 +43,9 @@ import { doubledRoom } from './typed-arrays.js';
  *   truly better than B with probability 1 − δ when r < 1 − ε; when ε falls below τ the two are
  *   tied and the leaf splits on A anyway. The test runs each time `checkInterval` weight has reached
  *   the leaf since the last one; n is the weight the leaf has seen since it was made.
- * - Numeric features: an extended binary search tree of the observed values per leaf (
- *   `hoeffding-regression-tree-values.ts`), bounded to `splitPointLimit` values.
+ * - Numeric features: the observed values per leaf with their target statistics, as the paper's
+ *   extended binary search tree keeps them, held sorted in a typed array (`hoeffding-regression-tree-
+ *   values.ts`), bounded to `splitPointLimit` values.
  * - Nominal features: per-category target statistics and the best binary partition of the
  *   categories (`hoeffding-regression-tree-split.ts`).
  * - Leaves predict the mean target of the rows that reached them (`leaf: 'mean'`) or a linear model
@@ -132,7 +133,7 @@ export const HOEFFDING_REGRESSION_TREE_DEFAULTS: HoeffdingRegressionTreeOptions 
 );
 
 const KIND = 'hoeffding-regression-tree';
-const VERSION = 1;
+const VERSION = 2;
 
 // Node layout: ints [kind, feature, lower child, upper child, aux] and doubles [threshold, lower
 // weight, upper weight] per node. aux is the leaf index of a leaf, the mask start of a nominal split.
@@ -148,7 +149,7 @@ const NODE_NOMINAL = 2;
 /** The room for nodes and mask entries a tree starts with; its tables double from there. */
 const FIRST_ROOM = 16;
 const EMPTY = new Float64Array(0);
-const NO_VALUES: readonly ValueTree[] = [];
+const NO_VALUES: readonly ValueStore[] = [];
 
 /** The mean leaf: the model state is just the clock and the target triple. */
 const MEAN_MODEL: LeafModel = {
@@ -171,7 +172,7 @@ class Leaf {
     public sinceCheck: number,
     public active: boolean,
     /** One value store per numeric feature while active. */
-    public values: readonly ValueTree[],
+    public values: readonly ValueStore[],
     /** (weight, mean, M2) per category of each nominal feature while active. */
     public nominal: Float64Array,
   ) {}
@@ -184,7 +185,7 @@ interface LeafState {
   readonly sinceCheck: number;
   readonly active: boolean;
   readonly model: string;
-  readonly values: readonly ValueTreeState[];
+  readonly values: readonly ValueStoreState[];
   readonly nominal: string;
 }
 
@@ -220,7 +221,6 @@ export class HoeffdingRegressionTree implements Regressor {
    */
   private leafBytes = 0;
   // Scratch for split tests, sized once.
-  private readonly stack: Int32Array;
   private readonly order: Int32Array;
   private readonly candidate: SplitCandidate;
   private readonly best: SplitCandidate;
@@ -250,7 +250,6 @@ export class HoeffdingRegressionTree implements Regressor {
     this.nominalStarts = Int32Array.from(starts);
     this.nominalLength = length;
     const maxCategories = Math.max(1, ...this.categories);
-    this.stack = new Int32Array(o.splitPointLimit);
     this.order = new Int32Array(maxCategories);
     this.candidate = new SplitCandidate(maxCategories);
     this.best = new SplitCandidate(maxCategories);
@@ -334,7 +333,6 @@ export class HoeffdingRegressionTree implements Regressor {
       this.ints.byteLength +
       this.floats.byteLength +
       this.masks.byteLength +
-      this.stack.byteLength +
       this.order.byteLength +
       2 * (this.best.mask.byteLength + 64) +
       this.leafBytes
@@ -401,7 +399,7 @@ export class HoeffdingRegressionTree implements Regressor {
       } else if (candidate.merit > second) second = candidate.merit;
     };
     for (let k = 0; k < this.numericColumns.length; k++) {
-      consider(this.numericColumns[k]!, leaf.values[k]!.bestSplit(this.stack, candidate));
+      consider(this.numericColumns[k]!, leaf.values[k]!.bestSplit(candidate));
     }
     for (let j = 0; j < this.nominalColumns.length; j++) {
       const column = this.nominalColumns[j]!;
@@ -456,7 +454,7 @@ export class HoeffdingRegressionTree implements Regressor {
     model.set(target, TARGET);
     const active = depth < this.options.depthLimit;
     const limit = this.options.splitPointLimit;
-    const values = active ? Array.from(this.numericColumns, () => new ValueTree(limit)) : NO_VALUES;
+    const values = active ? Array.from(this.numericColumns, () => new ValueStore(limit)) : NO_VALUES;
     const nominal = active ? new Float64Array(this.nominalLength) : EMPTY;
     return new Leaf(node, depth, model, 0, 0, active, values, nominal);
   }
@@ -547,7 +545,7 @@ export class HoeffdingRegressionTree implements Regressor {
       if (!Array.isArray(s.values) || s.values.length !== numericCount) bad(`leaf ${index} value stores`);
       if (nominal.length !== (active ? this.nominalLength : 0)) bad(`leaf ${index} nominal statistics`);
       const limit = this.options.splitPointLimit;
-      const values = s.values.map((v, k) => ValueTree.fromState(limit, v, `${where} feature ${k}`));
+      const values = s.values.map((v, k) => ValueStore.fromState(limit, v, `${where} feature ${k}`));
       return new Leaf(s.node, s.depth, state, s.seen, s.sinceCheck, active, values, active ? nominal : EMPTY);
     });
     if (leaves.length === 0) bad('a tree has at least one leaf');
@@ -564,6 +562,31 @@ export class HoeffdingRegressionTree implements Regressor {
     this.leaves = leaves;
     this.leafBytes = leaves.reduce((sum, leaf) => sum + leafSize(leaf), 0);
   }
+}
+
+/**
+ * Check the child links of a snapshot's tree of `size` nodes (links at `first`, `first + 1` of each
+ * `stride` ints; −1 = none). Nodes are appended after their parent, so in a sound tree every link
+ * points forward and every node but the root (0) has exactly one parent; this rules out cycles and
+ * out-of-range reads before a restored tree is walked.
+ */
+function checkForwardLinks(
+  ints: Int32Array,
+  stride: number,
+  first: number,
+  size: number,
+  bad: (reason: string) => never,
+): void {
+  const parents = new Uint8Array(size);
+  for (let i = 0; i < size; i++) {
+    for (let side = 0; side < 2; side++) {
+      const link = ints[i * stride + first + side]!;
+      if (link === -1) continue;
+      if (!(link > i && link < size) || parents[link] !== 0) bad(`node ${i} has a bad link ${link}`);
+      parents[link] = 1;
+    }
+  }
+  for (let i = 1; i < size; i++) if (parents[i] === 0) bad(`node ${i} is unreachable`);
 }
 
 /** A leaf's bytes: its predictor, its split statistics and a fixed allowance for the object. */

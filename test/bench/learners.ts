@@ -1,4 +1,6 @@
 import { type FeatureSchema, numericSchema } from '../../src/core/index.js';
+import { RegressionBagging, Verdict } from '../../src/ensembles/index.js';
+import { HoeffdingRegressionTree } from '../../src/learners/hoeffding-regression-tree.js';
 import { HoeffdingTree } from '../../src/learners/hoeffding-tree.js';
 import { KnnWindow } from '../../src/learners/knn-window.js';
 import type { Classifier } from '../../src/learners/learner.js';
@@ -7,6 +9,7 @@ import { Logistic } from '../../src/learners/logistic.js';
 import { Mlp } from '../../src/learners/mlp.js';
 import { NaiveBayes } from '../../src/learners/naive-bayes.js';
 import { type BenchFn, type BenchRow, floorRate, machine, medianRate } from './harness.js';
+import { friedman1 } from '../support/regressor-streams.js';
 import { benchStream } from './stream.js';
 
 /**
@@ -15,7 +18,9 @@ import { benchStream } from './stream.js';
  * noise: accuracy cannot exceed 90%), beside the bare-loop floor over the same rows and with the prequential
  * accuracy of the run. A fresh learner is built for every timed run, so a rate includes the early rows.
  * knn-window scans its whole window for every row; it gets one timed run without warm-up to keep the
- * section short.
+ * section short. Regression: the regression tree alone and bagged ×10 (`task: regression`'s default
+ * ensemble) on Friedman #1 (Friedman, Ann. Statist. 1991: 10 uniform features, 5 of them used, unit
+ * noise), with the prequential RMSE of the run.
  */
 const LEARNERS: readonly { name: string; make: (schema: FeatureSchema) => Classifier; runs: number }[] = [
   { name: 'hoeffding-tree', make: (s) => new HoeffdingTree(s, {}, 'bench-tree'), runs: 3 },
@@ -64,6 +69,40 @@ export const bench: BenchFn = ({ quick }) => {
       note: `${size} bytes of state`,
     });
     json[name] = { rowsPerSecond: rate, ofFloor: rate / floor, accuracy, sizeBytes: size };
+  }
+  const block = friedman1(count / 2, 1);
+  const regression = [
+    { name: 'hoeffding-regression-tree', make: () => new HoeffdingRegressionTree(block.schema) },
+    { name: 'regression bagging ×10', make: () => new RegressionBagging(block.schema, {}, 'bench-regression') },
+  ];
+  const verdict = new Verdict();
+  for (const { name, make } of regression) {
+    let squares = 0;
+    let size = 0;
+    const rate = medianRate(block.targets.length, () => {
+      const model = make();
+      squares = 0;
+      for (let i = 0; i < block.targets.length; i++) {
+        const y = block.targets[i]!;
+        if (model instanceof RegressionBagging) model.scoreTrain(block.rows, i * block.width, y, verdict);
+        else {
+          verdict.value = model.predict(block.rows, i * block.width);
+          model.train(block.rows, i * block.width, y, 1);
+        }
+        squares += (verdict.value - y) ** 2;
+      }
+      size = model.sizeBytes();
+      return squares;
+    });
+    const rmse = Math.sqrt(squares / block.targets.length);
+    rows.push({
+      name: `${name} (Friedman #1)`,
+      rate,
+      unit: 'rows/s',
+      ofFloor: rate / floor,
+      note: `RMSE ${rmse.toFixed(3)} (noise sd 1), ${size} bytes of state`,
+    });
+    json[name] = { rowsPerSecond: rate, ofFloor: rate / floor, rmse, sizeBytes: size };
   }
   return { title: 'Learners', rows, json };
 };
