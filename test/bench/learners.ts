@@ -8,8 +8,8 @@ import { LinearSvm } from '../../src/learners/linear-svm.js';
 import { Logistic } from '../../src/learners/logistic.js';
 import { Mlp } from '../../src/learners/mlp.js';
 import { NaiveBayes } from '../../src/learners/naive-bayes.js';
-import { type BenchFn, type BenchRow, floorRate, machine, medianRate } from './harness.js';
 import { friedman1 } from '../support/regressor-streams.js';
+import { type BenchFn, type BenchRow, floorRate, machine, medianRate } from './harness.js';
 import { benchStream } from './stream.js';
 
 /**
@@ -73,7 +73,10 @@ export const bench: BenchFn = ({ quick }) => {
   const block = friedman1(count / 2, 1);
   const regression = [
     { name: 'hoeffding-regression-tree', make: () => new HoeffdingRegressionTree(block.schema) },
-    { name: 'regression bagging ×10', make: () => new RegressionBagging(block.schema, {}, 'bench-regression') },
+    {
+      name: 'regression bagging ×10',
+      make: () => new RegressionBagging(block.schema, {}, 'bench-regression'),
+    },
   ];
   const verdict = new Verdict();
   for (const { name, make } of regression) {
