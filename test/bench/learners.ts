@@ -107,5 +107,49 @@ export const bench: BenchFn = ({ quick }) => {
     });
     json[name] = { rowsPerSecond: rate, ofFloor: rate / floor, rmse, sizeBytes: size };
   }
+  rows.push(regressionLongRun(quick ? 50_000 : 500_000, floor, json));
   return { title: 'Learners', rows, json };
 };
+
+/**
+ * The regression ensemble over a long stream (Friedman #1, one run): its rate over the first and the
+ * last fifth of the rows, its RMSE over the last fifth and its size at the end, which show what its
+ * trees' byte limit does — without one, a regression ensemble grows and slows with the stream.
+ */
+function regressionLongRun(count: number, floor: number, json: Record<string, unknown>): BenchRow {
+  const block = friedman1(count, 2);
+  const model = new RegressionBagging(block.schema, {}, 'bench-regression-long');
+  const verdict = new Verdict();
+  const fifth = Math.floor(count / 5);
+  const rates: number[] = [];
+  let squares = 0;
+  let started = performance.now();
+  for (let i = 0; i < count; i++) {
+    const y = block.targets[i]!;
+    model.scoreTrain(block.rows, i * block.width, y, verdict);
+    if (i >= count - fifth) squares += (verdict.value - y) ** 2;
+    if ((i + 1) % fifth === 0) {
+      const now = performance.now();
+      rates.push((fifth / (now - started)) * 1000);
+      started = now;
+    }
+  }
+  const rmse = Math.sqrt(squares / fifth);
+  const size = model.sizeBytes();
+  const first = rates[0]!;
+  const last = rates[rates.length - 1]!;
+  json.regressionLongRun = {
+    rows: count,
+    firstFifth: first,
+    lastFifth: last,
+    rmseLastFifth: rmse,
+    sizeBytes: size,
+  };
+  return {
+    name: `regression bagging ×10, ${count.toLocaleString('en-US')} rows (Friedman #1), last fifth`,
+    rate: last,
+    unit: 'rows/s',
+    ofFloor: last / floor,
+    note: `${(last / first).toFixed(2)}× the first fifth; RMSE ${rmse.toFixed(3)} over it; ${(size / 1e6).toFixed(1)} MB at the end`,
+  };
+}
