@@ -97,7 +97,12 @@ export class NumericShifts {
    * Feed feature `k` the `rows` values `values[at + i·stride]`; on a drift at value i (after which its
    * statistics restart), `marks[markAt + i·stride] |= bit`. Missing values (NaN) are skipped. The
    * arithmetic is Welford's update (core/running-stats.ts) and the Page-Hinkley step (page-hinkley.ts)
-   * written out, operation for operation, so the flags are those of the two applied value by value.
+   * written out, but for z = d·√((n − 1)/M2) in place of d/√(M2/(n − 1)): one division fewer on a path
+   * bound by the divider, the same value but for the last bit, and the same flags as the definition's
+   * on the tests' streams (test/drift/input-monitor.test.ts). The test's running mean moves by
+   * (v − x̄)·(1/n), so its division no longer waits for the mean of the value before (a chain of one
+   * division a value: the test's pass ran 1.5–1.7× as fast without it, 10 features × 1,000 values).
+   * Together the service's model side ran 1.02× as fast (alternated in one process, 5 December).
    *
    * In two passes over the values: first every standardised value (`standardise`), then the test over
    * them (`runTest`); an alarm restarts both from the value after it. The test's two running extremes
@@ -174,9 +179,8 @@ export class NumericShifts {
         m2 += d * (x - next);
         continue;
       }
-      const sd = Math.sqrt(count > 1 ? Math.max(0, m2) / (count - 1) : 0);
       const d = x - mean;
-      let v = sd > 0 ? d / sd : d === 0 ? 0 : Math.sign(d) * clip;
+      let v = count > 1 && m2 > 0 ? d * Math.sqrt((count - 1) / m2) : d === 0 ? 0 : Math.sign(d) * clip;
       if (v > clip) v = clip;
       else if (v < -clip) v = -clip;
       const total = count + 1;
@@ -222,7 +226,7 @@ export class NumericShifts {
     for (let i = 0; i < n; i++, m += stride) {
       const v = z[i]!;
       if (Number.isNaN(v)) continue;
-      testMean += (v - testMean) / ++count;
+      testMean += (v - testMean) * (1 / ++count);
       const deviation = v - testMean;
       up = up + deviation - delta;
       if (up < upMin) upMin = up;

@@ -105,7 +105,8 @@ export class PageHinkley implements DriftDetector {
     checkFiniteValue(KIND, value);
     const { delta, fading, lambda } = this.options;
     const n = ++this.n;
-    this.mean += (value - this.mean) / n;
+    // By the reciprocal, so that the next value's step does not wait for a division (see numeric-shift.ts).
+    this.mean += (value - this.mean) * (1 / n);
     const deviation = value - this.mean;
     this.up = fading * this.up + deviation - delta;
     if (this.up < this.upMin) this.upMin = this.up;
