@@ -114,7 +114,14 @@ export class LabelDictionary {
     if (this.mode === 'value')
       return `label ${shown} is not a number (labels are read as regression targets)`;
     if (this.mode === 'name' && typeof value !== 'object') {
-      return `label ${shown} would be class ${this.list.length + 1}, more than maxClasses (${this.maxClasses})`;
+      const full = `label ${shown} would be class ${this.list.length + 1}, more than maxClasses (${this.maxClasses})`;
+      // A label column of prices or durations reads as class names until the class list is full.
+      const numbers = [String(value), ...this.list].every(
+        (n) => n.trim() !== '' && Number.isFinite(Number(n)),
+      );
+      return numbers
+        ? `${full}; every label so far is a number: to predict numbers, set task: regression (--task regression)`
+        : full;
     }
     return `label ${shown} is not a class code (an integer from 0 to ${this.maxClasses - 1}); set inputs.labelsAs: class-names (--labels-as class-names) to read labels as names`;
   }

@@ -98,6 +98,22 @@ describe('the label dictionary', () => {
     );
   });
 
+  it('says to set task: regression when a full class list holds only numbers', () => {
+    // Prices read as class names (the first label is past 1023, so not a class code) fill the list.
+    const decoder = new FrameDecoder({ maxClasses: 3 });
+    expect(
+      records(decoder, [
+        { x: 1, label: 1402 },
+        { x: 2, label: 638.5 },
+        { x: 3, label: 2210 },
+      ]).length,
+    ).toBe(3);
+    const refused = decodeJsonRecord(decoder, { x: 4, label: 5364 }, 'r', 4);
+    expect(refused.ok && refused.rejected[0]!.reason).toBe(
+      'r record 4: label 5364 would be class 4, more than maxClasses (3); every label so far is a number: to predict numbers, set task: regression (--task regression)',
+    );
+  });
+
   it('reads a boolean label column as codes false = 0, true = 1', async () => {
     const path = csv('bool.csv', 'x,label\n1,true\n2,false\n3,\n');
     const decoder = new FrameDecoder();
