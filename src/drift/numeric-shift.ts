@@ -180,7 +180,8 @@ export class NumericShifts {
         continue;
       }
       const d = x - mean;
-      let v = count > 1 && m2 > 0 ? d * Math.sqrt((count - 1) / m2) : d === 0 ? 0 : Math.sign(d) * clip;
+      // A value at the mean is 0 first: with M2 subnormal (n − 1)/M2 overflows, and 0·∞ is NaN.
+      let v = d === 0 ? 0 : count > 1 && m2 > 0 ? d * Math.sqrt((count - 1) / m2) : Math.sign(d) * clip;
       if (v > clip) v = clip;
       else if (v < -clip) v = -clip;
       const total = count + 1;

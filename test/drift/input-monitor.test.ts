@@ -230,6 +230,17 @@ describe('input-drift monitors', () => {
     expect(got).toEqual(want);
   });
 
+  it('reads a value equal to the running mean as z = 0 when the spread is subnormal', () => {
+    // IEEE 754 subnormals: readings 1e-160 apart leave M2 = 5e-321, so (n − 1)/M2 overflows to ∞ while
+    // s = √(M2/(n − 1)) is still positive; a value at the mean is z = 0 (0/s), not 0·∞ = NaN.
+    const one: FeatureSchema = { features: [numeric('strain')] };
+    const monitor = createInputMonitor(one, { numeric: { warmup: 2 } });
+    const values = Float64Array.from([0, 1e-160, 1e-160 / 2, 1e-160 / 2, 1e-160 / 2]);
+    expect(monitor.updateRows(values, 0, values.length)).toBe(0);
+    const row = createInputMonitor(one, { numeric: { warmup: 2 } });
+    for (let t = 0; t < values.length; t++) expect(row.update(values, t)).toBe(0);
+  });
+
   it('refuses an infinite reading, naming the feature, before it joins the statistics', () => {
     // An infinite value (IEEE 754 ±∞) would make the running mean infinite and every later standardised
     // value NaN: it is refused at its own row, read at once or row by row, and leaves the state as it was.
