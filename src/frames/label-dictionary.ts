@@ -18,6 +18,8 @@ export class LabelDictionary {
   private readonly codes = new Map<string, number>();
 
   private readonly isMissing: IsMissing;
+  /** Whether every name of the full class list is a number (see `namesAreNumbers`); null until asked. */
+  private numberNames: boolean | null = null;
 
   constructor(
     known: readonly string[],
@@ -116,14 +118,22 @@ export class LabelDictionary {
     if (this.mode === 'name' && typeof value !== 'object') {
       const full = `label ${shown} would be class ${this.list.length + 1}, more than maxClasses (${this.maxClasses})`;
       // A label column of prices or durations reads as class names until the class list is full.
-      const numbers = [String(value), ...this.list].every(
-        (n) => n.trim() !== '' && Number.isFinite(Number(n)),
-      );
-      return numbers
+      return isNumberText(String(value)) && this.namesAreNumbers()
         ? `${full}; every label so far is a number: to predict numbers, set task: regression (--task regression)`
         : full;
     }
     return `label ${shown} is not a class code (an integer from 0 to ${this.maxClasses - 1}); set inputs.labelsAs: class-names (--labels-as class-names) to read labels as names`;
+  }
+
+  /**
+   * Whether every class name reads as a number: asked once the list is full, which it then stays, so
+   * a run refusing every further row (with `--rejects`) reads the names once, not once a row.
+   */
+  private namesAreNumbers(): boolean {
+    if (this.numberNames !== null) return this.numberNames;
+    const numbers = this.list.every(isNumberText);
+    if (this.list.length >= this.maxClasses) this.numberNames = numbers;
+    return numbers;
   }
 
   private add(name: string): number {
@@ -132,6 +142,11 @@ export class LabelDictionary {
     this.codes.set(name, code);
     return code;
   }
+}
+
+/** Text that reads as a finite number. */
+function isNumberText(text: string): boolean {
+  return text.trim() !== '' && Number.isFinite(Number(text));
 }
 
 /** Text that reads as a non-negative integer, such as a class code in a CSV cell. */
